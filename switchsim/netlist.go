@@ -1,0 +1,254 @@
+package switchsim
+
+import (
+	"errors"
+	"fmt"
+	"strings"
+)
+
+// Netlist is a compiled design: dense arrays indexed by node and device
+// number. It is immutable and may be shared by many Sims.
+type Netlist struct {
+	Name, Desc    string
+	Tech          Tech
+	power, ground int32
+
+	// nodes
+	nodeName   []string
+	nodeKind   []NodeKind
+	nodeCap    []float64
+	nodeCharge []Strength
+	nodeIdx    map[string]int32 // names are for printing and lookup, never for simulation
+	inputs     []int32
+	outputs    []int32
+
+	// devices
+	devName   []string
+	devKind   []DeviceKind
+	devGate   []int32 // -1: always on
+	devA      []int32
+	devB      []int32
+	devCap    []Strength
+	devW      []float64
+	devL      []float64
+	devIdx    map[string]int32
+	chanStart []int32 // CSR: devices whose channel touches node n are chanDev[chanStart[n]:chanStart[n+1]]
+	chanDev   []int32
+	gateStart []int32 // CSR: devices gated by node n
+	gateDev   []int32
+}
+
+// CompileError lists every problem Compile found.
+type CompileError struct{ Problems []string }
+
+func (e *CompileError) Error() string { return strings.Join(e.Problems, "\n") }
+
+// Compile checks the netlist and turns it into dense arrays.
+func (b *Builder) Compile() (*Netlist, error) {
+	var probs []string
+	bad := func(f string, a ...any) { probs = append(probs, fmt.Sprintf(f, a...)) }
+	if err := b.tech.Validate(); err != nil {
+		bad("%v", err)
+	}
+	pw, _ := b.node(b.power)
+	gn, _ := b.node(b.ground)
+	nn := len(b.nodes)
+	nl := &Netlist{
+		Name: b.name, Desc: b.desc, Tech: b.tech, power: pw, ground: gn,
+		nodeName: make([]string, nn), nodeKind: make([]NodeKind, nn),
+		nodeCap: make([]float64, nn), nodeCharge: make([]Strength, nn),
+		nodeIdx: make(map[string]int32, nn), devIdx: make(map[string]int32, len(b.devs)),
+	}
+	for i, n := range b.nodes {
+		nl.nodeName[i] = n.name
+		nl.nodeIdx[n.name] = int32(i)
+		nl.nodeCap[i] = n.cap
+		if n.cap == 0 {
+			nl.nodeCap[i] = b.tech.Cnode
+		}
+		nl.nodeCharge[i] = n.charge
+		if n.charge == HighZ {
+			nl.nodeCharge[i] = Medium
+		}
+		if n.input {
+			nl.nodeKind[i] = Input
+		}
+	}
+	for _, r := range []int32{pw, gn} {
+		if b.nodes[r].input {
+			bad("rail %q cannot be an input", b.nodes[r].name)
+		}
+	}
+	nl.nodeKind[pw], nl.nodeKind[gn] = Power, Ground
+	nl.inputs = append([]int32(nil), b.inputs...)
+	nl.outputs = append([]int32(nil), b.outputs...)
+
+	nd := len(b.devs)
+	nl.devName, nl.devKind = make([]string, nd), make([]DeviceKind, nd)
+	nl.devGate, nl.devA, nl.devB = make([]int32, nd), make([]int32, nd), make([]int32, nd)
+	nl.devCap, nl.devW, nl.devL = make([]Strength, nd), make([]float64, nd), make([]float64, nd)
+	touched := make([]bool, nn)
+	for i, d := range b.devs {
+		nl.devName[i], nl.devKind[i], nl.devGate[i] = d.name, d.kind, d.gate
+		nl.devIdx[d.name] = int32(i)
+		a := d.a
+		switch d.kind {
+		case PullUp:
+			a = pw
+		case PullDown:
+			a = gn
+		}
+		nl.devA[i], nl.devB[i], nl.devCap[i] = a, d.b, d.strength
+		nl.devW[i], nl.devL[i] = d.w, d.l
+		if d.w == 0 && d.kind == NMOS {
+			nl.devW[i] = b.tech.Wn
+		}
+		if d.w == 0 && d.kind == PMOS {
+			nl.devW[i] = b.tech.Wp
+		}
+		if d.l == 0 && d.kind < PullUp {
+			nl.devL[i] = b.tech.L
+		}
+		touched[a], touched[d.b] = true, true
+		if d.gate >= 0 {
+			touched[d.gate] = true
+		}
+	}
+	for _, o := range b.outputs {
+		if !touched[o] && !b.nodes[o].input {
+			bad("output %q is not connected to any device", b.nodes[o].name)
+		}
+	}
+	for name := range b.declared {
+		i := b.nodeIdx[name]
+		if !touched[i] && !b.nodes[i].input && i != pw && i != gn {
+			bad("node %q is not connected to any device", name)
+		}
+	}
+	if len(probs) > 0 {
+		sortStrings(probs)
+		return nil, &CompileError{probs}
+	}
+	nl.chanStart, nl.chanDev = csr(nn, nd, func(d int, emit func(int32)) {
+		emit(nl.devA[d])
+		if nl.devB[d] != nl.devA[d] {
+			emit(nl.devB[d])
+		}
+	})
+	nl.gateStart, nl.gateDev = csr(nn, nd, func(d int, emit func(int32)) {
+		if nl.devGate[d] >= 0 {
+			emit(nl.devGate[d])
+		}
+	})
+	return nl, nil
+}
+
+// csr builds a compressed adjacency from devices to the nodes each names.
+func csr(nn, nd int, each func(d int, emit func(int32))) (start, list []int32) {
+	start = make([]int32, nn+1)
+	for d := 0; d < nd; d++ {
+		each(d, func(n int32) { start[n+1]++ })
+	}
+	for n := 0; n < nn; n++ {
+		start[n+1] += start[n]
+	}
+	list = make([]int32, start[nn])
+	fill := append([]int32(nil), start[:nn]...)
+	for d := 0; d < nd; d++ {
+		each(d, func(n int32) { list[fill[n]] = int32(d); fill[n]++ })
+	}
+	return start, list
+}
+
+func sortStrings(s []string) {
+	for i := 1; i < len(s); i++ {
+		for j := i; j > 0 && s[j] < s[j-1]; j-- {
+			s[j], s[j-1] = s[j-1], s[j]
+		}
+	}
+}
+
+// ErrUnknownNode is returned when a name is not a node of the netlist.
+var ErrUnknownNode = errors.New("unknown node")
+
+// NumNodes is the number of nodes, rails included.
+func (nl *Netlist) NumNodes() int { return len(nl.nodeName) }
+
+// NumDevices is the number of devices after expansion.
+func (nl *Netlist) NumDevices() int { return len(nl.devName) }
+
+// NodeName returns a node's name.
+func (nl *Netlist) NodeName(n int) string { return nl.nodeName[n] }
+
+// NodeKind returns whether a node is a rail, an input or internal.
+func (nl *Netlist) NodeKind(n int) NodeKind { return nl.nodeKind[n] }
+
+// NodeCap returns a node's capacitance in farads.
+func (nl *Netlist) NodeCap(n int) float64 { return nl.nodeCap[n] }
+
+// NodeCharge returns a node's charge class.
+func (nl *Netlist) NodeCharge(n int) Strength { return nl.nodeCharge[n] }
+
+// Lookup finds a node by name.
+func (nl *Netlist) Lookup(name string) (int, bool) {
+	i, ok := nl.nodeIdx[name]
+	return int(i), ok
+}
+
+// LookupDevice finds a device by name.
+func (nl *Netlist) LookupDevice(name string) (int, bool) {
+	i, ok := nl.devIdx[name]
+	return int(i), ok
+}
+
+// Power and Ground return the rails' node numbers.
+func (nl *Netlist) Power() int  { return int(nl.power) }
+func (nl *Netlist) Ground() int { return int(nl.ground) }
+
+// Inputs returns the primary inputs in declaration order.
+func (nl *Netlist) Inputs() []int { return ints(nl.inputs) }
+
+// Outputs returns the declared outputs in declaration order.
+func (nl *Netlist) Outputs() []int { return ints(nl.outputs) }
+
+func ints(s []int32) []int {
+	out := make([]int, len(s))
+	for i, v := range s {
+		out[i] = int(v)
+	}
+	return out
+}
+
+// Device describes one device for printing and explanation.
+type Device struct {
+	Name     string
+	Kind     DeviceKind
+	Gate     int // -1 for pulls (always on)
+	A, B     int // channel terminals
+	W, L     float64
+	Strength Strength
+}
+
+// Device returns device d's description.
+func (nl *Netlist) Device(d int) Device {
+	return Device{nl.devName[d], nl.devKind[d], int(nl.devGate[d]), int(nl.devA[d]), int(nl.devB[d]),
+		nl.devW[d], nl.devL[d], nl.devCap[d]}
+}
+
+// ChannelDevices returns the devices whose channel touches node n.
+func (nl *Netlist) ChannelDevices(n int) []int {
+	return ints(nl.chanDev[nl.chanStart[n]:nl.chanStart[n+1]])
+}
+
+// GatedDevices returns the devices whose gate is node n.
+func (nl *Netlist) GatedDevices(n int) []int {
+	return ints(nl.gateDev[nl.gateStart[n]:nl.gateStart[n+1]])
+}
+
+// Other returns the channel terminal of device d opposite node n.
+func (nl *Netlist) Other(d, n int) int {
+	if int(nl.devA[d]) == n {
+		return int(nl.devB[d])
+	}
+	return int(nl.devA[d])
+}

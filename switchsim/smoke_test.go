@@ -1,0 +1,79 @@
+package switchsim
+
+import "testing"
+
+func mustCompile(t *testing.T, b *Builder) *Netlist {
+	t.Helper()
+	nl, err := b.Compile()
+	if err != nil {
+		t.Fatal(err)
+	}
+	return nl
+}
+
+func set(t *testing.T, s *Sim, name string, d Drive) {
+	t.Helper()
+	n, ok := s.Netlist().Lookup(name)
+	if !ok {
+		t.Fatalf("no node %s", name)
+	}
+	if err := s.SetInput(n, d); err != nil {
+		t.Fatal(err)
+	}
+}
+
+func node(s *Sim, name string) NodeState {
+	n, _ := s.Netlist().Lookup(name)
+	return s.Node(n)
+}
+
+// A CMOS inverter computes NOT (common practice).
+func TestSmokeInverter(t *testing.T) {
+	b := NewBuilder()
+	b.Input("a")
+	b.PMOS("p", "a", "vdd", "y", DeviceOpts{})
+	b.NMOS("n", "a", "y", "gnd", DeviceOpts{})
+	s := NewSim(mustCompile(t, b), Options{Mode: Ideal})
+	s.Settle()
+	if got := node(s, "y"); got.Value != VX {
+		t.Fatalf("y with a=X: %+v", got)
+	}
+	for _, c := range []struct {
+		in   Drive
+		want State
+	}{{Drive0, State1}, {Drive1, State0}} {
+		set(t, s, "a", c.in)
+		r := s.Settle()
+		if got := node(s, "y"); got.State != c.want {
+			t.Fatalf("a=%v: y=%v (rounds %d)", c.in, got.State, r.Rounds)
+		}
+	}
+}
+
+// A ring of three inverters oscillates (common practice).
+func TestSmokeRing(t *testing.T) {
+	b := NewBuilder()
+	b.Input("en")
+	// a NAND as the first stage so the ring can be enabled
+	b.PMOS("p0", "en", "vdd", "n0", DeviceOpts{})
+	b.PMOS("p0b", "n2", "vdd", "n0", DeviceOpts{})
+	b.NMOS("m0", "en", "n0", "x0", DeviceOpts{})
+	b.NMOS("m0b", "n2", "x0", "gnd", DeviceOpts{})
+	for i, io := range [][2]string{{"n0", "n1"}, {"n1", "n2"}} {
+		b.PMOS("p"+string(rune('1'+i)), io[0], "vdd", io[1], DeviceOpts{})
+		b.NMOS("m"+string(rune('1'+i)), io[0], io[1], "gnd", DeviceOpts{})
+	}
+	s := NewSim(mustCompile(t, b), Options{Mode: Ideal})
+	set(t, s, "en", Drive0)
+	if r := s.Settle(); r.Oscillated {
+		t.Fatal("disabled ring oscillated")
+	}
+	set(t, s, "en", Drive1)
+	r := s.Settle()
+	if !r.Oscillated {
+		t.Fatalf("enabled ring did not oscillate: rounds %d", r.Rounds)
+	}
+	if got := node(s, "n1"); got.Value != VX {
+		t.Fatalf("n1 = %+v", got)
+	}
+}

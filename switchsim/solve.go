@@ -1,0 +1,306 @@
+package switchsim
+
+import "math"
+
+// solveGroup collects the group of seed (nodes joined by devices that are
+// not off, bounded by sources), resolves it (MODEL.md §3) and writes the
+// results, recording changes for round.
+func (s *Sim) solveGroup(seed int32, round int32) {
+	nl := s.nl
+	g := &s.g
+	s.gid++
+	if s.gid == 0 {
+		clear(s.smark)
+		clear(s.dmark)
+		s.gid = 1
+	}
+	gid := s.gid
+	g.nodes, g.srcs, g.devs = g.nodes[:0], g.srcs[:0], g.devs[:0]
+	g.hasUnknown = false
+	g.srcHas = [3]bool{}
+	g.nodes = append(g.nodes, seed)
+	s.gmark[seed] = s.epoch
+	for i := 0; i < len(g.nodes); i++ {
+		n := g.nodes[i]
+		for _, d := range nl.chanDev[nl.chanStart[n]:nl.chanStart[n+1]] {
+			c := s.cond[d]
+			if c == Off {
+				continue
+			}
+			if s.dmark[d] != gid {
+				s.dmark[d] = gid
+				g.devs = append(g.devs, d)
+				if c == Unknown {
+					g.hasUnknown = true
+				}
+			}
+			o := nl.devA[d]
+			if o == n {
+				o = nl.devB[d]
+			}
+			if s.source[o] {
+				if s.smark[o] != gid {
+					s.smark[o] = gid
+					g.srcs = append(g.srcs, o)
+					g.srcHas[s.val[o]] = true
+				}
+			} else if s.gmark[o] != s.epoch {
+				s.gmark[o] = s.epoch
+				g.nodes = append(g.nodes, o)
+			}
+		}
+	}
+	s.resolve(g)
+	s.physGroup(g)
+	s.commit(g, round)
+}
+
+// resolve computes the ideal-mode result of g into g.nval, g.nstr, g.nstate.
+func (s *Sim) resolve(g *group) {
+	nl := s.nl
+	k := len(g.nodes)
+	g.nval, g.nstr, g.nstate = grow(g.nval, k), grow(g.nstr, k), grow(g.nstate, k)
+	g.nvolts, g.contested = grow(g.nvolts, k), grow(g.contested, k)
+
+	// Sure pass: devices that are on. Strengths are settled level by level,
+	// strongest first; a node takes the strongest signal that reaches it and
+	// passes on only that (weaker signals are blocked, Bryant 1984). The
+	// nodes reached at one level through devices at least that strong form a
+	// component whose value is the combination of everything injected into it.
+	stamp := s.epoch
+	for i := range s.buckets {
+		s.buckets[i] = s.buckets[i][:0]
+	}
+	for _, n := range g.nodes {
+		s.best[n], s.inj[n] = nl.nodeCharge[n], s.val[n]
+		s.fight[n], s.shared[n] = false, false
+		s.done[n] = 0
+		s.buckets[s.best[n]] = append(s.buckets[s.best[n]], n)
+	}
+	for _, src := range g.srcs {
+		sv := s.val[src]
+		for _, d := range nl.chanDev[nl.chanStart[src]:nl.chanStart[src+1]] {
+			if s.cond[d] != On {
+				continue
+			}
+			o := nl.devA[d]
+			if o == src {
+				o = nl.devB[d]
+			}
+			if !s.source[o] {
+				s.relax(o, min(Supply, nl.devCap[d]), sv, stamp)
+			}
+		}
+	}
+	for lvl := Supply; lvl >= Small; lvl-- {
+		for bi := 0; bi < len(s.buckets[lvl]); bi++ {
+			t := s.buckets[lvl][bi]
+			if s.done[t] == stamp || s.best[t] != lvl {
+				continue
+			}
+			s.comp = append(s.comp[:0], t)
+			s.done[t] = stamp
+			cv := s.inj[t]
+			mixed := s.fight[t] // a 0 and a 1 arrived at this level: a fight, not an unknown
+			for ci := 0; ci < len(s.comp); ci++ {
+				m := s.comp[ci]
+				for _, d := range nl.chanDev[nl.chanStart[m]:nl.chanStart[m+1]] {
+					if s.cond[d] != On || nl.devCap[d] < lvl {
+						continue
+					}
+					o := nl.devA[d]
+					if o == m {
+						o = nl.devB[d]
+					}
+					if s.source[o] || s.done[o] == stamp {
+						continue
+					}
+					s.done[o] = stamp
+					if s.best[o] == lvl {
+						if s.fight[o] || (cv != s.inj[o] && cv != VX && s.inj[o] != VX) {
+							mixed = true
+						}
+						cv = lub(cv, s.inj[o])
+					}
+					s.comp = append(s.comp, o)
+				}
+			}
+			shared := false
+			if lvl.IsCharge() && len(s.comp) > 1 {
+				for _, m := range s.comp {
+					shared = shared || s.val[m] != cv
+				}
+			}
+			for _, m := range s.comp {
+				s.best[m], s.inj[m] = lvl, cv
+				s.fight[m], s.shared[m] = mixed, shared
+			}
+			for _, m := range s.comp {
+				for _, d := range nl.chanDev[nl.chanStart[m]:nl.chanStart[m+1]] {
+					if s.cond[d] != On || nl.devCap[d] >= lvl {
+						continue
+					}
+					o := nl.devA[d]
+					if o == m {
+						o = nl.devB[d]
+					}
+					if !s.source[o] && s.done[o] != stamp {
+						s.relax(o, nl.devCap[d], cv, stamp)
+					}
+				}
+			}
+		}
+	}
+
+	// Ternary pass (Bryant 1984): with devices of unknown state, compute for
+	// each value the strongest signal that could reach each node through
+	// devices on or unknown, blocked only by stronger sure signals. A sure
+	// value stands only if every opposing potential is weaker.
+	if g.hasUnknown {
+		s.potential(g, V0)
+		s.potential(g, V1)
+	}
+	for i, n := range g.nodes {
+		v, st := s.inj[n], s.best[n]
+		if g.hasUnknown {
+			p0, p1 := s.pot[0][n], s.pot[1][n]
+			switch {
+			case v == V0 && p1 >= st, v == V1 && p0 >= st:
+				v, st = VX, max(st, p0, p1)
+			case v == VX:
+				st = max(st, p0, p1)
+			}
+		}
+		g.nval[i], g.nstr[i], g.nvolts[i] = v, st, math.NaN()
+		contested := (v == V0 && (g.srcHas[V1] || g.srcHas[VX])) || (v == V1 && (g.srcHas[V0] || g.srcHas[VX]))
+		g.contested[i] = contested
+		s.contest[n] = contested
+		switch {
+		case st.IsCharge() || st == HighZ:
+			g.nstate[i] = StateZ
+		case v == VX:
+			g.nstate[i] = StateX
+		case contested || st < Strong:
+			g.nstate[i] = StateL + State(v)
+		default:
+			g.nstate[i] = State0 + State(v)
+		}
+	}
+}
+
+func (s *Sim) relax(o int32, st Strength, v Value, stamp uint32) {
+	switch {
+	case st > s.best[o]:
+		s.best[o], s.inj[o], s.fight[o] = st, v, false
+		s.buckets[st] = append(s.buckets[st], o)
+	case st == s.best[o]:
+		if s.inj[o] != v && s.inj[o] != VX && v != VX {
+			s.fight[o] = true
+		}
+		s.inj[o] = lub(s.inj[o], v)
+	}
+}
+
+// potential fills s.pot[v] for the nodes of g: the strongest strength at
+// which a signal of value v (or X) could reach each node, through devices
+// on or unknown, passing on through a node only at or above that node's
+// sure strength (s.best).
+func (s *Sim) potential(g *group, v Value) {
+	nl := s.nl
+	pot, pdone := s.pot[v], s.pdone[v]
+	stamp := s.epoch
+	for i := range s.buckets {
+		s.buckets[i] = s.buckets[i][:0]
+	}
+	for _, n := range g.nodes {
+		pot[n] = HighZ
+		pdone[n] = 0
+		if sv := s.val[n]; sv == v || sv == VX {
+			pot[n] = nl.nodeCharge[n]
+			s.buckets[pot[n]] = append(s.buckets[pot[n]], n)
+		}
+	}
+	push := func(o int32, st Strength) {
+		if st > pot[o] {
+			pot[o] = st
+			s.buckets[st] = append(s.buckets[st], o)
+		}
+	}
+	for _, src := range g.srcs {
+		if sv := s.val[src]; sv != v && sv != VX {
+			continue
+		}
+		for _, d := range nl.chanDev[nl.chanStart[src]:nl.chanStart[src+1]] {
+			if s.cond[d] == Off {
+				continue
+			}
+			o := nl.devA[d]
+			if o == src {
+				o = nl.devB[d]
+			}
+			if !s.source[o] {
+				push(o, min(Supply, nl.devCap[d]))
+			}
+		}
+	}
+	for lvl := Supply; lvl >= Small; lvl-- {
+		for bi := 0; bi < len(s.buckets[lvl]); bi++ {
+			t := s.buckets[lvl][bi]
+			if pdone[t] == stamp || pot[t] != lvl {
+				continue
+			}
+			pdone[t] = stamp
+			if lvl < s.best[t] {
+				continue // blocked by a stronger sure signal
+			}
+			for _, d := range nl.chanDev[nl.chanStart[t]:nl.chanStart[t+1]] {
+				if s.cond[d] == Off {
+					continue
+				}
+				o := nl.devA[d]
+				if o == t {
+					o = nl.devB[d]
+				}
+				if !s.source[o] && pdone[o] != stamp {
+					push(o, min(lvl, nl.devCap[d]))
+				}
+			}
+		}
+	}
+}
+
+// commit writes g's results and records the nodes that changed.
+func (s *Sim) commit(g *group, round int32) {
+	r := &s.res
+	for i, n := range g.nodes {
+		if s.touchMark[n] != s.settleID {
+			s.touchMark[n] = s.settleID
+			s.touched = append(s.touched, n)
+		}
+		v, st, state, vo := g.nval[i], g.nstr[i], g.nstate[i], g.nvolts[i]
+		moved := s.val[n] != v || s.str[n] != st || s.state[n] != state || voltsMoved(s.volts[n], vo)
+		s.val[n], s.str[n], s.state[n], s.volts[n] = v, st, state, vo
+		if moved {
+			s.lastChange[n] = round
+			r.Changed = append(r.Changed, n)
+			r.Delay = append(r.Delay, s.physDelay(g, i))
+			s.gates = append(s.gates, n)
+		}
+	}
+}
+
+// voltsMoved reports a voltage change worth a round: more than a microvolt,
+// or between known and unknown.
+func voltsMoved(a, b float64) bool {
+	if math.IsNaN(a) || math.IsNaN(b) {
+		return math.IsNaN(a) != math.IsNaN(b)
+	}
+	return math.Abs(a-b) > 1e-6
+}
+
+func grow[T any](s []T, n int) []T {
+	if cap(s) < n {
+		return make([]T, n, 2*n)
+	}
+	return s[:n]
+}
