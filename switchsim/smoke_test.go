@@ -77,3 +77,27 @@ func TestSmokeRing(t *testing.T) {
 		t.Fatalf("n1 = %+v", got)
 	}
 }
+
+// A keeper fight explained: a strong write path beats a weak keeper (common practice).
+func TestSmokeExplain(t *testing.T) {
+	b := NewBuilder()
+	b.Input("d")
+	b.Input("en")
+	b.NMOS("w", "en", "d", "q", DeviceOpts{})
+	b.PMOS("k", "gnd", "vdd", "q", DeviceOpts{Strength: Weak})
+	s := NewSim(mustCompile(t, b), Options{Mode: Ideal})
+	set(t, s, "d", Drive0)
+	set(t, s, "en", Drive1)
+	s.Settle()
+	q, _ := s.Netlist().Lookup("q")
+	e := s.Explain(q)
+	if e.State != StateL || len(e.Winning) != 1 || len(e.Opposing) != 1 {
+		t.Fatalf("explain q: %+v", e)
+	}
+	if nl := s.Netlist(); nl.Device(e.Winning[0].Steps[0].Device).Name != "w" || nl.Device(e.Opposing[0].Steps[0].Device).Name != "k" {
+		t.Fatalf("paths: %+v", e)
+	}
+	if e.Opposing[0].Strength != Weak {
+		t.Fatalf("opposing strength %v", e.Opposing[0].Strength)
+	}
+}

@@ -1,0 +1,255 @@
+package switchsim
+
+import "math"
+
+// Explanation says why a node holds its state (MODEL.md §6).
+type Explanation struct {
+	Node int
+	NodeState
+	Source    bool   // a rail or a driven input: it holds what it is given
+	Winning   []Path // the strongest paths that set the value, up to three
+	Opposing  []Path // paths of another value that reach the node but lose, up to three
+	Unknown   []int  // devices of unknown state in the node's group
+	Sharing   []int  // for a floating node: the floating nodes it shares charge with (itself included)
+	Contested bool
+
+	// Physical mode (NaN or -1 where they do not apply).
+	Degrader int      // the device that caused the last level drop
+	Divider  *Divider // for a contested node: the resistances of the two sides
+}
+
+// Divider is the resistive estimate of a contested node.
+type Divider struct {
+	Up, Down float64 // ohms to the 1 side and to the 0 side
+	Volts    float64
+}
+
+// Path is a chain of devices from a source (a rail, a driven input, or a
+// node's own stored charge) to the explained node.
+type Path struct {
+	Source   int
+	Value    Value
+	Strength Strength // the path's strength: the weakest of the source and the devices' caps
+	Steps    []PathStep
+	Weakest  int // the device that sets the path's strength (-1: the source itself)
+}
+
+// PathStep is one device on a path, from node From to node To.
+type PathStep struct {
+	Device     int
+	Gate       int // -1 for pulls
+	GateValue  Value
+	Conduction Conduction
+	From, To   int
+}
+
+// Explain says why node n holds its present state. It searches the node's
+// group afresh and allocates; it is meant for people, not for the hot path.
+func (s *Sim) Explain(n int) Explanation {
+	e := Explanation{Node: n, NodeState: s.Node(n), Source: s.source[n], Degrader: -1}
+	if e.Source {
+		return e
+	}
+	nl := s.nl
+	members := s.floatingGroupAll(n)
+	for _, m := range members {
+		for _, d := range nl.chanDev[nl.chanStart[m]:nl.chanStart[m+1]] {
+			if s.cond[d] == Unknown && !containsInt(e.Unknown, int(d)) {
+				e.Unknown = append(e.Unknown, int(d))
+			}
+		}
+	}
+	e.Contested = s.contest[n]
+	if e.Floating {
+		e.Sharing = s.floatingGroup(n)
+		e.Winning = s.winningPaths(n)
+		return e
+	}
+	e.Winning = s.winningPaths(n)
+	e.Opposing = s.opposingPaths(n)
+	s.physExplain(&e)
+	return e
+}
+
+// floatingGroupAll returns n's group: the non-source nodes joined to it by
+// devices that are on or unknown.
+func (s *Sim) floatingGroupAll(n int) []int {
+	nl := s.nl
+	seen := map[int]bool{n: true}
+	list := []int{n}
+	for i := 0; i < len(list); i++ {
+		m := list[i]
+		for _, d := range nl.chanDev[nl.chanStart[m]:nl.chanStart[m+1]] {
+			if s.cond[d] == Off {
+				continue
+			}
+			if o := nl.Other(int(d), m); !s.source[o] && !seen[o] {
+				seen[o] = true
+				list = append(list, o)
+			}
+		}
+	}
+	return list
+}
+
+func (s *Sim) step(d, from, to int) PathStep {
+	g := int(s.nl.devGate[d])
+	gv := V1
+	if g >= 0 {
+		gv = s.val[g]
+	}
+	return PathStep{Device: d, Gate: g, GateValue: gv, Conduction: s.cond[d], From: from, To: to}
+}
+
+// winningPaths follows the resolved strengths back from n: through devices
+// that are on and at least as strong as n's strength, across nodes at least
+// that strong whose value agrees, to the sources that set n's value.
+func (s *Sim) winningPaths(n int) []Path {
+	nl := s.nl
+	want, v := s.str[n], s.val[n]
+	agrees := func(m int) bool { return v == VX || s.val[m] == v || s.val[m] == VX }
+	type pred struct{ node, dev int }
+	prev := map[int]pred{n: {-1, -1}}
+	queue := []int{n}
+	var found []int
+	for i := 0; i < len(queue) && len(found) < 3; i++ {
+		m := queue[i]
+		for _, d32 := range nl.chanDev[nl.chanStart[m]:nl.chanStart[m+1]] {
+			d := int(d32)
+			if s.cond[d] != On || (nl.devCap[d] < want && !want.IsCharge()) {
+				continue
+			}
+			o := nl.Other(d, m)
+			if _, seen := prev[o]; seen {
+				continue
+			}
+			if s.source[o] {
+				if agrees(o) && min(Supply, nl.devCap[d]) >= want {
+					prev[o] = pred{m, d}
+					found = append(found, o)
+					if len(found) == 3 {
+						break
+					}
+				}
+				continue
+			}
+			if s.str[o] >= want && agrees(o) {
+				prev[o] = pred{m, d}
+				queue = append(queue, o)
+			}
+		}
+	}
+	if len(found) == 0 && want.IsCharge() {
+		// The value is charge: the origin is the strongest stored charge in the group.
+		for _, m := range queue {
+			if nl.nodeCharge[m] == want {
+				found = append(found, m)
+				break
+			}
+		}
+	}
+	var paths []Path
+	for _, src := range found {
+		p := Path{Source: src, Value: s.val[src], Strength: want, Weakest: -1}
+		if !s.source[src] {
+			p.Strength = nl.nodeCharge[src]
+		} else {
+			p.Strength = Supply
+		}
+		for at := src; at != n; {
+			pr := prev[at]
+			p.Steps = append(p.Steps, s.step(pr.dev, at, pr.node))
+			if c := nl.devCap[pr.dev]; c < p.Strength {
+				p.Strength, p.Weakest = c, pr.dev
+			}
+			at = pr.node
+		}
+		paths = append(paths, p)
+	}
+	return paths
+}
+
+// opposingPaths finds, for each driven source in n's group whose value is
+// not n's, the strongest path from it to n through devices on or unknown
+// (a maximin search, ignoring blocking): the paths that reach n but lose.
+func (s *Sim) opposingPaths(n int) []Path {
+	nl := s.nl
+	v := s.val[n]
+	type label struct {
+		str      Strength
+		node     int
+		dev      int
+		finished bool
+	}
+	lab := map[int]*label{n: {str: Supply, node: -1, dev: -1}}
+	for {
+		// pick the unfinished node with the strongest label (groups are small)
+		best := -1
+		for m, l := range lab {
+			if !l.finished && !s.source[m] && (best < 0 || l.str > lab[best].str || (l.str == lab[best].str && m < best)) {
+				best = m
+			}
+		}
+		if best < 0 {
+			break
+		}
+		lb := lab[best]
+		lb.finished = true
+		for _, d32 := range nl.chanDev[nl.chanStart[best]:nl.chanStart[best+1]] {
+			d := int(d32)
+			if s.cond[d] == Off {
+				continue
+			}
+			o := nl.Other(d, best)
+			st := min(lb.str, nl.devCap[d])
+			if l, ok := lab[o]; !ok || (!l.finished && st > l.str) {
+				lab[o] = &label{str: st, node: best, dev: d}
+			}
+		}
+	}
+	var paths []Path
+	for src, l := range lab {
+		if !s.source[src] || (s.val[src] == v && v != VX) {
+			continue
+		}
+		p := Path{Source: src, Value: s.val[src], Strength: l.str, Weakest: -1}
+		for at := src; at != n; {
+			lb := lab[at]
+			p.Steps = append(p.Steps, s.step(lb.dev, at, lb.node))
+			if nl.devCap[lb.dev] == l.str && p.Weakest < 0 {
+				p.Weakest = lb.dev
+			}
+			at = lb.node
+		}
+		paths = append(paths, p)
+	}
+	sortPaths(paths)
+	if len(paths) > 3 {
+		paths = paths[:3]
+	}
+	return paths
+}
+
+func sortPaths(p []Path) {
+	for i := 1; i < len(p); i++ {
+		for j := i; j > 0 && (p[j].Strength > p[j-1].Strength || (p[j].Strength == p[j-1].Strength && p[j].Source < p[j-1].Source)); j-- {
+			p[j], p[j-1] = p[j-1], p[j]
+		}
+	}
+}
+
+func containsInt(s []int, x int) bool {
+	for _, v := range s {
+		if v == x {
+			return true
+		}
+	}
+	return false
+}
+
+// physExplain adds physical-mode facts to an explanation.
+func (s *Sim) physExplain(e *Explanation) {
+	if s.mode != Physical || math.IsNaN(e.Volts) {
+		return
+	}
+}
