@@ -62,9 +62,10 @@ const (
 // overwritten by the next Settle; copy what must be kept.
 type Result struct {
 	Rounds   int
-	Changed  []int32   // node numbers, round after round
-	RoundEnd []int32   // round r (0-based) changed Changed[RoundEnd[r-1]:RoundEnd[r]]
-	Delay    []float64 // parallel to Changed: Elmore delay estimate in seconds, NaN in ideal mode
+	Changed  []int32     // node numbers, round after round
+	RoundEnd []int32     // round r (0-based) changed Changed[RoundEnd[r-1]:RoundEnd[r]]
+	Delay    []float64   // parallel to Changed: Elmore delay estimate in seconds, NaN in ideal mode
+	After    []NodeState // parallel to Changed: the node's state as that round left it
 	Warnings []Warning
 	// Oscillated is set when the round limit was reached; the nodes still
 	// changing were set to X and settling went on.
@@ -279,6 +280,7 @@ func (s *Sim) Settle() *Result {
 	r := &s.res
 	r.Rounds, r.Oscillated = 0, false
 	r.Changed, r.RoundEnd, r.Delay, r.Warnings = r.Changed[:0], r.RoundEnd[:0], r.Delay[:0], r.Warnings[:0]
+	r.After = r.After[:0]
 	s.settleID++
 	s.touched = s.touched[:0]
 	s.seeds, s.gates = s.seeds[:0], s.gates[:0]

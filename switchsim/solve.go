@@ -284,6 +284,7 @@ func (s *Sim) commit(g *group, round int32) {
 			s.lastChange[n] = round
 			r.Changed = append(r.Changed, n)
 			r.Delay = append(r.Delay, s.physDelay(g, i))
+			r.After = append(r.After, NodeState{v, st, state, vo, st.IsCharge()})
 			s.gates = append(s.gates, n)
 		}
 	}
