@@ -421,8 +421,10 @@ func (s *Sim) forceOscillating(round int32) {
 				s.state[n] = StateZ
 			}
 			s.gates = append(s.gates, n)
-			s.res.Warnings = append(s.res.Warnings, Warning{Kind: WarnOscillation, Node: int(n), Device: -1, Other: -1, Volts: math.NaN()})
-			s.warnMark[n] = s.settleID
+			if s.warnMark[n] != s.settleID {
+				s.res.Warnings = append(s.res.Warnings, Warning{Kind: WarnOscillation, Node: int(n), Device: -1, Other: -1, Volts: math.NaN()})
+				s.warnMark[n] = s.settleID
+			}
 		}
 	}
 }

@@ -276,6 +276,7 @@ func (s *Sim) commit(g *group, round int32) {
 		if s.touchMark[n] != s.settleID {
 			s.touchMark[n] = s.settleID
 			s.touched = append(s.touched, n)
+			s.lastChange[n] = 0 // rounds count from 1 in each settle
 		}
 		v, st, state, vo := g.nval[i], g.nstr[i], g.nstate[i], g.nvolts[i]
 		moved := s.val[n] != v || s.str[n] != st || s.state[n] != state || voltsMoved(s.volts[n], vo)
