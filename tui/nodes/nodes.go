@@ -1,0 +1,373 @@
+// Package nodes is the explorer's node board: every node but the rails and
+// the inputs, outputs first, each with its state letter, logic value,
+// strength and volts, marked when the last settle changed it, when it is on
+// the timeline, or when a check on it failed. '/' filters by name.
+package nodes
+
+import (
+	"fmt"
+	"math"
+	"sort"
+	"strings"
+
+	"github.com/charmbracelet/bubbles/key"
+	tea "github.com/charmbracelet/bubbletea"
+	"github.com/charmbracelet/lipgloss"
+
+	"railyard/switchsim"
+	"railyard/tui/listing"
+	"railyard/tui/theme"
+)
+
+// KeyMap are the board's keys.
+type KeyMap struct {
+	listing.Nav
+	Filter  key.Binding
+	Inspect key.Binding
+	Watch   key.Binding
+}
+
+// DefaultKeyMap: arrows to move, '/' to filter, enter to inspect, m to watch.
+func DefaultKeyMap() KeyMap {
+	return KeyMap{
+		Nav:     listing.DefaultNav(),
+		Filter:  key.NewBinding(key.WithKeys("/"), key.WithHelp("/", "filter nodes")),
+		Inspect: key.NewBinding(key.WithKeys("enter", "w"), key.WithHelp("enter/w", "why: inspect node")),
+		Watch:   key.NewBinding(key.WithKeys("m"), key.WithHelp("m", "watch on timeline")),
+	}
+}
+
+// ShortHelp and FullHelp feed the help view.
+func (k KeyMap) ShortHelp() []key.Binding { return []key.Binding{k.Inspect, k.Filter, k.Watch} }
+func (k KeyMap) FullHelp() [][]key.Binding {
+	return [][]key.Binding{{k.Up, k.Down, k.PageUp, k.PageDown, k.Home, k.End}, {k.Inspect, k.Filter, k.Watch}}
+}
+
+// Styles draw the board.
+type Styles struct {
+	Theme    *theme.Theme
+	Name     lipgloss.Style
+	Output   lipgloss.Style
+	Header   lipgloss.Style
+	Selected lipgloss.Style
+	Changed  lipgloss.Style
+	Watched  lipgloss.Style
+	Fail     lipgloss.Style
+	Dim      lipgloss.Style
+}
+
+// DefaultStyles takes the board's styles from the theme.
+func DefaultStyles(t *theme.Theme) Styles {
+	return Styles{Theme: t, Name: t.Text, Output: t.Bold, Header: t.Dim, Selected: t.Selected,
+		Changed: t.Changed, Watched: t.Accent, Fail: t.Fail, Dim: t.Dim}
+}
+
+// row is a node, or a separator line (node < 0).
+type row struct {
+	node int
+	sep  string
+}
+
+// Model is the node board.
+type Model struct {
+	KeyMap KeyMap
+	Styles Styles
+
+	nl      *switchsim.Netlist
+	order   []int // outputs, then internal nodes by name
+	nout    int
+	states  []switchsim.NodeState
+	changed []bool
+	failing []bool
+	watched []bool
+	rows    []row
+	cur     listing.Cursor
+	filter  listing.Filter
+	focused bool
+	w, h    int
+}
+
+// New makes a board for a netlist.
+func New(nl *switchsim.Netlist, st Styles) *Model {
+	m := &Model{KeyMap: DefaultKeyMap(), Styles: st, nl: nl, filter: listing.NewFilter()}
+	m.cur.Skip = func(i int) bool { return m.rows[i].node < 0 }
+	isOut := make([]bool, nl.NumNodes())
+	for _, o := range nl.Outputs() {
+		if nl.NodeKind(o) == switchsim.Internal {
+			isOut[o] = true
+			m.order = append(m.order, o)
+		}
+	}
+	m.nout = len(m.order)
+	var rest []int
+	for n := 0; n < nl.NumNodes(); n++ {
+		if nl.NodeKind(n) == switchsim.Internal && !isOut[n] {
+			rest = append(rest, n)
+		}
+	}
+	sort.Slice(rest, func(i, j int) bool { return natLess(nl.NodeName(rest[i]), nl.NodeName(rest[j])) })
+	m.order = append(m.order, rest...)
+	m.watched = make([]bool, nl.NumNodes())
+	m.rebuild()
+	return m
+}
+
+// SetSize gives the board its cells.
+func (m *Model) SetSize(w, h int) {
+	m.w, m.h = w, h
+	m.cur.SetHeight(h - 2) // title and column heads
+}
+
+// Focus and Blur tell the board whether keys go to it.
+func (m *Model) Focus()          { m.focused = true }
+func (m *Model) Blur()           { m.focused = false }
+func (m *Model) Focused() bool   { return m.focused }
+func (m *Model) Filtering() bool { return m.filter.Typing() }
+
+// SetStates gives the board every node's state, which nodes the last settle
+// changed, and which failed a check (both indexed by node, may be nil).
+func (m *Model) SetStates(states []switchsim.NodeState, changed, failing []bool) {
+	m.states, m.changed, m.failing = states, changed, failing
+}
+
+// SetWatched marks the nodes on the timeline (indexed by node).
+func (m *Model) SetWatched(w []bool) { m.watched = w }
+
+// Selected returns the node under the cursor, or -1.
+func (m *Model) Selected() int {
+	if m.cur.Pos < len(m.rows) && m.rows[m.cur.Pos].node >= 0 {
+		return m.rows[m.cur.Pos].node
+	}
+	return -1
+}
+
+// Select puts the cursor on node n if it is shown.
+func (m *Model) Select(n int) bool {
+	for i, r := range m.rows {
+		if r.node == n {
+			m.cur.Set(i)
+			return true
+		}
+	}
+	return false
+}
+
+// Shown is the number of nodes the filter lets through.
+func (m *Model) Shown() int {
+	k := 0
+	for _, r := range m.rows {
+		if r.node >= 0 {
+			k++
+		}
+	}
+	return k
+}
+
+// StartFilter begins typing a filter.
+func (m *Model) StartFilter() { m.filter.Start() }
+
+// ClearFilter drops the filter; it reports whether there was one.
+func (m *Model) ClearFilter() bool {
+	had := m.filter.Active()
+	m.filter.Clear()
+	m.rebuild()
+	return had
+}
+
+func (m *Model) rebuild() {
+	keep := m.Selected()
+	f := m.filter.Value()
+	m.rows = m.rows[:0]
+	sepOut, sepIn := false, false
+	for i, n := range m.order {
+		if !listing.Match(f, m.nl.NodeName(n)) {
+			continue
+		}
+		if i < m.nout && !sepOut {
+			sepOut = true
+			m.rows = append(m.rows, row{-1, "outputs"})
+		}
+		if i >= m.nout && !sepIn {
+			sepIn = true
+			if sepOut {
+				m.rows = append(m.rows, row{-1, "internal"})
+			}
+		}
+		m.rows = append(m.rows, row{node: n})
+	}
+	m.cur.SetLen(len(m.rows))
+	if keep < 0 || !m.Select(keep) {
+		m.cur.Set(m.cur.Pos)
+	}
+}
+
+// Update handles a key when the board is focused. Messages that are not
+// its keys are ignored. It reports an Inspect or Watch request through
+// the returned Request.
+func (m *Model) Update(msg tea.Msg) (Request, tea.Cmd) {
+	k, ok := msg.(tea.KeyMsg)
+	if !ok {
+		return None, nil
+	}
+	if m.filter.Typing() {
+		if m.filter.Update(k) {
+			m.rebuild()
+		}
+		return None, nil
+	}
+	switch {
+	case m.KeyMap.Nav.Handle(k, &m.cur):
+	case key.Matches(k, m.KeyMap.Filter):
+		m.filter.Start()
+	case key.Matches(k, m.KeyMap.Inspect):
+		if m.Selected() >= 0 {
+			return Inspect, nil
+		}
+	case key.Matches(k, m.KeyMap.Watch):
+		if m.Selected() >= 0 {
+			return Watch, nil
+		}
+	}
+	return None, nil
+}
+
+// Request is what a key asks of the root model.
+type Request uint8
+
+const (
+	None Request = iota
+	Inspect
+	Watch
+)
+
+// View draws the board in its w x h cells.
+func (m *Model) View() string {
+	st, t := m.Styles, m.Styles.Theme
+	g := t.G
+	lines := make([]string, 0, m.h)
+	info := fmt.Sprintf("%d", len(m.order))
+	if f := m.filter.View(); f != "" {
+		info = fmt.Sprintf("%d of %d  %s", m.Shown(), len(m.order), f)
+	}
+	lines = append(lines, t.TitleBar("Nodes", info, m.focused, m.w))
+	// columns: marks(3) name state value strength volts
+	nameW := max(m.w-3-2-2-7-6, 6)
+	lines = append(lines, st.Header.Render(fmt.Sprintf("   %-*s %s %s %-6s %5s", nameW, "name", "s", "v", "str", "volts")))
+	if len(m.rows) == 0 {
+		msg := "no nodes"
+		if m.filter.Active() {
+			msg = "no node matches " + m.filter.View()
+		}
+		lines = append(lines, st.Dim.Render("   "+msg))
+	}
+	lo, hi := m.cur.Window()
+	for i := lo; i < hi; i++ {
+		r := m.rows[i]
+		if r.node < 0 {
+			lines = append(lines, st.Dim.Render("  "+g.Rule+" "+r.sep+" "+strings.Repeat(g.Rule, max(m.w-len(r.sep)-6, 0))))
+			continue
+		}
+		lines = append(lines, m.line(r.node, i == m.cur.Pos, nameW))
+	}
+	return theme.Block(lines, m.w, m.h)
+}
+
+func (m *Model) line(n int, sel bool, nameW int) string {
+	st, t := m.Styles, m.Styles.Theme
+	g := t.G
+	mark := func(on bool, glyph string, s lipgloss.Style) string {
+		if on {
+			return s.Render(glyph)
+		}
+		return " "
+	}
+	cur := " "
+	if sel && m.focused {
+		cur = g.Cursor
+	} else if sel {
+		cur = t.Dim.Render(g.Cursor)
+	}
+	var b strings.Builder
+	b.WriteString(cur)
+	b.WriteString(mark(at(m.changed, n), g.Changed, st.Changed))
+	b.WriteString(mark(at(m.watched, n), g.Watched, st.Watched))
+	name := t.Clip(m.nl.NodeName(n), nameW)
+	name += strings.Repeat(" ", nameW-lipgloss.Width(name))
+	if n < len(m.states) {
+		ns := m.states[n]
+		nameStyle := st.Name
+		if m.isOutput(n) {
+			nameStyle = st.Output
+		}
+		if sel && m.focused {
+			nameStyle = st.Selected
+		}
+		b.WriteString(nameStyle.Render(name))
+		b.WriteByte(' ')
+		b.WriteString(t.StateLetter(ns.State))
+		b.WriteByte(' ')
+		b.WriteString(ns.Value.String())
+		b.WriteByte(' ')
+		fmt.Fprintf(&b, "%-6s %5s", ns.Strength, volts(ns.Volts))
+	} else {
+		b.WriteString(name)
+	}
+	if at(m.failing, n) {
+		b.WriteString(st.Fail.Render(g.Fail))
+	}
+	return b.String()
+}
+
+func (m *Model) isOutput(n int) bool {
+	for _, o := range m.order[:m.nout] {
+		if o == n {
+			return true
+		}
+	}
+	return false
+}
+
+func at(b []bool, i int) bool { return i >= 0 && i < len(b) && b[i] }
+
+// volts prints a voltage in five cells, "-" where unknown (ideal mode).
+func volts(v float64) string {
+	if math.IsNaN(v) {
+		return "-"
+	}
+	return fmt.Sprintf("%.2f", v)
+}
+
+// natLess orders names with their numbers by value: b2 before b10.
+func natLess(a, b string) bool {
+	for a != "" && b != "" {
+		ca, cb := a[0], b[0]
+		if isDigit(ca) && isDigit(cb) {
+			na, ra := digits(a)
+			nb, rb := digits(b)
+			if len(na) != len(nb) {
+				return len(na) < len(nb)
+			}
+			if na != nb {
+				return na < nb
+			}
+			a, b = ra, rb
+			continue
+		}
+		if ca != cb {
+			return ca < cb
+		}
+		a, b = a[1:], b[1:]
+	}
+	return len(a) < len(b)
+}
+
+func isDigit(c byte) bool { return c >= '0' && c <= '9' }
+
+func digits(s string) (string, string) {
+	i := 0
+	for i < len(s) && isDigit(s[i]) {
+		i++
+	}
+	num := strings.TrimLeft(s[:i], "0")
+	return num, s[i:]
+}

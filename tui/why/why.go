@@ -1,0 +1,295 @@
+// Package why is the explorer's inspector: it words the engine's
+// explanation of one node (the winning paths device by device with their
+// gate states, the opposing paths, the devices of unknown state, the
+// device that degraded the level, the divider and the charge-sharing group).
+package why
+
+import (
+	"fmt"
+	"math"
+	"strings"
+
+	"github.com/charmbracelet/bubbles/key"
+	tea "github.com/charmbracelet/bubbletea"
+	"github.com/charmbracelet/lipgloss"
+
+	"railyard/switchsim"
+	"railyard/tui/listing"
+	"railyard/tui/theme"
+)
+
+// KeyMap are the inspector's keys: it only scrolls.
+type KeyMap struct{ listing.Nav }
+
+// DefaultKeyMap scrolls with the arrows.
+func DefaultKeyMap() KeyMap { return KeyMap{listing.DefaultNav()} }
+
+// ShortHelp and FullHelp feed the help view.
+func (k KeyMap) ShortHelp() []key.Binding { return []key.Binding{k.Up, k.Down} }
+func (k KeyMap) FullHelp() [][]key.Binding {
+	return [][]key.Binding{{k.Up, k.Down, k.PageUp, k.PageDown, k.Home, k.End}}
+}
+
+// Styles draw the inspector.
+type Styles struct {
+	Theme   *theme.Theme
+	Heading lipgloss.Style
+	Node    lipgloss.Style
+	Device  lipgloss.Style
+	Dim     lipgloss.Style
+	Warn    lipgloss.Style
+}
+
+// DefaultStyles takes the inspector's styles from the theme.
+func DefaultStyles(t *theme.Theme) Styles {
+	return Styles{Theme: t, Heading: t.Bold, Node: t.Accent, Device: t.Marked, Dim: t.Dim, Warn: t.Warn}
+}
+
+// Model is the inspector.
+type Model struct {
+	KeyMap KeyMap
+	Styles Styles
+
+	node    int
+	lines   []string
+	cur     listing.Cursor
+	focused bool
+	w, h    int
+}
+
+// New makes an empty inspector.
+func New(st Styles) *Model { return &Model{KeyMap: DefaultKeyMap(), Styles: st, node: -1} }
+
+// SetSize gives the inspector its cells.
+func (m *Model) SetSize(w, h int) {
+	m.w, m.h = w, h
+	m.cur.SetHeight(h)
+	m.cur.Pos = m.cur.Offset
+	m.cur.SetLen(len(m.lines))
+}
+
+// Focus and Blur tell the inspector whether keys go to it.
+func (m *Model) Focus()        { m.focused = true }
+func (m *Model) Blur()         { m.focused = false }
+func (m *Model) Focused() bool { return m.focused }
+
+// Node is the node explained, or -1.
+func (m *Model) Node() int { return m.node }
+
+// Set words an explanation. keepScroll keeps the scroll position when the
+// same node is explained again after a change.
+func (m *Model) Set(nl *switchsim.Netlist, e switchsim.Explanation, extra []string) {
+	same := e.Node == m.node
+	m.node = e.Node
+	m.lines = Lines(nl, e, m.Styles)
+	m.lines = append(m.lines, extra...)
+	if !same {
+		m.cur.Offset = 0
+	}
+	m.cur.Pos = m.cur.Offset
+	m.cur.SetLen(len(m.lines))
+}
+
+// Update scrolls.
+func (m *Model) Update(msg tea.Msg) {
+	k, ok := msg.(tea.KeyMsg)
+	if !ok {
+		return
+	}
+	// the cursor is the top line: moving it scrolls the text
+	m.cur.Pos = m.cur.Offset
+	h := max(m.cur.Height, 1)
+	switch {
+	case key.Matches(k, m.KeyMap.Down):
+		m.cur.Offset = min(m.cur.Offset+1, max(len(m.lines)-h, 0))
+	case key.Matches(k, m.KeyMap.Up):
+		m.cur.Offset = max(m.cur.Offset-1, 0)
+	case key.Matches(k, m.KeyMap.PageDown):
+		m.cur.Offset = min(m.cur.Offset+h-1, max(len(m.lines)-h, 0))
+	case key.Matches(k, m.KeyMap.PageUp):
+		m.cur.Offset = max(m.cur.Offset-h+1, 0)
+	case key.Matches(k, m.KeyMap.Home):
+		m.cur.Offset = 0
+	case key.Matches(k, m.KeyMap.End):
+		m.cur.Offset = max(len(m.lines)-h, 0)
+	}
+}
+
+// View draws the inspector in its w x h cells.
+func (m *Model) View() string {
+	if m.node < 0 {
+		return theme.Block([]string{
+			m.Styles.Dim.Render("Select a node on the board and press enter"),
+			m.Styles.Dim.Render("(or w) to see why it holds its state."),
+		}, m.w, m.h)
+	}
+	lo := m.cur.Offset
+	hi := min(lo+m.h, len(m.lines))
+	view := m.lines[lo:hi]
+	if hi < len(m.lines) && len(view) > 0 {
+		view = append(append([]string(nil), view[:len(view)-1]...),
+			m.Styles.Dim.Render(fmt.Sprintf("%s %d more lines", m.Styles.Theme.G.Ellipsis, len(m.lines)-hi+1)))
+	}
+	return theme.Block(view, m.w, m.h)
+}
+
+// Lines words an explanation, one line a fact.
+func Lines(nl *switchsim.Netlist, e switchsim.Explanation, st Styles) []string {
+	t := st.Theme
+	name := nl.NodeName
+	var out []string
+	add := func(f string, a ...any) { out = append(out, fmt.Sprintf(f, a...)) }
+	head := fmt.Sprintf("%s is %s", st.Node.Render(name(e.Node)), t.StateLetter(e.State))
+	head += fmt.Sprintf(": value %s, %s", e.Value, e.Strength)
+	if !math.IsNaN(e.Volts) {
+		head += fmt.Sprintf(", %.2f V", e.Volts)
+	}
+	out = append(out, head)
+	out = append(out, st.Dim.Render(stateMeaning(e)))
+
+	if e.Source {
+		switch nl.NodeKind(e.Node) {
+		case switchsim.Power, switchsim.Ground:
+			add("It is a rail: it holds its value at supply strength.")
+		default:
+			add("It is an input driven %s at supply strength: nothing in the design changes it.", e.Value)
+		}
+		return out
+	}
+
+	if len(e.Winning) > 0 {
+		out = append(out, "")
+		verb := "Set by"
+		if e.Floating {
+			verb = "Holds charge from"
+		}
+		out = append(out, st.Heading.Render(fmt.Sprintf("%s %s:", verb, plural(len(e.Winning), "path"))))
+		for _, p := range e.Winning {
+			out = append(out, pathLines(nl, p, st)...)
+		}
+	} else if !e.Floating {
+		out = append(out, "", "No single path sets it: its value comes from the whole group.")
+	}
+	if len(e.Opposing) > 0 {
+		out = append(out, "")
+		out = append(out, st.Heading.Render(fmt.Sprintf("Opposed by %s (they lose):", plural(len(e.Opposing), "path"))))
+		for _, p := range e.Opposing {
+			out = append(out, pathLines(nl, p, st)...)
+		}
+	}
+	if e.Contested {
+		out = append(out, st.Warn.Render(t.G.Warn+" contested: a source of the other value reaches its group"))
+	}
+	if len(e.Unknown) > 0 {
+		out = append(out, "")
+		names := make([]string, len(e.Unknown))
+		for i, d := range e.Unknown {
+			dv := nl.Device(d)
+			g := "?"
+			if dv.Gate >= 0 {
+				g = name(dv.Gate)
+			}
+			names[i] = st.Device.Render(dv.Name) + " (gate " + g + "=X)"
+		}
+		out = append(out, st.Warn.Render(t.G.Warn+" unknown devices in its group: ")+strings.Join(names, ", "))
+	}
+	if e.Degrader >= 0 {
+		out = append(out, "", fmt.Sprintf("Level degraded by %s (%s): a threshold drop.",
+			st.Device.Render(nl.Device(e.Degrader).Name), nl.Device(e.Degrader).Kind))
+	}
+	if e.Divider != nil {
+		out = append(out, "", fmt.Sprintf("Divider: %s to the 1 side, %s to the 0 side %s %.2f V",
+			ohms(e.Divider.Up), ohms(e.Divider.Down), t.G.Arrow, e.Divider.Volts))
+	}
+	if e.Floating {
+		out = append(out, "")
+		if len(e.Sharing) > 1 {
+			out = append(out, st.Heading.Render("Shares charge with:"))
+			for _, n := range e.Sharing {
+				if n == e.Node {
+					continue
+				}
+				add("  %s  %s, %s", st.Node.Render(name(n)), farads(nl.NodeCap(n)), nl.NodeCharge(n))
+			}
+			add("  (itself: %s, %s)", farads(nl.NodeCap(e.Node)), nl.NodeCharge(e.Node))
+		} else {
+			add("Nothing drives it and no other floating node joins it: it keeps its own charge (%s, %s).",
+				farads(nl.NodeCap(e.Node)), nl.NodeCharge(e.Node))
+		}
+	}
+	return out
+}
+
+func stateMeaning(e switchsim.Explanation) string {
+	switch e.State {
+	case switchsim.State0, switchsim.State1:
+		return "driven strong at full level, nothing opposes it"
+	case switchsim.StateL, switchsim.StateH:
+		return "a weak, degraded or contested logic " + e.Value.String()
+	case switchsim.StateZ:
+		return "floating: it keeps a stored " + e.Value.String() + " as charge"
+	}
+	return "unknown: a fight of equal strengths, or an X gate that could change it"
+}
+
+// pathLines draws a path from its source to the node, one device a line.
+func pathLines(nl *switchsim.Netlist, p switchsim.Path, st Styles) []string {
+	t := st.Theme
+	src := nl.NodeName(p.Source)
+	kind := "charge"
+	switch nl.NodeKind(p.Source) {
+	case switchsim.Power:
+		kind = "power rail"
+	case switchsim.Ground:
+		kind = "ground rail"
+	case switchsim.Input:
+		kind = "input"
+	}
+	weak := ""
+	if p.Weakest >= 0 {
+		weak = ", limited by " + st.Device.Render(nl.Device(p.Weakest).Name)
+	}
+	out := []string{fmt.Sprintf("  %s %s (%s) %s %s%s", t.G.Next, st.Node.Render(src), kind, p.Value, p.Strength, weak)}
+	for _, s := range p.Steps {
+		dv := nl.Device(s.Device)
+		gate := "always on"
+		if s.Gate >= 0 {
+			gate = fmt.Sprintf("gate %s=%s", nl.NodeName(s.Gate), s.GateValue)
+		}
+		out = append(out, fmt.Sprintf("    %s %s %s  %s, %s %s %s", st.Device.Render(dv.Name), dv.Kind, gate,
+			s.Conduction, nl.NodeName(s.From), t.G.Arrow, nl.NodeName(s.To)))
+	}
+	if len(p.Steps) == 0 {
+		out = append(out, st.Dim.Render("    (its own stored charge)"))
+	}
+	return out
+}
+
+func plural(n int, w string) string {
+	if n == 1 {
+		return "1 " + w
+	}
+	return fmt.Sprintf("%d %ss", n, w)
+}
+
+func ohms(r float64) string {
+	switch {
+	case math.IsInf(r, 0) || math.IsNaN(r):
+		return "open"
+	case r >= 1e6:
+		return fmt.Sprintf("%.3g Mohm", r/1e6)
+	case r >= 1e3:
+		return fmt.Sprintf("%.3g kohm", r/1e3)
+	}
+	return fmt.Sprintf("%.3g ohm", r)
+}
+
+func farads(c float64) string {
+	switch {
+	case c >= 1e-12:
+		return fmt.Sprintf("%.3g pF", c*1e12)
+	case c >= 1e-15:
+		return fmt.Sprintf("%.3g fF", c*1e15)
+	}
+	return fmt.Sprintf("%.3g F", c)
+}
