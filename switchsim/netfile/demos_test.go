@@ -1,0 +1,80 @@
+package netfile_test
+
+import (
+	"fmt"
+	"strings"
+	"testing"
+
+	"railyard/designs"
+	"railyard/switchsim"
+	"railyard/switchsim/netfile"
+	"railyard/switchsim/steps"
+)
+
+// runSteps applies every row of st to a fresh Sim, settles, and returns one
+// line per failed check (empty when every check passes).
+func runSteps(t *testing.T, d *netfile.Design, st *steps.Steps, mode switchsim.Mode) []string {
+	t.Helper()
+	nl := d.Netlist
+	s := switchsim.NewSim(nl, switchsim.Options{Mode: mode})
+	s.Settle()
+	var fails []string
+	for _, row := range st.Rows {
+		for i, n := range st.Apply {
+			if err := s.SetInput(n, row.Drives[i]); err != nil {
+				t.Fatalf("line %d: %v", row.Line, err)
+			}
+		}
+		if r := s.Settle(); r.Oscillated {
+			fails = append(fails, fmt.Sprintf("line %d: oscillated", row.Line))
+		}
+		for i, n := range st.Check {
+			got := s.Node(n)
+			if !row.Wants[i].Check(got, false) {
+				fails = append(fails, fmt.Sprintf("%s:%d: %s want %s, got state %s value %s (%s)",
+					st.File, row.Line, nl.NodeName(n), row.Wants[i], got.State, got.Value, row.Label))
+			}
+		}
+	}
+	return fails
+}
+
+func loadDemo(t *testing.T, name string) (*netfile.Design, *steps.Steps) {
+	t.Helper()
+	d, err := netfile.ReadFile("demo:" + name)
+	if err != nil {
+		t.Fatalf("demo %s: %v", name, err)
+	}
+	path, ok := steps.Default("demo:" + name)
+	if !ok {
+		t.Fatalf("demo %s has no steps", name)
+	}
+	st, err := steps.ReadFile(path, d.Netlist)
+	if err != nil {
+		t.Fatalf("demo %s steps: %v", name, err)
+	}
+	return d, st
+}
+
+// Every demo's steps pass in ideal mode (the checks are the designers'
+// intent, worked out by hand from the circuit: common practice).
+func TestDemoStepsIdeal(t *testing.T) {
+	list := designs.List()
+	if len(list) < 9 {
+		t.Fatalf("want at least 9 demos, have %d", len(list))
+	}
+	for _, e := range list {
+		t.Run(e.Name, func(t *testing.T) {
+			d, st := loadDemo(t, e.Name)
+			if len(st.Rows) == 0 || len(st.Check) == 0 {
+				t.Fatalf("steps check nothing")
+			}
+			if fails := runSteps(t, d, st, switchsim.Ideal); len(fails) > 0 {
+				t.Errorf("ideal mode:\n%s", strings.Join(fails, "\n"))
+			}
+			if n := d.Netlist.NumDevices(); n > 40 {
+				t.Errorf("%d devices: demos stay small", n)
+			}
+		})
+	}
+}

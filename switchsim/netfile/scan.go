@@ -1,0 +1,147 @@
+package netfile
+
+import (
+	"strconv"
+	"unicode/utf8"
+)
+
+// Word is one token of a line: a bare Word, or a double-quoted string
+// (Quoted, Text unquoted).
+type Word struct {
+	Text      string
+	Line, Col int
+	Quoted    bool
+}
+
+// srcLine is one line split into words, with its trailing comment.
+type srcLine struct {
+	num        int
+	words      []Word
+	comment    string // the text after '#', trimmed
+	hasComment bool
+}
+
+// CheckText reports the first byte that keeps src from being text: a NUL
+// byte or a byte sequence that is not UTF-8. It returns nil for text.
+func CheckText(file string, src []byte) *Error {
+	line, col := 1, 1
+	for i := 0; i < len(src); {
+		c := src[i]
+		if c == 0 {
+			return &Error{Pos{file, line, col}, "not a text file: NUL byte"}
+		}
+		if c < utf8.RuneSelf {
+			i++
+			if c == '\n' {
+				line, col = line+1, 1
+			} else {
+				col++
+			}
+			continue
+		}
+		r, n := utf8.DecodeRune(src[i:])
+		if r == utf8.RuneError && n <= 1 {
+			return &Error{Pos{file, line, col}, "not a text file: invalid UTF-8"}
+		}
+		i += n
+		col += n
+	}
+	return nil
+}
+
+// CheckSize reports a file longer than max bytes, at the position where it
+// passes the limit.
+func CheckSize(file string, src []byte, max int) *Error {
+	if len(src) <= max {
+		return nil
+	}
+	line, col := 1, 1
+	for _, c := range src[:max] {
+		if c == '\n' {
+			line, col = line+1, 1
+		} else {
+			col++
+		}
+	}
+	return &Error{Pos{file, line, col}, "file is longer than the limit of " + sizeString(max)}
+}
+
+func sizeString(n int) string {
+	switch {
+	case n >= 1<<20 && n%(1<<20) == 0:
+		return strconv.Itoa(n>>20) + " MiB"
+	case n >= 1<<10 && n%(1<<10) == 0:
+		return strconv.Itoa(n>>10) + " KiB"
+	}
+	return strconv.Itoa(n) + " bytes"
+}
+
+func isSpace(c byte) bool { return c == ' ' || c == '\t' || c == '\r' || c == '\f' || c == '\v' }
+
+// scanLines splits src (already checked to be text) into lines of words.
+// A line longer than maxLine is reported and left empty.
+func scanLines(file string, src []byte, maxLine int, errs *sink) []srcLine {
+	if len(src) >= 3 && src[0] == 0xEF && src[1] == 0xBB && src[2] == 0xBF {
+		src = src[3:] // a byte-order mark says nothing in UTF-8
+	}
+	var lines []srcLine
+	num := 0
+	for len(src) > 0 {
+		num++
+		end := 0
+		for end < len(src) && src[end] != '\n' {
+			end++
+		}
+		text := src[:end]
+		if end < len(src) {
+			src = src[end+1:]
+		} else {
+			src = nil
+		}
+		l := srcLine{num: num}
+		if len(text) > maxLine {
+			errs.add(Pos{file, num, maxLine + 1}, "line is longer than the limit of %d bytes", maxLine)
+			lines = append(lines, l)
+			continue
+		}
+		for i := 0; i < len(text); {
+			c := text[i]
+			switch {
+			case isSpace(c):
+				i++
+			case c == '#':
+				j, k := i+1, len(text)
+				for j < k && isSpace(text[j]) {
+					j++
+				}
+				for k > j && isSpace(text[k-1]) {
+					k--
+				}
+				l.comment, l.hasComment = string(text[j:k]), true
+				i = len(text)
+			case c == '"':
+				q, err := strconv.QuotedPrefix(string(text[i:]))
+				if err != nil {
+					errs.add(Pos{file, num, i + 1}, "string is not closed or has a bad escape (use \\\" and \\\\ inside quotes)")
+					i = len(text)
+					break
+				}
+				s, err := strconv.Unquote(q)
+				if err != nil {
+					errs.add(Pos{file, num, i + 1}, "bad string %s", q)
+				}
+				l.words = append(l.words, Word{Text: s, Line: num, Col: i + 1, Quoted: true})
+				i += len(q)
+			default:
+				j := i
+				for j < len(text) && !isSpace(text[j]) && text[j] != '#' && text[j] != '"' {
+					j++
+				}
+				l.words = append(l.words, Word{Text: string(text[i:j]), Line: num, Col: i + 1})
+				i = j
+			}
+		}
+		lines = append(lines, l)
+	}
+	return lines
+}
