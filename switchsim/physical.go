@@ -2,20 +2,591 @@ package switchsim
 
 import "math"
 
-// Physical mode (MODEL.md §4). This file holds the hooks the solver calls;
-// in ideal mode each is a no-op.
+// Physical mode (MODEL.md §4). The solver resolves every group by strength
+// first (ideal mode, solve.go); physGroup then estimates voltages and lets
+// them decide values, one part of the group at a time. A part is a set of
+// nodes joined by devices that are on:
+//
+//   - with sources of one value only: every node takes the best level of the
+//     paths of its (ideal) winning strength, each path as good as its worst
+//     threshold drop; a level beyond VIH/VIL that is not full is a degraded
+//     H/L, a level inside the band is lost (X);
+//   - with sources of both values: a resistor network, solved for the node
+//     voltages, decides each node by VIL/VIH (L/H, or X inside the band);
+//   - with no source: the nodes share charge, sum(C V) / sum(C).
+//
+// Where the group has devices of unknown state and the ternary method made a
+// node X, the node stays X with an unknown voltage.
+// In ideal mode every hook returns at once and volts stay NaN.
 
-// physState is the Sim's physical-mode state.
-type physState struct{}
+// physHow says how a node's estimate was made.
+type physHow uint8
 
-type physSnapshot struct{}
+const (
+	howNone    physHow = iota // no estimate: ideal mode, a source, or X kept from the ternary method
+	howLevel                  // driven by one value: best path level
+	howDivider                // driven by both values: resistor network
+	howCharge                 // floating: charge conservation
+)
 
-func (s *Sim) physInit()                         {}
-func (s *Sim) physSave() physSnapshot            { return physSnapshot{} }
-func (s *Sim) physRestore(physSnapshot)          {}
-func (s *Sim) physGateMoved(d int32) bool        { return false }
-func (s *Sim) physGroup(g *group)                {}
-func (s *Sim) physDelay(g *group, i int) float64 { return math.NaN() }
+// physNode is what physical mode knows about one node after its last solve.
+// It is kept per node for warnings, snapshots and the explanation (physInfo).
+type physNode struct {
+	Volts float64 // the estimate; NaN where unknown
+	How   physHow
+	// Drop is the device that caused the last threshold drop on the best
+	// path of the winning value (howLevel), -1 for a full level.
+	Drop int32
+	// Up and Down are, for a contested node (howDivider), the devices that
+	// carry the largest current into the node from the 1 side and out of it
+	// to the 0 side; -1 where none.
+	Up, Down int32
+	// RUp and RDown are the node's effective resistances to the 1 side and to
+	// the 0 side (ohms) such that Volts = vdd RDown / (RUp + RDown): for a
+	// plain divider, the two branch resistances. NaN unless howDivider.
+	RUp, RDown float64
+	// Before is the voltage the node held before it last shared charge
+	// (howCharge with a charge-sharing event), NaN otherwise.
+	Before float64
+	// Delay is the Elmore delay estimate of the node's last change, seconds.
+	Delay float64
+}
+
+// physState is the Sim's physical-mode state. Every slice is allocated in
+// physInit; the scratch grows on first use and is reused afterwards.
+type physState struct {
+	vil, vih, vm, vdd float64
+
+	// per device
+	res  []float64 // effective on-resistance, ohms
+	gv   []float64 // the gate's voltage at the start of the round it last changed
+	lim  []float64 // cached pass limit (nMOS: PassHigh, pMOS: PassLow) for limV
+	limV []float64
+
+	// per node, kept between settles
+	info      []physNode
+	shareMark []uint32 // settle stamp of the last charge-sharing event
+
+	// per node, scratch of the group being solved
+	gidx  []int32   // the node's index in g.nodes
+	nc    []int32   // the node's part (component) in the group
+	li    []int32   // its index within the part
+	good  []float64 // level search: how good the best level is (the level for a 1, vdd - level for a 0)
+	drop  []int32   // level search: device of the last drop
+	par   []int32   // delay tree: the device to the parent
+	dist  []float64 // delay tree: path resistance
+	sub   []float64 // delay tree: downstream capacitance
+	tdel  [2][]float64
+	sv    [2][]Strength // divider: the strength at which each value reaches the node
+	stamp []uint32      // node -> gen when visited by the current search
+	gen   uint32
+
+	dmark []uint32 // device -> gen when listed in a part
+
+	comps []physComp
+	cn    []int32 // nodes of the parts, part after part
+	ce    []int32 // devices that are on, part after part
+	heap  physHeap
+	order []int32
+	net   physNet
+}
+
+// physComp is one part of a group: nodes joined by devices that are on.
+type physComp struct {
+	n0, n1 int32   // nodes cn[n0:n1]
+	e0, e1 int32   // devices ce[e0:e1]
+	has    [3]bool // values of the sources it touches
+	degr   [2]bool // it holds a device that can degrade a 0 (pMOS) / a 1 (nMOS)
+	tree   [2]bool // the delay tree for value v is built
+}
+
+type physSnapshot struct {
+	gv   []float64
+	info []physNode
+}
+
+func (s *Sim) physInit() {
+	if s.mode != Physical {
+		return
+	}
+	nl := s.nl
+	t := nl.Tech
+	p := &s.phys
+	p.vil, p.vih, p.vm = t.Thresholds()
+	p.vdd = t.Vdd
+	nn, nd := nl.NumNodes(), nl.NumDevices()
+	p.res, p.gv, p.lim, p.limV = make([]float64, nd), make([]float64, nd), make([]float64, nd), make([]float64, nd)
+	p.dmark = make([]uint32, nd)
+	for d := 0; d < nd; d++ {
+		p.res[d] = deviceResistance(nl, d)
+		p.gv[d], p.limV[d] = math.NaN(), math.NaN()
+	}
+	p.info = make([]physNode, nn)
+	for n := range p.info {
+		p.info[n] = noPhysNode()
+	}
+	p.shareMark = make([]uint32, nn)
+	p.gidx, p.nc, p.li = make([]int32, nn), make([]int32, nn), make([]int32, nn)
+	p.drop, p.par = make([]int32, nn), make([]int32, nn)
+	p.good, p.dist, p.sub = make([]float64, nn), make([]float64, nn), make([]float64, nn)
+	p.tdel[0], p.tdel[1] = make([]float64, nn), make([]float64, nn)
+	p.sv[0], p.sv[1] = make([]Strength, nn), make([]Strength, nn)
+	p.stamp = make([]uint32, nn)
+}
+
+func noPhysNode() physNode {
+	nan := math.NaN()
+	return physNode{Volts: nan, Drop: -1, Up: -1, Down: -1, RUp: nan, RDown: nan, Before: nan, Delay: nan}
+}
+
+// deviceResistance is R = r_sq L / W with rn for nMOS and rp for pMOS. Pulls
+// have no size and take Tech.DefaultResistance of their strength; so do pull
+// and weak transistors left at the default size (the netlist does not say
+// whether a size was given, so the default size stands for "none"), unless
+// their sized resistance is already higher.
+func deviceResistance(nl *Netlist, d int) float64 {
+	t := nl.Tech
+	k, st := nl.devKind[d], nl.devCap[d]
+	switch k {
+	case PullUp, PullDown:
+		return t.DefaultResistance(st)
+	}
+	rsq, w0 := t.Rn, t.Wn
+	if k == PMOS {
+		rsq, w0 = t.Rp, t.Wp
+	}
+	r := rsq * nl.devL[d] / nl.devW[d]
+	if st < Strong && nl.devW[d] == w0 && nl.devL[d] == t.L {
+		r = max(r, t.DefaultResistance(st))
+	}
+	return r
+}
+
+func (s *Sim) physSave() physSnapshot {
+	if s.mode != Physical {
+		return physSnapshot{}
+	}
+	return physSnapshot{append([]float64(nil), s.phys.gv...), append([]physNode(nil), s.phys.info...)}
+}
+
+func (s *Sim) physRestore(sn physSnapshot) {
+	if s.mode != Physical || sn.gv == nil {
+		return
+	}
+	copy(s.phys.gv, sn.gv)
+	copy(s.phys.info, sn.info)
+}
+
+// physGateMoved records device d's gate voltage as of the start of this
+// round (the solver calls it for every device whose gate node changed) and
+// reports whether the device, not off, must be re-solved because that
+// voltage moved: its pass limit follows the gate.
+func (s *Sim) physGateMoved(d int32) bool {
+	if s.mode != Physical {
+		return false
+	}
+	p := &s.phys
+	gn := s.nl.devGate[d]
+	if gn < 0 {
+		return false
+	}
+	v := s.volts[gn]
+	old := p.gv[d]
+	p.gv[d] = v
+	return conduction(s.nl.devKind[d], s.val[gn]) != Off && voltsMoved(old, v)
+}
+
+// gateVolts is the gate voltage device d works with this round: a source's
+// own (sources change only between settles), else the one recorded at the
+// start of the round; an unknown voltage counts as the full level of the
+// state the device is in.
+func (s *Sim) gateVolts(d int32) float64 {
+	gn := s.nl.devGate[d]
+	var v float64
+	if s.source[gn] {
+		v = s.volts[gn]
+	} else {
+		v = s.phys.gv[d]
+	}
+	if math.IsNaN(v) {
+		v = 0
+		if s.nl.devKind[d] == NMOS {
+			v = s.phys.vdd
+		}
+	}
+	return v
+}
+
+// passLimit is device d's pass limit for its present gate voltage: for an
+// nMOS the highest 1 it passes, for a pMOS the lowest 0; NaN for pulls.
+func (s *Sim) passLimit(d int32) float64 {
+	p := &s.phys
+	k := s.nl.devKind[d]
+	if k >= PullUp {
+		return math.NaN()
+	}
+	vg := s.gateVolts(d)
+	if vg != p.limV[d] {
+		t := &s.nl.Tech
+		p.limV[d] = vg
+		if k == NMOS {
+			p.lim[d] = t.PassHigh(vg)
+		} else {
+			p.lim[d] = t.PassLow(vg)
+		}
+	}
+	return p.lim[d]
+}
+
+// physGroup adds the voltage estimates to the ideal resolution of g.
+func (s *Sim) physGroup(g *group) {
+	if s.mode != Physical {
+		return
+	}
+	p := &s.phys
+	p.next()
+	s.physParts(g)
+	for c := range p.comps {
+		cp := &p.comps[c]
+		switch {
+		case !cp.has[V0] && !cp.has[V1] && !cp.has[VX]:
+			s.physCharge(g, int32(c))
+		case cp.has[VX] && !cp.has[V0] && !cp.has[V1]:
+			for _, n := range p.cn[cp.n0:cp.n1] {
+				i := s.groupIndex(g, n)
+				g.nvolts[i] = math.NaN()
+				s.phys.info[n] = noPhysNode()
+			}
+		case cp.has[V0] && cp.has[V1], cp.has[VX]:
+			s.physDivider(g, int32(c))
+		case cp.has[V1]:
+			s.physLevel(g, int32(c), V1)
+		default:
+			s.physLevel(g, int32(c), V0)
+		}
+	}
+}
+
+func (p *physState) next() {
+	p.gen++
+	if p.gen == 0 {
+		clear(p.stamp)
+		clear(p.dmark)
+		p.gen = 1
+	}
+}
+
+// groupIndex returns node n's position in g.nodes (n in the group being solved).
+func (s *Sim) groupIndex(g *group, n int32) int { return int(s.phys.gidx[n]) }
+
+// physParts splits g into parts joined by devices that are on. Without
+// devices of unknown state the whole group is one part.
+func (s *Sim) physParts(g *group) {
+	nl := s.nl
+	p := &s.phys
+	p.comps = p.comps[:0]
+	p.cn, p.ce = p.cn[:0], p.ce[:0]
+	for i, n := range g.nodes {
+		p.gidx[n] = int32(i)
+		p.nc[n] = -1
+	}
+	if !g.hasUnknown {
+		cp := physComp{n0: 0, n1: int32(len(g.nodes)), e0: 0, e1: int32(len(g.devs)), has: g.srcHas}
+		p.cn = append(p.cn, g.nodes...)
+		p.ce = append(p.ce, g.devs...)
+		for i, n := range g.nodes {
+			p.nc[n], p.li[n] = 0, int32(i)
+		}
+		for _, d := range g.devs {
+			switch nl.devKind[d] {
+			case NMOS:
+				cp.degr[V1] = true
+			case PMOS:
+				cp.degr[V0] = true
+			}
+		}
+		p.comps = append(p.comps, cp)
+		return
+	}
+	gen := p.gen
+	for _, seed := range g.nodes {
+		if p.nc[seed] >= 0 {
+			continue
+		}
+		c := int32(len(p.comps))
+		cp := physComp{n0: int32(len(p.cn)), e0: int32(len(p.ce))}
+		p.nc[seed] = c
+		p.cn = append(p.cn, seed)
+		for j := int(cp.n0); j < len(p.cn); j++ {
+			m := p.cn[j]
+			p.li[m] = int32(j) - cp.n0
+			for _, d := range nl.chanDev[nl.chanStart[m]:nl.chanStart[m+1]] {
+				if s.cond[d] != On {
+					continue
+				}
+				if p.dmark[d] != gen {
+					p.dmark[d] = gen
+					p.ce = append(p.ce, d)
+					switch nl.devKind[d] {
+					case NMOS:
+						cp.degr[V1] = true
+					case PMOS:
+						cp.degr[V0] = true
+					}
+				}
+				o := nl.devA[d]
+				if o == m {
+					o = nl.devB[d]
+				}
+				if s.source[o] {
+					cp.has[s.val[o]] = true
+				} else if p.nc[o] < 0 {
+					p.nc[o] = c
+					p.cn = append(p.cn, o)
+				}
+			}
+		}
+		cp.n1, cp.e1 = int32(len(p.cn)), int32(len(p.ce))
+		p.comps = append(p.comps, cp)
+	}
+}
+
+// keepX reports a node the ternary method made X in a group with devices of
+// unknown state: physical mode leaves it X, its voltage unknown.
+func keepX(g *group, i int) bool { return g.hasUnknown && g.nval[i] == VX }
+
+// physLevel estimates the nodes of a part driven by value v alone.
+func (s *Sim) physLevel(g *group, c int32, v Value) {
+	p := &s.phys
+	cp := &p.comps[c]
+	full := 0.0
+	if v == V1 {
+		full = p.vdd
+	}
+	nodes := p.cn[cp.n0:cp.n1]
+	if !cp.degr[v] { // nothing on the way can drop the level
+		for _, n := range nodes {
+			i := s.groupIndex(g, n)
+			s.phys.info[n] = noPhysNode()
+			if keepX(g, i) {
+				g.nvolts[i] = math.NaN()
+				continue
+			}
+			s.decideLevel(g, i, v, full, -1)
+		}
+		return
+	}
+	// One search per winning strength present: a node's level is the best
+	// over the paths of its own strength (devices capped at least that strong).
+	var present [Supply + 1]bool
+	for _, n := range nodes {
+		i := s.groupIndex(g, n)
+		if !keepX(g, i) && g.nstr[i] >= Weak {
+			present[g.nstr[i]] = true
+		}
+	}
+	for lvl := Supply; lvl >= Weak; lvl-- {
+		if !present[lvl] {
+			continue
+		}
+		s.levelSearch(c, v, lvl)
+		for _, n := range nodes {
+			i := s.groupIndex(g, n)
+			if keepX(g, i) || g.nstr[i] != lvl {
+				continue
+			}
+			s.phys.info[n] = noPhysNode()
+			level, drop := full, int32(-1)
+			if p.good[n] >= 0 {
+				level, drop = p.good[n], p.drop[n]
+				if v == V0 {
+					level = p.vdd - p.good[n]
+				}
+			}
+			s.decideLevel(g, i, v, level, drop)
+		}
+	}
+	for _, n := range nodes {
+		i := s.groupIndex(g, n)
+		if keepX(g, i) || g.nstr[i] < Weak {
+			s.phys.info[n] = noPhysNode()
+			g.nvolts[i] = math.NaN()
+		}
+	}
+}
+
+// decideLevel applies a path level to node g.nodes[i], driven by v: a level
+// past VIH (for a 1) or VIL (for a 0) keeps the value, shown H/L if it is not
+// full; a level inside the band loses it (X).
+func (s *Sim) decideLevel(g *group, i int, v Value, level float64, drop int32) {
+	p := &s.phys
+	n := g.nodes[i]
+	g.nvolts[i] = level
+	in := &p.info[n]
+	in.Volts, in.How, in.Drop = level, howLevel, drop
+	if (v == V1 && level < p.vih) || (v == V0 && level > p.vil) {
+		g.nval[i], g.nstate[i] = VX, StateX
+		return
+	}
+	if drop >= 0 && g.nstate[i] <= State1 {
+		g.nstate[i] = StateL + State(v)
+	}
+}
+
+// levelSearch finds, for every node of part c, the best level at which v
+// reaches it through devices that are on and capped at least lvl: a widest
+// path search where a path is as good as its worst pass limit. good holds
+// the level for a 1 and vdd - level for a 0 (larger is better), -1 where v
+// does not reach; drop the device of the last drop on the best path.
+func (s *Sim) levelSearch(c int32, v Value, lvl Strength) {
+	nl := s.nl
+	p := &s.phys
+	cp := &p.comps[c]
+	full := p.vdd
+	for _, n := range p.cn[cp.n0:cp.n1] {
+		p.good[n], p.drop[n] = -1, -1
+	}
+	p.next()
+	gen := p.gen
+	h := &p.heap
+	h.items = h.items[:0]
+	for _, d := range p.ce[cp.e0:cp.e1] {
+		if nl.devCap[d] < lvl {
+			continue
+		}
+		a, b := nl.devA[d], nl.devB[d]
+		var o int32
+		switch {
+		case s.source[a] && !s.source[b] && s.val[a] == v:
+			o = b
+		case s.source[b] && !s.source[a] && s.val[b] == v:
+			o = a
+		default:
+			continue
+		}
+		gd, dr := full, int32(-1)
+		if lg := s.limitGood(d, v); lg < gd {
+			gd, dr = lg, d
+		}
+		if gd > p.good[o] {
+			p.good[o], p.drop[o] = gd, dr
+			h.push(gd, o)
+		}
+	}
+	for len(h.items) > 0 {
+		it := h.pop()
+		m := it.n
+		if p.stamp[m] == gen || it.key < p.good[m] {
+			continue
+		}
+		p.stamp[m] = gen
+		gm := p.good[m]
+		for _, d := range nl.chanDev[nl.chanStart[m]:nl.chanStart[m+1]] {
+			if s.cond[d] != On || nl.devCap[d] < lvl {
+				continue
+			}
+			o := nl.devA[d]
+			if o == m {
+				o = nl.devB[d]
+			}
+			if s.source[o] || p.stamp[o] == gen {
+				continue
+			}
+			gd, dr := gm, p.drop[m]
+			if lg := s.limitGood(d, v); lg < gd {
+				gd, dr = lg, d
+			}
+			if gd > p.good[o] {
+				p.good[o], p.drop[o] = gd, dr
+				h.push(gd, o)
+			}
+		}
+	}
+}
+
+// limitGood is how good device d lets value v through (see levelSearch):
+// an nMOS limits a 1 to PassHigh, a pMOS limits a 0 to PassLow; otherwise
+// the value passes fully.
+func (s *Sim) limitGood(d int32, v Value) float64 {
+	k := s.nl.devKind[d]
+	switch {
+	case v == V1 && k == NMOS:
+		return max(s.passLimit(d), 0)
+	case v == V0 && k == PMOS:
+		return max(s.phys.vdd-s.passLimit(d), 0)
+	}
+	return math.Inf(1)
+}
+
+// physCharge estimates a floating part: its nodes share their charge,
+// V = sum(C V) / sum(C), and the value is decided by VIL/VIH (the state stays
+// Z). A node whose voltage is unknown may hold anything from 0 to vdd: the
+// result is then a range, and a value is given only if the whole range
+// decides it, at the end nearer the band.
+func (s *Sim) physCharge(g *group, c int32) {
+	nl := s.nl
+	p := &s.phys
+	cp := &p.comps[c]
+	nodes := p.cn[cp.n0:cp.n1]
+	var sumC, lo, hi float64
+	vmin, vmax := math.Inf(1), math.Inf(-1)
+	unknown := 0
+	for _, n := range nodes {
+		cn := nl.nodeCap[n]
+		v := s.volts[n]
+		if math.IsNaN(v) {
+			switch s.val[n] {
+			case V0:
+				v = 0
+			case V1:
+				v = p.vdd
+			}
+		}
+		sumC += cn
+		if math.IsNaN(v) {
+			unknown++
+			hi += cn * p.vdd
+			continue
+		}
+		lo += cn * v
+		hi += cn * v
+		vmin, vmax = min(vmin, v), max(vmax, v)
+	}
+	lo, hi = lo/sumC, hi/sumC
+	val, volts := VX, math.NaN()
+	switch {
+	case hi <= p.vil:
+		val, volts = V0, hi
+	case lo >= p.vih:
+		val, volts = V1, lo
+	case unknown == 0:
+		volts = lo
+	}
+	// Sharing happened when charges at different levels met (1 mV apart),
+	// or charge of an unknown level met a known one.
+	shared := len(nodes) > 1 && (vmax-vmin > 1e-3 || (unknown > 0 && unknown < len(nodes)))
+	for _, n := range nodes {
+		i := s.groupIndex(g, n)
+		in := &p.info[n]
+		before := in.Before // kept while the node stays floating after its last sharing
+		if in.How != howCharge {
+			before = math.NaN()
+		}
+		if shared {
+			p.shareMark[n] = s.settleID
+			before = s.volts[n]
+		}
+		*in = noPhysNode()
+		in.Before = before
+		if keepX(g, i) {
+			g.nvolts[i] = math.NaN()
+			continue
+		}
+		in.How, in.Volts = howCharge, volts
+		g.nval[i], g.nvolts[i] = val, volts
+		s.shared[n] = s.shared[n] || p.shareMark[n] == s.settleID
+	}
+}
 
 // physSourceVolts is a driven source's voltage: 0 or vdd, NaN for X or in ideal mode.
 func (s *Sim) physSourceVolts(v Value) float64 {
@@ -29,4 +600,124 @@ func (s *Sim) physSourceVolts(v Value) float64 {
 }
 
 // physWarnings adds physical-mode warnings for node n after a settle.
-func (s *Sim) physWarnings(n int, add func(kind string, n, d, o int)) {}
+func (s *Sim) physWarnings(n int, add func(kind string, n, d, o int)) {
+	if s.mode != Physical {
+		return
+	}
+	p := &s.phys
+	in := &p.info[n]
+	st := s.state[n]
+	switch in.How {
+	case howLevel:
+		switch {
+		case st == StateX:
+			add(WarnLevelLost, n, int(in.Drop), -1)
+		case (st == StateL || st == StateH) && in.Drop >= 0:
+			add(WarnDegraded, n, int(in.Drop), -1)
+		}
+		if (st == StateL || st == StateH) && s.contest[n] {
+			add(WarnContention, n, -1, -1) // the other value reaches it through a device of unknown state
+		}
+	case howDivider:
+		win, lose := in.Up, in.Down
+		if s.val[n] == V0 {
+			win, lose = in.Down, in.Up
+		}
+		add(WarnContention, n, int(win), int(lose))
+	}
+	s.partialOn(n, add)
+}
+
+// partialOn reports the devices gated by n that logic says are off while
+// their gate voltage still exceeds the threshold (with the body effect) from
+// the channel terminal acting as source: the lower one for an nMOS, the
+// higher for a pMOS. They leak static current (common practice).
+func (s *Sim) partialOn(n int, add func(kind string, n, d, o int)) {
+	nl := s.nl
+	vg := s.volts[n]
+	if math.IsNaN(vg) {
+		return
+	}
+	t := &nl.Tech
+	sp := math.Sqrt(t.Phi)
+	for _, d := range nl.gateDev[nl.gateStart[n]:nl.gateStart[n+1]] {
+		if s.cond[d] != Off {
+			continue
+		}
+		va, vb := s.volts[nl.devA[d]], s.volts[nl.devB[d]]
+		switch {
+		case math.IsNaN(va) && math.IsNaN(vb):
+			continue
+		case math.IsNaN(va):
+			va = vb
+		case math.IsNaN(vb):
+			vb = va
+		}
+		on := false
+		if nl.devKind[d] == NMOS {
+			vs := min(va, vb)
+			on = vg-vs > t.Vtn+t.Gamma*(math.Sqrt(t.Phi+max(vs, 0))-sp)
+		} else {
+			vs := max(va, vb)
+			on = vs-vg > t.Vtp+t.Gamma*(math.Sqrt(t.Phi+max(t.Vdd-vs, 0))-sp)
+		}
+		if on {
+			add(WarnPartialOn, n, int(d), -1)
+		}
+	}
+}
+
+// physInfo returns what physical mode knows about node n (see physNode).
+// In ideal mode, and for sources, everything is unknown except Volts of a
+// driven source.
+func (s *Sim) physInfo(n int) physNode {
+	if s.mode != Physical || s.source[n] {
+		in := noPhysNode()
+		in.Volts = s.volts[n]
+		return in
+	}
+	in := s.phys.info[n]
+	in.Volts = s.volts[n]
+	return in
+}
+
+// physShare is one member of a floating group, for the explanation.
+type physShare struct {
+	Node   int
+	Cap    float64 // farads
+	Before float64 // volts before the last sharing (NaN: none recorded)
+	Volts  float64 // volts now
+}
+
+// physSharing returns node n's floating group (n and the non-source nodes
+// joined to it by devices not off) with capacitances and voltages, so the
+// explanation can show sum(C V) / sum(C).
+func (s *Sim) physSharing(n int) []physShare {
+	var out []physShare
+	for _, m := range s.floatingGroup(n) {
+		b := math.NaN()
+		if s.mode == Physical {
+			b = s.phys.info[m].Before
+		}
+		out = append(out, physShare{m, s.nl.nodeCap[m], b, s.volts[m]})
+	}
+	return out
+}
+
+// physDeviceLimit returns device d's gate voltage as physical mode uses it
+// and the level it passes at most (nMOS: highest 1, pMOS: lowest 0); NaN
+// for pulls and in ideal mode.
+func (s *Sim) physDeviceLimit(d int) (vg, limit float64) {
+	if s.mode != Physical || s.nl.devKind[d] >= PullUp {
+		return math.NaN(), math.NaN()
+	}
+	return s.gateVolts(int32(d)), s.passLimit(int32(d))
+}
+
+// physResistance returns device d's effective on-resistance in ohms (NaN in ideal mode).
+func (s *Sim) physResistance(d int) float64 {
+	if s.mode != Physical {
+		return math.NaN()
+	}
+	return s.phys.res[d]
+}

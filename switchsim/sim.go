@@ -335,7 +335,8 @@ func (s *Sim) Settle() *Result {
 		for _, gn := range s.gates {
 			for _, d := range nl.gateDev[nl.gateStart[gn]:nl.gateStart[gn+1]] {
 				c := s.condOf(int(d))
-				if c != s.cond[d] || s.physGateMoved(d) {
+				moved := s.physGateMoved(d) // always called: it records the gate's voltage for this round
+				if c != s.cond[d] || moved {
 					s.cond[d] = c
 					if a := nl.devA[d]; !s.source[a] {
 						s.seed(a)

@@ -1,0 +1,190 @@
+package switchsim
+
+import "math"
+
+// Delay estimates (MODEL.md §4): the Elmore delay (Elmore 1948; Rubinstein,
+// Penfield and Horowitz 1983) of each node change along its driving path.
+// The driving paths of a part form a tree: for a node driven to v, the path
+// of least resistance from the sources of value v through devices that are
+// on. Then delay(n) = sum over the tree's resistances R on the way to n of
+// R times the capacitance downstream of R (the subtree it feeds). A floating
+// part is treated the same way from its largest node, the reservoir the
+// others share charge with. Trees are built only when a node of the part
+// changed, once per value.
+
+// physDelay is the Elmore delay of the change of g.nodes[i], in seconds;
+// NaN in ideal mode, for X and where no estimate was made.
+func (s *Sim) physDelay(g *group, i int) float64 {
+	if s.mode != Physical {
+		return math.NaN()
+	}
+	p := &s.phys
+	n := g.nodes[i]
+	in := &p.info[n]
+	in.Delay = math.NaN()
+	c := p.nc[n]
+	v := g.nval[i]
+	if c < 0 || in.How == howNone || (v == VX && in.How != howCharge) {
+		return math.NaN()
+	}
+	if in.How == howCharge {
+		v = V0 // one tree per floating part
+	}
+	cp := &p.comps[c]
+	if !cp.tree[v] {
+		s.delayTree(c, v, in.How == howCharge)
+		cp.tree[v] = true
+	}
+	in.Delay = p.tdel[v][n]
+	return in.Delay
+}
+
+// delayTree builds the least-resistance tree of part c from the sources of
+// value v (or, floating, from its largest node) and the Elmore delay of
+// every node on it into tdel[v].
+func (s *Sim) delayTree(c int32, v Value, floating bool) {
+	nl := s.nl
+	p := &s.phys
+	cp := &p.comps[c]
+	nodes := p.cn[cp.n0:cp.n1]
+	tdel := p.tdel[v]
+	inf := math.Inf(1)
+	for _, n := range nodes {
+		p.dist[n], p.par[n], p.sub[n], tdel[n] = inf, -1, nl.nodeCap[n], math.NaN()
+	}
+	p.next()
+	gen := p.gen
+	h := &p.heap
+	h.items = h.items[:0]
+	if floating {
+		root := nodes[0]
+		for _, n := range nodes {
+			if nl.nodeCap[n] > nl.nodeCap[root] {
+				root = n
+			}
+		}
+		p.dist[root] = 0
+		h.push(0, root)
+	} else {
+		for _, d := range p.ce[cp.e0:cp.e1] {
+			a, b := nl.devA[d], nl.devB[d]
+			var o int32
+			switch {
+			case s.source[a] && !s.source[b] && s.val[a] == v:
+				o = b
+			case s.source[b] && !s.source[a] && s.val[b] == v:
+				o = a
+			default:
+				continue
+			}
+			if r := p.res[d]; r < p.dist[o] {
+				p.dist[o], p.par[o] = r, d
+				h.push(-r, o)
+			}
+		}
+	}
+	order := p.order[:0]
+	for len(h.items) > 0 {
+		it := h.pop()
+		m := it.n
+		if p.stamp[m] == gen || -it.key > p.dist[m] {
+			continue
+		}
+		p.stamp[m] = gen
+		order = append(order, m)
+		for _, d := range nl.chanDev[nl.chanStart[m]:nl.chanStart[m+1]] {
+			if s.cond[d] != On {
+				continue
+			}
+			o := nl.devA[d]
+			if o == m {
+				o = nl.devB[d]
+			}
+			if s.source[o] || p.stamp[o] == gen {
+				continue
+			}
+			if r := p.dist[m] + p.res[d]; r < p.dist[o] {
+				p.dist[o], p.par[o] = r, d
+				h.push(-r, o)
+			}
+		}
+	}
+	parent := func(m int32) int32 { // the parent node, -1 for a source or the root
+		d := p.par[m]
+		if d < 0 {
+			return -1
+		}
+		o := nl.devA[d]
+		if o == m {
+			o = nl.devB[d]
+		}
+		if s.source[o] {
+			return -1
+		}
+		return o
+	}
+	for j := len(order) - 1; j >= 0; j-- {
+		if pn := parent(order[j]); pn >= 0 {
+			p.sub[pn] += p.sub[order[j]]
+		}
+	}
+	for _, m := range order {
+		d := p.par[m]
+		if d < 0 {
+			tdel[m] = 0
+			continue
+		}
+		base := 0.0
+		if pn := parent(m); pn >= 0 {
+			base = tdel[pn]
+		}
+		tdel[m] = base + p.res[d]*p.sub[m]
+	}
+	p.order = order[:0]
+}
+
+// physHeap is a binary max-heap of nodes by key, with stale entries skipped
+// by the caller (no decrease-key).
+type physHeap struct{ items []heapItem }
+
+type heapItem struct {
+	key float64
+	n   int32
+}
+
+func (h *physHeap) push(key float64, n int32) {
+	h.items = append(h.items, heapItem{key, n})
+	it := h.items
+	for i := len(it) - 1; i > 0; {
+		up := (i - 1) / 2
+		if it[up].key >= it[i].key {
+			break
+		}
+		it[up], it[i] = it[i], it[up]
+		i = up
+	}
+}
+
+func (h *physHeap) pop() heapItem {
+	it := h.items
+	top := it[0]
+	last := len(it) - 1
+	it[0] = it[last]
+	it = it[:last]
+	for i := 0; ; {
+		l, r, big := 2*i+1, 2*i+2, i
+		if l < len(it) && it[l].key > it[big].key {
+			big = l
+		}
+		if r < len(it) && it[r].key > it[big].key {
+			big = r
+		}
+		if big == i {
+			break
+		}
+		it[i], it[big] = it[big], it[i]
+		i = big
+	}
+	h.items = it
+	return top
+}
