@@ -1,0 +1,71 @@
+package main
+
+import (
+	"fmt"
+	"io"
+
+	"railyard/designs"
+	"railyard/switchsim"
+	"railyard/switchsim/session"
+)
+
+const exploreUsage = `
+usage: railyard explore [DESIGN] [--steps FILE] [--trace FILE] [--ascii]
+
+The interactive explorer: toggle inputs, step through the steps file, watch
+values settle round by round, ask why a node holds its value. DESIGN
+defaults to the embedded demo. With --trace the session's trace is saved
+to FILE when the explorer quits.
+
+examples:
+  railyard explore
+  railyard explore cells/opsel.sw --steps cells/opsel.steps --trace opsel.trace
+  railyard explore demo:NAME --ascii
+`
+
+// exploreOptions are the flags of `explore`.
+type exploreOptions struct {
+	steps, trace string
+	ascii        bool
+}
+
+func cmdExplore(args []string, stdout, stderr io.Writer) int {
+	fs := newFlags("explore", exploreUsage)
+	var o exploreOptions
+	fs.StringVar(&o.steps, "steps", "", "the steps `FILE` (default: DESIGN's same-named .steps file)")
+	fs.StringVar(&o.trace, "trace", "", "save the session trace to `FILE` on quitting")
+	fs.BoolVar(&o.ascii, "ascii", false, "draw with ASCII only")
+	pos, code := parseArgs(fs, args, stdout, stderr)
+	if code >= 0 {
+		return code
+	}
+	design := "demo:" + designs.Default
+	switch len(pos) {
+	case 0:
+	case 1:
+		design = pos[0]
+	default:
+		return usageError(stderr, "explore", "want at most one DESIGN, got %d arguments", len(pos))
+	}
+	s, err := session.Open(design, o.steps, session.Options{Mode: switchsim.Physical})
+	if err != nil {
+		return loadError(stderr, err)
+	}
+	return startExplorer(s, o, stderr)
+}
+
+// startExplorer hands the session to the explorer.
+//
+// TODO(tui): package tui is not written yet. When it exports
+// Run(s *session.Session, opt tui.Options) error, replace the body with:
+//
+//	if err := tui.Run(s, tui.Options{TracePath: o.trace, ASCII: o.ascii}); err != nil {
+//		fmt.Fprintf(stderr, "railyard explore: %v\n", err)
+//		return exitUsage
+//	}
+//	return exitOK
+func startExplorer(s *session.Session, o exploreOptions, stderr io.Writer) int {
+	_ = s
+	fmt.Fprintln(stderr, "railyard explore: the explorer is not built yet; try railyard run", s.DesignPath)
+	return exitUsage
+}

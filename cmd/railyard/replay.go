@@ -1,0 +1,61 @@
+package main
+
+import (
+	"fmt"
+	"io"
+	"os"
+
+	"railyard/switchsim/session"
+)
+
+const replayUsage = `
+usage: railyard replay TRACE
+
+Re-run every action of a saved trace (railyard run --trace, or the
+explorer's) on the design the trace names, and compare each recorded
+result: rounds, node changes round by round, checks and warnings. A design
+whose content changed since the trace was made is reported.
+
+Exit status: 0 when everything matches, 1 when anything differs (the first
+differences are printed as TRACE:LINE: ...), 2 when the trace or its design
+cannot be read.
+
+examples:
+  railyard run demo:` + "DEMO" + ` --trace session.trace
+  railyard replay session.trace
+`
+
+func cmdReplay(args []string, stdout, stderr io.Writer) int {
+	fs := newFlags("replay", replayUsage)
+	pos, code := parseArgs(fs, args, stdout, stderr)
+	if code >= 0 {
+		return code
+	}
+	if len(pos) != 1 {
+		return usageError(stderr, "replay", "want one TRACE, got %d arguments", len(pos))
+	}
+	path := pos[0]
+	f, err := os.Open(path)
+	if err != nil {
+		return loadError(stderr, err)
+	}
+	t, err := session.ReadTrace(path, f)
+	f.Close()
+	if err != nil {
+		return loadError(stderr, err)
+	}
+	rep, err := session.Replay(t)
+	if err != nil {
+		return loadError(stderr, err)
+	}
+	fmt.Fprintf(stdout, "replay %s: design %s, mode %s, %d actions\n", path, t.Design, t.Mode, rep.Actions)
+	if rep.Match() {
+		fmt.Fprintln(stdout, "everything matches")
+		return exitOK
+	}
+	for _, d := range rep.Differences {
+		fmt.Fprintln(stdout, d)
+	}
+	fmt.Fprintf(stdout, "the replay differs from the trace (%d difference(s) shown)\n", len(rep.Differences))
+	return exitFail
+}
