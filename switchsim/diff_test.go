@@ -1,0 +1,303 @@
+package switchsim_test
+
+// Differential tests: the engine against the reference solver of
+// reference_test.go, which is written from DEVELOPERS.md alone. They must
+// agree exactly after every settle: every node's value, strength, state
+// and floating flag; the number of rounds; the set of nodes changed in
+// each round; whether the settle oscillated.
+
+import (
+	"flag"
+	"fmt"
+	"math/rand/v2"
+	"slices"
+	"strings"
+	"testing"
+
+	sw "railyard/switchsim"
+	"railyard/switchsim/gen"
+)
+
+var (
+	diffN    = flag.Int("diff.n", 3000, "random networks in TestDiffRandom")
+	diffSeed = flag.Uint64("diff.seed", 1, "seed of TestDiffRandom")
+)
+
+// vector is one drive per input, in Netlist.Inputs order.
+type vector []sw.Drive
+
+func vectorsString(vs []vector) string {
+	var w strings.Builder
+	for _, v := range vs {
+		for _, d := range v {
+			w.WriteString(d.String())
+		}
+		w.WriteByte(' ')
+	}
+	return strings.TrimSpace(w.String())
+}
+
+func randomDrive(rng *rand.Rand) sw.Drive {
+	switch r := rng.IntN(20); {
+	case r < 7:
+		return sw.Drive0
+	case r < 14:
+		return sw.Drive1
+	case r < 17:
+		return sw.DriveX
+	}
+	return sw.DriveZ
+}
+
+func randomVectors(rng *rand.Rand, inputs, n int) []vector {
+	vs := make([]vector, n)
+	for i := range vs {
+		vs[i] = make(vector, inputs)
+		for j := range vs[i] {
+			vs[i][j] = randomDrive(rng)
+		}
+		if i > 0 && rng.IntN(8) == 0 { // sometimes nothing changes
+			copy(vs[i], vs[i-1])
+		}
+	}
+	return vs
+}
+
+// mismatch is the first difference found in one run.
+type mismatch struct {
+	kind, msg string
+}
+
+// diffRun applies the vectors to both simulators, settling after each, and
+// returns the first difference.
+func diffRun(nl *sw.Netlist, vs []vector, limit int) *mismatch {
+	eng := sw.NewSim(nl, sw.Options{Mode: sw.Ideal, RoundLimit: limit})
+	ref := newRef(nl, limit)
+	ins := nl.Inputs()
+	for step, v := range vs {
+		for j, n := range ins {
+			if err := eng.SetInput(n, v[j]); err != nil {
+				return &mismatch{"api", fmt.Sprintf("SetInput(%s): %v", nl.NodeName(n), err)}
+			}
+			ref.SetInput(n, v[j])
+		}
+		er := eng.Settle()
+		rr := ref.Settle()
+		if m := compareSettle(nl, eng, er, ref, rr); m != nil {
+			m.msg = fmt.Sprintf("after vector %d (%s): %s", step+1, vectorsString(vs[:step+1]), m.msg)
+			return m
+		}
+	}
+	return nil
+}
+
+func compareSettle(nl *sw.Netlist, eng *sw.Sim, er *sw.Result, ref *refSim, rr refResult) *mismatch {
+	if er.Oscillated != rr.Oscillated {
+		return &mismatch{"oscillated", fmt.Sprintf("Oscillated: engine %v, reference %v", er.Oscillated, rr.Oscillated)}
+	}
+	if er.Rounds != rr.Rounds {
+		return &mismatch{"rounds", fmt.Sprintf("Rounds: engine %d, reference %d (reference changes %s)", er.Rounds, rr.Rounds, roundsString(nl, rr.Changed))}
+	}
+	if len(er.RoundEnd) != er.Rounds {
+		return &mismatch{"round-index", fmt.Sprintf("engine Rounds %d but %d round boundaries: Round(i) is wrong or panics for i near Rounds", er.Rounds, len(er.RoundEnd))}
+	}
+	for i := 0; i < er.Rounds; i++ {
+		var got []int
+		for _, n := range er.Round(i) {
+			got = append(got, int(n))
+		}
+		slices.Sort(got)
+		if !slices.Equal(got, rr.Changed[i]) {
+			return &mismatch{"changed", fmt.Sprintf("round %d changed: engine %s, reference %s", i+1, names(nl, got), names(nl, rr.Changed[i]))}
+		}
+	}
+	for n := 0; n < nl.NumNodes(); n++ {
+		e, r := eng.Node(n), ref.Node(n)
+		if e.Value != r.Value || e.Strength != r.Strength || e.State != r.State || e.Floating != r.Floating {
+			return &mismatch{"node", fmt.Sprintf("node %s: engine %s, reference %s", nl.NodeName(n), stateString(e), stateString(r))}
+		}
+	}
+	return nil
+}
+
+func stateString(s sw.NodeState) string {
+	f := ""
+	if s.Floating {
+		f = " floating"
+	}
+	return fmt.Sprintf("%s (%s %s%s)", s.State, s.Value, s.Strength, f)
+}
+
+func names(nl *sw.Netlist, ns []int) string {
+	var out []string
+	for _, n := range ns {
+		out = append(out, nl.NodeName(n))
+	}
+	return "{" + strings.Join(out, " ") + "}"
+}
+
+func roundsString(nl *sw.Netlist, rounds [][]int) string {
+	var out []string
+	for _, r := range rounds {
+		out = append(out, names(nl, r))
+	}
+	if len(out) > 12 {
+		out = append(out[:6], append([]string{"..."}, out[len(out)-6:]...)...)
+	}
+	return strings.Join(out, " ")
+}
+
+func compileSpec(s *gen.Spec) (*sw.Netlist, error) {
+	b, err := s.Builder()
+	if err != nil {
+		return nil, err
+	}
+	return b.Compile()
+}
+
+// dropUnused removes annotations of nodes no device names any more.
+func dropUnused(s *gen.Spec) {
+	used := map[string]bool{}
+	for _, in := range s.Inputs {
+		used[in] = true
+	}
+	for _, d := range s.Devices {
+		used[d.Gate], used[d.A], used[d.B] = true, true, true
+	}
+	s.Nodes = slices.DeleteFunc(s.Nodes, func(n gen.NodeSpec) bool { return !used[n.Name] })
+}
+
+// failsAs returns a predicate for shrink: the run differs with this kind.
+func failsAs(limit int, kind string) func(*gen.Spec, []vector) *mismatch {
+	return func(s *gen.Spec, vs []vector) *mismatch {
+		nl, err := compileSpec(s)
+		if err != nil {
+			return nil
+		}
+		if m := diffRun(nl, vs, limit); m != nil && m.kind == kind {
+			return m
+		}
+		return nil
+	}
+}
+
+// shrink removes devices, vectors and annotations while fails still holds,
+// so a report shows a small case.
+func shrink(s *gen.Spec, vs []vector, fails func(*gen.Spec, []vector) *mismatch) (*gen.Spec, []vector, *mismatch) {
+	last := fails(s, vs)
+	for progress := true; progress; {
+		progress = false
+		for i := 0; i < len(s.Devices); i++ {
+			t := *s
+			t.Devices = slices.Delete(slices.Clone(s.Devices), i, i+1)
+			t.Nodes = slices.Clone(s.Nodes)
+			dropUnused(&t)
+			if m := fails(&t, vs); m != nil {
+				s, last, progress = &t, m, true
+				i--
+			}
+		}
+		for i := 0; i < len(vs) && len(vs) > 1; i++ {
+			w := slices.Delete(slices.Clone(vs), i, i+1)
+			if m := fails(s, w); m != nil {
+				vs, last, progress = w, m, true
+				i--
+			}
+		}
+		for i := range s.Nodes {
+			if s.Nodes[i].Charge == sw.HighZ {
+				continue
+			}
+			t := *s
+			t.Nodes = slices.Clone(s.Nodes)
+			t.Nodes[i].Charge = sw.HighZ
+			if m := fails(&t, vs); m != nil {
+				s, last, progress = &t, m, true
+			}
+		}
+	}
+	return s, vs, last
+}
+
+// TestDiffRandom compares engine and reference on random small networks:
+// 2-12 nodes, 1-16 devices, six vectors each (with x and z), one network
+// in eight with a small round limit so the oscillation rule is exercised.
+func TestDiffRandom(t *testing.T) {
+	rng := rand.New(rand.NewPCG(*diffSeed, 2))
+	type failure struct {
+		count int
+		spec  *gen.Spec
+		vs    []vector
+		limit int
+	}
+	fails := map[string]*failure{}
+	var idle []string
+	for i := 0; i < *diffN; i++ {
+		spec := gen.Random(rng, 2+rng.IntN(11), 1+rng.IntN(16))
+		nl, err := compileSpec(spec)
+		if err != nil {
+			t.Fatalf("network %d does not compile: %v\n%s", i, err, spec)
+		}
+		limit := 0
+		if rng.IntN(8) == 0 {
+			limit = 1 + rng.IntN(12)
+		}
+		vs := randomVectors(rng, len(nl.Inputs()), 6)
+		m := diffRun(nl, vs, limit)
+		if m == nil {
+			if f := idleFindings(nl, vs, limit); f != nil && len(idle) < 2 {
+				s, vs, f := shrink(spec, vs, func(s *gen.Spec, vs []vector) *mismatch {
+					nl, err := compileSpec(s)
+					if err != nil {
+						return nil
+					}
+					return idleFindings(nl, vs, limit)
+				})
+				idle = append(idle, fmt.Sprintf("round limit %d\n%svectors %s: %s", limit, s, vectorsString(vs), f.msg))
+			}
+			continue
+		}
+		f := fails[m.kind]
+		if f == nil {
+			f = &failure{spec: spec, vs: vs, limit: limit}
+			fails[m.kind] = f
+		}
+		f.count++
+		if len(spec.Devices) < len(f.spec.Devices) {
+			f.spec, f.vs, f.limit = spec, vs, limit
+		}
+	}
+	kinds := make([]string, 0, len(fails))
+	for k := range fails {
+		kinds = append(kinds, k)
+	}
+	slices.Sort(kinds)
+	for _, k := range kinds {
+		f := fails[k]
+		s, vs, m := shrink(f.spec, f.vs, failsAs(f.limit, k))
+		nl, _ := compileSpec(s)
+		t.Errorf("%d of %d networks differ (%s); smallest, shrunk (round limit %d, inputs %v):\n%svectors: %s\n%s",
+			f.count, *diffN, k, f.limit, names(nl, nl.Inputs()), s, vectorsString(vs), m.msg)
+	}
+	for _, s := range idle {
+		t.Logf("engine and reference agree, but a group the rules did not re-solve is not a fixpoint of them:\n%s", s)
+	}
+}
+
+// idleFindings reruns the reference and reports unseeded groups whose
+// fresh solve would change them (the rules assume it never happens).
+func idleFindings(nl *sw.Netlist, vs []vector, limit int) *mismatch {
+	ref := newRef(nl, limit)
+	for step, v := range vs {
+		for j, n := range nl.Inputs() {
+			ref.SetInput(n, v[j])
+		}
+		ref.Settle()
+		if len(ref.idle) > 0 {
+			f := ref.idle[0]
+			return &mismatch{"idle", fmt.Sprintf("vector %d, round %d, node %s: %s would become %s",
+				step+1, f.round, nl.NodeName(f.node), stateString(ref.Node(f.node)), stateString(f.would))}
+		}
+	}
+	return nil
+}
