@@ -5,7 +5,6 @@ import (
 	"sort"
 	"strings"
 	"unicode"
-	"unicode/utf8"
 
 	"railyard/switchsim"
 )
@@ -122,11 +121,7 @@ func (c *checker) name(w Word, what string) (string, bool) {
 	if isName(w.Text) {
 		return w.Text, true
 	}
-	if r, _ := utf8.DecodeRuneInString(w.Text); unicode.IsDigit(r) || r == '-' || r == '+' || r == '.' {
-		c.errAt(w.Line, w.Col, "expected %s, found %q: a name starts with a letter or _", what, w.Text)
-	} else {
-		c.errAt(w.Line, w.Col, "bad %s %q: a name starts with a letter or _ and holds only letters, digits, _ . [ ]", what, w.Text)
-	}
+	c.errAt(w.Line, w.Col, "expected %s, found %q: a name starts with a letter or _ and holds only letters, digits, _ . [ ]", what, w.Text)
 	return "", false
 }
 

@@ -93,7 +93,7 @@ func FormatNumber(v float64) string {
 		p = max(-15, min(9, p))
 	}
 	// value = 0.digits x 10^(e+1); shift the point to 10^p
-	point := e + 1 - p // digits before the decimal point
+	point := e + 1 - p           // digits before the decimal point
 	if point > 6 || point < -6 { // beyond the prefixes: plain exponent form
 		return sign + strconv.FormatFloat(math.Abs(v), 'g', -1, 64)
 	}
