@@ -14,8 +14,11 @@ import (
 	"strings"
 	"testing"
 
+	"railyard/designs"
 	sw "railyard/switchsim"
 	"railyard/switchsim/gen"
+	"railyard/switchsim/netfile"
+	"railyard/switchsim/steps"
 )
 
 var (
@@ -111,13 +114,32 @@ func compareSettle(nl *sw.Netlist, eng *sw.Sim, er *sw.Result, ref *refSim, rr r
 			return &mismatch{"changed", fmt.Sprintf("round %d changed: engine %s, reference %s", i+1, names(nl, got), names(nl, rr.Changed[i]))}
 		}
 	}
+	if len(er.After) != len(er.Changed) {
+		return &mismatch{"after", fmt.Sprintf("engine After has %d entries for %d changes", len(er.After), len(er.Changed))}
+	}
+	for i := 0; i < er.Rounds; i++ {
+		lo := 0
+		if i > 0 {
+			lo = int(er.RoundEnd[i-1])
+		}
+		for k := lo; k < int(er.RoundEnd[i]); k++ {
+			n := int(er.Changed[k])
+			if e, r := er.After[k], rr.After[i][n]; !sameState(e, r) {
+				return &mismatch{"after", fmt.Sprintf("round %d left %s at: engine %s, reference %s", i+1, nl.NodeName(n), stateString(e), stateString(r))}
+			}
+		}
+	}
 	for n := 0; n < nl.NumNodes(); n++ {
-		e, r := eng.Node(n), ref.Node(n)
-		if e.Value != r.Value || e.Strength != r.Strength || e.State != r.State || e.Floating != r.Floating {
+		if e, r := eng.Node(n), ref.Node(n); !sameState(e, r) {
 			return &mismatch{"node", fmt.Sprintf("node %s: engine %s, reference %s", nl.NodeName(n), stateString(e), stateString(r))}
 		}
 	}
 	return nil
+}
+
+// sameState compares what ideal mode defines (not Volts, NaN there).
+func sameState(a, b sw.NodeState) bool {
+	return a.Value == b.Value && a.Strength == b.Strength && a.State == b.State && a.Floating == b.Floating
 }
 
 func stateString(s sw.NodeState) string {
@@ -300,4 +322,90 @@ func idleFindings(nl *sw.Netlist, vs []vector, limit int) *mismatch {
 		}
 	}
 	return nil
+}
+
+// demoSequences returns the input sequences TestDiffDemos runs on a design:
+// its steps file's rows (inputs it does not apply stay as they were),
+// three random walks of 200 steps changing one or two inputs at a time
+// over 0 1 x z, and for designs of at most four inputs every combination
+// of 0 1 x z in turn, then every 0/1 combination in Gray-code order (one
+// input changes per step).
+func demoSequences(rng *rand.Rand, nl *sw.Netlist, st *steps.Steps) [][]vector {
+	ins := nl.Inputs()
+	k := len(ins)
+	allX := make(vector, k)
+	for i := range allX {
+		allX[i] = sw.DriveX
+	}
+	var seqs [][]vector
+	if st != nil {
+		col := map[int]int{}
+		for j, n := range ins {
+			col[n] = j
+		}
+		seq := []vector{allX}
+		for _, row := range st.Rows {
+			v := slices.Clone(seq[len(seq)-1])
+			for i, n := range st.Apply {
+				v[col[n]] = row.Drives[i]
+			}
+			seq = append(seq, v)
+		}
+		seqs = append(seqs, seq)
+	}
+	for w := 0; w < 3 && k > 0; w++ {
+		seq := []vector{allX}
+		for i := 0; i < 200; i++ {
+			v := slices.Clone(seq[len(seq)-1])
+			for c := 0; c < 1+rng.IntN(2); c++ {
+				v[rng.IntN(k)] = randomDrive(rng)
+			}
+			seq = append(seq, v)
+		}
+		seqs = append(seqs, seq)
+	}
+	if k > 0 && k <= 4 {
+		seq := []vector{allX}
+		for c := 0; c < 1<<(2*k); c++ {
+			v := make(vector, k)
+			for j := range v {
+				v[j] = sw.Drive((c >> (2 * j)) & 3)
+			}
+			seq = append(seq, v)
+		}
+		for c := 0; c < 1<<k; c++ {
+			g := c ^ (c >> 1)
+			v := make(vector, k)
+			for j := range v {
+				v[j] = sw.Drive((g >> j) & 1)
+			}
+			seq = append(seq, v)
+		}
+		seqs = append(seqs, seq)
+	}
+	return seqs
+}
+
+// TestDiffDemos runs every demo design through engine and reference.
+func TestDiffDemos(t *testing.T) {
+	rng := rand.New(rand.NewPCG(7, 7))
+	for _, e := range designs.List() {
+		t.Run(e.Name, func(t *testing.T) {
+			d, err := netfile.ReadFile("demo:" + e.Name)
+			if err != nil {
+				t.Fatal(err)
+			}
+			var st *steps.Steps
+			if path, ok := steps.Default("demo:" + e.Name); ok {
+				if st, err = steps.ReadFile(path, d.Netlist); err != nil {
+					t.Fatal(err)
+				}
+			}
+			for i, seq := range demoSequences(rng, d.Netlist, st) {
+				if m := diffRun(d.Netlist, seq, 0); m != nil {
+					t.Errorf("sequence %d (%s): %s", i, m.kind, m.msg)
+				}
+			}
+		})
+	}
 }

@@ -118,9 +118,10 @@ func TestFoundOscillationRoundNotRecorded(t *testing.T) {
 }
 
 // The oscillation rule sets to X "every node that changed within the last
-// max(16, limit/8) rounds", but the engine keeps each node's last-change
-// round across settles (and 0 for a node that never changed), so a node
-// solved in this settle but not changed in it is set to X too.
+// max(16, limit/8) rounds", but a node solved in this settle and not
+// changed in it has last-change round 0, which passes the engine's test
+// lastChange > round - window whenever round <= window: with a RoundLimit
+// below 16 every node solved in the settle is set to X.
 func TestFoundOscillationForcesUnchangedNode(t *testing.T) {
 	b := sw.NewBuilder()
 	b.Input("a")

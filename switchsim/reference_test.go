@@ -45,7 +45,8 @@ type refIdleFinding struct {
 
 type refResult struct {
 	Rounds     int
-	Changed    [][]int // per round (0-based), sorted
+	Changed    [][]int                // per round (0-based), sorted
+	After      []map[int]sw.NodeState // per round: each changed node's state as the round left it
 	Oscillated bool
 }
 
@@ -416,22 +417,26 @@ func (r *refSim) Settle() refResult {
 			// were queued for this round are dropped (forcing replaces them).
 			res.Oscillated, r.oscillated = true, true
 			var ch []int
+			after := map[int]sw.NodeState{}
 			for n := 0; n < nn; n++ {
 				if k, ok := changedAt[n]; ok && k >= round-window && !r.isSource(n) {
 					st := sw.StateX
 					if r.str[n].IsCharge() {
 						st = sw.StateZ
 					}
-					if r.val[n] != sw.VX || r.state[n] != st {
-						ch = append(ch, n)
-						changedAt[n] = round
-					}
+					moved := r.val[n] != sw.VX || r.state[n] != st
 					r.val[n], r.state[n] = sw.VX, st
 					r.forced[n] = true
+					if moved {
+						ch = append(ch, n)
+						after[n] = r.Node(n)
+						changedAt[n] = round
+					}
 				}
 			}
 			res.Rounds = round
 			res.Changed = append(res.Changed, ch)
+			res.After = append(res.After, after)
 			clear(seeds)
 			if extra { // "if it is passed again ... the settle stops"
 				break
@@ -447,6 +452,7 @@ func (r *refSim) Settle() refResult {
 			results[i] = r.solve(g, r.cond)
 		}
 		var ch []int
+		after := map[int]sw.NodeState{}
 		for i, g := range gs {
 			seeded, forced := false, false
 			for _, n := range g.nodes {
@@ -466,15 +472,17 @@ func (r *refSim) Settle() refResult {
 					continue
 				}
 				delete(r.forced, n)
+				r.val[n], r.str[n], r.state[n] = ns.Value, ns.Strength, ns.State
 				if moved {
 					ch = append(ch, n)
+					after[n] = r.Node(n)
 					changedAt[n] = round
 				}
-				r.val[n], r.str[n], r.state[n] = ns.Value, ns.Strength, ns.State
 			}
 		}
 		slices.Sort(ch)
 		res.Changed = append(res.Changed, ch)
+		res.After = append(res.After, after)
 		clear(seeds)
 	}
 	return res
