@@ -104,6 +104,7 @@ type Sim struct {
 	initial   bool
 	dirtyIn   []int32
 	dirtyMark []bool
+	wasSrc    []bool
 
 	// scratch, reused by every settle
 	epoch      uint32
@@ -283,7 +284,7 @@ func (s *Sim) Settle() *Result {
 	r.After = r.After[:0]
 	s.settleID++
 	s.touched = s.touched[:0]
-	s.seeds, s.gates = s.seeds[:0], s.gates[:0]
+	s.seeds = s.seeds[:0] // s.gates may hold fan-out left queued by a stopped settle
 	s.nextEpoch()
 
 	if s.initial {
@@ -301,16 +302,24 @@ func (s *Sim) Settle() *Result {
 		}
 	}
 	// Inputs changed by the user: their new value is in place before round 1,
-	// so the devices they gate switch in round 1.
+	// so the devices they gate switch in round 1. All drives are applied
+	// before any seeding, so that seeding sees every input's new role.
+	wasSource := s.wasSrc[:0]
 	for _, n := range s.dirtyIn {
 		s.dirtyMark[n] = false
-		wasSource := s.source[n]
+		wasSource = append(wasSource, s.source[n])
 		old := s.val[n]
 		s.applyDrive(int(n))
+		if s.val[n] != old || s.source[n] != wasSource[len(wasSource)-1] {
+			s.gates = append(s.gates, n)
+		}
+	}
+	s.wasSrc = wasSource
+	for i, n := range s.dirtyIn {
 		if !s.source[n] {
 			s.seed(n)
 		}
-		if wasSource || s.source[n] {
+		if wasSource[i] || s.source[n] {
 			for _, d := range nl.chanDev[nl.chanStart[n]:nl.chanStart[n+1]] {
 				if s.cond[d] != Off {
 					o := nl.devA[d]
@@ -322,9 +331,6 @@ func (s *Sim) Settle() *Result {
 					}
 				}
 			}
-		}
-		if s.val[n] != old || s.source[n] != wasSource {
-			s.gates = append(s.gates, n)
 		}
 	}
 	s.dirtyIn = s.dirtyIn[:0]
@@ -352,17 +358,21 @@ func (s *Sim) Settle() *Result {
 			break
 		}
 		if int(round) > limit {
+			// The forcing is a round of its own: the nodes set to X are its changes.
 			r.Oscillated = true
-			if extra { // still changing after the nodes were set to X: stop here
-				s.forceOscillating(round)
-				s.gates = s.gates[:0]
+			r.Rounds = int(round)
+			s.forceOscillating(round)
+			r.RoundEnd = append(r.RoundEnd, int32(len(r.Changed)))
+			s.seeds = s.seeds[:0]
+			s.nextEpoch()
+			if extra {
+				// Still changing after the nodes were set to X: stop here. The
+				// fan-out of the forced nodes stays queued in s.gates and is
+				// taken up by the next Settle, so device states never go stale.
 				break
 			}
 			extra = true
 			limit += s.limit
-			s.forceOscillating(round)
-			s.seeds = s.seeds[:0]
-			s.nextEpoch()
 			continue
 		}
 		r.Rounds = int(round)
@@ -408,18 +418,26 @@ func (s *Sim) applyDrive(n int) {
 	s.volts[n] = s.physSourceVolts(d.Value())
 }
 
-// forceOscillating sets to X every node that changed in the last part of
-// the run (an eighth of the limit, at least 16 rounds) and queues their fan-out.
+// forceOscillating sets to X every node that changed in the last W rounds
+// before this one (W is an eighth of the limit, at least 16), records them as
+// this round's changes and queues their fan-out.
 func (s *Sim) forceOscillating(round int32) {
 	window := int32(s.limit / 8)
 	if window < 16 {
 		window = 16
 	}
 	for _, n := range s.touched {
-		if s.lastChange[n] > round-window && !s.source[n] {
-			s.val[n], s.state[n], s.volts[n] = VX, StateX, math.NaN()
-			if s.str[n] < Weak {
-				s.state[n] = StateZ
+		if lc := s.lastChange[n]; lc > 0 && lc >= round-window && !s.source[n] {
+			st := StateX
+			if s.str[n].IsCharge() {
+				st = StateZ
+			}
+			if s.val[n] != VX || s.state[n] != st {
+				s.val[n], s.state[n], s.volts[n] = VX, st, math.NaN()
+				s.lastChange[n] = round
+				s.res.Changed = append(s.res.Changed, n)
+				s.res.Delay = append(s.res.Delay, math.NaN())
+				s.res.After = append(s.res.After, s.Node(int(n)))
 			}
 			s.gates = append(s.gates, n)
 			if s.warnMark[n] != s.settleID {
