@@ -528,11 +528,11 @@ func (s *Sim) physCharge(g *group, c int32) {
 	p := &s.phys
 	cp := &p.comps[c]
 	nodes := p.cn[cp.n0:cp.n1]
-	var sumC, lo, hi float64
+	// The mean is taken about the lowest known level, so that nodes already
+	// at one level keep it exactly.
 	vmin, vmax := math.Inf(1), math.Inf(-1)
 	unknown := 0
 	for _, n := range nodes {
-		cn := nl.nodeCap[n]
 		v := s.volts[n]
 		if math.IsNaN(v) {
 			switch s.val[n] {
@@ -542,17 +542,30 @@ func (s *Sim) physCharge(g *group, c int32) {
 				v = p.vdd
 			}
 		}
-		sumC += cn
+		p.good[n] = v
 		if math.IsNaN(v) {
 			unknown++
-			hi += cn * p.vdd
 			continue
 		}
-		lo += cn * v
-		hi += cn * v
 		vmin, vmax = min(vmin, v), max(vmax, v)
 	}
-	lo, hi = lo/sumC, hi/sumC
+	base := 0.0
+	if unknown < len(nodes) {
+		base = vmin
+	}
+	var sumC, lo, hi float64
+	for _, n := range nodes {
+		cn := nl.nodeCap[n]
+		sumC += cn
+		if v := p.good[n]; math.IsNaN(v) {
+			lo += cn * (0 - base)
+			hi += cn * (p.vdd - base)
+		} else {
+			lo += cn * (v - base)
+			hi += cn * (v - base)
+		}
+	}
+	lo, hi = base+lo/sumC, base+hi/sumC
 	val, volts := VX, math.NaN()
 	switch {
 	case hi <= p.vil:
