@@ -210,7 +210,7 @@ func TestPhysRatioedDivider(t *testing.T) {
 	s := ratioed(t, DeviceOpts{L: lp}, DeviceOpts{})
 	r := phApply(t, s, map[string]Drive{"a": Drive1})
 	rp, rn := tc.Rp*lp/tc.Wp, tc.Rn*tc.L/tc.Wn // R = r_sq L / W (MODEL.md §4)
-	want := tc.Vdd * rn / (rn + rp)             // a resistive divider (Ohm's law)
+	want := tc.Vdd * rn / (rn + rp)            // a resistive divider (Ohm's law)
 	y := node(s, "y")
 	phNear(t, "y volts", y.Volts, want, 1e-9)
 	if y.Value != V0 || y.State != StateL || y.Strength != Strong {
