@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"io"
 
+	"railyard/designs"
 	"railyard/switchsim"
 	"railyard/switchsim/session"
 )
@@ -26,7 +27,7 @@ Exit status: 1 when a conflict, a lost level or a floating output is found,
 else 0; 2 on bad input.
 
 examples:
-  railyard check demo:` + "DEMO" + `
+  railyard check demo:` + designs.Default + `
   railyard check cells/opsel.sw --exhaustive
 `
 
@@ -59,6 +60,7 @@ func cmdCheck(args []string, stdout, stderr io.Writer) int {
 		fmt.Fprintf(stdout, "  %-16s %s\n", f.Kind, f.Message)
 	}
 	failing := session.AnyFailing(static)
+	others := 0 // exhaustive findings
 
 	if *exhaustive {
 		var progress func(done, total int)
@@ -86,12 +88,17 @@ func cmdCheck(args []string, stdout, stderr io.Writer) int {
 			fmt.Fprintf(stdout, "  %-16s first at %s; %d of %d vectors\n", "", vectorText(f.Vector), f.Count, rep.Vectors)
 		}
 		failing = failing || session.AnyFailing(rep.Findings)
+		others = len(rep.Findings)
 	}
 	if failing {
 		fmt.Fprintln(stdout, "\nresult: FAIL (a conflict, a lost level or a floating output)")
 		return exitFail
 	}
-	fmt.Fprintln(stdout, "\nresult: PASS")
+	if n := len(static) + others; n > 0 {
+		fmt.Fprintf(stdout, "\nresult: PASS (%s, none a conflict, a lost level or a floating output)\n", countFindings(n))
+	} else {
+		fmt.Fprintln(stdout, "\nresult: PASS")
+	}
 	return exitOK
 }
 

@@ -15,7 +15,7 @@ demo:NAME, and its one-line description.
 
 examples:
   railyard designs
-  railyard run demo:NAME
+  railyard run demo:` + designs.Default + `
 `
 
 func cmdDesigns(args []string, stdout, stderr io.Writer) int {

@@ -20,7 +20,7 @@ to FILE when the explorer quits.
 examples:
   railyard explore
   railyard explore cells/opsel.sw --steps cells/opsel.steps --trace opsel.trace
-  railyard explore demo:NAME --ascii
+  railyard explore demo:` + designs.Default + ` --ascii
 `
 
 // exploreOptions are the flags of `explore`.

@@ -5,6 +5,7 @@ import (
 	"io"
 	"os"
 
+	"railyard/designs"
 	"railyard/switchsim/session"
 )
 
@@ -21,7 +22,7 @@ differences are printed as TRACE:LINE: ...), 2 when the trace or its design
 cannot be read.
 
 examples:
-  railyard run demo:` + "DEMO" + ` --trace session.trace
+  railyard run demo:` + designs.Default + ` --trace session.trace
   railyard replay session.trace
 `
 

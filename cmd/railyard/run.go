@@ -21,7 +21,7 @@ Exit status: 0 when every check passes, 1 when one fails, 2 on bad input
 (nothing is written to --trace or --vcd then).
 
 examples:
-  railyard run demo:` + "DEMO" + `
+  railyard run demo:` + designs.Default + `
   railyard run cells/opsel.sw --steps cells/opsel.steps
   railyard run cells/opsel.sw --json > run.jsonl
   railyard run cells/opsel.sw --trace opsel.trace --vcd opsel.vcd

@@ -60,28 +60,11 @@ func IsCheck(c CheckResult) bool { return c.Want.String() != "-" }
 // Thresholds are a technology's logic thresholds in volts, NaN where unknown.
 type Thresholds struct{ VIL, VIH, VM float64 }
 
-// thresholder is the physical-mode API that derives the thresholds from the
-// reference inverter (MODEL.md §4); it is used when the engine has it.
-type thresholder interface {
-	Thresholds() (vil, vih, vm float64)
-}
-
-// TechThresholds returns the thresholds the engine uses: derived ones when
-// the engine can compute them, else the design's overrides (vil, vih), NaN
-// where neither is known.
+// TechThresholds returns the thresholds physical mode decides values by
+// (MODEL.md §4): the reference inverter's, or the design's vil/vih overrides.
 func TechThresholds(t switchsim.Tech) Thresholds {
-	if d, ok := any(t).(thresholder); ok {
-		vil, vih, vm := d.Thresholds()
-		return Thresholds{vil, vih, vm}
-	}
-	th := Thresholds{math.NaN(), math.NaN(), math.NaN()}
-	if t.VIL > 0 {
-		th.VIL = t.VIL
-	}
-	if t.VIH > 0 {
-		th.VIH = t.VIH
-	}
-	return th
+	vil, vih, vm := t.Thresholds()
+	return Thresholds{vil, vih, vm}
 }
 
 // --- text report ---
@@ -260,9 +243,9 @@ func techJSON(t switchsim.Tech) string {
 	th := TechThresholds(t)
 	var o jsonObject
 	o.key("vdd").num(t.Vdd)
-	o.key("vil").num(th.VIL)
-	o.key("vih").num(th.VIH)
-	o.key("vm").num(th.VM)
+	o.key("vil").num(roundVolts(th.VIL))
+	o.key("vih").num(roundVolts(th.VIH))
+	o.key("vm").num(roundVolts(th.VM))
 	o.key("preset").str(techName(t))
 	for _, k := range switchsim.TechKeys() {
 		if k == "vdd" || k == "vil" || k == "vih" {
