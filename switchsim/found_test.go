@@ -1,10 +1,9 @@
 package switchsim_test
 
 // Engine bugs found by the differential tests, each reduced to a minimal
-// case. The expected values come from DEVELOPERS.md "The engine's rules,
-// exactly" (quoted beside each check) and are what the reference solver
-// (reference_test.go) computes. Tests still skipped are readings of the
-// text that are not certain; see the skip message.
+// case and kept as a regression test. The expected values come from
+// DEVELOPERS.md "The engine's rules, exactly" (quoted beside each check)
+// and are what the reference solver (reference_test.go) computes.
 
 import (
 	"testing"
@@ -199,11 +198,10 @@ func TestFoundDeviceStateStaleAfterStop(t *testing.T) {
 	}
 }
 
-// "every node that changed within the last max(16, limit/8) rounds": at
-// the limit L the engine takes the nodes whose last change is after round
-// L+1-W, i.e. W-1 rounds (L-W+2 .. L); the last W rounds are L-W+1 .. L.
+// "every node that changed in rounds L+1-W .. L, W = max(16, L/8), is set
+// to X": the engine took the nodes whose last change is after round L+1-W,
+// W-1 rounds, leaving out round L+1-W itself.
 func TestFoundOscillationWindowOffByOne(t *testing.T) {
-	t.Skip("engine bug or reading: the engine counts the forcing round itself as one of the last W rounds; DEVELOPERS.md does not say which")
 	b := enabledRing()
 	// A chain from en whose last stage changes exactly in round L-W+1 = 5
 	// (L = 20, W = 16): five inverters, each one round later.
