@@ -90,6 +90,7 @@ type checker struct {
 	cells    map[string]*cellDef
 	libCells map[string]*cellDef
 	prog     *program
+	hint     string // cellHint's text, made once
 }
 
 func (c *checker) errAt(line, col int, format string, args ...any) {
@@ -604,6 +605,9 @@ func (c *checker) numberOK(o Opt, ok bool) (float64, bool) {
 }
 
 func (c *checker) cellHint() string {
+	if c.hint != "" {
+		return c.hint
+	}
 	var own []string
 	for n := range c.cells {
 		own = append(own, n)
@@ -621,7 +625,8 @@ func (c *checker) cellHint() string {
 	if len(own) > 0 {
 		h += "; this file defines: " + strings.Join(own, ", ")
 	}
-	return h + ")"
+	c.hint = h + ")"
+	return c.hint
 }
 
 // walk measures cd (expanded size) and reports the cycles and the nesting

@@ -78,3 +78,19 @@ func TestDemoStepsIdeal(t *testing.T) {
 		})
 	}
 }
+
+// The demo list's descriptions, read without the reader, agree with it.
+func TestDemoDescriptions(t *testing.T) {
+	for _, e := range designs.List() {
+		d, err := netfile.ReadFile("demo:" + e.Name)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if d.Desc != e.Desc || d.Name != e.Name {
+			t.Errorf("demo %s: reader says %q %q, list says %q", e.Name, d.Name, d.Desc, e.Desc)
+		}
+	}
+	if _, _, ok := designs.Source(designs.Default); !ok {
+		t.Errorf("default demo %s missing", designs.Default)
+	}
+}

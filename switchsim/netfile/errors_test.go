@@ -138,7 +138,7 @@ func TestLimits(t *testing.T) {
 	t.Run("file size", func(t *testing.T) {
 		lim := netfile.DefaultLimits()
 		lim.FileSize = 10
-		// byte 10 (0-based) is the 3rd byte of line 2
+		// byte 10 (0-based), the first past the limit, starts line 2
 		wantErrors(t, "input a b\ninput c d\n", &lim, "2:1: file is longer than the limit of 10 bytes")
 	})
 	t.Run("nesting depth", func(t *testing.T) {
