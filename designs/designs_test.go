@@ -41,9 +41,9 @@ func TestSourceUnknown(t *testing.T) {
 func TestDescription(t *testing.T) {
 	cases := map[string]string{
 		"# c\n\ndesign x \"a \\\"b\\\"\"\n": `a "b"`,
-		"design x\n":                       "",
-		"input a\ndesign x \"late\"\n":     "",
-		"designer x \"no\"\n":              "",
+		"design x\n":                        "",
+		"input a\ndesign x \"late\"\n":      "",
+		"designer x \"no\"\n":               "",
 	}
 	for src, want := range cases {
 		if got := description([]byte(src)); got != want {
