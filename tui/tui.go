@@ -112,6 +112,7 @@ type Model struct {
 	focus     int
 	view      View
 	showHelp  bool
+	helpPage  int
 	status    string
 	statusBad bool
 
@@ -141,8 +142,9 @@ func New(s *session.Session, width, height int, opt Options) *Model {
 	m.help.Styles.ShortSeparator = th.Dim
 	m.help.Styles.FullSeparator = th.Dim
 	m.help.Styles.Ellipsis = th.Dim
+	m.help.ShortSeparator = "  "
 	if opt.ASCII {
-		m.help.ShortSeparator, m.help.Ellipsis = " | ", "~"
+		m.help.Ellipsis = "~"
 		m.ascii = asciiReplacer()
 	}
 
@@ -256,6 +258,10 @@ func (m *Model) key(k tea.KeyMsg) tea.Cmd {
 			return tea.Quit
 		case key.Matches(k, km.Help), key.Matches(k, km.Close):
 			m.showHelp = false
+		case k.Type == tea.KeyRight || k.Type == tea.KeyDown || k.Type == tea.KeyPgDown || k.Type == tea.KeySpace:
+			m.helpPage++
+		case k.Type == tea.KeyLeft || k.Type == tea.KeyUp || k.Type == tea.KeyPgUp:
+			m.helpPage--
 		}
 		return nil
 	}
@@ -274,7 +280,7 @@ func (m *Model) key(k tea.KeyMsg) tea.Cmd {
 	case key.Matches(k, km.Quit):
 		return tea.Quit
 	case key.Matches(k, km.Help):
-		m.showHelp = true
+		m.showHelp, m.helpPage = true, 0
 		return nil
 	case key.Matches(k, km.Close):
 		m.escape()
@@ -634,7 +640,11 @@ func (m *Model) report(e *session.Event) {
 		return
 	}
 	if len(e.Checks) > 0 {
-		msg += fmt.Sprintf("; %d checks pass", countChecks(e))
+		if n := countChecks(e); n == 1 {
+			msg += "; the check passes"
+		} else {
+			msg += fmt.Sprintf("; %d checks pass", n)
+		}
 	}
 	m.say(msg)
 }
@@ -782,7 +792,7 @@ func (m *Model) sync() {
 	}
 	st := rounds.Settle{Title: m.title(last), Rounds: last.Rounds, Before: before, Oscillated: last.Oscillated}
 	if len(hist) == 1 {
-		st.Title = "start: the first settle from all X"
+		st.Title = "start: the first settle, every node from X"
 		st.Before = nil
 	}
 	for _, c := range last.Changes {
@@ -1066,105 +1076,149 @@ func (m *Model) statusLine() string {
 	return theme.Fit(m.th.Status.Render(m.status), m.w)
 }
 
-// hints is the one line of keys for the focused panel.
+// hints is the one line of keys for the focused panel, worded shorter than
+// in the help view so that it fits 80 columns.
 func (m *Model) hints() string {
 	var bs []key.Binding
+	h := func(k, desc string) { bs = append(bs, key.NewBinding(key.WithKeys(k), key.WithHelp(k, desc))) }
 	switch {
 	case m.prompt != nil:
 		bs = m.prompt.KeyMap.ShortHelp()
-	case m.showHelp:
-		bs = []key.Binding{m.keys.Close, m.keys.Quit}
-	case m.nodes.Filtering() || m.devices.Filtering():
-		bs = []key.Binding{
-			key.NewBinding(key.WithKeys("enter"), key.WithHelp("enter", "keep filter")),
-			key.NewBinding(key.WithKeys("esc"), key.WithHelp("esc", "clear filter")),
+		if m.prompt.Kind() == prompt.Jump {
+			bs = bs[:2]
 		}
+	case m.showHelp:
+		h("esc", "close")
+		h("← →", "pages")
+		h("q", "quit")
+	case m.nodes.Filtering() || m.devices.Filtering():
+		h("enter", "keep filter")
+		h("esc", "clear filter")
 	default:
 		switch m.focus {
 		case focusInputs:
 			if !m.opt.ReadOnly {
-				bs = append(bs, m.inputs.KeyMap.Toggle, key.NewBinding(key.WithKeys("0"), key.WithHelp("0 1 x z", "set")))
+				h("space", "toggle")
+				h("0 1 x z", "set")
 			}
 		case focusNodes:
-			bs = append(bs, m.nodes.KeyMap.ShortHelp()...)
+			h("enter", "why")
+			h("/", "filter")
+			h("m", "watch")
 		case focusDetail:
-			bs = append(bs, m.detailHelp()...)
+			switch m.view {
+			case ViewRounds:
+				h("← →", "replay rounds")
+			case ViewVectors:
+				h("↑↓", "select")
+				h("enter", "go to step")
+			case ViewWhy, ViewLog:
+				h("↑↓", "scroll")
+			case ViewDevices:
+				h("/", "filter")
+				h("o", "group only")
+			case ViewTimeline:
+				h("← →", "scroll")
+				h("m", "unwatch")
+			}
+			h("esc", "back")
 		}
 		if m.focus != focusDetail && m.view == ViewRounds {
-			bs = append(bs, m.rounds.KeyMap.Prev, m.rounds.KeyMap.Next)
+			h("← →", "replay")
 		}
 		if !m.opt.ReadOnly {
-			bs = append(bs, m.keys.Next, m.keys.Prev)
+			h("n", "next")
+			h("p", "back")
 		}
-		bs = append(bs, m.keys.FocusNext, m.keys.Help, m.keys.Quit)
+		h("tab", "panel")
+		h("?", "keys")
+		h("q", "quit")
 	}
 	return theme.Fit(m.help.ShortHelpView(bs), m.w)
 }
 
-func (m *Model) detailHelp() []key.Binding {
-	switch m.view {
-	case ViewRounds:
-		return m.rounds.KeyMap.ShortHelp()
-	case ViewVectors:
-		return m.vectors.KeyMap.ShortHelp()
-	case ViewWhy:
-		return m.why.KeyMap.ShortHelp()
-	case ViewDevices:
-		return m.devices.KeyMap.ShortHelp()
-	case ViewTimeline:
-		return m.timeline.KeyMap.ShortHelp()
-	}
-	return m.log.KeyMap.ShortHelp()
-}
-
-// helpView lists every key, section by section, through bubbles help.
+// helpView lists every key, section by section, each drawn by bubbles
+// help as one column; the columns flow across the screen and page with the
+// arrows when they do not all fit.
 func (m *Model) helpView(h int) string {
 	t := m.th
+	nav := m.nodes.KeyMap.Nav
 	sections := []struct {
 		title string
-		keys  help.KeyMap
+		keys  []key.Binding
 	}{
-		{"Everywhere", m.keys},
-		{"Inputs (left, top)", m.inputs.KeyMap},
-		{"Nodes (left)", m.nodes.KeyMap},
-		{"Rounds: replay the last settle", m.rounds.KeyMap},
-		{"Vectors: the steps file", m.vectors.KeyMap},
-		{"Devices", m.devices.KeyMap},
-		{"Timeline", m.timeline.KeyMap},
-		{"Save prompt", m.prompt0()},
+		{"Steps and actions", []key.Binding{m.keys.Next, m.keys.Prev, m.keys.Jump, m.keys.RunToFail, m.keys.RunToEnd, m.keys.Save}},
+		{"Views on the right", []key.Binding{m.keys.Rounds, m.keys.Vectors, m.keys.Why, m.keys.Devices, m.keys.Timeline, m.keys.Log}},
+		{"Inputs (left, top)", []key.Binding{m.inputs.KeyMap.Toggle, m.inputs.KeyMap.Set0, m.inputs.KeyMap.Set1, m.inputs.KeyMap.SetX, m.inputs.KeyMap.SetZ, m.inputs.KeyMap.Watch}},
+		{"Nodes (left)", []key.Binding{m.nodes.KeyMap.Inspect, m.nodes.KeyMap.Filter, m.nodes.KeyMap.Watch}},
+		{"Rounds: replay the settle", []key.Binding{m.rounds.KeyMap.Prev, m.rounds.KeyMap.Next, m.rounds.KeyMap.First, m.rounds.KeyMap.Last}},
+		{"Vectors", []key.Binding{m.vectors.KeyMap.Jump}},
+		{"Devices", []key.Binding{m.devices.KeyMap.Filter, m.devices.KeyMap.GroupOnly}},
+		{"Timeline", []key.Binding{m.timeline.KeyMap.Left, m.timeline.KeyMap.Right, m.timeline.KeyMap.Unwatch}},
+		{"Save prompt", prompt.DefaultKeyMap().ShortHelp()},
+		{"Lists", []key.Binding{nav.Up, nav.Down, nav.PageUp, nav.PageDown, nav.Home, nav.End}},
+		{"Everywhere", []key.Binding{m.keys.FocusNext, m.keys.FocusPrev, m.keys.Filter, m.keys.Help, m.keys.Close, m.keys.Quit}},
 	}
 	var lines []string
-	lines = append(lines, t.Bold.Render("Keys")+t.Dim.Render("  (esc or ? closes)"))
-	for _, s := range sections {
+	for i, s := range sections {
+		if i > 0 {
+			lines = append(lines, "")
+		}
 		lines = append(lines, t.TitleFocus.Render(s.title))
-		body := m.help.FullHelpView(s.keys.FullHelp())
-		for _, l := range strings.Split(body, "\n") {
-			lines = append(lines, "  "+l)
+		for _, l := range strings.Split(m.help.FullHelpView([][]key.Binding{s.keys}), "\n") {
+			lines = append(lines, " "+l)
 		}
 	}
-	lines = append(lines, "",
-		t.Dim.Render("States: 0 1 strong  L H weak or degraded  Z floating (stored value kept)  X unknown"),
-		t.Dim.Render("Marks: "+t.G.Changed+" changed by the last settle  "+t.G.Watched+" on the timeline  "+
-			t.G.Fail+" failed check  "+t.G.Group+" device of the inspected node's group"),
-		t.Dim.Render("Waveforms: ")+t.Legend())
-	if len(lines) > h {
-		// two columns when the list is longer than the screen
-		half := (len(lines) + 1) / 2
-		cw := m.w / 2
-		out := make([]string, 0, h)
-		for i := 0; i < half && i < h; i++ {
-			l := theme.Fit(lines[i], cw)
-			if i+half < len(lines) {
-				l += theme.Fit(lines[i+half], m.w-cw)
+	lines = append(lines, "", t.TitleFocus.Render("Reading the screen"),
+		" States: 0 1 strong, L H weak or degraded,",
+		"         Z floating (keeps its value), X unknown",
+		" "+t.G.Changed+" changed by the last settle",
+		" "+t.G.Watched+" on the timeline",
+		" "+t.G.Fail+" failed check  "+t.G.Pass+" passed",
+		" "+t.G.Group+" device in the inspected node's group",
+		" Waveforms: "+t.Legend())
+	// flow into columns of ch lines, as many side by side as fit
+	ch := h - 1
+	colW := 40
+	if m.w >= 120 {
+		colW = m.w / 3
+	}
+	perPage := max(m.w/colW, 1)
+	var cols [][]string
+	for len(lines) > 0 {
+		n := min(ch, len(lines))
+		// do not leave a section title alone at the foot of a column
+		if n < len(lines) && n > 1 && lines[n-1] != "" && !strings.HasPrefix(lines[n-1], " ") {
+			n--
+		}
+		cols = append(cols, lines[:n])
+		lines = lines[n:]
+		for len(lines) > 0 && lines[0] == "" {
+			lines = lines[1:]
+		}
+	}
+	pages := (len(cols) + perPage - 1) / perPage
+	m.helpPage = min(max(m.helpPage, 0), pages-1)
+	first := m.helpPage * perPage
+	out := make([]string, h)
+	for i := 0; i < ch; i++ {
+		var b strings.Builder
+		for c := first; c < first+perPage && c < len(cols); c++ {
+			cell := ""
+			if i < len(cols[c]) {
+				cell = cols[c][i]
 			}
-			out = append(out, l)
+			b.WriteString(theme.Fit(cell, colW))
 		}
-		lines = out
+		out[i] = b.String()
 	}
-	return theme.Block(lines, m.w, h)
+	foot := "Keys (esc or ? closes)"
+	if pages > 1 {
+		foot += fmt.Sprintf("  page %d of %d: %s %s turn pages", m.helpPage+1, pages, m.rounds.KeyMap.Prev.Help().Key, m.rounds.KeyMap.Next.Help().Key)
+	}
+	out[h-1] = t.Dim.Render(foot)
+	return theme.Block(out, m.w, h)
 }
-
-func (m *Model) prompt0() help.KeyMap { return prompt.DefaultKeyMap() }
 
 func plural(n int, w string) string {
 	if n == 1 {

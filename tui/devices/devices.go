@@ -224,8 +224,6 @@ func (m *Model) View() string {
 		switch {
 		case sel && m.focused:
 			b.WriteString(g.Cursor)
-		case sel:
-			b.WriteString(st.Dim.Render(g.Cursor))
 		default:
 			b.WriteByte(' ')
 		}

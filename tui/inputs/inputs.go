@@ -187,8 +187,6 @@ func (m *Model) View() string {
 		switch {
 		case i == m.cur.Pos && m.focused:
 			b.WriteString(g.Cursor)
-		case i == m.cur.Pos:
-			b.WriteString(st.Dim.Render(g.Cursor))
 		default:
 			b.WriteByte(' ')
 		}
@@ -211,12 +209,10 @@ func (m *Model) View() string {
 		b.WriteString(ns.Render(name))
 		b.WriteString(" = ")
 		b.WriteString(st.Drive.Render(m.drives[i].String()))
-		if n < len(m.states) {
-			b.WriteString("  ")
-			b.WriteString(t.StateLetter(m.states[n].State))
-			if m.drives[i] == switchsim.DriveZ {
-				b.WriteString(st.Dim.Render(" holds " + m.states[n].Value.String()))
-			}
+		// a driven input is what it is given; a released one floats
+		if n < len(m.states) && m.drives[i] == switchsim.DriveZ {
+			b.WriteString("  " + t.StateLetter(m.states[n].State))
+			b.WriteString(st.Dim.Render(" floats, holds " + m.states[n].Value.String()))
 		}
 		lines = append(lines, b.String())
 	}

@@ -76,6 +76,7 @@ type Model struct {
 	nl      *switchsim.Netlist
 	order   []int // outputs, then internal nodes by name
 	nout    int
+	nameMax int
 	states  []switchsim.NodeState
 	changed []bool
 	failing []bool
@@ -107,6 +108,9 @@ func New(nl *switchsim.Netlist, st Styles) *Model {
 	}
 	sort.Slice(rest, func(i, j int) bool { return natLess(nl.NodeName(rest[i]), nl.NodeName(rest[j])) })
 	m.order = append(m.order, rest...)
+	for _, n := range m.order {
+		m.nameMax = max(m.nameMax, lipgloss.Width(nl.NodeName(n)))
+	}
 	m.watched = make([]bool, nl.NumNodes())
 	m.rebuild()
 	return m
@@ -251,7 +255,7 @@ func (m *Model) View() string {
 	}
 	lines = append(lines, t.TitleBar("Nodes", info, m.focused, m.w))
 	// columns: marks(3) name state value strength volts
-	nameW := max(m.w-3-2-2-7-6, 6)
+	nameW := min(max(m.w-3-2-2-7-6, 6), max(m.nameMax, 4))
 	lines = append(lines, st.Header.Render(fmt.Sprintf("   %-*s %s %s %-6s %5s", nameW, "name", "s", "v", "str", "volts")))
 	if len(m.rows) == 0 {
 		msg := "no nodes"
@@ -284,8 +288,6 @@ func (m *Model) line(n int, sel bool, nameW int) string {
 	cur := " "
 	if sel && m.focused {
 		cur = g.Cursor
-	} else if sel {
-		cur = t.Dim.Render(g.Cursor)
 	}
 	var b strings.Builder
 	b.WriteString(cur)
@@ -313,7 +315,7 @@ func (m *Model) line(n int, sel bool, nameW int) string {
 		b.WriteString(name)
 	}
 	if at(m.failing, n) {
-		b.WriteString(st.Fail.Render(g.Fail))
+		b.WriteString(" " + st.Fail.Render(g.Fail))
 	}
 	return b.String()
 }

@@ -28,8 +28,8 @@ type KeyMap struct {
 // DefaultKeyMap: left and right replay the rounds.
 func DefaultKeyMap() KeyMap {
 	return KeyMap{
-		Prev:  key.NewBinding(key.WithKeys("left", "h", ","), key.WithHelp("←/h", "replay: round back")),
-		Next:  key.NewBinding(key.WithKeys("right", "l", "."), key.WithHelp("→/l", "replay: round on")),
+		Prev:  key.NewBinding(key.WithKeys("left", ","), key.WithHelp("←", "replay: round back")),
+		Next:  key.NewBinding(key.WithKeys("right", "."), key.WithHelp("→", "replay: round on")),
 		First: key.NewBinding(key.WithKeys("home"), key.WithHelp("home", "replay: before round 1")),
 		Last:  key.NewBinding(key.WithKeys("end"), key.WithHelp("end", "replay: settled")),
 		Up:    key.NewBinding(key.WithKeys("up", "k"), key.WithHelp("↑/k", "scroll")),
@@ -208,24 +208,24 @@ func (m *Model) View() string {
 	g := t.G
 	s := m.s
 	var lines []string
-	head := st.Heading.Render(t.Clip(s.Title, max(m.w-30, 10)))
-	head += st.Dim.Render(fmt.Sprintf("  %s, %s", plural(s.Rounds, "round"), plural(len(s.Changes), "change")))
-	lines = append(lines, head)
+	lines = append(lines, st.Heading.Render(t.Clip(s.Title, m.w)))
 	if s.Oscillated {
-		lines = append(lines, st.Warn.Render(g.Warn+" oscillated: the round limit was reached; the nodes still changing were set to X"))
+		lines = append(lines, st.Warn.Render(t.Clip(g.Warn+" oscillated: past the round limit the nodes still changing were set to X", m.w)))
 	}
 	if s.Rounds == 0 || len(m.rows) == 0 {
-		lines = append(lines, st.Dim.Render("Nothing changed: the design was already settled for this input."))
+		lines = append(lines, st.Dim.Render("No node changed in this settle."))
 		return theme.Block(lines, m.w, m.h)
 	}
-	// per-round counts
+	// rounds, changes, and the changes per round
 	var pr strings.Builder
-	pr.WriteString("per round:")
-	for r := 1; r <= s.Rounds && pr.Len() < m.w-8; r++ {
-		fmt.Fprintf(&pr, " %d", m.perRnd[r])
-	}
-	if pr.Len() >= m.w-8 {
-		pr.WriteString(" " + g.Ellipsis)
+	fmt.Fprintf(&pr, "%s, %s; per round:", plural(s.Rounds, "round"), plural(len(s.Changes), "change"))
+	for r := 1; r <= s.Rounds; r++ {
+		item := fmt.Sprintf(" %d", m.perRnd[r])
+		if pr.Len()+len(item) > m.w-2 {
+			pr.WriteString(" " + g.Ellipsis)
+			break
+		}
+		pr.WriteString(item)
 	}
 	lines = append(lines, st.Dim.Render(pr.String()))
 
@@ -299,18 +299,18 @@ func (m *Model) View() string {
 		}
 		lines = append(lines, b.String())
 	}
-	foot := fmt.Sprintf("replay: round %d of %d", m.replay, s.Rounds)
-	if m.replay == 0 {
-		foot = fmt.Sprintf("replay: before round 1 of %d", s.Rounds)
-	} else if m.replay == s.Rounds {
-		foot = fmt.Sprintf("replay: settled after %s", plural(s.Rounds, "round"))
+	foot := fmt.Sprintf("replay round %d/%d", m.replay, s.Rounds)
+	switch {
+	case m.replay == 0:
+		foot += ": before round 1"
+	case m.replay == s.Rounds:
+		foot += ": settled"
 	}
 	if m.replay > 0 {
 		foot += fmt.Sprintf(", %s %d changed", g.Changed, m.perRnd[m.replay])
 	}
-	foot += "   " + m.KeyMap.Prev.Help().Key + " " + m.KeyMap.Next.Help().Key
 	if hi < len(m.rows) || lo > 0 {
-		foot += fmt.Sprintf("   rows %d-%d of %d", lo+1, hi, len(m.rows))
+		foot += fmt.Sprintf(", rows %d-%d of %d", lo+1, hi, len(m.rows))
 	}
 	for len(lines) < m.h-1 {
 		lines = append(lines, "")

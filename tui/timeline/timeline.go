@@ -27,8 +27,8 @@ type KeyMap struct {
 func DefaultKeyMap() KeyMap {
 	return KeyMap{
 		Nav:     listing.DefaultNav(),
-		Left:    key.NewBinding(key.WithKeys("left", "h"), key.WithHelp("←/h", "earlier")),
-		Right:   key.NewBinding(key.WithKeys("right", "l"), key.WithHelp("→/l", "later")),
+		Left:    key.NewBinding(key.WithKeys("left", ","), key.WithHelp("←", "earlier")),
+		Right:   key.NewBinding(key.WithKeys("right", "."), key.WithHelp("→", "later")),
 		Unwatch: key.NewBinding(key.WithKeys("m", "delete"), key.WithHelp("m", "stop watching")),
 	}
 }
