@@ -395,12 +395,27 @@ func (s *Sim) physLevel(g *group, c int32, v Value) {
 			if keepX(g, i) || g.nstr[i] != lvl {
 				continue
 			}
+			old := s.phys.info[n]
 			s.phys.info[n] = noPhysNode()
 			level, drop := full, int32(-1)
 			if p.good[n] >= 0 {
 				level, drop = p.good[n], p.drop[n]
 				if v == V0 {
 					level = p.vdd - p.good[n]
+				}
+			}
+			// A limiting device only stops driving at its limit: a lone node
+			// already past it keeps its better level, since nothing can pull
+			// it back (charge retention, common practice). With other nodes in
+			// the part that charge would be shared; this first-order estimate
+			// then keeps the driven level.
+			if prev := s.volts[n]; len(nodes) == 1 && drop >= 0 && ((v == V1 && prev > level) || (v == V0 && prev < level)) {
+				level, drop = prev, -1
+				if prev != full && old.How == howLevel {
+					drop = old.Drop
+				}
+				if prev != full && drop < 0 {
+					drop = p.drop[n]
 				}
 			}
 			s.decideLevel(g, i, v, level, drop)
@@ -575,8 +590,10 @@ func (s *Sim) physCharge(g *group, c int32) {
 	case unknown == 0:
 		volts = lo
 	}
-	// Sharing happened when charges at different levels met (1 mV apart),
-	// or charge of an unknown level met a known one.
+	// Sharing happens when charges at different levels meet (1 mV apart),
+	// or charge of an unknown level meets a known one. Only then is the value
+	// decided afresh by VIL/VIH: a node that shares with nothing keeps what
+	// it stores, so a lost level is never read back as the other value.
 	shared := len(nodes) > 1 && (vmax-vmin > 1e-3 || (unknown > 0 && unknown < len(nodes)))
 	for _, n := range nodes {
 		i := s.groupIndex(g, n)
@@ -595,9 +612,15 @@ func (s *Sim) physCharge(g *group, c int32) {
 			g.nvolts[i] = math.NaN()
 			continue
 		}
-		in.How, in.Volts = howCharge, volts
+		in.How = howCharge
+		if !shared { // nothing to share: the node keeps its own charge and value
+			in.Volts, g.nvolts[i] = p.good[n], p.good[n]
+			s.shared[n] = s.shared[n] || p.shareMark[n] == s.settleID // it shared earlier in this settle
+			continue
+		}
+		in.Volts = volts
 		g.nval[i], g.nvolts[i] = val, volts
-		s.shared[n] = s.shared[n] || p.shareMark[n] == s.settleID
+		s.shared[n] = true
 	}
 }
 

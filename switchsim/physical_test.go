@@ -174,7 +174,7 @@ func TestPhysSeriesChainDropsOnce(t *testing.T) {
 }
 
 func TestPhysGateMovedResolves(t *testing.T) {
-	// g's level falls from full to degraded while it stays 1: m2 stays on,
+	// g's level rises from degraded to full while it stays 1: m2 stays on,
 	// but its pass limit follows its gate and y must be solved again.
 	b := NewBuilder()
 	for _, n := range []string{"in", "in2", "en", "enb"} {
@@ -184,15 +184,51 @@ func TestPhysGateMovedResolves(t *testing.T) {
 	b.NMOS("m2", "g", "in2", "y", DeviceOpts{})
 	s := phSim(t, b, Physical)
 	tc := s.Netlist().Tech
-	phApply(t, s, map[string]Drive{"in": Drive1, "in2": Drive1, "en": Drive1, "enb": Drive0})
-	phNear(t, "y with a full gate", node(s, "y").Volts, passHighNumeric(tc, tc.Vdd), 1e-9)
-	r := phApply(t, s, map[string]Drive{"enb": Drive1}) // the pMOS half opens: g passes through the nMOS only
+	// the pMOS half off: g passes through the nMOS half only
+	r := phApply(t, s, map[string]Drive{"in": Drive1, "in2": Drive1, "en": Drive1, "enb": Drive1})
 	g := passHighNumeric(tc, tc.Vdd)
 	phNear(t, "g through the nMOS half", node(s, "g").Volts, g, 1e-9)
 	phNear(t, "y with a degraded gate", node(s, "y").Volts, passHighNumeric(tc, g), 1e-9)
 	if node(s, "y").Value != VX || len(phWarning(s, r, WarnLevelLost, "y")) != 1 {
 		t.Errorf("y = %+v, want X with a level-lost warning", node(s, "y"))
 	}
+	phApply(t, s, map[string]Drive{"enb": Drive0}) // the pMOS half opens: g is full
+	if g := node(s, "g"); g.Volts != tc.Vdd || g.Value != V1 {
+		t.Fatalf("g = %+v, want a full 1", g)
+	}
+	phNear(t, "y with a full gate", node(s, "y").Volts, passHighNumeric(tc, tc.Vdd), 1e-9)
+	if st := node(s, "y").State; st != StateH {
+		t.Errorf("y state %v, want H", st)
+	}
+}
+
+func TestPhysChargeRetention(t *testing.T) {
+	// A node already at 0 V driven by a 0 through a pMOS alone stays at 0 V:
+	// the pMOS only stops pulling down at its limit, it cannot pull the node
+	// up to it (common practice). From an unknown start the limit holds.
+	b := NewBuilder()
+	for _, n := range []string{"d", "en", "enb"} {
+		b.Input(n)
+	}
+	b.TGate("t", "en", "enb", "d", "s", 0, 0, 0, HighZ)
+	b.NMOS("rd", "s", "x", "gnd", DeviceOpts{})
+	b.Pull("pu", "x", true, HighZ)
+	s := phSim(t, b, Physical)
+	tc := s.Netlist().Tech
+	phApply(t, s, map[string]Drive{"d": Drive0, "en": Drive1, "enb": Drive0})
+	if v := node(s, "s").Volts; v != 0 {
+		t.Fatalf("s through the whole gate = %g V, want 0", v)
+	}
+	r := phApply(t, s, map[string]Drive{"en": Drive0}) // the nMOS half closes first
+	if x := node(s, "s"); x.Volts != 0 || x.State != State0 {
+		t.Errorf("s through the pMOS half = %+v, want 0 at 0 V", x)
+	}
+	if len(phWarning(s, r, WarnPartialOn, "s")) != 0 {
+		t.Errorf("partial-on warning for a full 0")
+	}
+	s2 := phSim(t, b, Physical)
+	phApply(t, s2, map[string]Drive{"d": Drive0, "en": Drive0, "enb": Drive0})
+	phNear(t, "s from unknown through the pMOS half", node(s2, "s").Volts, passLowNumeric(tc, 0), 1e-9)
 }
 
 // ratioed builds a pMOS load (gate at ground) against an nMOS driver.
