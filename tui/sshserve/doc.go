@@ -1,0 +1,17 @@
+// Package sshserve serves the railyard explorer over SSH, so that designers
+// can open designs kept on a shared machine with a plain SSH client.
+//
+// The server is built from a Config (listen address, host key, authorised
+// keys, the designs folder, limits) and a chain of wish middlewares, one
+// concern each: logging, panic recovery, access, the session limit, the
+// terminal check, and last the handler that builds a fresh model for the
+// connection (a picker, an explorer on the chosen design, or a read-only
+// viewer of another session).
+//
+// Shared viewing publishes frames, not state: the host's root model hands
+// every frame it renders (its View string) to a hub, and a viewer's program
+// only ever draws the latest frame it got. A viewer holds no reference to the
+// host's session, so it is read-only by construction, and a slow viewer can
+// never hold up the host (publishing replaces the frame and wakes waiters; it
+// never blocks).
+package sshserve

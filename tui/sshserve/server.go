@@ -1,0 +1,259 @@
+package sshserve
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"io"
+	"log/slog"
+	"net"
+	"os"
+	"path/filepath"
+	"time"
+
+	tea "github.com/charmbracelet/bubbletea"
+	"github.com/charmbracelet/lipgloss"
+	"github.com/charmbracelet/ssh"
+	"github.com/muesli/termenv"
+	gossh "golang.org/x/crypto/ssh"
+)
+
+// Defaults for the options a Config leaves zero.
+const (
+	DefaultListen      = "127.0.0.1:2222"
+	DefaultMaxSessions = 16
+	DefaultIdleTimeout = 15 * time.Minute
+	// DefaultMaxDesignBytes bounds the design and steps files a served
+	// session reads, so one session's memory stays bounded by the file sizes.
+	DefaultMaxDesignBytes = 4 << 20
+)
+
+// Config is what a server is built from.
+type Config struct {
+	Listen         string // TCP address; DefaultListen when empty
+	AuthorizedKeys string // authorized_keys file; required unless NoAuth
+	HostKey        string // private host key; generated (ed25519, mode 600) when missing
+	Designs        string // the folder of .sw designs served
+	Traces         string // traces are saved under Traces/USER/; none are saved when empty
+	MaxSessions    int    // open sessions (explorers, viewers, pickers) at once; DefaultMaxSessions when 0
+	IdleTimeout    time.Duration
+	// NoAuth accepts any client; it is refused unless the address is loopback.
+	NoAuth bool
+	// MaxDesignBytes bounds a served design or steps file; DefaultMaxDesignBytes when 0.
+	MaxDesignBytes int64
+	Logger         *slog.Logger // connection log; JSON to stderr when nil
+
+	// Explorer builds the model for a chosen design; nil uses the railyard
+	// explorer (tests give their own).
+	Explorer func(ExplorerRequest) (tea.Model, error)
+	// Demos lists the embedded demo names; nil uses the designs package.
+	Demos func() []string
+}
+
+// ExplorerRequest is what the Explorer hook gets to build one connection's model.
+type ExplorerRequest struct {
+	Name          string // as the user chose it: a file name under Designs or demo:NAME
+	Design        string // what to open: a resolved path inside Designs, or demo:NAME
+	Steps         string // the design's default steps, resolved inside Designs; empty for none or a demo
+	Width, Height int    // the client's terminal
+	Banner        string // session id, how to join, where the trace goes
+	TracePath     string // where a saved trace goes; empty when the server keeps none
+	NoColor       bool   // the client asked for NO_COLOR
+	ASCII         bool   // the client's terminal is not UTF-8 capable
+}
+
+// Server is a configured railyard SSH server.
+type Server struct {
+	cfg      Config
+	log      *slog.Logger
+	srv      *ssh.Server
+	keys     *authorizedKeys // nil with NoAuth
+	hostKey  gossh.Signer
+	catalog  *catalog
+	registry *registry
+}
+
+// New checks a Config, loads or creates the host key, reads the authorised
+// keys and builds the server. Nothing listens until Serve or ListenAndServe.
+func New(cfg Config) (*Server, error) {
+	if cfg.Listen == "" {
+		cfg.Listen = DefaultListen
+	}
+	if cfg.MaxSessions == 0 {
+		cfg.MaxSessions = DefaultMaxSessions
+	}
+	if cfg.MaxSessions < 0 {
+		return nil, fmt.Errorf("--max-sessions must be positive, got %d", cfg.MaxSessions)
+	}
+	if cfg.IdleTimeout < 0 {
+		return nil, fmt.Errorf("--idle-timeout must not be negative, got %s", cfg.IdleTimeout)
+	}
+	if cfg.MaxDesignBytes == 0 {
+		cfg.MaxDesignBytes = DefaultMaxDesignBytes
+	}
+	if cfg.Logger == nil {
+		cfg.Logger = slog.New(slog.NewJSONHandler(os.Stderr, nil))
+	}
+	if cfg.Explorer == nil {
+		cfg.Explorer = openExplorer
+	}
+	if cfg.Demos == nil {
+		cfg.Demos = demoNames
+	}
+	s := &Server{cfg: cfg, log: cfg.Logger, registry: newRegistry(cfg.MaxSessions)}
+
+	if cfg.NoAuth {
+		if cfg.AuthorizedKeys != "" {
+			return nil, errors.New("--no-auth and --authorized-keys exclude each other")
+		}
+		if err := checkLoopback(cfg.Listen); err != nil {
+			return nil, err
+		}
+	} else {
+		if cfg.AuthorizedKeys == "" {
+			return nil, errors.New("--authorized-keys FILE is required (public keys are the only way in)")
+		}
+		keys, err := loadAuthorizedKeys(cfg.AuthorizedKeys)
+		if err != nil {
+			return nil, err
+		}
+		s.keys = keys
+	}
+	if cfg.HostKey == "" {
+		return nil, errors.New("--host-key FILE is required")
+	}
+	hk, created, err := loadOrCreateHostKey(cfg.HostKey)
+	if err != nil {
+		return nil, err
+	}
+	s.hostKey = hk
+	if created {
+		s.log.Info("host key created", "path", cfg.HostKey, "fingerprint", gossh.FingerprintSHA256(hk.PublicKey()))
+	}
+	if cfg.Designs == "" {
+		return nil, errors.New("--designs DIR is required")
+	}
+	if s.catalog, err = newCatalog(cfg.Designs, cfg.Demos, cfg.MaxDesignBytes); err != nil {
+		return nil, err
+	}
+	if cfg.Traces != "" {
+		if err := os.MkdirAll(cfg.Traces, 0o750); err != nil {
+			return nil, fmt.Errorf("--traces: %w", err)
+		}
+	}
+
+	// A server cannot ask the client's terminal what it renders, so styles
+	// use the common 256-colour set (NO_COLOR clients get none, per session).
+	lipgloss.SetColorProfile(termenv.ANSI256)
+
+	connIdle := time.Duration(0)
+	if cfg.IdleTimeout > 0 {
+		// The session watchdog closes idle sessions with a message; this
+		// connection deadline is the backstop for stalled handshakes and
+		// connections that never open a session.
+		connIdle = cfg.IdleTimeout + 30*time.Second
+	}
+	var auth ssh.PublicKeyHandler
+	if !cfg.NoAuth {
+		// Only a public-key handler is set, so the server offers no
+		// passwords, no keyboard-interactive and no "none" method.
+		auth = s.publicKeyAllowed
+	}
+	srv, err := newSSHServer(sshSettings{
+		addr:     cfg.Listen,
+		hostKey:  hk,
+		auth:     auth,
+		connIdle: connIdle,
+		failed:   s.connectionFailed,
+		// Listed innermost first: a session runs logging, recovery, access,
+		// the limit, the terminal check, then the handler.
+		chain: []func(ssh.Handler) ssh.Handler{
+			s.handle,
+			s.requirePTY,
+			s.limitSessions,
+			s.checkAccess,
+			s.recoverPanics,
+			s.logSessions,
+		},
+	})
+	if err != nil {
+		return nil, err
+	}
+	if !cfg.NoAuth && (srv.PublicKeyHandler == nil || srv.PasswordHandler != nil || srv.KeyboardInteractiveHandler != nil) {
+		return nil, errors.New("internal error: public keys must be the only way in")
+	}
+	s.srv = srv
+	return s, nil
+}
+
+// Serve accepts connections on ln until Close.
+func (s *Server) Serve(ln net.Listener) error {
+	if s.cfg.NoAuth {
+		if err := checkLoopback(ln.Addr().String()); err != nil {
+			ln.Close()
+			return err
+		}
+	}
+	s.log.Info("serving", "addr", ln.Addr().String(), "designs", s.catalog.root,
+		"host_key", gossh.FingerprintSHA256(s.hostKey.PublicKey()), "auth", s.authName(),
+		"max_sessions", s.cfg.MaxSessions, "idle_timeout", s.cfg.IdleTimeout.String())
+	err := s.srv.Serve(ln)
+	if errors.Is(err, ssh.ErrServerClosed) {
+		return nil
+	}
+	return err
+}
+
+// ListenAndServe listens on the configured address and serves.
+func (s *Server) ListenAndServe() error {
+	ln, err := net.Listen("tcp", s.cfg.Listen)
+	if err != nil {
+		return err
+	}
+	return s.Serve(ln)
+}
+
+// Close stops listening and closes every connection.
+func (s *Server) Close() error { return s.srv.Close() }
+
+// Shutdown stops listening and waits for the open sessions to end.
+func (s *Server) Shutdown(ctx context.Context) error { return s.srv.Shutdown(ctx) }
+
+// HostKey is the server's public host key (for known_hosts).
+func (s *Server) HostKey() gossh.PublicKey { return s.hostKey.PublicKey() }
+
+func (s *Server) authName() string {
+	if s.cfg.NoAuth {
+		return "none (loopback only)"
+	}
+	return "publickey"
+}
+
+func (s *Server) connectionFailed(c net.Conn, err error) {
+	if errors.Is(err, io.EOF) {
+		return // a client that gave up or only probed
+	}
+	s.log.Warn("connection refused", "remote", c.RemoteAddr().String(), "error", err.Error())
+}
+
+// checkLoopback refuses any address that is not bound to loopback only.
+func checkLoopback(addr string) error {
+	host, _, err := net.SplitHostPort(addr)
+	if err != nil {
+		return fmt.Errorf("--listen %q: %v", addr, err)
+	}
+	if host == "localhost" {
+		return nil // Serve checks the address actually bound
+	}
+	ip := net.ParseIP(host)
+	if ip == nil || !ip.IsLoopback() {
+		return fmt.Errorf("--no-auth is only allowed on a loopback address (such as 127.0.0.1), not %q", addr)
+	}
+	return nil
+}
+
+// cleanBase is a design path's base name without its extension, for trace names.
+func cleanBase(p string) string {
+	b := filepath.Base(p)
+	return b[:len(b)-len(filepath.Ext(b))]
+}
