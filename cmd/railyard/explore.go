@@ -7,6 +7,7 @@ import (
 	"railyard/designs"
 	"railyard/switchsim"
 	"railyard/switchsim/session"
+	"railyard/tui"
 )
 
 const exploreUsage = `
@@ -54,18 +55,12 @@ func cmdExplore(args []string, stdout, stderr io.Writer) int {
 	return startExplorer(s, o, stderr)
 }
 
-// startExplorer hands the session to the explorer.
-//
-// TODO(tui): package tui is not written yet. When it exports
-// Run(s *session.Session, opt tui.Options) error, replace the body with:
-//
-//	if err := tui.Run(s, tui.Options{TracePath: o.trace, ASCII: o.ascii}); err != nil {
-//		fmt.Fprintf(stderr, "railyard explore: %v\n", err)
-//		return exitUsage
-//	}
-//	return exitOK
+// startExplorer hands the session to the explorer, which saves the trace
+// on quitting when --trace was given.
 func startExplorer(s *session.Session, o exploreOptions, stderr io.Writer) int {
-	_ = s
-	fmt.Fprintln(stderr, "railyard explore: the explorer is not built yet; try railyard run", s.DesignPath)
-	return exitUsage
+	if err := tui.Run(s, tui.Options{TracePath: o.trace, ASCII: o.ascii}); err != nil {
+		fmt.Fprintf(stderr, "railyard explore: %v\n", err)
+		return exitUsage
+	}
+	return exitOK
 }

@@ -129,7 +129,8 @@ func TestExitCodes(t *testing.T) {
 		{[]string{"check", "testdata/broken.sw"}, 2, `(?m)^testdata/broken\.sw:4:1: `},
 		{[]string{"check"}, 2, `want one DESIGN`},
 		{[]string{"designs", "extra"}, 2, `takes no arguments`},
-		{[]string{"serve"}, 2, `not built yet`},
+		{[]string{"explore", "testdata/broken.sw"}, 2, `(?m)^testdata/broken\.sw:5:26: `},
+		{[]string{"explore", "a.sw", "b.sw"}, 2, `want at most one DESIGN`},
 	} {
 		code, _, errOut := call(c.args...)
 		if code != c.code {
