@@ -1294,8 +1294,13 @@ func Run(s *session.Session, opt Options) error {
 	if os.Getenv("NO_COLOR") != "" {
 		opt.NoColor = true
 	}
-	m := New(s, 0, 0, opt)
-	p := tea.NewProgram(m, tea.WithAltScreen())
+	return run(s, opt, 0, 0, tea.WithAltScreen()) // the terminal reports its size at start
+}
+
+// run is Run on any input and output (tests give it pipes and a size).
+func run(s *session.Session, opt Options, w, h int, popts ...tea.ProgramOption) error {
+	m := New(s, w, h, opt)
+	p := tea.NewProgram(m, popts...)
 	_, err := p.Run()
 	if opt.TracePath != "" {
 		m.lock()
