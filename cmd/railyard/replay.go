@@ -57,6 +57,14 @@ func cmdReplay(args []string, stdout, stderr io.Writer) int {
 	for _, d := range rep.Differences {
 		fmt.Fprintln(stdout, d)
 	}
-	fmt.Fprintf(stdout, "the replay differs from the trace (%d difference(s) shown)\n", len(rep.Differences))
+	n := len(rep.Differences)
+	switch {
+	case n == 1:
+		fmt.Fprintln(stdout, "the replay differs from the trace: 1 difference")
+	case n >= session.MaxDifferences:
+		fmt.Fprintf(stdout, "the replay differs from the trace: the first %d differences are listed\n", n)
+	default:
+		fmt.Fprintf(stdout, "the replay differs from the trace: %d differences\n", n)
+	}
 	return exitFail
 }

@@ -394,3 +394,6 @@ func jsonString(s string) string {
 	b, _ := json.Marshal(s) // a string always marshals
 	return string(b)
 }
+
+// MaxDifferences is the most differences a replay lists.
+const MaxDifferences = maxDifferences
