@@ -7,6 +7,7 @@ import (
 
 	"railyard/designs"
 	"railyard/switchsim"
+	"railyard/switchsim/netfile"
 	"railyard/switchsim/session"
 )
 
@@ -46,10 +47,12 @@ func cmdCheck(args []string, stdout, stderr io.Writer) int {
 	if *ideal {
 		opt.Mode = switchsim.Ideal
 	}
-	s, err := session.Open(pos[0], "", opt)
+	// The design alone: a steps file beside it plays no part in the checks.
+	d, err := netfile.ReadFile(pos[0])
 	if err != nil {
 		return loadError(stderr, err)
 	}
+	s := session.New(d, pos[0], nil, opt)
 	nl := s.Netlist()
 	fmt.Fprintf(stdout, "design %s (%s): %d nodes, %d devices, %d inputs\n",
 		s.Design.Name, s.DesignPath, nl.NumNodes(), nl.NumDevices(), len(nl.Inputs()))

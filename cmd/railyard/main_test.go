@@ -400,3 +400,19 @@ func TestHelp(t *testing.T) {
 		t.Errorf("help run: exit %d\n%s", code, out)
 	}
 }
+
+func TestCheckIgnoresBrokenSteps(t *testing.T) {
+	// check reads the design alone, so a broken steps file beside it does
+	// not stop it; run reads both and refuses.
+	dir := t.TempDir()
+	src, _ := os.ReadFile("testdata/opsel.sw")
+	design := filepath.Join(dir, "opsel.sw")
+	os.WriteFile(design, src, 0o644)
+	os.WriteFile(filepath.Join(dir, "opsel.steps"), []byte("apply nosuch\n"), 0o644)
+	if code, _, e := call("check", design); code != 0 {
+		t.Errorf("check: exit %d, want 0: %s", code, e)
+	}
+	if code, _, e := call("run", design); code != 2 || !strings.Contains(e, "opsel.steps:1:") {
+		t.Errorf("run: exit %d, want 2 with the steps file's position: %s", code, e)
+	}
+}
