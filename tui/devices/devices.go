@@ -68,6 +68,7 @@ type Model struct {
 	groupOf   string
 	groupOnly bool
 	search    []string // per device: the words a filter matches
+	nameMax   int
 	rows      []int
 	cur       listing.Cursor
 	filter    listing.Filter
@@ -86,6 +87,7 @@ func New(nl *switchsim.Netlist, st Styles) *Model {
 			w = append(w, nl.NodeName(dv.Gate))
 		}
 		m.search[d] = strings.Join(w, " ")
+		m.nameMax = max(m.nameMax, lipgloss.Width(dv.Name))
 	}
 	m.rebuild()
 	return m
@@ -185,11 +187,7 @@ func (m *Model) Update(msg tea.Msg) {
 func (m *Model) View() string {
 	st, t := m.Styles, m.Styles.Theme
 	g := t.G
-	nameW := 6
-	for _, d := range m.rows {
-		nameW = max(nameW, lipgloss.Width(m.nl.Device(d).Name))
-	}
-	nameW = min(nameW, max(m.w/4, 6))
+	nameW := min(max(m.nameMax, 6), max(m.w/4, 6))
 	gateW := max(min(m.w/5, 12), 7)
 	info := fmt.Sprintf("%d", len(m.search))
 	if m.filter.Active() || m.groupOnly {
