@@ -12,7 +12,10 @@ import (
 	"time"
 
 	tea "github.com/charmbracelet/bubbletea"
+	"github.com/charmbracelet/lipgloss"
 	"github.com/charmbracelet/ssh"
+	"github.com/charmbracelet/x/ansi"
+	"github.com/muesli/termenv"
 )
 
 // handle is the innermost handler: it reads the SSH command and builds this
@@ -69,8 +72,13 @@ func (s *Server) serveHost(sess ssh.Session, v *visit, name string) {
 		fail(sess, v, reason, status)
 		return
 	}
-	if t := root.savedTrace(); t != "" {
-		fmt.Fprintf(sess, "railyard: trace saved as %s\n", t)
+	// As the explorer does on a local terminal: the whole session's trace is kept on quit.
+	if err := root.save(); err != nil {
+		fail(sess, v, "trace", err.Error())
+		return
+	}
+	if root.saved {
+		fmt.Fprintf(sess, "railyard: trace saved as %s\n", root.traceRel)
 	}
 }
 
@@ -249,6 +257,8 @@ type hostModel struct {
 	host      *host // the joinable session, once a design is open
 	tracePath string
 	traceRel  string
+	saved     bool
+	notice    string
 	failed    atomic.Bool
 }
 
@@ -260,8 +270,9 @@ func (m *hostModel) open(name string) error {
 	}
 	h := m.srv.registry.add(m.sess.User(), t.Name, m.act)
 	req := ExplorerRequest{Name: t.Name, Design: t.Design, Steps: t.Steps,
-		Width: m.width, Height: m.height, NoColor: m.noColor, ASCII: m.ascii}
-	banner := fmt.Sprintf("session %s · others watch with: join %s", h.ID, h.ID)
+		Width: m.width, Height: m.height, NoColor: m.noColor, ASCII: m.ascii,
+		Renderer: m.renderer(), Banner: "session " + h.ID}
+	m.notice = fmt.Sprintf("session %s: others watch with 'join %s'", h.ID, h.ID)
 	if m.srv.cfg.Traces != "" {
 		dir := filepath.Join(m.srv.cfg.Traces, m.sess.User())
 		if err := os.MkdirAll(dir, 0o750); err != nil {
@@ -273,9 +284,8 @@ func (m *hostModel) open(name string) error {
 		file := fmt.Sprintf("%s-%s-%s.trace", base, time.Now().UTC().Format("20060102-150405"), h.ID)
 		req.TracePath = filepath.Join(dir, file)
 		m.traceRel = filepath.Join(m.sess.User(), file)
-		banner += " · trace: " + m.traceRel
+		m.notice += "; s saves the trace as " + m.traceRel
 	}
-	req.Banner = banner
 	inner, err := m.build(req)
 	if err != nil {
 		m.srv.registry.remove(h)
@@ -307,15 +317,43 @@ func (m *hostModel) end() {
 	}
 }
 
-func (m *hostModel) savedTrace() string {
-	if m.tracePath == "" {
-		return ""
+// Saver is what an explorer model offers for its trace to be kept. A
+// served explorer never asks the user for a path: the server picks it.
+type Saver interface {
+	SaveTrace(path string) error
+}
+
+// saveKey saves the trace in a served explorer. The key is taken before the
+// explorer sees it, so the explorer's own save prompt, which takes any path
+// on the server, never opens (and s cannot be typed into a filter).
+const saveKey = "s"
+
+// save writes the whole session's trace to the served path, if any.
+func (m *hostModel) save() error {
+	sv, ok := m.inner.(Saver)
+	if m.tracePath == "" || !ok {
+		return nil
 	}
-	if _, err := os.Stat(m.tracePath); err != nil {
-		return ""
+	if err := sv.SaveTrace(m.tracePath); err != nil {
+		m.srv.log.Error("trace", "user", m.sess.User(), "path", m.tracePath, "error", err.Error())
+		return errors.New("the trace could not be saved")
 	}
+	m.saved = true
 	m.v.set(func(v *visit) { v.trace = m.traceRel })
-	return m.traceRel
+	return nil
+}
+
+// renderer is this connection's own lipgloss renderer: styles are rendered
+// for the client's terminal, not the server's.
+func (m *hostModel) renderer() *lipgloss.Renderer {
+	r := lipgloss.NewRenderer(m.sess)
+	if m.noColor {
+		r.SetColorProfile(termenv.Ascii)
+	} else {
+		// A server cannot ask the client's terminal; 256 colours is the common ground.
+		r.SetColorProfile(termenv.ANSI256)
+	}
+	return r
 }
 
 // choose is sent by the picker when the user picks a design.
@@ -339,6 +377,21 @@ func (m *hostModel) Update(msg tea.Msg) (model tea.Model, cmd tea.Cmd) {
 		m.width, m.height = ws.Width, ws.Height
 	}
 	if m.inner != nil {
+		if k, ok := msg.(tea.KeyMsg); ok {
+			m.notice = ""
+			if k.String() == saveKey {
+				if _, ok := m.inner.(Saver); ok {
+					m.notice = "this server keeps no traces"
+					if m.tracePath != "" {
+						m.notice = "trace saved as " + m.traceRel
+						if err := m.save(); err != nil {
+							m.notice = err.Error()
+						}
+					}
+					return m, nil
+				}
+			}
+		}
 		var next tea.Model
 		next, cmd = m.inner.Update(msg)
 		m.inner = next
@@ -369,6 +422,12 @@ func (m *hostModel) View() (frame string) {
 		return m.picker.view()
 	}
 	frame = m.inner.View()
+	if m.notice != "" {
+		// The notice stands over the last line until the next key.
+		lines := strings.Split(frame, "\n")
+		lines[len(lines)-1] = ansi.Truncate(m.notice, max(1, m.width), "")
+		frame = strings.Join(lines, "\n")
+	}
 	m.host.Hub.publish(frame)
 	return frame
 }

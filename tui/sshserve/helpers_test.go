@@ -293,6 +293,11 @@ func readFakeDesign(p string) ([]byte, error) {
 
 func (m *fakeModel) Init() tea.Cmd { return nil }
 
+// SaveTrace writes the toggle count, as a stand-in for a trace.
+func (m *fakeModel) SaveTrace(path string) error {
+	return os.WriteFile(path, []byte(fmt.Sprintf("fake trace, sel=%v\n", m.on)), 0o644)
+}
+
 func (m *fakeModel) Update(msg tea.Msg) (tea.Model, tea.Cmd) {
 	switch msg := msg.(type) {
 	case tea.WindowSizeMsg:
@@ -305,10 +310,8 @@ func (m *fakeModel) Update(msg tea.Msg) (tea.Model, tea.Cmd) {
 			panic("fake explorer told to panic")
 		case "q":
 			return m, tea.Quit
-		case "w":
-			if m.req.TracePath != "" {
-				os.WriteFile(m.req.TracePath, []byte("trace\n"), 0o644)
-			}
+		case "s":
+			panic("the server should have taken the save key")
 		}
 	}
 	return m, nil

@@ -9,6 +9,8 @@ import (
 	"slices"
 	"strings"
 	"unicode"
+
+	"railyard/switchsim/steps"
 )
 
 // DesignExt is the suffix of the design files served from the folder.
@@ -76,10 +78,10 @@ func (c *catalog) resolve(name string) (target, error) {
 		return target{}, fmt.Errorf("%q: %w", name, err)
 	}
 	t := target{Name: strings.TrimSuffix(file, DesignExt), Design: real}
-	// The default steps sit beside the name asked for; they too must stay inside.
-	steps := strings.TrimSuffix(filepath.Join(c.root, file), DesignExt) + ".steps"
-	if _, err := os.Lstat(steps); err == nil {
-		if t.Steps, err = c.inside(steps); err != nil {
+	// The default steps are found the way the session finds them (beside
+	// the design as opened); they too must stay inside.
+	if p, ok := steps.Default(real); ok {
+		if t.Steps, err = c.inside(p); err != nil {
 			return target{}, fmt.Errorf("%q: its steps file: %w", name, err)
 		}
 	}

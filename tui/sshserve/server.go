@@ -14,7 +14,6 @@ import (
 	tea "github.com/charmbracelet/bubbletea"
 	"github.com/charmbracelet/lipgloss"
 	"github.com/charmbracelet/ssh"
-	"github.com/muesli/termenv"
 	gossh "golang.org/x/crypto/ssh"
 )
 
@@ -44,7 +43,8 @@ type Config struct {
 	Logger         *slog.Logger // connection log; JSON to stderr when nil
 
 	// Explorer builds the model for a chosen design; nil uses the railyard
-	// explorer (tests give their own).
+	// explorer (tests give their own). A model that is a Saver has its
+	// trace kept under Traces.
 	Explorer func(ExplorerRequest) (tea.Model, error)
 	// Demos lists the embedded demo names; nil uses the designs package.
 	Demos func() []string
@@ -56,10 +56,12 @@ type ExplorerRequest struct {
 	Design        string // what to open: a resolved path inside Designs, or demo:NAME
 	Steps         string // the design's default steps, resolved inside Designs; empty for none or a demo
 	Width, Height int    // the client's terminal
-	Banner        string // session id, how to join, where the trace goes
-	TracePath     string // where a saved trace goes; empty when the server keeps none
+	Banner        string // the session id, for the header
+	TracePath     string // where the trace is saved; empty when the server keeps none
 	NoColor       bool   // the client asked for NO_COLOR
 	ASCII         bool   // the client's terminal is not UTF-8 capable
+	// Renderer renders styles for this client's terminal.
+	Renderer *lipgloss.Renderer
 }
 
 // Server is a configured railyard SSH server.
@@ -141,10 +143,6 @@ func New(cfg Config) (*Server, error) {
 			return nil, fmt.Errorf("--traces: %w", err)
 		}
 	}
-
-	// A server cannot ask the client's terminal what it renders, so styles
-	// use the common 256-colour set (NO_COLOR clients get none, per session).
-	lipgloss.SetColorProfile(termenv.ANSI256)
 
 	connIdle := time.Duration(0)
 	if cfg.IdleTimeout > 0 {

@@ -4,6 +4,7 @@ import (
 	"crypto/sha256"
 	"encoding/base64"
 	"encoding/json"
+	"log/slog"
 	"os"
 	"path/filepath"
 	"regexp"
@@ -368,30 +369,35 @@ func TestTraceGoesUnderUserFolder(t *testing.T) {
 	ts.writeDesign(t, "opsel.sw", opsel)
 	tm := ts.open(t, ts.keys[0], "alice", "opsel", 120, 24)
 	id := tm.sessionID()
-	tm.waitFor("trace: alice/opsel-")
-	// Keys sent together arrive as one; wait for each to act.
-	tm.send("w")
-	end := time.Now().Add(readDeadline)
-	for {
-		if m, _ := filepath.Glob(filepath.Join(ts.dir, "traces", "alice", "*.trace")); len(m) == 1 {
-			break
-		}
-		if time.Now().After(end) {
-			t.Fatal("w wrote no trace")
-		}
-		time.Sleep(5 * time.Millisecond)
-	}
-	tm.send("q")
-	tm.exit()
 	// The name is DESIGN-YYYYMMDD-HHMMSS-ID.trace (the project's own scheme).
 	re := regexp.MustCompile(`trace saved as (alice/opsel-\d{8}-\d{6}-` + id + `\.trace)`)
+	tm.waitFor("s saves the trace as alice/opsel-")
+	tm.send("t")
+	tm.waitFor("sel=1")
+	tm.send("s") // taken by the server: the fake model panics if it sees it
+	tm.waitFor("trace saved as")
 	m := re.FindStringSubmatch(tm.text())
 	if m == nil {
 		t.Fatalf("no trace name shown:\n%s", tm.text())
 	}
-	if _, err := os.Stat(filepath.Join(ts.dir, "traces", m[1])); err != nil {
-		t.Fatalf("trace not under traces/alice: %v", err)
+	p := filepath.Join(ts.dir, "traces", m[1])
+	if b, err := os.ReadFile(p); err != nil || string(b) != "fake trace, sel=true\n" {
+		t.Fatalf("trace under traces/alice: %q, %v", b, err)
 	}
+	tm.send("t")
+	tm.waitCount("sel=0", 2)
+	tm.send("q")
+	if st := tm.exit(); st != 0 {
+		t.Fatalf("exit status %d, want 0", st)
+	}
+	// Quitting keeps the whole session, as the local explorer does.
+	if b, err := os.ReadFile(p); err != nil || string(b) != "fake trace, sel=false\n" {
+		t.Fatalf("trace after quit: %q, %v", b, err)
+	}
+	if strings.Count(tm.text(), "trace saved as "+m[1]) < 2 {
+		t.Errorf("the trace name is not shown on quit:\n%s", tm.text())
+	}
+	ts.waitLog(t, "session end", map[string]any{"user": "alice", "trace": m[1]})
 }
 
 func TestPickerListsAndOpens(t *testing.T) {
@@ -421,7 +427,7 @@ func TestHostKeyCreatedOnceAndReused(t *testing.T) {
 	ak := filepath.Join(dir, "ak")
 	must(t, os.WriteFile(ak, gossh.MarshalAuthorizedKey(newSigner(t).PublicKey()), 0o600))
 	cfg := Config{AuthorizedKeys: ak, HostKey: filepath.Join(dir, "keys", "host"), Designs: filepath.Join(dir, "d"),
-		Explorer: fakeExplorer, Demos: func() []string { return nil }}
+		Explorer: fakeExplorer, Demos: func() []string { return nil }, Logger: slog.New(slog.DiscardHandler)}
 	a, err := New(cfg)
 	must(t, err)
 	fi, err := os.Stat(cfg.HostKey)
