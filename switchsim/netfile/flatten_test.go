@@ -126,3 +126,13 @@ func TestDefaultName(t *testing.T) {
 		t.Errorf("name %q, want t", d.Name)
 	}
 }
+
+// Windows line ends and a byte-order mark read like plain lines (common
+// practice for text files); columns still count from the line's first byte.
+func TestCRLFAndBOM(t *testing.T) {
+	d := mustRead(t, "\xEF\xBB\xBFdesign w \"crlf\"\r\ninput a\r\noutput y\r\nuse inv u a y\r\n")
+	if d.Name != "w" || d.Desc != "crlf" || d.Netlist.NumDevices() != 2 {
+		t.Errorf("name %q desc %q devices %d", d.Name, d.Desc, d.Netlist.NumDevices())
+	}
+	wantErrors(t, "input a\r\nnmos n a x\r\n", nil, "2:1: wrong number of terminals")
+}
