@@ -621,7 +621,8 @@ func (m *Model) jump(row int) {
 
 // report words what an event did on the status line.
 func (m *Model) report(e *session.Event) {
-	msg := fmt.Sprintf("%s: %s, %s", m.title(e), plural(e.Rounds, "round"), plural(len(e.Changes), "change"))
+	counts := fmt.Sprintf("%s, %s", plural(e.Rounds, "round"), plural(len(e.Changes), "change"))
+	msg := m.title(e) + ": " + counts
 	if n := len(e.Warnings); n > 0 {
 		msg += ", " + plural(n, "warning") + " (l)"
 	}
@@ -636,7 +637,12 @@ func (m *Model) report(e *session.Event) {
 				bad = append(bad, fmt.Sprintf("%s want %s got %s", nl.NodeName(c.Node), c.Want, c.Got.State))
 			}
 		}
-		m.fail(msg + "; CHECK FAILED: " + strings.Join(bad, ", "))
+		// the failure first: a long label must not push it off the line
+		where := "CHECK FAILED"
+		if e.Action.Kind == session.Step {
+			where = fmt.Sprintf("CHECK FAILED at step %d", e.Action.Step+1)
+		}
+		m.fail(where + ": " + strings.Join(bad, ", ") + " (" + counts + ")")
 		return
 	}
 	if len(e.Checks) > 0 {
@@ -1025,29 +1031,36 @@ func (m *Model) failedSteps() int {
 
 func (m *Model) viewBar() string {
 	t := m.th
-	var parts []string
+	labels := make([]string, numViews)
+	width := 0
 	for v := View(0); v < numViews; v++ {
 		name := viewNames[v]
 		if v == ViewLog {
 			if n := m.log.Last(); n > 0 {
-				name += fmt.Sprintf(" %s%d", t.G.Warn, n)
+				name += fmt.Sprintf("%s%d", t.G.Warn, n)
 			}
 		}
 		if v == ViewVectors && m.failedSteps() > 0 {
-			name += " " + t.G.Fail
+			name += t.G.Fail
 		}
 		if v == m.view {
 			mark := " "
 			if m.focus == focusDetail {
 				mark = t.G.Cursor
 			}
-			parts = append(parts, t.TitleFocus.Render(mark+"["+name+"]"))
+			name = mark + "[" + name + "]"
+			labels[v] = t.TitleFocus.Render(name)
 		} else {
-			parts = append(parts, t.Dim.Render(" "+name+" "))
+			labels[v] = t.Dim.Render(name)
 		}
+		width += lipgloss.Width(name)
 	}
 	rw := m.w - min(max(m.w*2/5, 32), 56) - 1
-	return theme.Fit(strings.Join(parts, ""), rw)
+	sep := "  "
+	if width+2*int(numViews-1)+1 > rw {
+		sep = " " // narrow terminals
+	}
+	return theme.Fit(" "+strings.Join(labels, sep), rw)
 }
 
 func (m *Model) detailView() string {

@@ -204,7 +204,7 @@ func (m *Model) View() string {
 	}
 	lines := []string{
 		st.Dim.Render(t.Clip("devices "+info, m.w)),
-		st.Header.Render(fmt.Sprintf("  %-*s %-8s %-*s %-3s %s", nameW, "name", "kind", gateW, "gate", "is", "channel")),
+		st.Header.Render(fmt.Sprintf("  %-*s %-6s %-*s %-3s %s", nameW, "name", "kind", gateW, "gate", "is", "channel")),
 	}
 	if len(m.rows) == 0 {
 		msg := "no devices"
@@ -240,7 +240,7 @@ func (m *Model) View() string {
 			name = st.Group.Render(name)
 		}
 		b.WriteString(name)
-		fmt.Fprintf(&b, " %-8s ", dv.Kind)
+		fmt.Fprintf(&b, " %-6s ", kindName(dv.Kind))
 		gate := "-"
 		if dv.Gate >= 0 {
 			v := "?"
@@ -264,8 +264,19 @@ func (m *Model) View() string {
 			b.WriteString(st.Unknown.Render("X? "))
 		}
 		b.WriteByte(' ')
-		b.WriteString(m.nl.NodeName(dv.A) + " " + g.Bar + " " + m.nl.NodeName(dv.B))
+		b.WriteString(m.nl.NodeName(dv.A) + g.Rule + m.nl.NodeName(dv.B))
 		lines = append(lines, b.String())
 	}
 	return theme.Block(lines, m.w, m.h)
+}
+
+// kindName fits a device kind in six cells.
+func kindName(k switchsim.DeviceKind) string {
+	switch k {
+	case switchsim.PullUp:
+		return "pullup"
+	case switchsim.PullDown:
+		return "pulldn"
+	}
+	return k.String()
 }

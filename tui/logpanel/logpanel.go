@@ -99,7 +99,9 @@ func (m *Model) layout() {
 	}
 	last := m.entries[len(m.entries)-1]
 	if len(last.Warnings) == 0 {
-		m.lines = append(m.lines, st.Dim.Render("The last settle ("+last.Title+") gave no warnings."))
+		for _, l := range wrap("", "No warnings from the last settle ("+last.Title+").", m.w, 2) {
+			m.lines = append(m.lines, st.Dim.Render(l))
+		}
 	}
 	older := 0
 	for i := len(m.entries) - 1; i >= 0; i-- {

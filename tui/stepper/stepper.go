@@ -193,7 +193,12 @@ func (m *Model) View() string {
 	}
 	lines := []string{st.Dim.Render(t.Clip(info, m.w))}
 	numW := len(fmt.Sprint(len(m.steps)))
-	labelW := min(max(m.maxLabel(), 5), max(m.w/3, 8))
+	// the label gets what the apply and want columns leave, at least a third
+	rest := 0
+	for _, s := range m.steps {
+		rest = max(rest, lipgloss.Width(s.Apply)+3+lipgloss.Width(s.Want))
+	}
+	labelW := min(max(m.maxLabel(), 5), max(m.w-6-numW-rest, m.w/3, 8))
 	lines = append(lines, st.Header.Render(fmt.Sprintf("    %*s %-*s %s", numW, "#", labelW, "label", "apply | want")))
 	lo, hi := m.cur.Window()
 	for i := lo; i < hi; i++ {

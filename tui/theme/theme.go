@@ -234,3 +234,24 @@ func (t *Theme) TitleBar(title, info string, focused bool, w int) string {
 	}
 	return Fit(head, w)
 }
+
+// Wrap breaks a rendered line to lines of w cells; the continuation lines
+// are indented two cells past the line's own indentation.
+func Wrap(line string, w int) []string {
+	if w <= 0 || ansi.StringWidth(line) <= w {
+		return []string{line}
+	}
+	plain := ansi.Strip(line)
+	indent := len(plain) - len(strings.TrimLeft(plain, " ")) + 2
+	if indent > w/2 {
+		indent = 2
+	}
+	first := strings.Split(ansi.Wrap(line, w, ""), "\n")
+	out := []string{first[0]}
+	rest := strings.Join(first[1:], " ")
+	pad := strings.Repeat(" ", indent)
+	for _, l := range strings.Split(ansi.Wrap(rest, w-indent, ""), "\n") {
+		out = append(out, pad+l)
+	}
+	return out
+}

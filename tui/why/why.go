@@ -51,7 +51,8 @@ type Model struct {
 	Styles Styles
 
 	node    int
-	lines   []string
+	raw     []string // as worded
+	lines   []string // wrapped to the width
 	cur     listing.Cursor
 	focused bool
 	w, h    int
@@ -64,6 +65,15 @@ func New(st Styles) *Model { return &Model{KeyMap: DefaultKeyMap(), Styles: st, 
 func (m *Model) SetSize(w, h int) {
 	m.w, m.h = w, h
 	m.cur.SetHeight(h)
+	m.wrap()
+}
+
+func (m *Model) wrap() {
+	m.lines = m.lines[:0]
+	for _, l := range m.raw {
+		m.lines = append(m.lines, theme.Wrap(l, m.w)...)
+	}
+	m.cur.Offset = min(m.cur.Offset, max(len(m.lines)-max(m.h, 1), 0))
 	m.cur.Pos = m.cur.Offset
 	m.cur.SetLen(len(m.lines))
 }
@@ -81,13 +91,11 @@ func (m *Model) Node() int { return m.node }
 func (m *Model) Set(nl *switchsim.Netlist, e switchsim.Explanation, extra []string) {
 	same := e.Node == m.node
 	m.node = e.Node
-	m.lines = Lines(nl, e, m.Styles)
-	m.lines = append(m.lines, extra...)
+	m.raw = append(Lines(nl, e, m.Styles), extra...)
 	if !same {
 		m.cur.Offset = 0
 	}
-	m.cur.Pos = m.cur.Offset
-	m.cur.SetLen(len(m.lines))
+	m.wrap()
 }
 
 // Update scrolls.
@@ -172,7 +180,11 @@ func Lines(nl *switchsim.Netlist, e switchsim.Explanation, st Styles) []string {
 	}
 	if len(e.Opposing) > 0 {
 		out = append(out, "")
-		out = append(out, st.Heading.Render(fmt.Sprintf("Opposed by %s (they lose):", plural(len(e.Opposing), "path"))))
+		if e.State == switchsim.StateX {
+			out = append(out, st.Heading.Render(fmt.Sprintf("Reached by %s of other values (none wins):", plural(len(e.Opposing), "path"))))
+		} else {
+			out = append(out, st.Heading.Render(fmt.Sprintf("Opposed by %s (they lose):", plural(len(e.Opposing), "path"))))
+		}
 		for _, p := range e.Opposing {
 			out = append(out, pathLines(nl, p, st)...)
 		}
