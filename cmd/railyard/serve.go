@@ -1,23 +1,107 @@
 package main
 
 import (
+	"context"
 	"fmt"
 	"io"
+	"log/slog"
+	"net"
+	"os"
+	"os/signal"
+	"path/filepath"
+	"syscall"
+	"time"
+
+	gossh "golang.org/x/crypto/ssh"
+
+	"railyard/tui/sshserve"
 )
 
 const serveUsage = `
-usage: railyard serve [...]
+usage: railyard serve --authorized-keys FILE --designs DIR [--listen ADDR]
+       [--host-key FILE] [--traces DIR] [--max-sessions N] [--idle-timeout D]
 
-Serve the explorer over SSH. Not built yet.
+Serve the explorer over SSH. Designers connect with a plain SSH client and
+a key listed in --authorized-keys (public keys only: no passwords). The SSH
+command chooses the design: NAME for DIR/NAME.sw (with its .steps beside
+it), demo:NAME for an embedded demo, nothing for a picker, and
+'join SESSION-ID' to watch someone's session read-only. Traces go under
+--traces/USER/. Connections are logged to stderr as JSON lines.
+
+examples:
+  railyard serve --authorized-keys team_keys --designs cells --traces traces
+  ssh -t -p 2222 alice@127.0.0.1 opsel
+  ssh -t -p 2222 bob@127.0.0.1 join k3m9qa
 `
 
-// cmdServe is a placeholder: the SSH server is its own piece of work and
-// replaces this file.
+// defaultHostKey is where the host key lives unless --host-key says.
+func defaultHostKey() string {
+	dir, err := os.UserConfigDir()
+	if err != nil {
+		return "railyard_host_ed25519"
+	}
+	return filepath.Join(dir, "railyard", "ssh_host_ed25519")
+}
+
 func cmdServe(args []string, stdout, stderr io.Writer) int {
 	fs := newFlags("serve", serveUsage)
-	if _, code := parseArgs(fs, args, stdout, stderr); code >= 0 {
+	var cfg sshserve.Config
+	fs.StringVar(&cfg.Listen, "listen", sshserve.DefaultListen, "the `ADDR`ess to listen on (loopback unless you mean otherwise)")
+	fs.StringVar(&cfg.AuthorizedKeys, "authorized-keys", "", "the public keys let in, one a line (`FILE`, as ssh-keygen writes them)")
+	fs.StringVar(&cfg.HostKey, "host-key", defaultHostKey(), "the server's private key `FILE`; an ed25519 key is made there (mode 600) if missing")
+	fs.StringVar(&cfg.Designs, "designs", "", "the `DIR` of .sw designs served")
+	fs.StringVar(&cfg.Traces, "traces", "", "save each session's trace under `DIR`/USER/ (none kept without it)")
+	fs.IntVar(&cfg.MaxSessions, "max-sessions", sshserve.DefaultMaxSessions, "sessions open at once (`N`); more are refused")
+	fs.DurationVar(&cfg.IdleTimeout, "idle-timeout", sshserve.DefaultIdleTimeout, "close a session after this long (`D`) without input; 0 never")
+	fs.BoolVar(&cfg.NoAuth, "no-auth", false, "let anyone in: only on a loopback address, for trying it out")
+	pos, code := parseArgs(fs, args, stdout, stderr)
+	if code >= 0 {
 		return code
 	}
-	fmt.Fprintln(stderr, "railyard serve: not built yet")
-	return exitUsage
+	if len(pos) > 0 {
+		return usageError(stderr, "serve", "unexpected argument %q (the design is chosen by the SSH command)", pos[0])
+	}
+	if cfg.MaxSessions <= 0 {
+		return usageError(stderr, "serve", "--max-sessions must be at least 1")
+	}
+	if cfg.IdleTimeout < 0 {
+		return usageError(stderr, "serve", "--idle-timeout must not be negative")
+	}
+	cfg.Logger = slog.New(slog.NewJSONHandler(stderr, nil))
+	srv, err := sshserve.New(cfg)
+	if err != nil {
+		fmt.Fprintf(stderr, "railyard serve: %v\n", err)
+		return exitUsage
+	}
+	ln, err := net.Listen("tcp", cfg.Listen)
+	if err != nil {
+		fmt.Fprintf(stderr, "railyard serve: %v\n", err)
+		return exitFail
+	}
+	host, port, _ := net.SplitHostPort(ln.Addr().String())
+	fmt.Fprintf(stdout, "railyard serve: listening on %s, host key %s\n", ln.Addr(), gossh.FingerprintSHA256(srv.HostKey()))
+	fmt.Fprintf(stdout, "connect with: ssh -t -p %s %s [DESIGN | demo:NAME | join SESSION-ID]\n", port, host)
+
+	stop := make(chan os.Signal, 1)
+	signal.Notify(stop, os.Interrupt, syscall.SIGTERM)
+	defer signal.Stop(stop)
+	done := make(chan error, 1)
+	go func() { done <- srv.Serve(ln) }()
+	select {
+	case err := <-done:
+		if err != nil {
+			fmt.Fprintf(stderr, "railyard serve: %v\n", err)
+			return exitFail
+		}
+		return exitOK
+	case <-stop:
+	}
+	// Let open sessions end for a moment, then close what is left.
+	ctx, cancel := context.WithTimeout(context.Background(), 5*time.Second)
+	defer cancel()
+	if err := srv.Shutdown(ctx); err != nil {
+		srv.Close()
+	}
+	<-done
+	return exitOK
 }

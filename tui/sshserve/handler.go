@@ -52,7 +52,8 @@ func (s *Server) handle(next ssh.Handler) ssh.Handler {
 func (s *Server) serveHost(sess ssh.Session, v *visit, name string) {
 	pty, _, _ := sess.Pty()
 	noColor, ascii := clientLooks(sess, pty.Term)
-	root := &hostModel{srv: s, sess: sess, v: v, width: pty.Window.Width, height: pty.Window.Height,
+	w, h := windowSize(pty.Window)
+	root := &hostModel{srv: s, sess: sess, v: v, width: w, height: h,
 		noColor: noColor, ascii: ascii, act: newActivity()}
 	if name == "" {
 		root.picker = newPicker(s.catalog.list(), root.width, root.height, ascii)
@@ -92,7 +93,8 @@ func (s *Server) serveViewer(sess ssh.Session, v *visit, id string) {
 	v.set(func(v *visit) { v.kind, v.id, v.design = "viewer", h.ID, h.Design })
 	pty, _, _ := sess.Pty()
 	_, ascii := clientLooks(sess, pty.Term)
-	m := newViewer(h, sess.Context().Done(), pty.Window.Width, pty.Window.Height, ascii,
+	w, ht := windowSize(pty.Window)
+	m := newViewer(h, sess.Context().Done(), w, ht, ascii,
 		func(r any) { s.logPanic(v, r, debug.Stack()) })
 	act := newActivity()
 	// A viewer watching an active host is not idle even if it types nothing.
@@ -115,6 +117,19 @@ func (s *Server) serveViewer(sess ssh.Session, v *visit, id string) {
 	if m.ended {
 		fmt.Fprintf(sess, "railyard: session %s has ended\n", h.ID)
 	}
+}
+
+// windowSize is the client's window, or 80 x 24 where it says 0 (clients
+// forced to allocate a terminal without one of their own, as ssh -tt does).
+func windowSize(w ssh.Window) (int, int) {
+	width, height := w.Width, w.Height
+	if width <= 0 {
+		width = 80
+	}
+	if height <= 0 {
+		height = 24
+	}
+	return width, height
 }
 
 // clientLooks reads what the client's environment says about its terminal.
@@ -198,7 +213,8 @@ func (s *Server) run(sess ssh.Session, v *visit, m tea.Model, act *activity, las
 				case <-done:
 				default:
 					act.touch()
-					p.Send(tea.WindowSizeMsg{Width: w.Width, Height: w.Height})
+					width, height := windowSize(w)
+					p.Send(tea.WindowSizeMsg{Width: width, Height: height})
 				}
 			case <-sess.Context().Done():
 				return

@@ -35,7 +35,9 @@ type Config struct {
 	Designs        string // the folder of .sw designs served
 	Traces         string // traces are saved under Traces/USER/; none are saved when empty
 	MaxSessions    int    // open sessions (explorers, viewers, pickers) at once; DefaultMaxSessions when 0
-	IdleTimeout    time.Duration
+	// IdleTimeout closes a session after this long without input (a viewer:
+	// without input from it or its host); 0 never does.
+	IdleTimeout time.Duration
 	// NoAuth accepts any client; it is refused unless the address is loopback.
 	NoAuth bool
 	// MaxDesignBytes bounds a served design or steps file; DefaultMaxDesignBytes when 0.
