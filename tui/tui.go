@@ -592,7 +592,7 @@ func (m *Model) run(stopOnFail bool) {
 	last := evs[len(evs)-1]
 	if last.Failed() {
 		m.report(last)
-		m.status = fmt.Sprintf("ran %s; stopped: %s", plural(len(evs), "step"), m.status)
+		m.status += fmt.Sprintf("; stopped there after %s", plural(len(evs), "step"))
 		return
 	}
 	failed := 0
@@ -848,12 +848,43 @@ func (m *Model) explain() {
 	s := m.sess
 	nl := s.Netlist()
 	e := s.Sim.Explain(m.inspect)
-	m.why.Set(nl, e, nil)
+	m.why.Set(nl, e, m.nodeWarnings(m.inspect))
 	group := make([]bool, nl.NumDevices())
 	for _, d := range groupDevices(s, m.inspect) {
 		group[d] = true
 	}
 	m.devices.SetGroup(nl.NodeName(m.inspect), group)
+}
+
+// nodeWarnings words the warnings that still stand for node n: those of the
+// latest action that solved it (changed it or warned about it), since its
+// state has not moved after that.
+func (m *Model) nodeWarnings(n int) []string {
+	hist := m.sess.History()
+	for i := len(hist) - 1; i >= 0; i-- {
+		e := hist[i]
+		var ws []string
+		for _, w := range e.Warnings {
+			if w.Node == n {
+				ws = append(ws, m.th.Warn.Render(m.th.G.Warn+" "+w.Kind)+" "+w.Message)
+			}
+		}
+		touched := len(ws) > 0
+		for _, c := range e.Changes {
+			if c.Node == n {
+				touched = true
+				break
+			}
+		}
+		if touched {
+			if len(ws) == 0 {
+				return nil
+			}
+			head := m.th.Bold.Render("Warnings since " + m.title(e) + ":")
+			return append([]string{"", head}, ws...)
+		}
+	}
+	return nil
 }
 
 // groupDevices lists the devices that are not off and join the node's group

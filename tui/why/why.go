@@ -189,6 +189,10 @@ func Lines(nl *switchsim.Netlist, e switchsim.Explanation, st Styles) []string {
 			out = append(out, pathLines(nl, p, st)...)
 		}
 	}
+	if e.Divider == nil && !math.IsNaN(e.Volts) && len(e.Winning) > 0 && len(e.Opposing) > 0 &&
+		e.Opposing[0].Strength > e.Winning[0].Strength {
+		out = append(out, st.Dim.Render("A stronger path loses: in physical mode the devices' resistances decide a fight (a divider), and this side pulls harder."))
+	}
 	if e.Contested {
 		out = append(out, st.Warn.Render(t.G.Warn+" contested: a source of the other value reaches its group"))
 	}
