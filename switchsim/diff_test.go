@@ -409,3 +409,53 @@ func TestDiffDemos(t *testing.T) {
 		})
 	}
 }
+
+// ringWithChain is an enabled three-stage ring (a NAND on en and two
+// inverters) and a chain of c inverters from en whose stage i changes in
+// round i of the settle that enables the ring.
+func ringWithChain(c int) *gen.Spec {
+	s := &gen.Spec{Inputs: []string{"en"}}
+	add := func(name string, k sw.DeviceKind, g, a, b string) {
+		s.Devices = append(s.Devices, gen.DeviceSpec{Name: name, Kind: k, Gate: g, A: a, B: b})
+	}
+	add("p0", sw.PMOS, "en", "vdd", "r0")
+	add("p0b", sw.PMOS, "r2", "vdd", "r0")
+	add("m0", sw.NMOS, "en", "r0", "x0")
+	add("m0b", sw.NMOS, "r2", "x0", "gnd")
+	add("p1", sw.PMOS, "r0", "vdd", "r1")
+	add("m1", sw.NMOS, "r0", "r1", "gnd")
+	add("p2", sw.PMOS, "r1", "vdd", "r2")
+	add("m2", sw.NMOS, "r1", "r2", "gnd")
+	prev := "en"
+	for i := 1; i <= c; i++ {
+		x := fmt.Sprintf("c%d", i)
+		add(x+".p", sw.PMOS, prev, "vdd", x)
+		add(x+".n", sw.NMOS, prev, x, "gnd")
+		prev = x
+	}
+	return s
+}
+
+// TestDiffOscillationWindow aims at the oscillation rule's window: chains
+// whose last stage stops changing near the window's edge, under round
+// limits where W = max(16, L/8) is 16 and where it is L/8 (L >= 136).
+func TestDiffOscillationWindow(t *testing.T) {
+	rng := rand.New(rand.NewPCG(9, 9))
+	limits := []int{17, 30, 136, 150, 170}
+	for i := 0; i < *diffN/1000; i++ {
+		limits = append(limits, 17+rng.IntN(250))
+	}
+	for _, limit := range limits {
+		w := max(16, limit/8)
+		c := max(1, limit-w-2+rng.IntN(6)) // the last stage changes near round L+1-W
+		spec := ringWithChain(c)
+		nl, err := compileSpec(spec)
+		if err != nil {
+			t.Fatal(err)
+		}
+		vs := []vector{{sw.Drive0}, {sw.Drive1}, {sw.Drive0}, {sw.Drive1}}
+		if m := diffRun(nl, vs, limit); m != nil {
+			t.Fatalf("ring with a chain of %d, round limit %d (%s): %s", c, limit, m.kind, m.msg)
+		}
+	}
+}

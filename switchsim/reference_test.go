@@ -133,48 +133,37 @@ type refGroup struct {
 
 func (r *refSim) groups(cond []sw.Conduction) []*refGroup {
 	nn := r.nl.NumNodes()
-	owner := make([]int, nn)
-	for i := range owner {
-		owner[i] = -1
-	}
+	taken := make([]bool, nn)
 	var gs []*refGroup
 	for start := 0; start < nn; start++ {
-		if r.isSource(start) || owner[start] >= 0 {
+		if r.isSource(start) || taken[start] {
 			continue
 		}
-		g := &refGroup{in: map[int]bool{start: true}, boundary: map[int]bool{}}
-		owner[start] = len(gs)
-		for grew := true; grew; { // naive closure: sweep all devices until nothing joins
-			grew = false
-			for di, d := range r.devs {
+		g := &refGroup{in: map[int]bool{}, boundary: map[int]bool{}}
+		devSeen := map[int]bool{}
+		queue := []int{start}
+		taken[start] = true
+		for len(queue) > 0 { // breadth first through devices not off
+			n := queue[0]
+			queue = queue[1:]
+			g.in[n] = true
+			g.nodes = append(g.nodes, n)
+			for _, di := range r.nl.ChannelDevices(n) {
 				if cond[di] == sw.Off {
 					continue
 				}
-				for _, pair := range [2][2]int{{d.A, d.B}, {d.B, d.A}} {
-					if g.in[pair[0]] && !r.isSource(pair[1]) && !g.in[pair[1]] {
-						g.in[pair[1]] = true
-						owner[pair[1]] = len(gs)
-						grew = true
-					}
+				if !devSeen[di] {
+					devSeen[di] = true
+					g.devs = append(g.devs, di)
+					g.unknown = g.unknown || cond[di] == sw.Unknown
 				}
-			}
-		}
-		for n := 0; n < nn; n++ {
-			if g.in[n] {
-				g.nodes = append(g.nodes, n)
-			}
-		}
-		for di, d := range r.devs {
-			if cond[di] == sw.Off || !(g.in[d.A] || g.in[d.B]) {
-				continue
-			}
-			g.devs = append(g.devs, di)
-			if cond[di] == sw.Unknown {
-				g.unknown = true
-			}
-			for _, t := range []int{d.A, d.B} {
-				if r.isSource(t) {
-					g.boundary[t] = true
+				m := r.nl.Other(di, n)
+				switch {
+				case r.isSource(m):
+					g.boundary[m] = true
+				case !taken[m]:
+					taken[m] = true
+					queue = append(queue, m)
 				}
 			}
 		}
