@@ -1309,7 +1309,7 @@ func asciiReplacer() *strings.Replacer {
 	// one cell for one cell, so that the widths the layout computed still hold
 	return strings.NewReplacer(
 		"↑", "^", "↓", "v", "←", "<", "→", ">", "…", "~", "•", "*", "·", ".",
-		"─", "-", "│", "|", "▸", ">", "▶", ">", "✓", "+", "✗", "!", "◆", "w", "◇", "#", "▏", "_",
+		"─", "-", "│", "|", "▸", ">", "▶", ">", "✓", "+", "✗", "!", "◆", "@", "◇", "#", "▏", "_",
 	)
 }
 

@@ -179,7 +179,7 @@ func (m *Model) View() string {
 	if len(m.inputs) == 0 {
 		lines = append(lines, st.Dim.Render("   this design has no inputs"))
 	}
-	nameW := max(min(m.maxName(), m.w-16), 4)
+	nameW := max(min(m.maxName(), m.w-17), 4)
 	lo, hi := m.cur.Window()
 	for i := lo; i < hi; i++ {
 		n := m.inputs[i]
@@ -200,6 +200,7 @@ func (m *Model) View() string {
 		} else {
 			b.WriteByte(' ')
 		}
+		b.WriteByte(' ')
 		name := t.Clip(m.nl.NodeName(n), nameW)
 		name += strings.Repeat(" ", nameW-lipgloss.Width(name))
 		ns := st.Name

@@ -255,8 +255,8 @@ func (m *Model) View() string {
 	}
 	lines = append(lines, t.TitleBar("Nodes", info, m.focused, m.w))
 	// columns: marks(3) name state value strength volts
-	nameW := min(max(m.w-3-2-2-7-6, 6), max(m.nameMax, 4))
-	lines = append(lines, st.Header.Render(fmt.Sprintf("   %-*s %s %s %-6s %5s", nameW, "name", "s", "v", "str", "volts")))
+	nameW := min(max(m.w-4-2-2-7-6, 6), max(m.nameMax, 4))
+	lines = append(lines, st.Header.Render(fmt.Sprintf("    %-*s %s %s %-6s %5s", nameW, "name", "s", "v", "str", "volts")))
 	if len(m.rows) == 0 {
 		msg := "no nodes"
 		if m.filter.Active() {
@@ -293,6 +293,7 @@ func (m *Model) line(n int, sel bool, nameW int) string {
 	b.WriteString(cur)
 	b.WriteString(mark(at(m.changed, n), g.Changed, st.Changed))
 	b.WriteString(mark(at(m.watched, n), g.Watched, st.Watched))
+	b.WriteByte(' ')
 	name := t.Clip(m.nl.NodeName(n), nameW)
 	name += strings.Repeat(" ", nameW-lipgloss.Width(name))
 	if n < len(m.states) {

@@ -199,7 +199,12 @@ func (m *Model) View() string {
 		rest = max(rest, lipgloss.Width(s.Apply)+3+lipgloss.Width(s.Want))
 	}
 	labelW := min(max(m.maxLabel(), 5), max(m.w-6-numW-rest, m.w/3, 8))
-	lines = append(lines, st.Header.Render(fmt.Sprintf("    %*s %-*s %s", numW, "#", labelW, "label", "apply | want")))
+	if m.maxLabel() == 0 {
+		labelW = -1 // no labels: no column (and no space after the number)
+		lines = append(lines, st.Header.Render(fmt.Sprintf("    %*s %s", numW, "#", "apply | want")))
+	} else {
+		lines = append(lines, st.Header.Render(fmt.Sprintf("    %*s %-*s %s", numW, "#", labelW, "label", "apply | want")))
+	}
 	lo, hi := m.cur.Window()
 	for i := lo; i < hi; i++ {
 		s := m.steps[i]
@@ -226,9 +231,15 @@ func (m *Model) View() string {
 		default:
 			b.WriteByte(' ')
 		}
-		label := t.Clip(s.Label, labelW)
-		label += strings.Repeat(" ", labelW-lipgloss.Width(label))
-		num := fmt.Sprintf(" %*d ", numW, i+1)
+		label := ""
+		if labelW > 0 {
+			label = t.Clip(s.Label, labelW)
+			label += strings.Repeat(" ", labelW-lipgloss.Width(label))
+		}
+		num := fmt.Sprintf(" %*d", numW, i+1)
+		if labelW > 0 {
+			num += " "
+		}
 		if sel && m.focused {
 			b.WriteString(st.Selected.Render(num + label))
 		} else {

@@ -44,7 +44,7 @@ func unicodeGlyphs() Glyphs {
 // ASCII glyphs for terminals and fonts that cannot show anything else.
 func asciiGlyphs() Glyphs {
 	return Glyphs{
-		Cursor: ">", Changed: "*", Watched: "w", Group: "#", Pass: "+", Fail: "!", Warn: "!",
+		Cursor: ">", Changed: "*", Watched: "@", Group: "#", Pass: "+", Fail: "!", Warn: "!",
 		Next: ">", Arrow: "->", Rule: "-", Bar: "|", Ellipsis: "~", Cell: ".",
 		Wave: [6]string{"_", "#", ".", "^", "-", "x"},
 	}

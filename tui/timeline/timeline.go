@@ -153,7 +153,7 @@ func (m *Model) View() string {
 			st.Dim.Render("Press m on a node or an input to watch it here."),
 		}, m.w, m.h)
 	}
-	avail := m.w - nameW - 2 - 2 // name, gap, the present state
+	avail := m.w - nameW - 3 - 2 // cursor, name, gap, the present state
 	cell := 2
 	if len(m.cols)*2 > avail {
 		cell = 1
@@ -168,11 +168,11 @@ func (m *Model) View() string {
 	if start > 0 || end < len(m.cols)-1 {
 		info += fmt.Sprintf(", showing %d-%d", start, end)
 	}
-	lines := []string{st.Dim.Render(t.Clip("timeline  "+info+"  (0 start, + set, digit: step)", m.w))}
+	lines := []string{st.Dim.Render(t.Clip(info+"; marks: 0 start, + set, N step N", m.w))}
 
 	var marks, fails strings.Builder
-	marks.WriteString(strings.Repeat(" ", nameW+2))
-	fails.WriteString(strings.Repeat(" ", nameW+2))
+	marks.WriteString(strings.Repeat(" ", nameW+3))
+	fails.WriteString(strings.Repeat(" ", nameW+3))
 	anyFail := false
 	for c := start; c <= end; c++ {
 		marks.WriteString(theme.Pad(m.cols[c].Mark, cell))
@@ -191,9 +191,9 @@ func (m *Model) View() string {
 		name := t.Clip(m.nl.NodeName(n), nameW)
 		name += strings.Repeat(" ", nameW-lipgloss.Width(name))
 		if i == m.cur.Pos && m.focused {
-			b.WriteString(g.Cursor + " " + st.Selected.Render(name))
+			b.WriteString(g.Cursor + " " + st.Selected.Render(name) + " ")
 		} else {
-			b.WriteString("  " + name)
+			b.WriteString("  " + name + " ")
 		}
 		// runs of one state are drawn together: one style switch per run
 		var last switchsim.State
