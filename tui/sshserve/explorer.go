@@ -14,14 +14,18 @@ type explorer struct{ *tui.Model }
 
 func (e explorer) Update(msg tea.Msg) (tea.Model, tea.Cmd) {
 	m, cmd := e.Model.Update(msg)
+	// The explorer returns itself; anything else would lose the save guard,
+	// so it is not taken.
 	if tm, ok := m.(*tui.Model); ok {
 		e.Model = tm
-		return e, cmd
 	}
-	return m, cmd
+	return e, cmd
 }
 
 func (e explorer) SaveTrace(path string) error { return e.Session().SaveTrace(path) }
+
+// SaveKeys are the keys that open the explorer's save prompt.
+func (e explorer) SaveKeys() []string { return tui.DefaultKeyMap().Save.Keys() }
 
 // openExplorer opens a session on the resolved design and builds the explorer.
 func openExplorer(r ExplorerRequest) (tea.Model, error) {

@@ -7,6 +7,7 @@ import (
 	"os"
 	"path/filepath"
 	"runtime/debug"
+	"slices"
 	"strings"
 	"sync/atomic"
 	"time"
@@ -334,15 +335,14 @@ func (m *hostModel) end() {
 }
 
 // Saver is what an explorer model offers for its trace to be kept. A
-// served explorer never asks the user for a path: the server picks it.
+// served explorer never asks the user for a path: the server picks it. The
+// save keys are taken before the model sees them, so its own save prompt
+// (which would take any path on the server) never opens; the price is that
+// those keys cannot be typed into the explorer's filters.
 type Saver interface {
 	SaveTrace(path string) error
+	SaveKeys() []string
 }
-
-// saveKey saves the trace in a served explorer. The key is taken before the
-// explorer sees it, so the explorer's own save prompt, which takes any path
-// on the server, never opens (and s cannot be typed into a filter).
-const saveKey = "s"
 
 // save writes the whole session's trace to the served path, if any.
 func (m *hostModel) save() error {
@@ -395,8 +395,8 @@ func (m *hostModel) Update(msg tea.Msg) (model tea.Model, cmd tea.Cmd) {
 	if m.inner != nil {
 		if k, ok := msg.(tea.KeyMsg); ok {
 			m.notice = ""
-			if k.String() == saveKey {
-				if _, ok := m.inner.(Saver); ok {
+			if sv, ok := m.inner.(Saver); ok {
+				if slices.Contains(sv.SaveKeys(), k.String()) {
 					m.notice = "this server keeps no traces"
 					if m.tracePath != "" {
 						m.notice = "trace saved as " + m.traceRel

@@ -293,6 +293,8 @@ func readFakeDesign(p string) ([]byte, error) {
 
 func (m *fakeModel) Init() tea.Cmd { return nil }
 
+func (m *fakeModel) SaveKeys() []string { return []string{"s"} }
+
 // SaveTrace writes the toggle count, as a stand-in for a trace.
 func (m *fakeModel) SaveTrace(path string) error {
 	return os.WriteFile(path, []byte(fmt.Sprintf("fake trace, sel=%v\n", m.on)), 0o644)

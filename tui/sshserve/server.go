@@ -15,6 +15,8 @@ import (
 	"github.com/charmbracelet/lipgloss"
 	"github.com/charmbracelet/ssh"
 	gossh "golang.org/x/crypto/ssh"
+
+	"railyard/switchsim/netfile"
 )
 
 // Defaults for the options a Config leaves zero.
@@ -22,9 +24,6 @@ const (
 	DefaultListen      = "127.0.0.1:2222"
 	DefaultMaxSessions = 16
 	DefaultIdleTimeout = 15 * time.Minute
-	// DefaultMaxDesignBytes bounds the design and steps files a served
-	// session reads, so one session's memory stays bounded by the file sizes.
-	DefaultMaxDesignBytes = 4 << 20
 )
 
 // Config is what a server is built from.
@@ -40,7 +39,9 @@ type Config struct {
 	IdleTimeout time.Duration
 	// NoAuth accepts any client; it is refused unless the address is loopback.
 	NoAuth bool
-	// MaxDesignBytes bounds a served design or steps file; DefaultMaxDesignBytes when 0.
+	// MaxDesignBytes bounds a served design or steps file; the design
+	// reader's own file limit when 0. With the reader's device limit it
+	// bounds what one session loads.
 	MaxDesignBytes int64
 	Logger         *slog.Logger // connection log; JSON to stderr when nil
 
@@ -93,7 +94,7 @@ func New(cfg Config) (*Server, error) {
 		return nil, fmt.Errorf("--idle-timeout must not be negative, got %s", cfg.IdleTimeout)
 	}
 	if cfg.MaxDesignBytes == 0 {
-		cfg.MaxDesignBytes = DefaultMaxDesignBytes
+		cfg.MaxDesignBytes = int64(netfile.DefaultLimits().FileSize)
 	}
 	if cfg.Logger == nil {
 		cfg.Logger = slog.New(slog.NewJSONHandler(os.Stderr, nil))

@@ -503,3 +503,18 @@ func TestBadUserNames(t *testing.T) {
 		t.Error("a user name with a path was let in")
 	}
 }
+
+func TestOversizedDesignRefused(t *testing.T) {
+	ts := startServer(t, 1, func(c *Config) { c.MaxDesignBytes = 64 })
+	ts.writeDesign(t, "big.sw", opsel+strings.Repeat("# padding\n", 10))
+	ts.writeDesign(t, "small.sw", opsel)
+	tm := ts.open(t, ts.keys[0], "alice", "big", 80, 24)
+	if st := tm.exit(); st != 1 {
+		t.Fatalf("exit status %d, want 1", st)
+	}
+	if !strings.Contains(tm.text(), "over the served limit of 64") {
+		t.Errorf("no size refusal in %q", tm.text())
+	}
+	ok := ts.open(t, ts.keys[0], "alice", "small", 80, 24)
+	ok.waitFor("fake explorer on small")
+}
