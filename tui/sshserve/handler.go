@@ -65,22 +65,22 @@ func (s *Server) serveHost(sess ssh.Session, v *visit, name string) {
 		}
 	}
 	defer root.end()
-	status, reason := s.run(sess, v, root, root.act, root.act.last)
-	if root.failed.Load() {
+	msg, reason := s.run(sess, v, root, root.act, root.act.last)
+	if root.failed.Load() || reason == "panic" {
 		fail(sess, v, "panic", "internal error; this session is closed (the others go on)")
 		return
 	}
-	if reason != "" {
-		fail(sess, v, reason, status)
-		return
-	}
-	// As the explorer does on a local terminal: the whole session's trace is kept on quit.
+	// As the explorer does on a local terminal, the whole session's trace
+	// is kept when it ends, also when the server ends it (idle).
 	if err := root.save(); err != nil {
 		fail(sess, v, "trace", err.Error())
 		return
 	}
 	if root.saved {
 		fmt.Fprintf(sess, "railyard: trace saved as %s\n", root.traceRel)
+	}
+	if reason != "" {
+		fail(sess, v, reason, msg)
 	}
 }
 
@@ -106,13 +106,12 @@ func (s *Server) serveViewer(sess ssh.Session, v *visit, id string) {
 		}
 		return own
 	}
-	status, reason := s.run(sess, v, m, act, last)
+	msg, reason := s.run(sess, v, m, act, last)
 	if m.failed.Load() {
-		fail(sess, v, "panic", "internal error; this session is closed (the others go on)")
-		return
+		reason, msg = "panic", "internal error; this session is closed (the others go on)"
 	}
 	if reason != "" {
-		fail(sess, v, reason, status)
+		fail(sess, v, reason, msg)
 		return
 	}
 	if m.ended {
