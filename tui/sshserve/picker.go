@@ -36,7 +36,12 @@ type picker struct {
 }
 
 func newPicker(names []string, width, height int, ascii bool) *picker {
-	return &picker{keys: DefaultPickerKeyMap(), names: names, width: width, height: height, ascii: ascii}
+	keys := DefaultPickerKeyMap()
+	if ascii {
+		keys.Up.SetHelp("up/k", "up")
+		keys.Down.SetHelp("down/j", "down")
+	}
+	return &picker{keys: keys, names: names, width: width, height: height, ascii: ascii}
 }
 
 func (p *picker) update(msg tea.Msg) tea.Cmd {
