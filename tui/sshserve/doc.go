@@ -13,5 +13,8 @@
 // only ever draws the latest frame it got. A viewer holds no reference to the
 // host's session, so it is read-only by construction, and a slow viewer can
 // never hold up the host (publishing replaces the frame and wakes waiters; it
-// never blocks).
+// never blocks). The explorer also has a shared-session mode (tui.Options
+// Lock, OnChange and ReadOnly); the server does not use it, so that a
+// viewer's harmlessness does not rest on every key check in the explorer. The
+// cost: a viewer sees the host's layout, clipped to its own window.
 package sshserve

@@ -274,11 +274,9 @@ type fakeModel struct {
 }
 
 func fakeExplorer(r ExplorerRequest) (tea.Model, error) {
-	src, err := readFakeDesign(r.Design)
-	if err != nil {
+	if _, err := readFakeDesign(r.Design); err != nil {
 		return nil, err
 	}
-	_ = src
 	return &fakeModel{req: r, w: r.Width, h: r.Height}, nil
 }
 
