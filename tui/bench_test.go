@@ -55,7 +55,8 @@ func bigSession(tb testing.TB) *session.Session {
 // colour (256 colours), on each view.
 func BenchmarkView(b *testing.B) {
 	s := bigSession(b)
-	r := lipgloss.NewRenderer(io.Discard, termenv.WithProfile(termenv.ANSI256))
+	r := lipgloss.NewRenderer(io.Discard)
+	r.SetColorProfile(termenv.ANSI256) // explicit: a renderer on a non-terminal detects no colour
 	m := New(s, 120, 40, Options{Renderer: r})
 	press(m, "space", "tab", "down", "down", "m")
 	for _, v := range []struct {
@@ -82,7 +83,8 @@ func (c *countingWriter) Write(p []byte) (int, error) { c.n.Add(int64(len(p))); 
 func BenchmarkToggleBytes(b *testing.B) {
 	s := bigSession(b)
 	out := &countingWriter{}
-	r := lipgloss.NewRenderer(io.Discard, termenv.WithProfile(termenv.ANSI256))
+	r := lipgloss.NewRenderer(io.Discard)
+	r.SetColorProfile(termenv.ANSI256) // explicit: a renderer on a non-terminal detects no colour
 	in, feed := io.Pipe()
 	p := tea.NewProgram(New(s, 120, 40, Options{Renderer: r}), tea.WithInput(in), tea.WithOutput(out), tea.WithoutSignals())
 	var wg sync.WaitGroup

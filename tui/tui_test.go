@@ -3,9 +3,11 @@ package tui
 import (
 	"bytes"
 	"flag"
+	"io"
 	"os"
 	"path/filepath"
 	"strings"
+	"sync"
 	"testing"
 
 	tea "github.com/charmbracelet/bubbletea"
@@ -80,7 +82,9 @@ func typeText(m *Model, s string) {
 	}
 }
 
-// checkScreen asserts the frame is exactly w x h cells.
+// checkScreen asserts the frame has h lines of at most w cells (trailing
+// spaces are trimmed), and that the two columns line up: the divider is in
+// the same cell on every body line.
 func checkScreen(t *testing.T, view string, w, h int) {
 	t.Helper()
 	lines := strings.Split(view, "\n")
@@ -88,8 +92,24 @@ func checkScreen(t *testing.T, view string, w, h int) {
 		t.Fatalf("screen has %d lines, want %d", len(lines), h)
 	}
 	for i, l := range lines {
-		if n := ansi.StringWidth(l); n != w {
-			t.Fatalf("line %d is %d cells wide, want %d: %q", i+1, n, w, l)
+		if n := ansi.StringWidth(l); n > w {
+			t.Fatalf("line %d is %d cells wide, more than %d: %q", i+1, n, w, l)
+		}
+	}
+	col := func(l string) int {
+		p := strings.Index(ansi.Strip(l), "│")
+		if p < 0 {
+			return -1
+		}
+		return ansi.StringWidth(ansi.Strip(l)[:p])
+	}
+	if h < 4 || col(lines[1]) < 0 {
+		return // the help page or the too-small notice: no columns
+	}
+	want := col(lines[1])
+	for i := 1; i < h-2; i++ {
+		if c := col(lines[i]); c != want {
+			t.Fatalf("line %d has the divider at cell %d, line 2 at %d:\n%s", i+1, c, want, view)
 		}
 	}
 }
@@ -418,5 +438,44 @@ func TestGolden(t *testing.T) {
 			checkScreen(t, v, c.w, c.h)
 			golden.RequireEqual(t, []byte(v))
 		})
+	}
+}
+
+// With NoColor on a 256-colour renderer, no colour sequence is written
+// (NO_COLOR, no-color.org: "prevent the addition of ANSI color"); with colour
+// on, the states are coloured.
+func TestNoColor(t *testing.T) {
+	s := openFixture(t)
+	r := lipgloss.NewRenderer(io.Discard)
+	r.SetColorProfile(termenv.ANSI256) // explicit: a renderer on a non-terminal detects no colour
+	m := New(s, 120, 40, Options{NoColor: true, Renderer: r})
+	press(m, "n", "f")
+	for _, k := range []string{"r", "v", "w", "d", "t", "l"} {
+		press(m, k)
+		if v := m.View(); strings.Contains(v, "[38;") || strings.Contains(v, "[48;") {
+			t.Fatalf("view %s writes colour with NoColor", k)
+		}
+	}
+	c := New(s, 120, 40, Options{Renderer: r})
+	if v := c.View(); !strings.Contains(v, "[38;5;") {
+		t.Error("with colour on, nothing is coloured")
+	}
+}
+
+// A viewer sharing the session with a lock sees the owner's change after
+// Refresh, and OnChange fires after the owner's change.
+func TestSharedSession(t *testing.T) {
+	s := openFixture(t)
+	var mu sync.Mutex
+	changes := 0
+	owner := New(s, 80, 24, Options{Lock: &mu, OnChange: func() { changes++ }})
+	viewer := New(s, 80, 24, Options{Lock: &mu, ReadOnly: true})
+	press(owner, "n")
+	if changes != 1 {
+		t.Fatalf("OnChange ran %d times for one step, want 1", changes)
+	}
+	viewer.Update(Refresh{})
+	if !strings.Contains(viewer.View(), "step 1/4") {
+		t.Errorf("viewer does not show the owner's step:\n%s", viewer.View())
 	}
 }

@@ -227,7 +227,7 @@ func (m *Model) View() string {
 		}
 		inGroup := d < len(m.group) && m.group[d]
 		if inGroup {
-			b.WriteString(st.Group.Render(g.Group))
+			b.WriteString(t.Mark(&m.Styles.Group, g.Group))
 		} else {
 			b.WriteByte(' ')
 		}
@@ -257,11 +257,11 @@ func (m *Model) View() string {
 		}
 		switch c {
 		case switchsim.On:
-			b.WriteString(st.On.Render("on "))
+			b.WriteString(t.Mark(&m.Styles.On, "on "))
 		case switchsim.Off:
-			b.WriteString(st.Off.Render("off"))
+			b.WriteString(t.Mark(&m.Styles.Off, "off"))
 		default:
-			b.WriteString(st.Unknown.Render("X? "))
+			b.WriteString(t.Mark(&m.Styles.Unknown, "X? "))
 		}
 		b.WriteByte(' ')
 		b.WriteString(m.nl.NodeName(dv.A) + g.Rule + m.nl.NodeName(dv.B))

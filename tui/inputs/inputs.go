@@ -191,12 +191,12 @@ func (m *Model) View() string {
 			b.WriteByte(' ')
 		}
 		if n < len(m.changed) && m.changed[n] {
-			b.WriteString(st.Changed.Render(g.Changed))
+			b.WriteString(t.Mark(&m.Styles.Changed, g.Changed))
 		} else {
 			b.WriteByte(' ')
 		}
 		if n < len(m.watched) && m.watched[n] {
-			b.WriteString(st.Watched.Render(g.Watched))
+			b.WriteString(t.Mark(&m.Styles.Watched, g.Watched))
 		} else {
 			b.WriteByte(' ')
 		}
@@ -209,7 +209,7 @@ func (m *Model) View() string {
 		}
 		b.WriteString(ns.Render(name))
 		b.WriteString(" = ")
-		b.WriteString(st.Drive.Render(m.drives[i].String()))
+		b.WriteString(t.Mark(&m.Styles.Drive, m.drives[i].String()))
 		// a driven input is what it is given; a released one floats
 		if n < len(m.states) && m.drives[i] == switchsim.DriveZ {
 			b.WriteString("  " + t.StateLetter(m.states[n].State))

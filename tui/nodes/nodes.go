@@ -77,6 +77,7 @@ type Model struct {
 	order   []int // outputs, then internal nodes by name
 	nout    int
 	nameMax int
+	isOut   []bool
 	states  []switchsim.NodeState
 	changed []bool
 	failing []bool
@@ -100,6 +101,7 @@ func New(nl *switchsim.Netlist, st Styles) *Model {
 		}
 	}
 	m.nout = len(m.order)
+	m.isOut = isOut
 	var rest []int
 	for n := 0; n < nl.NumNodes(); n++ {
 		if nl.NodeKind(n) == switchsim.Internal && !isOut[n] {
@@ -279,9 +281,9 @@ func (m *Model) View() string {
 func (m *Model) line(n int, sel bool, nameW int) string {
 	st, t := m.Styles, m.Styles.Theme
 	g := t.G
-	mark := func(on bool, glyph string, s lipgloss.Style) string {
+	mark := func(on bool, glyph string, s *lipgloss.Style) string {
 		if on {
-			return s.Render(glyph)
+			return t.Mark(s, glyph)
 		}
 		return " "
 	}
@@ -291,21 +293,21 @@ func (m *Model) line(n int, sel bool, nameW int) string {
 	}
 	var b strings.Builder
 	b.WriteString(cur)
-	b.WriteString(mark(at(m.changed, n), g.Changed, st.Changed))
-	b.WriteString(mark(at(m.watched, n), g.Watched, st.Watched))
+	b.WriteString(mark(at(m.changed, n), g.Changed, &m.Styles.Changed))
+	b.WriteString(mark(at(m.watched, n), g.Watched, &m.Styles.Watched))
 	b.WriteByte(' ')
 	name := t.Clip(m.nl.NodeName(n), nameW)
 	name += strings.Repeat(" ", nameW-lipgloss.Width(name))
 	if n < len(m.states) {
 		ns := m.states[n]
-		nameStyle := st.Name
-		if m.isOutput(n) {
-			nameStyle = st.Output
+		switch {
+		case sel && m.focused:
+			b.WriteString(st.Selected.Render(name))
+		case m.isOutput(n):
+			b.WriteString(st.Output.Render(name))
+		default:
+			b.WriteString(name) // plain: no style to draw
 		}
-		if sel && m.focused {
-			nameStyle = st.Selected
-		}
-		b.WriteString(nameStyle.Render(name))
 		b.WriteByte(' ')
 		b.WriteString(t.StateLetter(ns.State))
 		b.WriteByte(' ')
@@ -316,19 +318,12 @@ func (m *Model) line(n int, sel bool, nameW int) string {
 		b.WriteString(name)
 	}
 	if at(m.failing, n) {
-		b.WriteString(" " + st.Fail.Render(g.Fail))
+		b.WriteString(" " + t.Mark(&m.Styles.Fail, g.Fail))
 	}
 	return b.String()
 }
 
-func (m *Model) isOutput(n int) bool {
-	for _, o := range m.order[:m.nout] {
-		if o == n {
-			return true
-		}
-	}
-	return false
-}
+func (m *Model) isOutput(n int) bool { return at(m.isOut, n) }
 
 func at(b []bool, i int) bool { return i >= 0 && i < len(b) && b[i] }
 

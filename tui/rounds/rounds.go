@@ -243,13 +243,13 @@ func (m *Model) View() string {
 	for r := first; r <= last; r++ {
 		label := fmt.Sprintf("%-2d", r%100)
 		if r == m.replay {
-			hd.WriteString(st.Current.Render(label))
+			hd.WriteString(t.Mark(&m.Styles.Current, label))
 		} else {
-			hd.WriteString(st.Header.Render(label))
+			hd.WriteString(label)
 		}
 	}
 	hd.WriteString(" now")
-	lines = append(lines, st.Header.Render(hd.String()))
+	lines = append(lines, hd.String())
 
 	m.scroll.SetHeight(m.h - len(lines) - 1)
 	lo, hi := m.scroll.Offset, min(m.scroll.Offset+m.scroll.Height, len(m.rows))
@@ -257,7 +257,7 @@ func (m *Model) View() string {
 		var b strings.Builder
 		_, hit := r.at[m.replay]
 		if hit && m.replay > 0 {
-			b.WriteString(st.Changed.Render(g.Changed))
+			b.WriteString(t.Mark(&m.Styles.Changed, g.Changed))
 		} else {
 			b.WriteByte(' ')
 		}
@@ -271,9 +271,9 @@ func (m *Model) View() string {
 		b.WriteByte(' ')
 		now := r.before
 		if r.known {
-			b.WriteString(t.StateLetter(r.before) + "   ")
+			b.WriteString(r.before.String() + "   ")
 		} else {
-			b.WriteString(st.Dim.Render("?") + "   ")
+			b.WriteString("?   ")
 		}
 		for rd := 1; rd <= s.Rounds; rd++ {
 			stt, ok := r.at[rd]
@@ -286,14 +286,16 @@ func (m *Model) View() string {
 			switch {
 			case rd > m.replay:
 				b.WriteString("  ")
-			case ok:
+			case ok && rd == m.replay:
 				b.WriteString(t.StateLetter(stt) + " ")
+			case ok:
+				b.WriteString(stt.String() + " ")
 			default:
-				b.WriteString(st.Dim.Render(g.Cell) + " ")
+				b.WriteString(g.Cell + " ")
 			}
 		}
 		if !r.known && now == r.before && m.replay < r.first {
-			b.WriteString(" " + st.Dim.Render("?"))
+			b.WriteString(" ?")
 		} else {
 			b.WriteString(" " + t.StateLetter(now))
 		}

@@ -87,6 +87,22 @@ type Theme struct {
 	Accent                lipgloss.Style
 	State                 [6]lipgloss.Style // by switchsim.State
 	Header, Status, Error lipgloss.Style
+
+	// rendered once: drawing the same few glyphs thousands of times a
+	// frame through lipgloss costs more than the rest of a frame
+	letters [6]string
+	waves   map[waveKey]string
+	marks   map[markKey]string
+}
+
+type waveKey struct {
+	s switchsim.State
+	n int
+}
+
+type markKey struct {
+	style *lipgloss.Style
+	text  string
 }
 
 // New builds a theme on a renderer (nil: lipgloss's default renderer).
@@ -141,17 +157,45 @@ func New(r *lipgloss.Renderer, noColor, ascii bool) *Theme {
 		t.State[i] = fg(c)
 	}
 	t.State[switchsim.StateX] = t.State[switchsim.StateX].Bold(true)
+	for s := range t.letters {
+		t.letters[s] = t.State[s].Render(switchsim.State(s).String())
+	}
+	t.waves = map[waveKey]string{}
+	t.marks = map[markKey]string{}
 	return t
+}
+
+// Mark renders a short, often repeated text (a glyph) in a style of the
+// theme's own or a panel's, once; style must point at a style that does
+// not change afterwards.
+func (t *Theme) Mark(style *lipgloss.Style, text string) string {
+	k := markKey{style, text}
+	if s, ok := t.marks[k]; ok {
+		return s
+	}
+	s := style.Render(text)
+	if len(t.marks) < 4096 {
+		t.marks[k] = s
+	}
+	return s
 }
 
 // StateLetter draws a state's IEEE 1164 letter in its colour.
 func (t *Theme) StateLetter(s switchsim.State) string {
-	return t.State[s].Render(s.String())
+	return t.letters[s]
 }
 
 // Wave draws n cells of a state's waveform glyph.
 func (t *Theme) Wave(s switchsim.State, n int) string {
-	return t.State[s].Render(strings.Repeat(t.G.Wave[s], n))
+	k := waveKey{s, n}
+	if w, ok := t.waves[k]; ok {
+		return w
+	}
+	w := t.State[s].Render(strings.Repeat(t.G.Wave[s], n))
+	if len(t.waves) < 4096 {
+		t.waves[k] = w
+	}
+	return w
 }
 
 // Legend explains the waveform glyphs, one pair per state.

@@ -1,0 +1,384 @@
+package tui
+
+// Layout and drawing.
+
+import (
+	"fmt"
+	"strings"
+
+	"github.com/charmbracelet/bubbles/key"
+	"github.com/charmbracelet/lipgloss"
+	"github.com/charmbracelet/x/ansi"
+
+	"railyard/tui/prompt"
+	"railyard/tui/theme"
+)
+
+// layout sizes the panels for the terminal.
+func (m *Model) layout() {
+	if m.tooSmall() {
+		return
+	}
+	bodyH := m.h - 3 // header, status, key hints
+	lw := min(max(m.w*2/5, 32), 56)
+	rw := m.w - lw - 1
+	inH := min(m.inputs.Rows(), max(bodyH/3, 3))
+	m.inputs.SetSize(lw, inH)
+	m.nodes.SetSize(lw, bodyH-inH)
+	dh := bodyH - 1 // the view bar
+	m.rounds.SetSize(rw, dh)
+	m.vectors.SetSize(rw, dh)
+	m.why.SetSize(rw, dh)
+	m.devices.SetSize(rw, dh)
+	m.timeline.SetSize(rw, dh)
+	m.log.SetSize(rw, dh)
+	m.help.Width = m.w
+}
+
+// View draws the screen.
+func (m *Model) View() string {
+	if m.w <= 0 || m.h <= 0 {
+		return ""
+	}
+	var out string
+	if m.tooSmall() {
+		out = m.smallView()
+	} else {
+		out = m.fullView()
+	}
+	if m.ascii != nil {
+		out = toASCII(m.ascii, out)
+	}
+	return trimLines(out)
+}
+
+// trimLines drops the spaces that end each line: the renderer erases the
+// rest of a short line itself, so they would only cost bytes on the wire.
+func trimLines(s string) string {
+	var b strings.Builder
+	b.Grow(len(s))
+	for i, l := range strings.Split(s, "\n") {
+		if i > 0 {
+			b.WriteByte('\n')
+		}
+		b.WriteString(strings.TrimRight(l, " "))
+	}
+	return b.String()
+}
+
+func (m *Model) smallView() string {
+	lines := []string{
+		m.th.Bold.Render("railyard"),
+		fmt.Sprintf("The terminal is %dx%d;", m.w, m.h),
+		fmt.Sprintf("the explorer needs %dx%d.", m.opt.MinWidth, m.opt.MinHeight),
+		"Enlarge the window, or press q to quit.",
+	}
+	for i, l := range lines {
+		lines[i] = ansi.Truncate(l, m.w, "")
+	}
+	return theme.Block(lines, m.w, m.h)
+}
+
+func (m *Model) fullView() string {
+	var b strings.Builder
+	b.Grow(m.w * m.h * 2)
+	b.WriteString(m.header())
+	b.WriteByte('\n')
+	bodyH := m.h - 3
+	if m.showHelp {
+		b.WriteString(m.helpView(bodyH))
+	} else {
+		left := strings.Split(m.inputs.View()+"\n"+m.nodes.View(), "\n")
+		right := strings.Split(m.viewBar()+"\n"+m.detailView(), "\n")
+		bar := m.th.Dim.Render(m.th.G.Bar)
+		for i := 0; i < bodyH; i++ {
+			if i > 0 {
+				b.WriteByte('\n')
+			}
+			if i < len(left) {
+				b.WriteString(left[i])
+			}
+			b.WriteString(bar)
+			if i < len(right) {
+				b.WriteString(right[i])
+			}
+		}
+	}
+	b.WriteByte('\n')
+	b.WriteString(m.statusLine())
+	b.WriteByte('\n')
+	b.WriteString(m.hints())
+	return b.String()
+}
+
+func (m *Model) header() string {
+	t := m.th
+	s := m.sess
+	name := s.Design.Name
+	if name == "" {
+		name = s.DesignPath
+	}
+	left := t.Header.Render("railyard") + " " + t.Dim.Render(t.G.Bar) + " " + t.Bold.Render(name)
+	if d := s.Design.Desc; d != "" {
+		left += " " + t.Dim.Render(d)
+	}
+	var right []string
+	right = append(right, t.Dim.Render(s.Opts.Mode.String()))
+	if m.numSteps > 0 {
+		right = append(right, fmt.Sprintf("step %d/%d", m.nextStep, m.numSteps))
+	}
+	if m.lastFail != "" {
+		right = append(right, t.FailBadge.Render(fmt.Sprintf(" %s FAIL %s ", t.G.Fail, m.lastFail)))
+	} else if m.failed > 0 {
+		right = append(right, t.Fail.Render(fmt.Sprintf("%s %d failed", t.G.Fail, m.failed)))
+	}
+	if m.opt.ReadOnly {
+		right = append(right, t.Warn.Render("read-only"))
+	}
+	if m.opt.Banner != "" {
+		right = append(right, t.Accent.Render(m.opt.Banner))
+	}
+	r := strings.Join(right, "  ")
+	room := m.w - lipgloss.Width(r) - 1
+	return theme.Fit(theme.Fit(left, max(room, 0))+" "+r, m.w)
+}
+
+func (m *Model) viewBar() string {
+	t := m.th
+	labels := make([]string, numViews)
+	width := 0
+	for v := View(0); v < numViews; v++ {
+		name := viewNames[v]
+		if v == ViewLog {
+			if n := m.log.Last(); n > 0 {
+				name += fmt.Sprintf("%s%d", t.G.Warn, n)
+			}
+		}
+		if v == ViewVectors && m.failed > 0 {
+			name += t.G.Fail
+		}
+		if v == m.view {
+			mark := " "
+			if m.focus == focusDetail {
+				mark = t.G.Cursor
+			}
+			name = mark + "[" + name + "]"
+			labels[v] = t.TitleFocus.Render(name)
+		} else {
+			labels[v] = t.Dim.Render(name)
+		}
+		width += lipgloss.Width(name)
+	}
+	rw := m.w - min(max(m.w*2/5, 32), 56) - 1
+	sep := "  "
+	if width+2*int(numViews-1)+1 > rw {
+		sep = " " // narrow terminals
+	}
+	return theme.Fit(" "+strings.Join(labels, sep), rw)
+}
+
+func (m *Model) detailView() string {
+	switch m.view {
+	case ViewVectors:
+		return m.vectors.View()
+	case ViewWhy:
+		return m.why.View()
+	case ViewDevices:
+		return m.devices.View()
+	case ViewTimeline:
+		return m.timeline.View()
+	case ViewLog:
+		return m.log.View()
+	}
+	return m.rounds.View()
+}
+
+func (m *Model) statusLine() string {
+	if m.prompt != nil {
+		return m.prompt.View(m.w)
+	}
+	if m.statusBad {
+		return theme.Fit(m.th.Error.Render(m.th.G.Fail+" "+m.status), m.w)
+	}
+	return theme.Fit(m.th.Status.Render(m.status), m.w)
+}
+
+// hints is the one line of keys for the focused panel, worded shorter than
+// in the help view so that it fits 80 columns.
+func (m *Model) hints() string {
+	var bs []key.Binding
+	h := func(k, desc string) { bs = append(bs, key.NewBinding(key.WithKeys(k), key.WithHelp(k, desc))) }
+	switch {
+	case m.prompt != nil:
+		bs = m.prompt.KeyMap.ShortHelp()
+		if m.prompt.Kind() == prompt.Jump {
+			bs = bs[:2]
+		}
+	case m.showHelp:
+		h("esc", "close")
+		h("← →", "pages")
+		h("q", "quit")
+	case m.nodes.Filtering() || m.devices.Filtering():
+		h("enter", "keep filter")
+		h("esc", "clear filter")
+	default:
+		switch m.focus {
+		case focusInputs:
+			if !m.opt.ReadOnly {
+				h("space", "toggle")
+				h("0 1 x z", "set")
+			}
+		case focusNodes:
+			h("enter", "why")
+			h("/", "filter")
+			h("m", "watch")
+		case focusDetail:
+			switch m.view {
+			case ViewRounds:
+				h("← →", "replay rounds")
+			case ViewVectors:
+				h("↑↓", "select")
+				h("enter", "go to step")
+			case ViewWhy, ViewLog:
+				h("↑↓", "scroll")
+			case ViewDevices:
+				h("/", "filter")
+				h("o", "group only")
+			case ViewTimeline:
+				h("← →", "scroll")
+				h("m", "unwatch")
+			}
+			h("esc", "back")
+		}
+		if m.focus != focusDetail && m.view == ViewRounds {
+			h("← →", "replay")
+		}
+		if !m.opt.ReadOnly {
+			h("n", "next")
+			h("p", "back")
+		}
+		h("tab", "panel")
+		h("?", "keys")
+		h("q", "quit")
+	}
+	return theme.Fit(m.help.ShortHelpView(bs), m.w)
+}
+
+// helpView lists every key, section by section, each drawn by bubbles
+// help as one column; the columns flow across the screen and page with the
+// arrows when they do not all fit.
+func (m *Model) helpView(h int) string {
+	t := m.th
+	nav := m.nodes.KeyMap.Nav
+	sections := []struct {
+		title string
+		keys  []key.Binding
+	}{
+		{"Steps and actions", []key.Binding{m.keys.Next, m.keys.Prev, m.keys.Jump, m.keys.RunToFail, m.keys.RunToEnd, m.keys.Save}},
+		{"Views on the right", []key.Binding{m.keys.Rounds, m.keys.Vectors, m.keys.Why, m.keys.Devices, m.keys.Timeline, m.keys.Log}},
+		{"Inputs (left, top)", []key.Binding{m.inputs.KeyMap.Toggle, m.inputs.KeyMap.Set0, m.inputs.KeyMap.Set1, m.inputs.KeyMap.SetX, m.inputs.KeyMap.SetZ, m.inputs.KeyMap.Watch}},
+		{"Nodes (left)", []key.Binding{m.nodes.KeyMap.Inspect, m.nodes.KeyMap.Filter, m.nodes.KeyMap.Watch}},
+		{"Rounds: replay the settle", []key.Binding{m.rounds.KeyMap.Prev, m.rounds.KeyMap.Next, m.rounds.KeyMap.First, m.rounds.KeyMap.Last}},
+		{"Vectors", []key.Binding{m.vectors.KeyMap.Jump}},
+		{"Devices", []key.Binding{m.devices.KeyMap.Filter, m.devices.KeyMap.GroupOnly}},
+		{"Timeline", []key.Binding{m.timeline.KeyMap.Left, m.timeline.KeyMap.Right, m.timeline.KeyMap.Unwatch}},
+		{"Save prompt", prompt.DefaultKeyMap().ShortHelp()},
+		{"Lists", []key.Binding{nav.Up, nav.Down, nav.PageUp, nav.PageDown, nav.Home, nav.End}},
+		{"Everywhere", []key.Binding{m.keys.FocusNext, m.keys.FocusPrev, m.keys.Filter, m.keys.Help, m.keys.Close, m.keys.Quit}},
+	}
+	var lines []string
+	for i, s := range sections {
+		if i > 0 {
+			lines = append(lines, "")
+		}
+		lines = append(lines, t.TitleFocus.Render(s.title))
+		for _, l := range strings.Split(m.help.FullHelpView([][]key.Binding{s.keys}), "\n") {
+			lines = append(lines, " "+l)
+		}
+	}
+	lines = append(lines, "", t.TitleFocus.Render("Reading the screen"),
+		" States: 0 1 strong, L H weak or degraded,",
+		"         Z floating (keeps its value), X unknown",
+		" "+t.G.Changed+" changed by the last settle",
+		" "+t.G.Watched+" on the timeline",
+		" "+t.G.Fail+" failed check  "+t.G.Pass+" passed",
+		" "+t.G.Group+" device in the inspected node's group",
+		" Waveforms: "+t.Legend())
+	// flow into columns of ch lines, as many side by side as fit
+	ch := h - 1
+	colW := 40
+	if m.w >= 120 {
+		colW = m.w / 3
+	}
+	perPage := max(m.w/colW, 1)
+	var cols [][]string
+	for len(lines) > 0 {
+		n := min(ch, len(lines))
+		// do not leave a section title alone at the foot of a column
+		if n < len(lines) && n > 1 && lines[n-1] != "" && !strings.HasPrefix(lines[n-1], " ") {
+			n--
+		}
+		cols = append(cols, lines[:n])
+		lines = lines[n:]
+		for len(lines) > 0 && lines[0] == "" {
+			lines = lines[1:]
+		}
+	}
+	pages := (len(cols) + perPage - 1) / perPage
+	m.helpPage = min(max(m.helpPage, 0), pages-1)
+	first := m.helpPage * perPage
+	out := make([]string, h)
+	for i := 0; i < ch; i++ {
+		var b strings.Builder
+		for c := first; c < first+perPage && c < len(cols); c++ {
+			cell := ""
+			if i < len(cols[c]) {
+				cell = cols[c][i]
+			}
+			b.WriteString(theme.Fit(cell, colW))
+		}
+		out[i] = b.String()
+	}
+	foot := "Keys (esc or ? closes)"
+	if pages > 1 {
+		foot += fmt.Sprintf("  page %d of %d: %s %s turn pages", m.helpPage+1, pages, m.rounds.KeyMap.Prev.Help().Key, m.rounds.KeyMap.Next.Help().Key)
+	}
+	out[h-1] = t.Dim.Render(foot)
+	return theme.Block(out, m.w, h)
+}
+
+func plural(n int, w string) string {
+	if n == 1 {
+		return "1 " + w
+	}
+	return fmt.Sprintf("%d %ss", n, w)
+}
+
+// asciiReplacer maps every glyph the explorer or its libraries may draw to
+// ASCII; toASCII then replaces whatever else is left (a design's
+// description in UTF-8) with '?'.
+func asciiReplacer() *strings.Replacer {
+	// one cell for one cell, so that the widths the layout computed still hold
+	return strings.NewReplacer(
+		"↑", "^", "↓", "v", "←", "<", "→", ">", "…", "~", "•", "*", "·", ".",
+		"─", "-", "│", "|", "▸", ">", "▶", ">", "✓", "+", "✗", "!", "◆", "@", "◇", "#", "▏", "_",
+	)
+}
+
+func toASCII(r *strings.Replacer, s string) string {
+	s = r.Replace(s)
+	for i := 0; i < len(s); i++ {
+		if s[i] >= 0x80 {
+			var b strings.Builder
+			for _, c := range s {
+				if c < 0x80 {
+					b.WriteRune(c)
+				} else {
+					b.WriteByte('?')
+				}
+			}
+			return b.String()
+		}
+	}
+	return s
+}
