@@ -1,4 +1,3 @@
-//go:build !wish
 
 package sshserve
 
@@ -7,6 +6,7 @@ import (
 	"time"
 
 	"github.com/charmbracelet/ssh"
+	"github.com/charmbracelet/wish"
 	gossh "golang.org/x/crypto/ssh"
 )
 
@@ -17,29 +17,27 @@ type sshSettings struct {
 	auth     ssh.PublicKeyHandler // nil: no client authentication (loopback --no-auth only)
 	connIdle time.Duration
 	failed   func(net.Conn, error)
-	chain    []func(ssh.Handler) ssh.Handler // innermost first, as wish.WithMiddleware takes them
+	chain    []func(ssh.Handler) ssh.Handler // innermost first
 }
 
-// newSSHServer builds the server the way wish.NewServer with
-// wish.WithMiddleware does. The wish root package does not compile against
-// this module's x/crypto (through keygen v0.4.2 and sshmarshal v0.1.0); with
-// keygen v0.5.4 in go.mod, chain_wish.go (build tag wish) does the same
-// through wish itself.
+// newSSHServer builds the server with wish (needs keygen v0.5.4 or later in go.mod).
 func newSSHServer(c sshSettings) (*ssh.Server, error) {
-	h := func(ssh.Session) {}
-	for _, m := range c.chain {
-		h = m(h)
+	mw := make([]wish.Middleware, len(c.chain))
+	for i, m := range c.chain {
+		mw[i] = m
 	}
-	srv := &ssh.Server{
-		Addr:                     c.addr,
-		Version:                  "railyard",
-		Handler:                  h,
-		IdleTimeout:              c.connIdle,
-		ConnectionFailedCallback: c.failed,
+	opts := []ssh.Option{
+		wish.WithAddress(c.addr),
+		wish.WithVersion("railyard"),
+		func(s *ssh.Server) error { s.AddHostKey(c.hostKey); return nil },
+		wish.WithMiddleware(mw...),
+		func(s *ssh.Server) error { s.ConnectionFailedCallback = c.failed; return nil },
 	}
-	srv.AddHostKey(c.hostKey)
+	if c.connIdle > 0 {
+		opts = append(opts, wish.WithIdleTimeout(c.connIdle))
+	}
 	if c.auth != nil {
-		srv.PublicKeyHandler = c.auth
+		opts = append(opts, wish.WithPublicKeyAuth(c.auth))
 	}
-	return srv, nil
+	return wish.NewServer(opts...)
 }
