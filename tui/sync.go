@@ -126,10 +126,18 @@ func (m *Model) explain() {
 	e := s.Sim.Explain(m.inspect)
 	m.why.Set(nl, e, m.nodeWarnings(m.inspect))
 	group := make([]bool, nl.NumDevices())
-	for _, d := range groupDevices(s, m.inspect) {
+	devs := groupDevices(s, m.inspect)
+	for _, d := range devs {
 		group[d] = true
 	}
-	m.devices.SetGroup(nl.NodeName(m.inspect), group)
+	label := nl.NodeName(m.inspect)
+	if len(devs) == 0 {
+		label += " (none: nothing conducts to it)"
+		if e.Source {
+			label = nl.NodeName(m.inspect) + " (none: it only gates)"
+		}
+	}
+	m.devices.SetGroup(label, group)
 }
 
 // nodeWarnings words the warnings that still stand for node n: those of the

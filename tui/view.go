@@ -297,8 +297,10 @@ func (m *Model) helpView(h int) string {
 		}
 	}
 	lines = append(lines, "", t.TitleFocus.Render("Reading the screen"),
-		" States: 0 1 strong, L H weak or degraded,",
-		"         Z floating (keeps its value), X unknown",
+		" 0 1  driven strong at full level",
+		" L H  weak, degraded or contested",
+		" Z    floating: keeps its stored value",
+		" X    unknown, or a fight of equals",
 		" "+t.G.Changed+" changed by the last settle",
 		" "+t.G.Watched+" on the timeline",
 		" "+t.G.Fail+" failed check  "+t.G.Pass+" passed",

@@ -187,8 +187,12 @@ func (m *Model) Update(msg tea.Msg) {
 func (m *Model) View() string {
 	st, t := m.Styles, m.Styles.Theme
 	g := t.G
-	nameW := min(max(m.nameMax, 6), max(m.w/4, 6))
+	nameW := min(max(m.nameMax, 6), max(m.w*3/10, 6))
 	gateW := max(min(m.w/5, 12), 7)
+	kindW := 6
+	if m.w < 60 {
+		kindW = 4 // nmos, pmos, pull: the channel names the rail of a pull
+	}
 	info := fmt.Sprintf("%d", len(m.search))
 	if m.filter.Active() || m.groupOnly {
 		info = fmt.Sprintf("%d of %d", len(m.rows), len(m.search))
@@ -204,7 +208,7 @@ func (m *Model) View() string {
 	}
 	lines := []string{
 		st.Dim.Render(t.Clip("devices "+info, m.w)),
-		st.Header.Render(fmt.Sprintf("  %-*s %-6s %-*s %-3s %s", nameW, "name", "kind", gateW, "gate", "is", "channel")),
+		st.Header.Render(fmt.Sprintf("  %-*s %-*s %-*s %-3s %s", nameW, "name", kindW, "kind", gateW, "gate", "is", "channel")),
 	}
 	if len(m.rows) == 0 {
 		msg := "no devices"
@@ -240,7 +244,7 @@ func (m *Model) View() string {
 			name = st.Group.Render(name)
 		}
 		b.WriteString(name)
-		fmt.Fprintf(&b, " %-6s ", kindName(dv.Kind))
+		fmt.Fprintf(&b, " %-*s ", kindW, kindName(dv.Kind, kindW))
 		gate := "-"
 		if dv.Gate >= 0 {
 			v := "?"
@@ -270,12 +274,14 @@ func (m *Model) View() string {
 	return theme.Block(lines, m.w, m.h)
 }
 
-// kindName fits a device kind in six cells.
-func kindName(k switchsim.DeviceKind) string {
-	switch k {
-	case switchsim.PullUp:
+// kindName fits a device kind in w cells (4 or 6).
+func kindName(k switchsim.DeviceKind, w int) string {
+	switch {
+	case k >= switchsim.PullUp && w < 6:
+		return "pull"
+	case k == switchsim.PullUp:
 		return "pullup"
-	case switchsim.PullDown:
+	case k == switchsim.PullDown:
 		return "pulldn"
 	}
 	return k.String()

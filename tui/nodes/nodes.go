@@ -203,7 +203,7 @@ func (m *Model) rebuild() {
 	}
 	m.cur.SetLen(len(m.rows))
 	if keep < 0 || !m.Select(keep) {
-		m.cur.Set(m.cur.Pos)
+		m.cur.Top() // the selected node was filtered out: start from the first match
 	}
 }
 
