@@ -20,7 +20,7 @@ func (m *Model) layout() {
 		return
 	}
 	bodyH := m.h - 3 // header, status, key hints
-	lw := min(max(m.w*2/5, 32), 56)
+	lw := m.leftWidth()
 	rw := m.w - lw - 1
 	inH := min(m.inputs.Rows(), max(bodyH/3, 3))
 	m.inputs.SetSize(lw, inH)
@@ -33,6 +33,14 @@ func (m *Model) layout() {
 	m.timeline.SetSize(rw, dh)
 	m.log.SetSize(rw, dh)
 	m.help.Width = m.w
+}
+
+// leftWidth is the inputs and nodes column: what their names need, at
+// least 32 cells and at most two fifths of the screen; the rest goes to the
+// detail view.
+func (m *Model) leftWidth() int {
+	need := max(m.nodes.Want(), m.inputs.Want(), 32)
+	return min(need, max(m.w*2/5, 32), 56)
 }
 
 // View draws the screen.
@@ -169,7 +177,7 @@ func (m *Model) viewBar() string {
 		}
 		width += lipgloss.Width(name)
 	}
-	rw := m.w - min(max(m.w*2/5, 32), 56) - 1
+	rw := m.w - m.leftWidth() - 1
 	sep := "  "
 	if width+2*int(numViews-1)+1 > rw {
 		sep = " " // narrow terminals

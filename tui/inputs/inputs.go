@@ -112,6 +112,10 @@ func (m *Model) SetSize(w, h int) {
 	m.cur.SetHeight(h - 1)
 }
 
+// Want is the width the bank needs for its longest name and a released
+// input's note.
+func (m *Model) Want() int { return 4 + m.maxName() + 3 + 1 + 19 }
+
 // Focus and Blur tell the bank whether keys go to it.
 func (m *Model) Focus()        { m.focused = true }
 func (m *Model) Blur()         { m.focused = false }

@@ -124,6 +124,9 @@ func (m *Model) SetSize(w, h int) {
 	m.cur.SetHeight(h - 2) // title and column heads
 }
 
+// Want is the width the board needs to show its longest name whole.
+func (m *Model) Want() int { return 4 + m.nameMax + 1 + 2 + 2 + 7 + 5 + 2 }
+
 // Focus and Blur tell the board whether keys go to it.
 func (m *Model) Focus()          { m.focused = true }
 func (m *Model) Blur()           { m.focused = false }
