@@ -109,7 +109,13 @@ func (m *Model) jump(row int) {
 // report words what an event did on the status line.
 func (m *Model) report(e *session.Event) {
 	counts := fmt.Sprintf("%s, %s", plural(e.Rounds, "round"), plural(len(e.Changes), "change"))
-	msg := m.title(e) + ": " + counts
+	// the short title: the step's label is in the rounds view, and a long
+	// one would push the counts off an 80-column line
+	short := m.title(e)
+	if e.Action.Kind == session.Step {
+		short = fmt.Sprintf("step %d", e.Action.Step+1)
+	}
+	msg := short + ": " + counts
 	if n := len(e.Warnings); n > 0 {
 		msg += ", " + plural(n, "warning") + " (l)"
 	}
