@@ -165,6 +165,9 @@ func (m *Model) View() string {
 	}
 	start := max(end-ncols+1, 0)
 	info := fmt.Sprintf("%d actions", len(m.cols))
+	if len(m.cols) > 0 && m.cols[len(m.cols)-1].States == nil {
+		info += " (states not kept for a design this large: blank)"
+	}
 	if start > 0 || end < len(m.cols)-1 {
 		info += fmt.Sprintf(", showing %d-%d", start, end)
 	}
@@ -196,24 +199,37 @@ func (m *Model) View() string {
 			b.WriteString("  " + name + " ")
 		}
 		// runs of one state are drawn together: one style switch per run
-		var last switchsim.State
+		// (a column without states, from a design too large to keep them,
+		// is drawn blank rather than as a state it did not have)
+		const none = switchsim.State(255)
+		wave := func(s switchsim.State, n int) string {
+			if s == none {
+				return strings.Repeat(" ", n)
+			}
+			return t.Wave(s, n)
+		}
+		last := none
 		run := 0
 		for c := start; c <= end; c++ {
-			s := switchsim.StateX
+			s := none
 			if n < len(m.cols[c].States) {
 				s = m.cols[c].States[n].State
 			}
 			if run > 0 && s != last {
-				b.WriteString(t.Wave(last, run*cell))
+				b.WriteString(wave(last, run*cell))
 				run = 0
 			}
 			last = s
 			run++
 		}
 		if run > 0 {
-			b.WriteString(t.Wave(last, run*cell))
+			b.WriteString(wave(last, run*cell))
 		}
-		b.WriteString(" " + t.StateLetter(last))
+		if last != none {
+			b.WriteString(" " + t.StateLetter(last))
+		} else {
+			b.WriteString(" ?")
+		}
 		lines = append(lines, b.String())
 	}
 	if anyFail {
