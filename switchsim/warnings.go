@@ -73,7 +73,7 @@ func (s *Sim) Message(w Warning) string {
 	case WarnOscillation:
 		return fmt.Sprintf("%s was still changing after %d rounds: set to X", node, s.limit)
 	case WarnDegraded:
-		return fmt.Sprintf("%s is a degraded %s%s: the level was lost through %s", node, s.val[w.Node], volts, dev(w.Device))
+		return fmt.Sprintf("%s is a degraded %s%s: a threshold drop through %s", node, s.val[w.Node], volts, dev(w.Device))
 	case WarnLevelLost:
 		return fmt.Sprintf("%s is X: its estimated level%s is in the undefined band, last dropped by %s", node, volts, dev(w.Device))
 	case WarnPartialOn:
