@@ -84,20 +84,25 @@ type physState struct {
 	dmark []uint32 // device -> gen when listed in a part
 
 	comps []physComp
-	cn    []int32 // nodes of the parts, part after part
+	cn    []int32 // nodes of the parts, part after part (with devices of unknown state)
 	ce    []int32 // devices that are on, part after part
-	heap  physHeap
-	order []int32
+	heap   physHeap
+	order  []int32
+	sorder []int32 // level searches' visiting order, part after part
 	net   physNet
 }
 
 // physComp is one part of a group: nodes joined by devices that are on.
 type physComp struct {
-	n0, n1 int32   // nodes cn[n0:n1]
-	e0, e1 int32   // devices ce[e0:e1]
+	nodes  []int32 // in g.nodes or cn
+	devs   []int32 // devices that are on, in g.devs or ce
 	has    [3]bool // values of the sources it touches
 	degr   [2]bool // it holds a device that can degrade a 0 (pMOS) / a 1 (nMOS)
 	tree   [2]bool // the delay tree for value v is built
+	// the level search's tree serves as the delay tree of value sval
+	stree  bool
+	sval   Value
+	o0, o1 int32 // its nodes in the order reached, sorder[o0:o1]
 }
 
 type physSnapshot struct {
@@ -252,7 +257,7 @@ func (s *Sim) physGroup(g *group) {
 		case !cp.has[V0] && !cp.has[V1] && !cp.has[VX]:
 			s.physCharge(g, int32(c))
 		case cp.has[VX] && !cp.has[V0] && !cp.has[V1]:
-			for _, n := range p.cn[cp.n0:cp.n1] {
+			for _, n := range cp.nodes {
 				i := s.groupIndex(g, n)
 				g.nvolts[i] = math.NaN()
 				s.phys.info[n] = noPhysNode()
@@ -285,15 +290,13 @@ func (s *Sim) physParts(g *group) {
 	nl := s.nl
 	p := &s.phys
 	p.comps = p.comps[:0]
-	p.cn, p.ce = p.cn[:0], p.ce[:0]
+	p.cn, p.ce, p.sorder = p.cn[:0], p.ce[:0], p.sorder[:0]
 	for i, n := range g.nodes {
 		p.gidx[n] = int32(i)
 		p.nc[n] = -1
 	}
 	if !g.hasUnknown {
-		cp := physComp{n0: 0, n1: int32(len(g.nodes)), e0: 0, e1: int32(len(g.devs)), has: g.srcHas}
-		p.cn = append(p.cn, g.nodes...)
-		p.ce = append(p.ce, g.devs...)
+		cp := physComp{nodes: g.nodes, devs: g.devs, has: g.srcHas}
 		for i, n := range g.nodes {
 			p.nc[n], p.li[n] = 0, int32(i)
 		}
@@ -314,12 +317,13 @@ func (s *Sim) physParts(g *group) {
 			continue
 		}
 		c := int32(len(p.comps))
-		cp := physComp{n0: int32(len(p.cn)), e0: int32(len(p.ce))}
+		var cp physComp
+		n0, e0 := len(p.cn), len(p.ce)
 		p.nc[seed] = c
 		p.cn = append(p.cn, seed)
-		for j := int(cp.n0); j < len(p.cn); j++ {
+		for j := n0; j < len(p.cn); j++ {
 			m := p.cn[j]
-			p.li[m] = int32(j) - cp.n0
+			p.li[m] = int32(j - n0)
 			for _, d := range nl.chanDev[nl.chanStart[m]:nl.chanStart[m+1]] {
 				if s.cond[d] != On {
 					continue
@@ -346,7 +350,7 @@ func (s *Sim) physParts(g *group) {
 				}
 			}
 		}
-		cp.n1, cp.e1 = int32(len(p.cn)), int32(len(p.ce))
+		cp.nodes, cp.devs = p.cn[n0:len(p.cn):len(p.cn)], p.ce[e0:len(p.ce):len(p.ce)]
 		p.comps = append(p.comps, cp)
 	}
 }
@@ -363,7 +367,7 @@ func (s *Sim) physLevel(g *group, c int32, v Value) {
 	if v == V1 {
 		full = p.vdd
 	}
-	nodes := p.cn[cp.n0:cp.n1]
+	nodes := cp.nodes
 	if !cp.degr[v] { // nothing on the way can drop the level
 		for _, n := range nodes {
 			i := s.groupIndex(g, n)
@@ -385,6 +389,13 @@ func (s *Sim) physLevel(g *group, c int32, v Value) {
 			present[g.nstr[i]] = true
 		}
 	}
+	runs := 0
+	for _, pr := range present {
+		if pr {
+			runs++
+		}
+	}
+	cp.stree, cp.sval = runs == 1, v
 	for lvl := Supply; lvl >= Weak; lvl-- {
 		if !present[lvl] {
 			continue
@@ -452,20 +463,29 @@ func (s *Sim) decideLevel(g *group, i int, v Value, level float64, drop int32) {
 // reaches it through devices that are on and capped at least lvl: a widest
 // path search where a path is as good as its worst pass limit. good holds
 // the level for a 1 and vdd - level for a 0 (larger is better), -1 where v
-// does not reach; drop the device of the last drop on the best path.
+// does not reach; drop the device of the last drop on the best path. Among
+// paths of the best level it prefers the lower resistance, and it leaves
+// that tree (par, dist, the order reached in sorder[o0:o1]) for the delay.
+// The preference is greedy, so it may miss the least resistance in a tie.
 func (s *Sim) levelSearch(c int32, v Value, lvl Strength) {
 	nl := s.nl
 	p := &s.phys
 	cp := &p.comps[c]
 	full := p.vdd
-	for _, n := range p.cn[cp.n0:cp.n1] {
-		p.good[n], p.drop[n] = -1, -1
+	for _, n := range cp.nodes {
+		p.good[n], p.drop[n], p.par[n], p.dist[n] = -1, -1, -1, math.Inf(1)
+	}
+	if s.fullSearch(c, v, lvl) {
+		return
+	}
+	for _, n := range cp.nodes {
+		p.good[n], p.drop[n], p.par[n], p.dist[n] = -1, -1, -1, math.Inf(1)
 	}
 	p.next()
 	gen := p.gen
 	h := &p.heap
 	h.items = h.items[:0]
-	for _, d := range p.ce[cp.e0:cp.e1] {
+	for _, d := range cp.devs {
 		if nl.devCap[d] < lvl {
 			continue
 		}
@@ -483,10 +503,19 @@ func (s *Sim) levelSearch(c int32, v Value, lvl Strength) {
 		if lg := s.limitGood(d, v); lg < gd {
 			gd, dr = lg, d
 		}
-		if gd > p.good[o] {
-			p.good[o], p.drop[o] = gd, dr
-			h.push(gd, o)
+		r := p.res[d]
+		if gd > p.good[o] || (gd == p.good[o] && r < p.dist[o]) {
+			if gd > p.good[o] {
+				h.push(gd, o)
+			}
+			p.good[o], p.drop[o], p.par[o], p.dist[o] = gd, dr, d, r
 		}
+	}
+	cp.o0 = int32(len(p.sorder))
+	if int32(len(cp.nodes)) == 1 { // a lone node: its sources' devices settle it
+		p.sorder = append(p.sorder, cp.nodes[0])
+		cp.o1 = int32(len(p.sorder))
+		return
 	}
 	for len(h.items) > 0 {
 		it := h.pop()
@@ -495,6 +524,7 @@ func (s *Sim) levelSearch(c int32, v Value, lvl Strength) {
 			continue
 		}
 		p.stamp[m] = gen
+		p.sorder = append(p.sorder, m)
 		gm := p.good[m]
 		for _, d := range nl.chanDev[nl.chanStart[m]:nl.chanStart[m+1]] {
 			if s.cond[d] != On || nl.devCap[d] < lvl {
@@ -511,12 +541,74 @@ func (s *Sim) levelSearch(c int32, v Value, lvl Strength) {
 			if lg := s.limitGood(d, v); lg < gd {
 				gd, dr = lg, d
 			}
-			if gd > p.good[o] {
-				p.good[o], p.drop[o] = gd, dr
-				h.push(gd, o)
+			r := p.dist[m] + p.res[d]
+			if gd > p.good[o] || (gd == p.good[o] && r < p.dist[o]) {
+				if gd > p.good[o] {
+					h.push(gd, o)
+				}
+				p.good[o], p.drop[o], p.par[o], p.dist[o] = gd, dr, d, r
 			}
 		}
 	}
+	cp.o1 = int32(len(p.sorder))
+}
+
+// fullSearch is levelSearch's fast path: a breadth-first search through
+// the devices that pass v fully (pMOS and pulls for a 1, nMOS and pulls for
+// a 0). If it reaches every node of the part, every level is full and the
+// search's tree is the delay tree; otherwise it reports false.
+func (s *Sim) fullSearch(c int32, v Value, lvl Strength) bool {
+	nl := s.nl
+	p := &s.phys
+	cp := &p.comps[c]
+	full := p.vdd
+	fully := NMOS
+	if v == V1 {
+		fully = PMOS
+	}
+	o0 := len(p.sorder)
+	for _, d := range cp.devs {
+		if k := nl.devKind[d]; nl.devCap[d] < lvl || (k != fully && k < PullUp) {
+			continue
+		}
+		a, b := nl.devA[d], nl.devB[d]
+		o := b
+		if s.source[b] {
+			o, a = a, b
+		}
+		if !s.source[a] || s.source[o] || s.val[a] != v {
+			continue
+		}
+		if r := p.res[d]; r < p.dist[o] {
+			if p.good[o] < 0 {
+				p.sorder = append(p.sorder, o)
+			}
+			p.good[o], p.par[o], p.dist[o] = full, d, r
+		}
+	}
+	for j := o0; j < len(p.sorder); j++ {
+		m := p.sorder[j]
+		for _, d := range nl.chanDev[nl.chanStart[m]:nl.chanStart[m+1]] {
+			if k := nl.devKind[d]; s.cond[d] != On || nl.devCap[d] < lvl || (k != fully && k < PullUp) {
+				continue
+			}
+			o := nl.devA[d]
+			if o == m {
+				o = nl.devB[d]
+			}
+			if s.source[o] || p.good[o] >= 0 {
+				continue
+			}
+			p.good[o], p.par[o], p.dist[o] = full, d, p.dist[m]+p.res[d]
+			p.sorder = append(p.sorder, o)
+		}
+	}
+	if len(p.sorder)-o0 == len(cp.nodes) {
+		cp.o0, cp.o1 = int32(o0), int32(len(p.sorder))
+		return true
+	}
+	p.sorder = p.sorder[:o0]
+	return false
 }
 
 // limitGood is how good device d lets value v through (see levelSearch):
@@ -542,7 +634,7 @@ func (s *Sim) physCharge(g *group, c int32) {
 	nl := s.nl
 	p := &s.phys
 	cp := &p.comps[c]
-	nodes := p.cn[cp.n0:cp.n1]
+	nodes := cp.nodes
 	// The mean is taken about the lowest known level, so that nodes already
 	// at one level keep it exactly.
 	vmin, vmax := math.Inf(1), math.Inf(-1)

@@ -32,7 +32,11 @@ func (s *Sim) physDelay(g *group, i int) float64 {
 	}
 	cp := &p.comps[c]
 	if !cp.tree[v] {
-		s.delayTree(c, v, in.How == howCharge)
+		if cp.stree && cp.sval == v && in.How == howLevel {
+			s.searchDelay(c, v)
+		} else {
+			s.delayTree(c, v, in.How == howCharge)
+		}
 		cp.tree[v] = true
 	}
 	in.Delay = p.tdel[v][n]
@@ -46,7 +50,7 @@ func (s *Sim) delayTree(c int32, v Value, floating bool) {
 	nl := s.nl
 	p := &s.phys
 	cp := &p.comps[c]
-	nodes := p.cn[cp.n0:cp.n1]
+	nodes := cp.nodes
 	tdel := p.tdel[v]
 	inf := math.Inf(1)
 	for _, n := range nodes {
@@ -66,7 +70,7 @@ func (s *Sim) delayTree(c int32, v Value, floating bool) {
 		p.dist[root] = 0
 		h.push(0, root)
 	} else {
-		for _, d := range p.ce[cp.e0:cp.e1] {
+		for _, d := range cp.devs {
 			a, b := nl.devA[d], nl.devB[d]
 			var o int32
 			switch {
@@ -82,6 +86,15 @@ func (s *Sim) delayTree(c int32, v Value, floating bool) {
 				h.push(-r, o)
 			}
 		}
+	}
+	if len(nodes) == 1 { // a lone node: R C through its least-resistance source device
+		if n := nodes[0]; p.par[n] >= 0 || floating {
+			tdel[n] = 0
+			if p.par[n] >= 0 {
+				tdel[n] = p.dist[n] * nl.nodeCap[n]
+			}
+		}
+		return
 	}
 	order := p.order[:0]
 	for len(h.items) > 0 {
@@ -109,6 +122,28 @@ func (s *Sim) delayTree(c int32, v Value, floating bool) {
 			}
 		}
 	}
+	s.elmore(order, tdel)
+	p.order = order[:0]
+}
+
+// searchDelay takes the delay tree of part c from its level search (the
+// best-level paths, preferring lower resistance).
+func (s *Sim) searchDelay(c int32, v Value) {
+	p := &s.phys
+	cp := &p.comps[c]
+	for _, n := range cp.nodes {
+		p.sub[n], p.tdel[v][n] = s.nl.nodeCap[n], math.NaN()
+	}
+	s.elmore(p.sorder[cp.o0:cp.o1], p.tdel[v])
+}
+
+// elmore computes the Elmore delays of a tree given by par (the device to
+// each node's parent, -1 at the root) over order (parents first), with sub
+// holding each node's own capacitance: it accumulates the capacitance
+// downstream of every node, then sums R times it from the root down.
+func (s *Sim) elmore(order []int32, tdel []float64) {
+	nl := s.nl
+	p := &s.phys
 	parent := func(m int32) int32 { // the parent node, -1 for a source or the root
 		d := p.par[m]
 		if d < 0 {
@@ -138,9 +173,30 @@ func (s *Sim) delayTree(c int32, v Value, floating bool) {
 		if pn := parent(m); pn >= 0 {
 			base = tdel[pn]
 		}
-		tdel[m] = base + p.res[d]*p.sub[m]
+		tdel[m] = base + s.edgeResistance(m, d)*p.sub[m]
 	}
-	p.order = order[:0]
+}
+
+// edgeResistance is the resistance from node m to the other end of device
+// d: every device that is on between the same two nodes in parallel (the
+// two halves of a transmission gate, for instance).
+func (s *Sim) edgeResistance(m int32, d int32) float64 {
+	nl := s.nl
+	p := &s.phys
+	o := nl.devA[d]
+	if o == m {
+		o = nl.devB[d]
+	}
+	g := 0.0
+	for _, e := range nl.chanDev[nl.chanStart[m]:nl.chanStart[m+1]] {
+		if s.cond[e] == On && (nl.devA[e] == o || nl.devB[e] == o) && nl.devA[e] != nl.devB[e] {
+			g += 1 / p.res[e]
+		}
+	}
+	if g == 0 {
+		return p.res[d]
+	}
+	return 1 / g
 }
 
 // physHeap is a binary max-heap of nodes by key, with stale entries skipped

@@ -34,6 +34,7 @@ type physElem struct {
 	lim    float64
 	clamp  int8 // +1: f = min(x, lim); -1: f = max(x, lim); 0: f = x
 	dev    int32
+	pa, pb float64 // Newton: the slopes of f the last step used at a and b
 }
 
 func (e *physElem) f(x float64) float64 {
@@ -74,7 +75,7 @@ func (s *Sim) netBuild(c int32, xv float64) {
 	p := &s.phys
 	cp := &p.comps[c]
 	nt := &p.net
-	nodes := p.cn[cp.n0:cp.n1]
+	nodes := cp.nodes
 	k := len(nodes)
 	nt.k, nt.vdd = k, p.vdd
 	nt.v, nt.hold = grow(nt.v, k), grow(nt.hold, k)
@@ -87,32 +88,20 @@ func (s *Sim) netBuild(c int32, xv float64) {
 	}
 	nt.el = nt.el[:0]
 	nt.gmax = 0
-	srcV := func(n int32) (float64, Value) {
-		switch s.val[n] {
-		case V0:
-			return 0, V0
-		case V1:
-			return p.vdd, V1
-		}
-		if xv > 0 {
-			return xv, V1
-		}
-		return xv, V0
-	}
-	for _, d := range p.ce[cp.e0:cp.e1] {
+	for _, d := range cp.devs {
 		a, b := nl.devA[d], nl.devB[d]
 		if a == b {
 			continue
 		}
 		e := physElem{a: -1, b: -1, g: 1 / p.res[d], dev: d}
-		var srcVal = VX
+		srcVal := VX
 		if s.source[a] {
-			e.va, srcVal = srcV(a)
+			e.va, srcVal = p.sourceVolts(s.val[a], xv)
 		} else {
 			e.a = p.li[a]
 		}
 		if s.source[b] {
-			e.vb, srcVal = srcV(b)
+			e.vb, srcVal = p.sourceVolts(s.val[b], xv)
 		} else {
 			e.b = p.li[b]
 		}
@@ -130,6 +119,14 @@ func (s *Sim) netBuild(c int32, xv float64) {
 	}
 	nt.gmin = 1e-12
 	nt.start = grow(nt.start, k+1)
+	if k == 1 { // every element touches the one node
+		nt.start[0], nt.start[1] = 0, int32(len(nt.el))
+		nt.adj = grow(nt.adj, len(nt.el))
+		for i := range nt.adj {
+			nt.adj[i] = int32(i)
+		}
+		return
+	}
 	clear(nt.start)
 	for _, e := range nt.el {
 		if e.a >= 0 {
@@ -156,12 +153,32 @@ func (s *Sim) netBuild(c int32, xv float64) {
 	}
 }
 
+// sourceVolts is a source's voltage in the network and the value it acts
+// as: an X source stands at xv and acts as the value nearer.
+func (p *physState) sourceVolts(v Value, xv float64) (float64, Value) {
+	switch v {
+	case V0:
+		return 0, V0
+	case V1:
+		return p.vdd, V1
+	}
+	if xv > p.vdd/2 {
+		return xv, V1
+	}
+	return xv, V0
+}
+
 // solve finds the node voltages into nt.v.
 func (nt *physNet) solve() {
 	copy(nt.v, nt.hold)
+	if nt.k == 1 { // the one-node solve is exact
+		nt.v[0] = nt.solveNode(0)
+		return
+	}
 	if nt.k <= physDenseMax {
-		nt.newton()
-		nt.sweeps(1, 200)
+		if !nt.newton() {
+			nt.sweeps(1, 2000)
+		}
 		return
 	}
 	// about 4 million element visits at most: a few milliseconds
@@ -184,8 +201,10 @@ func (nt *physNet) at(e *physElem, a bool) float64 {
 	return nt.v[e.b]
 }
 
-// newton runs Newton's method on the piecewise-linear node equations.
-func (nt *physNet) newton() {
+// newton runs Newton's method on the piecewise-linear node equations and
+// reports whether it converged: a step below 1e-13 vdd means the pieces it
+// solved on are those of the solution.
+func (nt *physNet) newton() bool {
 	k := nt.k
 	nt.jac, nt.rhs = grow(nt.jac, k*k), grow(nt.rhs, k)
 	for it := 0; it < 60; it++ {
@@ -199,7 +218,8 @@ func (nt *physNet) newton() {
 			e := &nt.el[i]
 			xa, xb := nt.at(e, true), nt.at(e, false)
 			cur := e.g * (e.f(xa) - e.f(xb)) // leaving a
-			sa, sb := e.g*e.slope(xa), e.g*e.slope(xb)
+			e.pa, e.pb = e.slope(xa), e.slope(xb)
+			sa, sb := e.g*e.pa, e.g*e.pb
 			if e.a >= 0 {
 				rhs[e.a] -= cur
 				jac[int(e.a)*k+int(e.a)] += sa
@@ -216,18 +236,37 @@ func (nt *physNet) newton() {
 			}
 		}
 		if !gaussSolve(jac, rhs, k) {
-			return
+			return false
 		}
-		step := 0.0
+		step, projected := 0.0, false
 		for j := 0; j < k; j++ {
-			x := min(max(nt.v[j]+rhs[j], 0), nt.vdd)
+			x := nt.v[j] + rhs[j]
+			if x < 0 || x > nt.vdd {
+				x, projected = min(max(x, 0), nt.vdd), true
+			}
 			step = max(step, math.Abs(x-nt.v[j]))
 			nt.v[j] = x
 		}
 		if step < 1e-13*nt.vdd {
-			return
+			return true
+		}
+		if !projected && nt.samePieces() { // the step was exact: the solution lies on the pieces solved on
+			return true
 		}
 	}
+	return false
+}
+
+// samePieces reports whether every element is on the pieces the last
+// Newton step linearised it on.
+func (nt *physNet) samePieces() bool {
+	for i := range nt.el {
+		e := &nt.el[i]
+		if e.clamp != 0 && (e.slope(nt.at(e, true)) != e.pa || e.slope(nt.at(e, false)) != e.pb) {
+			return false
+		}
+	}
+	return true
 }
 
 // gaussSolve solves a x = b in place (x into b) by elimination with partial
@@ -343,7 +382,7 @@ func (s *Sim) physDivider(g *group, c int32) {
 	p := &s.phys
 	cp := &p.comps[c]
 	nt := &p.net
-	nodes := p.cn[cp.n0:cp.n1]
+	nodes := cp.nodes
 	k := len(nodes)
 	s.netBuild(c, 0)
 	nt.solve()
@@ -353,8 +392,7 @@ func (s *Sim) physDivider(g *group, c int32) {
 		nt.solve()
 	}
 	s.divideInfo(nodes)
-	s.reachStrength(c, V0)
-	s.reachStrength(c, V1)
+	reached := false
 	for j := 0; j < k; j++ {
 		n := nodes[j]
 		i := s.groupIndex(g, n)
@@ -375,12 +413,25 @@ func (s *Sim) physDivider(g *group, c int32) {
 		}
 		in := &p.info[n]
 		in.Volts = volts
+		// The ideal strength is that of the ideal winner, and of both values
+		// where they fought; only a value the network turned round needs its
+		// own strength.
+		if g.nval[i] != val && g.nval[i] != VX {
+			if !reached {
+				s.reachStrength(c)
+				reached = true
+			}
+			g.nstr[i] = p.sv[V1][n]
+			if val == V0 {
+				g.nstr[i] = p.sv[V0][n]
+			} else if val == VX {
+				g.nstr[i] = max(p.sv[V0][n], p.sv[V1][n])
+			}
+		}
 		g.nval[i], g.nvolts[i] = val, volts
-		switch val {
-		case VX:
-			g.nstate[i], g.nstr[i] = StateX, max(p.sv[V0][n], p.sv[V1][n])
-		default:
-			g.nstate[i], g.nstr[i] = StateL+State(val), p.sv[val][n]
+		g.nstate[i] = StateX
+		if val != VX {
+			g.nstate[i] = StateL + State(val)
 		}
 		g.contested[i] = true
 		s.contest[n], s.fight[n] = true, false // decided by the network, not a strength fight
@@ -461,31 +512,42 @@ func (s *Sim) divideInfo(nodes []int32) {
 	}
 }
 
-// reachStrength fills sv[v] for part c: the strongest strength at which v
-// (or X) reaches each node through devices that are on, unblocked.
-func (s *Sim) reachStrength(c int32, v Value) {
+// reachStrength fills sv[0] and sv[1] for part c: the strongest strength
+// at which each value (an X source counts as both) reaches each node through
+// devices that are on, unblocked.
+func (s *Sim) reachStrength(c int32) {
 	nl := s.nl
 	p := &s.phys
 	cp := &p.comps[c]
-	sv := p.sv[v]
-	for _, n := range p.cn[cp.n0:cp.n1] {
-		sv[n] = HighZ
+	sv0, sv1 := p.sv[V0], p.sv[V1]
+	for _, n := range cp.nodes {
+		sv0[n], sv1[n] = HighZ, HighZ
 	}
 	q := p.order[:0]
-	relax := func(o int32, st Strength) {
-		if st > sv[o] {
-			sv[o] = st
+	for _, d := range cp.devs {
+		a, b := nl.devA[d], nl.devB[d]
+		o, src := b, a
+		if s.source[b] {
+			o, src = a, b
+		}
+		if !s.source[src] || s.source[o] {
+			continue
+		}
+		st, v := nl.devCap[d], s.val[src]
+		grew := false
+		if (v == V0 || v == VX) && st > sv0[o] {
+			sv0[o], grew = st, true
+		}
+		if (v == V1 || v == VX) && st > sv1[o] {
+			sv1[o], grew = st, true
+		}
+		if grew {
 			q = append(q, o)
 		}
 	}
-	for _, d := range p.ce[cp.e0:cp.e1] {
-		a, b := nl.devA[d], nl.devB[d]
-		switch {
-		case s.source[a] && !s.source[b] && (s.val[a] == v || s.val[a] == VX):
-			relax(b, nl.devCap[d])
-		case s.source[b] && !s.source[a] && (s.val[b] == v || s.val[b] == VX):
-			relax(a, nl.devCap[d])
-		}
+	if int32(len(cp.nodes)) == 1 {
+		p.order = q[:0]
+		return
 	}
 	for qi := 0; qi < len(q); qi++ {
 		m := q[qi]
@@ -497,8 +559,19 @@ func (s *Sim) reachStrength(c int32, v Value) {
 			if o == m {
 				o = nl.devB[d]
 			}
-			if !s.source[o] {
-				relax(o, min(sv[m], nl.devCap[d]))
+			if s.source[o] {
+				continue
+			}
+			cp := nl.devCap[d]
+			grew := false
+			if st := min(sv0[m], cp); st > sv0[o] {
+				sv0[o], grew = st, true
+			}
+			if st := min(sv1[m], cp); st > sv1[o] {
+				sv1[o], grew = st, true
+			}
+			if grew {
+				q = append(q, o)
 			}
 		}
 	}

@@ -617,3 +617,47 @@ func TestPhysSettleAllocFree(t *testing.T) {
 		t.Errorf("allocations per settle: physical %g, ideal %g", allocs[Physical], allocs[Ideal])
 	}
 }
+
+func TestPhysUnknownDeviceKeepsX(t *testing.T) {
+	// With a device of unknown state, Bryant's ternary method decides what
+	// could happen (Bryant 1984); where it says X, physical mode keeps X with
+	// an unknown voltage.
+	b := NewBuilder()
+	b.Input("g")
+	b.Input("en")
+	b.PMOS("up", "gnd", "vdd", "y", DeviceOpts{})
+	b.NMOS("dn", "g", "y", "gnd", DeviceOpts{})
+	s := phSim(t, b, Physical)
+	phApply(t, s, map[string]Drive{"g": DriveX})
+	if y := node(s, "y"); y.Value != VX || !math.IsNaN(y.Volts) {
+		t.Errorf("y = %+v, want X with unknown volts", y)
+	}
+	phApply(t, s, map[string]Drive{"g": Drive0})
+	if y := node(s, "y"); y.State != State1 || y.Volts != 1.8 {
+		t.Errorf("y = %+v, want a full 1", y)
+	}
+}
+
+func TestPhysRingStillOscillates(t *testing.T) {
+	// The round limit works the same in physical mode (MODEL.md §5).
+	b := NewBuilder()
+	b.Input("en")
+	b.PMOS("p0", "en", "vdd", "n0", DeviceOpts{})
+	b.PMOS("p0b", "n2", "vdd", "n0", DeviceOpts{})
+	b.NMOS("m0", "en", "n0", "x0", DeviceOpts{})
+	b.NMOS("m0b", "n2", "x0", "gnd", DeviceOpts{})
+	for i, io := range [][2]string{{"n0", "n1"}, {"n1", "n2"}} {
+		b.PMOS("p"+string(rune('1'+i)), io[0], "vdd", io[1], DeviceOpts{})
+		b.NMOS("m"+string(rune('1'+i)), io[0], io[1], "gnd", DeviceOpts{})
+	}
+	s := phSim(t, b, Physical)
+	if r := phApply(t, s, map[string]Drive{"en": Drive0}); r.Oscillated {
+		t.Fatal("disabled ring oscillated")
+	}
+	if r := phApply(t, s, map[string]Drive{"en": Drive1}); !r.Oscillated {
+		t.Fatalf("enabled ring did not oscillate: rounds %d", r.Rounds)
+	}
+	if n1 := node(s, "n1"); n1.Value != VX || !math.IsNaN(n1.Volts) {
+		t.Errorf("n1 = %+v, want X with unknown volts", n1)
+	}
+}
