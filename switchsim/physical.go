@@ -83,22 +83,22 @@ type physState struct {
 
 	dmark []uint32 // device -> gen when listed in a part
 
-	comps []physComp
-	cn    []int32 // nodes of the parts, part after part (with devices of unknown state)
-	ce    []int32 // devices that are on, part after part
+	comps  []physComp
+	cn     []int32 // nodes of the parts, part after part (with devices of unknown state)
+	ce     []int32 // devices that are on, part after part
 	heap   physHeap
 	order  []int32
 	sorder []int32 // level searches' visiting order, part after part
-	net   physNet
+	net    physNet
 }
 
 // physComp is one part of a group: nodes joined by devices that are on.
 type physComp struct {
-	nodes  []int32 // in g.nodes or cn
-	devs   []int32 // devices that are on, in g.devs or ce
-	has    [3]bool // values of the sources it touches
-	degr   [2]bool // it holds a device that can degrade a 0 (pMOS) / a 1 (nMOS)
-	tree   [2]bool // the delay tree for value v is built
+	nodes []int32 // in g.nodes or cn
+	devs  []int32 // devices that are on, in g.devs or ce
+	has   [3]bool // values of the sources it touches
+	degr  [2]bool // it holds a device that can degrade a 0 (pMOS) / a 1 (nMOS)
+	tree  [2]bool // the delay tree for value v is built
 	// the level search's tree serves as the delay tree of value sval
 	stree  bool
 	sval   Value
