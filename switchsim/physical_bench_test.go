@@ -13,9 +13,9 @@ import (
 //
 //	go test -run - -bench PhysicalVsIdeal ./switchsim/
 
-// passMux is an nMOS-only selector tree (no pMOS halves): every level drops
+// physPassMux is an nMOS-only selector tree (no pMOS halves): every level drops
 // a threshold, so each settle runs the level search. Output buffered.
-func passMux(k int) *sw.Builder {
+func physPassMux(k int) *sw.Builder {
 	b := sw.NewBuilder()
 	n := 1 << k
 	for i := 0; i < n; i++ {
@@ -40,9 +40,9 @@ func passMux(k int) *sw.Builder {
 	return b
 }
 
-// ratioedChain is n pseudo-nMOS inverters (a pull-up against an nMOS) in
+// physRatioedChain is n pseudo-nMOS inverters (a pull-up against an nMOS) in
 // series: every other stage is a contested divider after each change.
-func ratioedChain(n int) *sw.Builder {
+func physRatioedChain(n int) *sw.Builder {
 	b := sw.NewBuilder()
 	b.Input("in")
 	prev := "in"
@@ -79,14 +79,14 @@ func physBenchNets() []physBenchNet {
 	return []physBenchNet{
 		{"mux256_tgate", func() *sw.Builder { return gen.MuxTree(8) }, muxSel, []string{"s0"}},
 		{"mux256_tgate_data", func() *sw.Builder { return gen.MuxTree(8) }, muxSel, []string{"d0"}},
-		{"mux64_nmos", func() *sw.Builder { return passMux(6) }, map[string]sw.Drive{}, []string{"s0"}},
-		{"mux64_nmos_data", func() *sw.Builder { return passMux(6) }, map[string]sw.Drive{}, []string{"d0", "d1"}},
+		{"mux64_nmos", func() *sw.Builder { return physPassMux(6) }, map[string]sw.Drive{}, []string{"s0"}},
+		{"mux64_nmos_data", func() *sw.Builder { return physPassMux(6) }, map[string]sw.Drive{}, []string{"d0", "d1"}},
 		{"ffchain59_preset", func() *sw.Builder { return gen.FlipFlopChainPreset(59) },
 			map[string]sw.Drive{"clk": sw.Drive1, "clkb": sw.Drive0, "d": sw.Drive0, "pre": sw.Drive0}, []string{"clk", "clkb", "d"}},
 		{"invchain1000", func() *sw.Builder { return gen.InverterChain(1000) }, map[string]sw.Drive{}, []string{"in"}},
 		{"datapath200", func() *sw.Builder { return gen.Sized(200) }, map[string]sw.Drive{"clk": sw.Drive1, "clkb": sw.Drive0},
 			[]string{"sel0", "clk", "clkb"}},
-		{"ratioed64", func() *sw.Builder { return ratioedChain(64) }, map[string]sw.Drive{}, []string{"in"}},
+		{"ratioed64", func() *sw.Builder { return physRatioedChain(64) }, map[string]sw.Drive{}, []string{"in"}},
 	}
 }
 
