@@ -119,6 +119,7 @@ func (s *Sim) physInit() {
 	p := &s.phys
 	p.vil, p.vih, p.vm = t.Thresholds()
 	p.vdd = t.Vdd
+	p.net.denseMax = physDenseMax
 	nn, nd := nl.NumNodes(), nl.NumDevices()
 	p.res, p.gv, p.lim, p.limV = make([]float64, nd), make([]float64, nd), make([]float64, nd), make([]float64, nd)
 	p.dmark = make([]uint32, nd)

@@ -23,8 +23,9 @@ import "math"
 // A tiny conductance (1e-12 of the largest) from every node to the voltage it
 // held keeps nodes that no current reaches at their charge.
 
-// physDenseMax is the largest part solved by the dense method.
-var physDenseMax = 48
+// physDenseMax is the largest part solved by the dense method (a physNet's
+// denseMax; tests lower it to exercise the iterative one).
+const physDenseMax = 48
 
 // physElem is one device of the network.
 type physElem struct {
@@ -58,6 +59,7 @@ func (e *physElem) slope(x float64) float64 {
 
 // physNet is the scratch of one network solve.
 type physNet struct {
+	denseMax   int
 	k          int
 	vdd, gmax  float64
 	gmin       float64
@@ -175,7 +177,7 @@ func (nt *physNet) solve() {
 		nt.v[0] = nt.solveNode(0)
 		return
 	}
-	if nt.k <= physDenseMax {
+	if nt.k <= nt.denseMax {
 		if !nt.newton() {
 			nt.sweeps(1, 2000)
 		}

@@ -362,10 +362,9 @@ func TestPhysNetworkLargeMatchesDense(t *testing.T) {
 	b.NMOS("n1", "a", "x1", "gnd", DeviceOpts{})
 	nl := mustCompile(t, b)
 	rn, rp := tc.Rn*tc.L/tc.Wn, tc.Rp*lp/tc.Wp
-	defer func(v int) { physDenseMax = v }(physDenseMax)
-	for _, dense := range []int{48, 0} {
-		physDenseMax = dense
+	for _, dense := range []int{physDenseMax, 0} {
 		s := NewSim(nl, Options{})
+		s.phys.net.denseMax = dense
 		phApply(t, s, map[string]Drive{"a": Drive1})
 		for k, n := range []string{"x1", "x2", "y"} {
 			phNear(t, n, node(s, n).Volts, tc.Vdd*float64(k+1)*rn/(3*rn+rp), 1e-9)
