@@ -39,11 +39,12 @@ type physNode struct {
 	Drop int32
 	// Up and Down are, for a contested node (howDivider), the devices that
 	// carry the largest current into the node from the 1 side and out of it
-	// to the 0 side; -1 where none.
-	Up, Down int32
-	// RUp and RDown are the node's effective resistances to the 1 side and to
-	// the 0 side (ohms) such that Volts = vdd RDown / (RUp + RDown): for a
-	// plain divider, the two branch resistances. NaN unless howDivider.
+	// to the 0 side; -1 where none. RUp and RDown are the node's effective
+	// resistances to the 1 side and to the 0 side (ohms) such that
+	// Volts = vdd RDown / (RUp + RDown): for a plain divider, the two branch
+	// resistances; NaN unless howDivider. physInfo fills all four (they are
+	// worked out on demand from the present voltages, see dividerInfo).
+	Up, Down   int32
 	RUp, RDown float64
 	// Before is the voltage the node held before it last shared charge
 	// (howCharge with a charge-sharing event), NaN otherwise.
@@ -62,6 +63,7 @@ type physState struct {
 	gv   []float64 // the gate's voltage at the start of the round it last changed
 	lim  []float64 // cached pass limit (nMOS: PassHigh, pMOS: PassLow) for limV
 	limV []float64
+	ring []int32 // the devices between the same two terminals, as a ring (a transmission gate's halves)
 
 	// per node, kept between settles
 	info      []physNode
@@ -89,6 +91,7 @@ type physState struct {
 	heap   physHeap
 	order  []int32
 	sorder []int32 // level searches' visiting order, part after part
+	dq     []int32 // dividerInfo's queue
 	net    physNet
 }
 
@@ -123,9 +126,18 @@ func (s *Sim) physInit() {
 	nn, nd := nl.NumNodes(), nl.NumDevices()
 	p.res, p.gv, p.lim, p.limV = make([]float64, nd), make([]float64, nd), make([]float64, nd), make([]float64, nd)
 	p.dmark = make([]uint32, nd)
+	p.ring = make([]int32, nd)
+	last := make(map[[2]int32]int32, nd) // channel terminals -> a device between them
 	for d := 0; d < nd; d++ {
 		p.res[d] = deviceResistance(nl, d)
 		p.gv[d], p.limV[d] = math.NaN(), math.NaN()
+		key := [2]int32{min(nl.devA[d], nl.devB[d]), max(nl.devA[d], nl.devB[d])}
+		if o, ok := last[key]; ok { // join o's ring, just after o
+			p.ring[d], p.ring[o] = p.ring[o], int32(d)
+		} else {
+			p.ring[d] = int32(d)
+			last[key] = int32(d)
+		}
 	}
 	p.info = make([]physNode, nn)
 	for n := range p.info {
@@ -748,9 +760,9 @@ func (s *Sim) physWarnings(n int, add func(kind string, n, d, o int)) {
 			add(WarnContention, n, -1, -1) // the other value reaches it through a device of unknown state
 		}
 	case howDivider:
-		win, lose := in.Up, in.Down
+		win, lose, _, _ := s.dividerInfo(int32(n))
 		if s.val[n] == V0 {
-			win, lose = in.Down, in.Up
+			win, lose = lose, win
 		}
 		add(WarnContention, n, int(win), int(lose))
 	}
@@ -807,6 +819,9 @@ func (s *Sim) physInfo(n int) physNode {
 	}
 	in := s.phys.info[n]
 	in.Volts = s.volts[n]
+	if in.How == howDivider {
+		in.Up, in.Down, in.RUp, in.RDown = s.dividerInfo(int32(n))
+	}
 	return in
 }
 

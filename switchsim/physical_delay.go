@@ -173,28 +173,26 @@ func (s *Sim) elmore(order []int32, tdel []float64) {
 		if pn := parent(m); pn >= 0 {
 			base = tdel[pn]
 		}
-		tdel[m] = base + s.edgeResistance(m, d)*p.sub[m]
+		tdel[m] = base + s.edgeResistance(d)*p.sub[m]
 	}
 }
 
-// edgeResistance is the resistance from node m to the other end of device
-// d: every device that is on between the same two nodes in parallel (the
+// edgeResistance is the resistance across device d's channel with
+// every device that is on between the same two terminals in parallel (the
 // two halves of a transmission gate, for instance).
-func (s *Sim) edgeResistance(m int32, d int32) float64 {
-	nl := s.nl
+func (s *Sim) edgeResistance(d int32) float64 {
 	p := &s.phys
-	o := nl.devA[d]
-	if o == m {
-		o = nl.devB[d]
+	if p.ring[d] == d {
+		return p.res[d]
 	}
 	g := 0.0
-	for _, e := range nl.chanDev[nl.chanStart[m]:nl.chanStart[m+1]] {
-		if s.cond[e] == On && (nl.devA[e] == o || nl.devB[e] == o) && nl.devA[e] != nl.devB[e] {
+	for e := d; ; {
+		if s.cond[e] == On {
 			g += 1 / p.res[e]
 		}
-	}
-	if g == 0 {
-		return p.res[d]
+		if e = p.ring[e]; e == d {
+			break
+		}
 	}
 	return 1 / g
 }

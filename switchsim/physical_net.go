@@ -95,23 +95,12 @@ func (s *Sim) netBuild(c int32, xv float64) {
 		if a == b {
 			continue
 		}
-		e := physElem{a: -1, b: -1, g: 1 / p.res[d], dev: d}
-		srcVal := VX
-		if s.source[a] {
-			e.va, srcVal = p.sourceVolts(s.val[a], xv)
-		} else {
+		e := s.element(d, xv)
+		if !s.source[a] {
 			e.a = p.li[a]
 		}
-		if s.source[b] {
-			e.vb, srcVal = p.sourceVolts(s.val[b], xv)
-		} else {
+		if !s.source[b] {
 			e.b = p.li[b]
-		}
-		switch k := nl.devKind[d]; {
-		case k == NMOS && srcVal != V0:
-			e.clamp, e.lim = 1, min(max(s.passLimit(d), 0), p.vdd)
-		case k == PMOS && srcVal != V1:
-			e.clamp, e.lim = -1, min(max(s.passLimit(d), 0), p.vdd)
 		}
 		nt.gmax = max(nt.gmax, e.g)
 		nt.el = append(nt.el, e)
@@ -153,6 +142,30 @@ func (s *Sim) netBuild(c int32, xv float64) {
 			nt.fill[e.b]++
 		}
 	}
+}
+
+// element is device d's network model (see the top of this file) with
+// unscaled conductance; a source terminal gets its voltage (X sources at
+// xv), a node terminal is left at -1 for the caller to number.
+func (s *Sim) element(d int32, xv float64) physElem {
+	nl := s.nl
+	p := &s.phys
+	a, b := nl.devA[d], nl.devB[d]
+	e := physElem{a: -1, b: -1, g: 1 / p.res[d], dev: d}
+	srcVal := VX
+	if s.source[a] {
+		e.va, srcVal = p.sourceVolts(s.val[a], xv)
+	}
+	if s.source[b] {
+		e.vb, srcVal = p.sourceVolts(s.val[b], xv)
+	}
+	switch k := nl.devKind[d]; {
+	case k == NMOS && srcVal != V0:
+		e.clamp, e.lim = 1, min(max(s.passLimit(d), 0), p.vdd)
+	case k == PMOS && srcVal != V1:
+		e.clamp, e.lim = -1, min(max(s.passLimit(d), 0), p.vdd)
+	}
+	return e
 }
 
 // sourceVolts is a source's voltage in the network and the value it acts
@@ -393,7 +406,6 @@ func (s *Sim) physDivider(g *group, c int32) {
 		s.netBuild(c, p.vdd)
 		nt.solve()
 	}
-	s.divideInfo(nodes)
 	reached := false
 	for j := 0; j < k; j++ {
 		n := nodes[j]
@@ -414,7 +426,8 @@ func (s *Sim) physDivider(g *group, c int32) {
 			volts = lo
 		}
 		in := &p.info[n]
-		in.Volts = volts
+		*in = noPhysNode()
+		in.How, in.Volts = howDivider, volts
 		// The ideal strength is that of the ideal winner, and of both values
 		// where they fought; only a value the network turned round needs its
 		// own strength.
@@ -440,78 +453,70 @@ func (s *Sim) physDivider(g *group, c int32) {
 	}
 }
 
-// divideInfo records, for each node of the solved network, the devices
-// carrying the largest current in from the 1 side and out to the 0 side and
-// the effective resistances up and down (V = vdd RDown / (RUp + RDown)). A
-// node no current passes (a dead end) takes them from a neighbour.
-func (s *Sim) divideInfo(nodes []int32) {
+// dividerInfo finds, for a contested node (howDivider) at the present
+// voltages, the devices carrying the largest current into it from the 1
+// side and out of it to the 0 side and its effective resistances up and
+// down: with I the current through the node, RUp = (vdd - V) / I and
+// RDown = V / I, so V = vdd RDown / (RUp + RDown); for a plain divider these
+// are the two branch resistances. A node no current passes (a dead end of
+// the network) takes them from the nearest contested node that has some.
+// It is computed on demand (warnings, explanation), not in the solve.
+func (s *Sim) dividerInfo(n int32) (up, down int32, rUp, rDown float64) {
+	nl := s.nl
 	p := &s.phys
-	nt := &p.net
-	imax := 0.0
-	for j, n := range nodes {
-		in := &p.info[n]
-		*in = noPhysNode()
-		in.How = howDivider
-		var inflow, outflow, bestIn, bestOut float64
-		for _, ei := range nt.adj[nt.start[j]:nt.start[j+1]] {
-			e := &nt.el[ei]
-			other := nt.at(e, e.a != int32(j))
-			cur := e.g * nt.gmax * (e.f(other) - e.f(nt.v[j])) // into the node
-			switch {
-			case cur > 0:
-				inflow += cur
-				if cur > bestIn {
-					bestIn, in.Up = cur, e.dev
-				}
-			case cur < 0:
-				outflow -= cur
-				if -cur > bestOut {
-					bestOut, in.Down = -cur, e.dev
-				}
-			}
+	p.next()
+	p.stamp[n] = p.gen
+	queue := append(p.dq[:0], n)
+	defer func() { p.dq = queue[:0] }()
+	for qi := 0; qi < len(queue); qi++ {
+		m := queue[qi]
+		v := s.volts[m]
+		xv := p.vdd // an X source as in the solution reported: at vdd unless the node reads 1
+		if s.val[m] == V1 {
+			xv = 0
 		}
-		p.good[n] = (inflow + outflow) / 2 // the current through the node
-		imax = max(imax, p.good[n])
-	}
-	missing := 0
-	for j, n := range nodes {
-		in := &p.info[n]
-		i := p.good[n]
-		if imax > 0 && i > 1e-9*imax {
-			in.RUp, in.RDown = (nt.vdd-nt.v[j])/i, nt.v[j]/i
-		} else {
-			in.RUp, in.Up, in.Down = math.NaN(), -1, -1
-			missing++
-		}
-	}
-	for pass := 0; missing > 0 && pass < len(nodes); pass++ {
-		moved := false
-		for j, n := range nodes {
-			in := &p.info[n]
-			if !math.IsNaN(in.RUp) {
+		var in, out, bestIn, bestOut, scale float64
+		up, down = -1, -1
+		for _, d := range nl.chanDev[nl.chanStart[m]:nl.chanStart[m+1]] {
+			if s.cond[d] != On || nl.devA[d] == nl.devB[d] {
 				continue
 			}
-			for _, ei := range nt.adj[nt.start[j]:nt.start[j+1]] {
-				e := &nt.el[ei]
-				o := e.a
-				if o == int32(j) {
-					o = e.b
+			e := s.element(d, xv)
+			o := nl.devA[d]
+			other := e.va
+			if o == m {
+				o, other = nl.devB[d], e.vb
+			}
+			if !s.source[o] {
+				other = s.volts[o]
+				if p.stamp[o] != p.gen && p.info[o].How == howDivider {
+					p.stamp[o] = p.gen
+					queue = append(queue, o)
 				}
-				if o < 0 {
-					continue
+			}
+			if math.IsNaN(other) || math.IsNaN(v) {
+				continue
+			}
+			cur := e.g * (e.f(other) - e.f(v))
+			scale = max(scale, e.g*p.vdd)
+			switch {
+			case cur > 0:
+				in += cur
+				if cur > bestIn {
+					bestIn, up = cur, d
 				}
-				if on := &p.info[nodes[o]]; !math.IsNaN(on.RUp) {
-					in.RUp, in.RDown, in.Up, in.Down = on.RUp, on.RDown, on.Up, on.Down
-					missing--
-					moved = true
-					break
+			case cur < 0:
+				out -= cur
+				if -cur > bestOut {
+					bestOut, down = -cur, d
 				}
 			}
 		}
-		if !moved {
-			break
+		if i := (in + out) / 2; i > 1e-9*scale && i > 0 {
+			return up, down, (p.vdd - v) / i, v / i
 		}
 	}
+	return -1, -1, math.NaN(), math.NaN()
 }
 
 // reachStrength fills sv[0] and sv[1] for part c: the strongest strength

@@ -489,6 +489,35 @@ func TestPhysElmoreLadder(t *testing.T) {
 	phNear(t, "far end", got[names[N-1]], rr*c*N*(N+1)/2, 1e-9*rr*c)
 }
 
+func TestPhysElmoreTransmissionGates(t *testing.T) {
+	// Through transmission gates both halves conduct in parallel:
+	// R = Rn Rp / (Rn + Rp) per section (Ohm's law), and a two-section
+	// ladder's far end has the Elmore delay R C 3 (Elmore 1948).
+	const c = 5e-15
+	b := NewBuilder()
+	for _, n := range []string{"in", "en", "enb"} {
+		b.Input(n)
+	}
+	b.Node("a", c, HighZ)
+	b.Node("y", c, HighZ)
+	b.TGate("t1", "en", "enb", "in", "a", 0, 0, 0, HighZ)
+	b.TGate("t2", "en", "enb", "a", "y", 0, 0, 0, HighZ)
+	s := phSim(t, b, Physical)
+	tc := s.Netlist().Tech
+	phApply(t, s, map[string]Drive{"in": Drive0, "en": Drive1, "enb": Drive0})
+	r := phApply(t, s, map[string]Drive{"in": Drive1})
+	rn, rp := tc.Rn*tc.L/tc.Wn, tc.Rp*tc.L/tc.Wp
+	rr := rn * rp / (rn + rp)
+	yn, _ := s.Netlist().Lookup("y")
+	for i, n := range r.Changed {
+		if int(n) == yn {
+			phNear(t, "delay of y", r.Delay[i], 3*rr*c, 1e-9*rr*c)
+			return
+		}
+	}
+	t.Fatal("y did not change")
+}
+
 func TestPhysPartialOn(t *testing.T) {
 	// A degraded 0 (through a pMOS) on a gate: the nMOS it gates is off by
 	// logic, but Vgs = PassLow(0) exceeds vtn, so it leaks (common practice).
