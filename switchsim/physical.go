@@ -304,14 +304,10 @@ func (s *Sim) physParts(g *group) {
 	p := &s.phys
 	p.comps = p.comps[:0]
 	p.cn, p.ce, p.sorder = p.cn[:0], p.ce[:0], p.sorder[:0]
-	for i, n := range g.nodes {
-		p.gidx[n] = int32(i)
-		p.nc[n] = -1
-	}
 	if !g.hasUnknown {
 		cp := physComp{nodes: g.nodes, devs: g.devs, has: g.srcHas}
 		for i, n := range g.nodes {
-			p.nc[n], p.li[n] = 0, int32(i)
+			p.gidx[n], p.nc[n], p.li[n] = int32(i), 0, int32(i)
 		}
 		for _, d := range g.devs {
 			switch nl.devKind[d] {
@@ -323,6 +319,9 @@ func (s *Sim) physParts(g *group) {
 		}
 		p.comps = append(p.comps, cp)
 		return
+	}
+	for i, n := range g.nodes {
+		p.gidx[n], p.nc[n] = int32(i), -1
 	}
 	gen := p.gen
 	for _, seed := range g.nodes {
