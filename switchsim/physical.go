@@ -9,14 +9,21 @@ import "math"
 //
 //   - with sources of one value only: every node takes the best level of the
 //     paths of its (ideal) winning strength, each path as good as its worst
-//     threshold drop; a level beyond VIH/VIL that is not full is a degraded
-//     H/L, a level inside the band is lost (X);
+//     threshold drop (nMOS: Tech.PassHigh of the gate's voltage, pMOS:
+//     Tech.PassLow); a level beyond VIH/VIL that is not full is a degraded
+//     H/L, a level inside the band is lost (X); a lone node already past the
+//     level keeps its better one (physLevel);
 //   - with sources of both values: a resistor network, solved for the node
 //     voltages, decides each node by VIL/VIH (L/H, or X inside the band);
-//   - with no source: the nodes share charge, sum(C V) / sum(C).
+//     see physical_net.go;
+//   - with no source: if charges at different levels meet they share,
+//     sum(C V) / sum(C), and the value is decided by VIL/VIH; otherwise each
+//     node keeps its charge and value.
 //
 // Where the group has devices of unknown state and the ternary method made a
-// node X, the node stays X with an unknown voltage.
+// node X, the node stays X with an unknown voltage. A device's limit uses
+// its gate's voltage as of the start of the round (physGateMoved records it),
+// so levels drop once per gate cascade. Delays are in physical_delay.go.
 // In ideal mode every hook returns at once and volts stay NaN.
 
 // physHow says how a node's estimate was made.
@@ -818,6 +825,9 @@ func (s *Sim) physInfo(n int) physNode {
 	}
 	in := s.phys.info[n]
 	in.Volts = s.volts[n]
+	if s.val[n] == VX && math.IsNaN(in.Volts) { // set X since (oscillation): nothing is estimated
+		in = noPhysNode()
+	}
 	if in.How == howDivider {
 		in.Up, in.Down, in.RUp, in.RDown = s.dividerInfo(int32(n))
 	}
