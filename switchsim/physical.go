@@ -60,20 +60,31 @@ type physNode struct {
 	Delay float64
 }
 
+// physRec is the part of physNode kept per node between settles; the rest
+// is worked out when asked for (physInfo).
+type physRec struct {
+	How           physHow
+	Drop          int32
+	Before, Delay float64
+}
+
+func noPhysRec() physRec { return physRec{Drop: -1, Before: math.NaN(), Delay: math.NaN()} }
+
 // physState is the Sim's physical-mode state. Every slice is allocated in
 // physInit; the scratch grows on first use and is reused afterwards.
 type physState struct {
 	vil, vih, vm, vdd float64
 
 	// per device
-	res  []float64 // effective on-resistance, ohms
-	gv   []float64 // the gate's voltage at the start of the round it last changed
-	lim  []float64 // cached pass limit (nMOS: PassHigh, pMOS: PassLow) for limV
-	limV []float64
-	ring []int32 // the devices between the same two terminals, as a ring (a transmission gate's halves)
+	res []float64 // effective on-resistance, ohms
+	gv  []float64 // the gate's voltage at the start of the round it last changed
+	lim []float64 // pass limit for gv (nMOS: PassHigh, pMOS: PassLow), kept by physGateMoved
+	// pass limits of a device gated by a source, by kind and the source's value
+	limRail [2][2]float64
+	ring    []int32 // the devices between the same two terminals, as a ring (a transmission gate's halves)
 
 	// per node, kept between settles
-	info      []physNode
+	info      []physRec
 	shareMark []uint32 // settle stamp of the last charge-sharing event
 
 	// per node, scratch of the group being solved
@@ -117,7 +128,7 @@ type physComp struct {
 
 type physSnapshot struct {
 	gv   []float64
-	info []physNode
+	info []physRec
 }
 
 func (s *Sim) physInit() {
@@ -131,13 +142,15 @@ func (s *Sim) physInit() {
 	p.vdd = t.Vdd
 	p.net.denseMax = physDenseMax
 	nn, nd := nl.NumNodes(), nl.NumDevices()
-	p.res, p.gv, p.lim, p.limV = make([]float64, nd), make([]float64, nd), make([]float64, nd), make([]float64, nd)
+	p.res, p.gv, p.lim = make([]float64, nd), make([]float64, nd), make([]float64, nd)
+	p.limRail = [2][2]float64{{t.PassHigh(0), t.PassHigh(t.Vdd)}, {t.PassLow(0), t.PassLow(t.Vdd)}}
 	p.dmark = make([]uint32, nd)
 	p.ring = make([]int32, nd)
 	last := make(map[[2]int32]int32, nd) // channel terminals -> a device between them
 	for d := 0; d < nd; d++ {
 		p.res[d] = deviceResistance(nl, d)
-		p.gv[d], p.limV[d] = math.NaN(), math.NaN()
+		p.gv[d] = math.NaN()
+		p.lim[d] = s.limitFor(int32(d))
 		key := [2]int32{min(nl.devA[d], nl.devB[d]), max(nl.devA[d], nl.devB[d])}
 		if o, ok := last[key]; ok { // join o's ring, just after o
 			p.ring[d], p.ring[o] = p.ring[o], int32(d)
@@ -146,9 +159,9 @@ func (s *Sim) physInit() {
 			last[key] = int32(d)
 		}
 	}
-	p.info = make([]physNode, nn)
+	p.info = make([]physRec, nn)
 	for n := range p.info {
-		p.info[n] = noPhysNode()
+		p.info[n] = noPhysRec()
 	}
 	p.shareMark = make([]uint32, nn)
 	p.gidx, p.nc, p.li = make([]int32, nn), make([]int32, nn), make([]int32, nn)
@@ -191,7 +204,7 @@ func (s *Sim) physSave() physSnapshot {
 	if s.mode != Physical {
 		return physSnapshot{}
 	}
-	return physSnapshot{append([]float64(nil), s.phys.gv...), append([]physNode(nil), s.phys.info...)}
+	return physSnapshot{append([]float64(nil), s.phys.gv...), append([]physRec(nil), s.phys.info...)}
 }
 
 func (s *Sim) physRestore(sn physSnapshot) {
@@ -200,6 +213,9 @@ func (s *Sim) physRestore(sn physSnapshot) {
 	}
 	copy(s.phys.gv, sn.gv)
 	copy(s.phys.info, sn.info)
+	for d := range s.phys.lim {
+		s.phys.lim[d] = s.limitFor(int32(d))
+	}
 }
 
 // physGateMoved records device d's gate voltage as of the start of this
@@ -217,7 +233,11 @@ func (s *Sim) physGateMoved(d int32) bool {
 	}
 	v := s.volts[gn]
 	old := p.gv[d]
+	if v == old || (math.IsNaN(v) && math.IsNaN(old)) {
+		return false
+	}
 	p.gv[d] = v
+	p.lim[d] = s.limitFor(d)
 	return conduction(s.nl.devKind[d], s.val[gn]) != Off && voltsMoved(old, v)
 }
 
@@ -245,22 +265,43 @@ func (s *Sim) gateVolts(d int32) float64 {
 // passLimit is device d's pass limit for its present gate voltage: for an
 // nMOS the highest 1 it passes, for a pMOS the lowest 0; NaN for pulls.
 func (s *Sim) passLimit(d int32) float64 {
-	p := &s.phys
 	k := s.nl.devKind[d]
 	if k >= PullUp {
 		return math.NaN()
 	}
-	vg := s.gateVolts(d)
-	if vg != p.limV[d] {
-		t := &s.nl.Tech
-		p.limV[d] = vg
-		if k == NMOS {
-			p.lim[d] = t.PassHigh(vg)
-		} else {
-			p.lim[d] = t.PassLow(vg)
+	if gn := s.nl.devGate[d]; s.source[gn] {
+		v := s.val[gn]
+		if v == VX { // an X gate: the device is of unknown state; take the full level of on
+			v = V1 - Value(k)
+		}
+		return s.phys.limRail[k][v]
+	}
+	return s.phys.lim[d]
+}
+
+// limitFor computes device d's pass limit for the gate voltage recorded in gv.
+func (s *Sim) limitFor(d int32) float64 {
+	t := &s.nl.Tech
+	switch s.nl.devKind[d] {
+	case NMOS:
+		return t.PassHigh(s.gateVoltsRecorded(d))
+	case PMOS:
+		return t.PassLow(s.gateVoltsRecorded(d))
+	}
+	return math.NaN()
+}
+
+// gateVoltsRecorded is gv[d], an unknown voltage taken as the full level
+// that turns the device on.
+func (s *Sim) gateVoltsRecorded(d int32) float64 {
+	v := s.phys.gv[d]
+	if math.IsNaN(v) {
+		v = 0
+		if s.nl.devKind[d] == NMOS {
+			v = s.phys.vdd
 		}
 	}
-	return p.lim[d]
+	return v
 }
 
 // physGroup adds the voltage estimates to the ideal resolution of g.
@@ -280,7 +321,7 @@ func (s *Sim) physGroup(g *group) {
 			for _, n := range cp.nodes {
 				i := s.groupIndex(g, n)
 				g.nvolts[i] = math.NaN()
-				s.phys.info[n] = noPhysNode()
+				s.phys.info[n] = noPhysRec()
 			}
 		case cp.has[V0] && cp.has[V1], cp.has[VX]:
 			s.physDivider(g, int32(c))
@@ -390,7 +431,7 @@ func (s *Sim) physLevel(g *group, c int32, v Value) {
 	if !cp.degr[v] { // nothing on the way can drop the level
 		for _, n := range nodes {
 			i := s.groupIndex(g, n)
-			s.phys.info[n] = noPhysNode()
+			s.phys.info[n] = noPhysRec()
 			if keepX(g, i) {
 				g.nvolts[i] = math.NaN()
 				continue
@@ -426,7 +467,7 @@ func (s *Sim) physLevel(g *group, c int32, v Value) {
 				continue
 			}
 			old := s.phys.info[n]
-			s.phys.info[n] = noPhysNode()
+			s.phys.info[n] = noPhysRec()
 			level, drop := full, int32(-1)
 			if p.good[n] >= 0 {
 				level, drop = p.good[n], p.drop[n]
@@ -454,7 +495,7 @@ func (s *Sim) physLevel(g *group, c int32, v Value) {
 	for _, n := range nodes {
 		i := s.groupIndex(g, n)
 		if keepX(g, i) || g.nstr[i] < Weak {
-			s.phys.info[n] = noPhysNode()
+			s.phys.info[n] = noPhysRec()
 			g.nvolts[i] = math.NaN()
 		}
 	}
@@ -468,7 +509,7 @@ func (s *Sim) decideLevel(g *group, i int, v Value, level float64, drop int32) {
 	n := g.nodes[i]
 	g.nvolts[i] = level
 	in := &p.info[n]
-	in.Volts, in.How, in.Drop = level, howLevel, drop
+	in.How, in.Drop = howLevel, drop
 	if (v == V1 && level < p.vih) || (v == V0 && level > p.vil) {
 		g.nval[i], g.nstate[i] = VX, StateX
 		return
@@ -717,7 +758,7 @@ func (s *Sim) physCharge(g *group, c int32) {
 			p.shareMark[n] = s.settleID
 			before = s.volts[n]
 		}
-		*in = noPhysNode()
+		*in = noPhysRec()
 		in.Before = before
 		if keepX(g, i) {
 			g.nvolts[i] = math.NaN()
@@ -725,11 +766,10 @@ func (s *Sim) physCharge(g *group, c int32) {
 		}
 		in.How = howCharge
 		if !shared { // nothing to share: the node keeps its own charge and value
-			in.Volts, g.nvolts[i] = p.good[n], p.good[n]
+			g.nvolts[i] = p.good[n]
 			s.shared[n] = s.shared[n] || p.shareMark[n] == s.settleID // it shared earlier in this settle
 			continue
 		}
-		in.Volts = volts
 		g.nval[i], g.nvolts[i] = val, volts
 		s.shared[n] = true
 	}
@@ -818,16 +858,16 @@ func (s *Sim) partialOn(n int, add func(kind string, n, d, o int)) {
 // In ideal mode, and for sources, everything is unknown except Volts of a
 // driven source.
 func (s *Sim) physInfo(n int) physNode {
+	in := noPhysNode()
+	in.Volts = s.volts[n]
 	if s.mode != Physical || s.source[n] {
-		in := noPhysNode()
-		in.Volts = s.volts[n]
 		return in
 	}
-	in := s.phys.info[n]
-	in.Volts = s.volts[n]
 	if s.val[n] == VX && math.IsNaN(in.Volts) { // set X since (oscillation): nothing is estimated
-		in = noPhysNode()
+		return in
 	}
+	r := s.phys.info[n]
+	in.How, in.Drop, in.Before, in.Delay = r.How, r.Drop, r.Before, r.Delay
 	if in.How == howDivider {
 		in.Up, in.Down, in.RUp, in.RDown = s.dividerInfo(int32(n))
 	}

@@ -411,7 +411,7 @@ func (s *Sim) physDivider(g *group, c int32) {
 		n := nodes[j]
 		i := s.groupIndex(g, n)
 		if keepX(g, i) {
-			p.info[n] = noPhysNode()
+			p.info[n] = noPhysRec()
 			g.nvolts[i] = math.NaN()
 			continue
 		}
@@ -425,9 +425,8 @@ func (s *Sim) physDivider(g *group, c int32) {
 		case lo == hi:
 			volts = lo
 		}
-		in := &p.info[n]
-		*in = noPhysNode()
-		in.How, in.Volts = howDivider, volts
+		p.info[n] = noPhysRec()
+		p.info[n].How = howDivider
 		// The ideal strength is that of the ideal winner, and of both values
 		// where they fought; only a value the network turned round needs its
 		// own strength.
