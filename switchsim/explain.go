@@ -13,15 +13,26 @@ type Explanation struct {
 	Sharing   []int  // for a floating node: the floating nodes it shares charge with (itself included)
 	Contested bool
 
-	// Physical mode (NaN or -1 where they do not apply).
-	Degrader int      // the device that caused the last level drop
-	Divider  *Divider // for a contested node: the resistances of the two sides
+	// Physical mode (NaN, -1 or nil where they do not apply).
+	Degrader int           // the device that caused the last threshold drop
+	Divider  *Divider      // for a contested node: the resistances of the two sides
+	Share    []ShareMember // for a floating node: the group's capacitances and voltages
+	Delay    float64       // the Elmore delay estimate of the node's last change, seconds
 }
 
-// Divider is the resistive estimate of a contested node.
+// Divider is the resistive estimate of a contested node:
+// Volts = vdd Down / (Up + Down).
 type Divider struct {
-	Up, Down float64 // ohms to the 1 side and to the 0 side
-	Volts    float64
+	Up, Down             float64 // effective ohms to the 1 side and to the 0 side
+	UpDevice, DownDevice int     // the devices carrying the most current on each side (-1: none)
+	Volts                float64
+}
+
+// ShareMember is one node of a floating group that shares charge.
+type ShareMember struct {
+	Node          int
+	Cap           float64 // farads
+	Before, Volts float64 // volts before the last sharing (NaN: none recorded) and now
 }
 
 // Path is a chain of devices from a source (a rail, a driven input, or a
@@ -46,7 +57,7 @@ type PathStep struct {
 // Explain says why node n holds its present state. It searches the node's
 // group afresh and allocates; it is meant for people, not for the hot path.
 func (s *Sim) Explain(n int) Explanation {
-	e := Explanation{Node: n, NodeState: s.Node(n), Source: s.source[n], Degrader: -1}
+	e := Explanation{Node: n, NodeState: s.Node(n), Source: s.source[n], Degrader: -1, Delay: math.NaN()}
 	if e.Source {
 		return e
 	}
@@ -63,6 +74,7 @@ func (s *Sim) Explain(n int) Explanation {
 	if e.Floating {
 		e.Sharing = s.floatingGroup(n)
 		e.Winning = s.winningPaths(n)
+		s.physExplain(&e)
 		return e
 	}
 	e.Winning = s.winningPaths(n)
@@ -249,7 +261,20 @@ func containsInt(s []int, x int) bool {
 
 // physExplain adds physical-mode facts to an explanation.
 func (s *Sim) physExplain(e *Explanation) {
-	if s.mode != Physical || math.IsNaN(e.Volts) {
+	if s.mode != Physical {
 		return
+	}
+	in := s.physInfo(e.Node)
+	e.Delay = in.Delay
+	switch in.How {
+	case howLevel:
+		e.Degrader = int(in.Drop)
+	case howDivider:
+		e.Divider = &Divider{Up: in.RUp, Down: in.RDown, UpDevice: int(in.Up), DownDevice: int(in.Down), Volts: in.Volts}
+	}
+	if e.Floating {
+		for _, m := range s.physSharing(e.Node) {
+			e.Share = append(e.Share, ShareMember{Node: m.Node, Cap: m.Cap, Before: m.Before, Volts: m.Volts})
+		}
 	}
 }

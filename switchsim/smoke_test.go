@@ -101,3 +101,55 @@ func TestSmokeExplain(t *testing.T) {
 		t.Fatalf("opposing strength %v", e.Opposing[0].Strength)
 	}
 }
+
+// Physical explanation of a pass-device high: the nMOS that drops the
+// threshold is named (common practice: an nMOS passes a 1 only up to Vg - Vt).
+func TestSmokeExplainDegrader(t *testing.T) {
+	b := NewBuilder()
+	b.Input("a")
+	b.NMOS("pass", "vdd", "a", "y", DeviceOpts{})
+	b.PMOS("lp", "y", "vdd", "z", DeviceOpts{})
+	b.NMOS("ln", "y", "z", "gnd", DeviceOpts{})
+	s := NewSim(mustCompile(t, b), Options{Mode: Physical})
+	set(t, s, "a", Drive1)
+	s.Settle()
+	y, _ := s.Netlist().Lookup("y")
+	e := s.Explain(y)
+	if e.State != StateH || e.Degrader < 0 || s.Netlist().Device(e.Degrader).Name != "pass" {
+		t.Fatalf("explain y: state %v degrader %d", e.State, e.Degrader)
+	}
+	if !(e.Volts < s.Netlist().Tech.Vdd-s.Netlist().Tech.Vtn+1e-9) {
+		t.Fatalf("y at %.3f V: not below vdd - vtn", e.Volts)
+	}
+}
+
+// Physical explanation of a ratioed fight: the divider's resistances give
+// the node's voltage, V = vdd Rdown / (Rup + Rdown) (Ohm's law).
+func TestSmokeExplainDivider(t *testing.T) {
+	b := NewBuilder()
+	b.Input("en")
+	b.NMOS("down", "en", "y", "gnd", DeviceOpts{})
+	b.Pull("up", "y", true, Pull)
+	s := NewSim(mustCompile(t, b), Options{Mode: Physical})
+	set(t, s, "en", Drive1)
+	s.Settle()
+	y, _ := s.Netlist().Lookup("y")
+	e := s.Explain(y)
+	if e.Divider == nil {
+		t.Fatalf("no divider: %+v", e)
+	}
+	tech := s.Netlist().Tech
+	rDown := tech.Rn * tech.L / tech.Wn      // R = r_sq L / W (MODEL.md §4)
+	rUp := tech.DefaultResistance(Pull)      // the documented default of an unsized pull
+	want := tech.Vdd * rDown / (rUp + rDown) // Ohm's law
+	if abs(want-e.Volts) > 1e-6 || abs(e.Divider.Up-rUp) > 1e-6*rUp || abs(e.Divider.Down-rDown) > 1e-6*rDown {
+		t.Fatalf("divider %+v at %.4f V, want up %.0f down %.0f ohm, %.4f V", e.Divider, e.Volts, rUp, rDown, want)
+	}
+}
+
+func abs(x float64) float64 {
+	if x < 0 {
+		return -x
+	}
+	return x
+}

@@ -63,6 +63,13 @@ func (s *Sim) Message(w Warning) string {
 	case WarnConflict:
 		return fmt.Sprintf("%s is X: a 0 and a 1 reach it at equal strength (%s)", node, s.str[w.Node])
 	case WarnContention:
+		if w.Device >= 0 && w.Other >= 0 {
+			verdict := fmt.Sprintf("%s wins over %s", dev(w.Device), dev(w.Other))
+			if s.val[w.Node] == VX {
+				verdict = fmt.Sprintf("%s and %s fight to the undefined band", dev(w.Device), dev(w.Other))
+			}
+			return fmt.Sprintf("%s is %s%s: %s", node, s.state[w.Node], volts, verdict)
+		}
 		return fmt.Sprintf("%s is %s%s: driven %s but a path of the other value also reaches it", node, s.state[w.Node], volts, s.val[w.Node])
 	case WarnChargeSharing:
 		return fmt.Sprintf("%s shares charge with %s and now holds %s%s", node, strings.Join(s.sharingNames(w.Node), ", "), s.val[w.Node], volts)
