@@ -24,9 +24,20 @@ type Options struct {
 	Mode      switchsim.Mode
 	FullSwing bool // 0 and 1 checks also require the strong, full-level states
 	// KeepStates bounds the designs whose full node states are kept with every
-	// event (for timelines and waveforms): at most this many nodes; 0 means 200000.
+	// event (for timelines and waveforms): at most this many nodes; 0 means
+	// DefaultKeepStates.
 	KeepStates int
+	// SnapshotBudget bounds the bytes of snapshots kept for going back; older
+	// ones are dropped and rebuilt on demand by re-simulating from the nearest
+	// kept one. 0 means DefaultSnapshotBudget.
+	SnapshotBudget int64
 }
+
+// Defaults for the memory bounds of a session.
+const (
+	DefaultKeepStates     = 20000     // nodes: about 640 KB per event at the limit
+	DefaultSnapshotBudget = 256 << 20 // bytes
+)
 
 // Kind is the kind of an action.
 type Kind uint8
@@ -190,7 +201,10 @@ func defaultSteps(designPath string) (string, []byte) {
 // New starts a session on a loaded design and settles it once.
 func New(d *netfile.Design, designPath string, st *steps.Steps, opt Options) *Session {
 	if opt.KeepStates == 0 {
-		opt.KeepStates = 200000
+		opt.KeepStates = DefaultKeepStates
+	}
+	if opt.SnapshotBudget == 0 {
+		opt.SnapshotBudget = DefaultSnapshotBudget
 	}
 	s := &Session{Design: d, DesignPath: designPath, Hash: Hash(d.Source), Steps: st, Opts: opt,
 		Sim: switchsim.NewSim(d.Netlist, switchsim.Options{Mode: opt.Mode})}
@@ -309,7 +323,7 @@ func (s *Session) GoBack() bool {
 	s.history = s.history[:len(s.history)-1]
 	s.snaps = s.snaps[:len(s.snaps)-1]
 	s.cursors = s.cursors[:len(s.cursors)-1]
-	s.Sim.Restore(s.snaps[len(s.snaps)-1])
+	s.restoreLast()
 	prev := s.history[len(s.history)-1]
 	e := &Event{Seq: len(s.trace), Action: Action{Kind: Back}, States: prev.States, Depth: len(s.history)}
 	s.trace = append(s.trace, e)
@@ -361,6 +375,7 @@ func (s *Session) record(a Action, cursor int) *Event {
 	}
 	s.history = append(s.history, e)
 	s.snaps = append(s.snaps, s.Sim.Snapshot())
+	s.trimSnapshots()
 	s.cursors = append(s.cursors, cursor)
 	e.Depth = len(s.history)
 	s.trace = append(s.trace, e)
@@ -376,3 +391,57 @@ func FormatVolts(v float64) string {
 }
 
 func designSource(name string) (sw, st []byte, ok bool) { return designs.Source(name) }
+
+// snapshotBytes estimates one snapshot's size: per node the value, strength,
+// state, volts, drive and flags plus physical mode's record; per device its
+// state and physical record.
+func (s *Session) snapshotBytes() int64 {
+	nl := s.Netlist()
+	return int64(nl.NumNodes())*64 + int64(nl.NumDevices())*16
+}
+
+// trimSnapshots drops the snapshots of older history entries beyond the
+// budget. The first (after loading) is always kept, so any state can be
+// rebuilt from it.
+func (s *Session) trimSnapshots() {
+	keep := s.Opts.SnapshotBudget / max(1, s.snapshotBytes())
+	keep = max(keep, 2)
+	held := int64(0)
+	for i := len(s.snaps) - 1; i >= 1; i-- {
+		if s.snaps[i] == nil {
+			continue
+		}
+		held++
+		if held > keep-1 {
+			s.snaps[i] = nil
+		}
+	}
+}
+
+// restoreLast brings the simulator to the state after the last event in
+// force: from its snapshot, or by re-simulating the actions after the
+// nearest kept snapshot (the engine is deterministic).
+func (s *Session) restoreLast() {
+	last := len(s.snaps) - 1
+	j := last
+	for s.snaps[j] == nil {
+		j--
+	}
+	s.Sim.Restore(s.snaps[j])
+	for i := j + 1; i <= last; i++ {
+		a := s.history[i].Action
+		switch a.Kind {
+		case Set:
+			s.Sim.SetInput(a.Node, a.Drive)
+		case Step:
+			for _, in := range a.Drives {
+				s.Sim.SetInput(in.Node, in.Drive)
+			}
+		}
+		s.Sim.Settle()
+	}
+	if j != last {
+		s.snaps[last] = s.Sim.Snapshot()
+		s.trimSnapshots()
+	}
+}
