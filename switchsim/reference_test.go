@@ -398,12 +398,14 @@ func (r *refSim) Settle() refResult {
 			break
 		}
 		if round > limit {
-			// "every node that changed within the last max(16, limit/8) rounds
-			// is set to X (state Z if its strength is a charge strength) ...
-			// their fan-out is queued". READING: the forced round is a round
-			// of its own whose changed set is the nodes forcing changed; the
-			// last W rounds are rounds round-W .. round-1; the groups that
-			// were queued for this round are dropped (forcing replaces them).
+			// "When round L + 1 would start, it becomes a forcing round
+			// instead: every node that changed in rounds L+1-W .. L, W =
+			// max(16, L/8), is set to X (state Z if its strength is a charge
+			// strength), the nodes this actually moved are that round's
+			// changes, ... the groups queued for the round are dropped and the
+			// forced nodes' fan-out is queued." (These were READINGs of an
+			// earlier, vaguer text; DEVELOPERS.md now says so.) The fan-out is
+			// queued by the device rule at the top of the next round.
 			res.Oscillated, r.oscillated = true, true
 			var ch []int
 			after := map[int]sw.NodeState{}
@@ -427,8 +429,8 @@ func (r *refSim) Settle() refResult {
 			res.Changed = append(res.Changed, ch)
 			res.After = append(res.After, after)
 			clear(seeds)
-			if extra { // "if it is passed again ... the settle stops"
-				break
+			if extra { // "if round 2L + 1 is reached, it is a forcing round too and the settle stops there"
+				break // the devices catch up at the start of the next Settle
 			}
 			extra = true
 			limit += r.limit
