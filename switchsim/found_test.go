@@ -229,7 +229,6 @@ func TestFoundOscillationWindowOffByOne(t *testing.T) {
 // the settle has no seeds and 0 rounds; the engine counts it as changed
 // and does one round in which nothing changes.
 func TestFoundInputSetAndRestored(t *testing.T) {
-	t.Skip("reading: DEVELOPERS.md says \"changed inputs\" without saying against what; the reference compares with the drive in force at the last Settle")
 	b := sw.NewBuilder()
 	b.Input("a")
 	b.NMOS("n", "vdd", "a", "y", sw.DeviceOpts{})

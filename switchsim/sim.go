@@ -305,8 +305,13 @@ func (s *Sim) Settle() *Result {
 	// so the devices they gate switch in round 1. All drives are applied
 	// before any seeding, so that seeding sees every input's new role.
 	wasSource := s.wasSrc[:0]
+	changedIn := s.dirtyIn[:0]
 	for _, n := range s.dirtyIn {
 		s.dirtyMark[n] = false
+		if d := s.drive[n]; (d == DriveZ && !s.source[n]) || (d != DriveZ && s.source[n] && s.val[n] == d.Value()) {
+			continue // set and set back since the last Settle: nothing changed
+		}
+		changedIn = append(changedIn, n)
 		wasSource = append(wasSource, s.source[n])
 		old := s.val[n]
 		s.applyDrive(int(n))
@@ -315,7 +320,7 @@ func (s *Sim) Settle() *Result {
 		}
 	}
 	s.wasSrc = wasSource
-	for i, n := range s.dirtyIn {
+	for i, n := range changedIn {
 		if !s.source[n] {
 			s.seed(n)
 		}
