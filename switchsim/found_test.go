@@ -226,8 +226,8 @@ func TestFoundOscillationWindowOffByOne(t *testing.T) {
 }
 
 // An input set to another drive and back before Settle is not changed, so
-// the settle has no seeds and 0 rounds; the engine counts it as changed
-// and does one round in which nothing changes.
+// the settle has no seeds and 0 rounds; the engine counted it as changed
+// and did one round in which nothing changed.
 func TestFoundInputSetAndRestored(t *testing.T) {
 	b := sw.NewBuilder()
 	b.Input("a")
