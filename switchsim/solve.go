@@ -77,19 +77,19 @@ func (s *Sim) resolve(g *group) {
 		s.done[n] = 0
 		s.buckets[s.best[n]] = append(s.buckets[s.best[n]], n)
 	}
-	for _, src := range g.srcs {
-		sv := s.val[src]
-		for _, d := range nl.chanDev[nl.chanStart[src]:nl.chanStart[src+1]] {
-			if s.cond[d] != On {
-				continue
-			}
-			o := nl.devA[d]
-			if o == src {
-				o = nl.devB[d]
-			}
-			if !s.source[o] {
-				s.relax(o, min(Supply, nl.devCap[d]), sv, stamp)
-			}
+	// Sources inject through the group's own devices only: a rail touches
+	// every group of the design, and scanning its devices for each group
+	// would make a settle quadratic.
+	for _, d := range g.devs {
+		if s.cond[d] != On {
+			continue
+		}
+		a, b := nl.devA[d], nl.devB[d]
+		switch {
+		case s.source[a] && !s.source[b]:
+			s.relax(b, min(Supply, nl.devCap[d]), s.val[a], stamp)
+		case s.source[b] && !s.source[a]:
+			s.relax(a, min(Supply, nl.devCap[d]), s.val[b], stamp)
 		}
 	}
 	for lvl := Supply; lvl >= Small; lvl-- {
@@ -226,21 +226,16 @@ func (s *Sim) potential(g *group, v Value) {
 			s.buckets[st] = append(s.buckets[st], o)
 		}
 	}
-	for _, src := range g.srcs {
-		if sv := s.val[src]; sv != v && sv != VX {
+	for _, d := range g.devs { // devices not off; sources inject through them only
+		a, b := nl.devA[d], nl.devB[d]
+		if s.source[b] {
+			a, b = b, a
+		}
+		if !s.source[a] || s.source[b] {
 			continue
 		}
-		for _, d := range nl.chanDev[nl.chanStart[src]:nl.chanStart[src+1]] {
-			if s.cond[d] == Off {
-				continue
-			}
-			o := nl.devA[d]
-			if o == src {
-				o = nl.devB[d]
-			}
-			if !s.source[o] {
-				push(o, min(Supply, nl.devCap[d]))
-			}
+		if sv := s.val[a]; sv == v || sv == VX {
+			push(b, min(Supply, nl.devCap[d]))
 		}
 	}
 	for lvl := Supply; lvl >= Small; lvl-- {
