@@ -3,6 +3,8 @@ package switchsim
 import (
 	"errors"
 	"fmt"
+	"slices"
+	"sort"
 	"strings"
 )
 
@@ -18,7 +20,7 @@ type Netlist struct {
 	nodeKind   []NodeKind
 	nodeCap    []float64
 	nodeCharge []Strength
-	nodeIdx    map[string]int32 // names are for printing and lookup, never for simulation
+	nodeByName []int32 // node numbers sorted by name, for Lookup; names never take part in simulation
 	inputs     []int32
 	outputs    []int32
 
@@ -31,7 +33,7 @@ type Netlist struct {
 	devCap    []Strength
 	devW      []float64
 	devL      []float64
-	devIdx    map[string]int32
+	devByName []int32 // device numbers sorted by name
 	chanStart []int32 // CSR: devices whose channel touches node n are chanDev[chanStart[n]:chanStart[n+1]]
 	chanDev   []int32
 	gateStart []int32 // CSR: devices gated by node n
@@ -57,11 +59,9 @@ func (b *Builder) Compile() (*Netlist, error) {
 		Name: b.name, Desc: b.desc, Tech: b.tech, power: pw, ground: gn,
 		nodeName: make([]string, nn), nodeKind: make([]NodeKind, nn),
 		nodeCap: make([]float64, nn), nodeCharge: make([]Strength, nn),
-		nodeIdx: make(map[string]int32, nn), devIdx: make(map[string]int32, len(b.devs)),
 	}
 	for i, n := range b.nodes {
 		nl.nodeName[i] = n.name
-		nl.nodeIdx[n.name] = int32(i)
 		nl.nodeCap[i] = n.cap
 		if n.cap == 0 {
 			nl.nodeCap[i] = b.tech.Cnode
@@ -90,7 +90,6 @@ func (b *Builder) Compile() (*Netlist, error) {
 	touched := make([]bool, nn)
 	for i, d := range b.devs {
 		nl.devName[i], nl.devKind[i], nl.devGate[i] = d.name, d.kind, d.gate
-		nl.devIdx[d.name] = int32(i)
 		a := d.a
 		switch d.kind {
 		case PullUp:
@@ -129,6 +128,8 @@ func (b *Builder) Compile() (*Netlist, error) {
 		sortStrings(probs)
 		return nil, &CompileError{probs}
 	}
+	// Sorted indices instead of maps: 4 bytes a name instead of a map entry.
+	nl.nodeByName, nl.devByName = byName(nl.nodeName), byName(nl.devName)
 	nl.chanStart, nl.chanDev = csr(nn, nd, func(d int, emit func(int32)) {
 		emit(nl.devA[d])
 		if nl.devB[d] != nl.devA[d] {
@@ -191,14 +192,12 @@ func (nl *Netlist) NodeCharge(n int) Strength { return nl.nodeCharge[n] }
 
 // Lookup finds a node by name.
 func (nl *Netlist) Lookup(name string) (int, bool) {
-	i, ok := nl.nodeIdx[name]
-	return int(i), ok
+	return lookup(nl.nodeName, nl.nodeByName, name)
 }
 
 // LookupDevice finds a device by name.
 func (nl *Netlist) LookupDevice(name string) (int, bool) {
-	i, ok := nl.devIdx[name]
-	return int(i), ok
+	return lookup(nl.devName, nl.devByName, name)
 }
 
 // Power and Ground return the rails' node numbers.
@@ -251,4 +250,23 @@ func (nl *Netlist) Other(d, n int) int {
 		return int(nl.devB[d])
 	}
 	return int(nl.devA[d])
+}
+
+// byName returns the indices of names sorted by name.
+func byName(names []string) []int32 {
+	idx := make([]int32, len(names))
+	for i := range idx {
+		idx[i] = int32(i)
+	}
+	slices.SortFunc(idx, func(a, b int32) int { return strings.Compare(names[a], names[b]) })
+	return idx
+}
+
+// lookup finds name by binary search in a sorted index.
+func lookup(names []string, idx []int32, name string) (int, bool) {
+	k := sort.Search(len(idx), func(k int) bool { return names[idx[k]] >= name })
+	if k < len(idx) && names[idx[k]] == name {
+		return int(idx[k]), true
+	}
+	return -1, false
 }
