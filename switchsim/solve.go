@@ -62,6 +62,11 @@ func (s *Sim) resolve(g *group) {
 	g.nval, g.nstr, g.nstate = grow(g.nval, k), grow(g.nstr, k), grow(g.nstate, k)
 	g.nvolts, g.contested = grow(g.nvolts, k), grow(g.contested, k)
 
+	if k == 1 && !g.hasUnknown {
+		s.resolveSingle(g)
+		return
+	}
+
 	// Sure pass: devices that are on. Strengths are settled level by level,
 	// strongest first; a node takes the strongest signal that reaches it and
 	// passes on only that (weaker signals are blocked, Bryant 1984). The
@@ -185,6 +190,50 @@ func (s *Sim) resolve(g *group) {
 		default:
 			g.nstate[i] = State0 + State(v)
 		}
+	}
+}
+
+// resolveSingle is resolve for the commonest group: one node, no device of
+// unknown state (an inverter's output, a closed latch's node). The strongest
+// of its own charge and the sources reaching it through devices that are on
+// wins; equal strengths combine. No blocking or ternary pass is needed.
+func (s *Sim) resolveSingle(g *group) {
+	nl := s.nl
+	n := g.nodes[0]
+	best, v, fight := nl.nodeCharge[n], s.val[n], false
+	for _, d := range g.devs {
+		if s.cond[d] != On {
+			continue
+		}
+		src := nl.devA[d]
+		if src == n {
+			src = nl.devB[d]
+		}
+		if !s.source[src] {
+			continue // a device from the node to itself
+		}
+		sv := s.val[src]
+		switch st := min(Supply, nl.devCap[d]); {
+		case st > best:
+			best, v, fight = st, sv, false
+		case st == best:
+			fight = fight || (v != sv && v != VX && sv != VX)
+			v = lub(v, sv)
+		}
+	}
+	s.fight[n], s.shared[n] = fight && v == VX, false
+	contested := (v == V0 && (g.srcHas[V1] || g.srcHas[VX])) || (v == V1 && (g.srcHas[V0] || g.srcHas[VX]))
+	g.nval[0], g.nstr[0], g.nvolts[0], g.contested[0] = v, best, math.NaN(), contested
+	s.contest[n] = contested
+	switch {
+	case best.IsCharge():
+		g.nstate[0] = StateZ
+	case v == VX:
+		g.nstate[0] = StateX
+	case contested || best < Strong:
+		g.nstate[0] = StateL + State(v)
+	default:
+		g.nstate[0] = State0 + State(v)
 	}
 }
 
