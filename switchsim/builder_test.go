@@ -1,0 +1,80 @@
+package switchsim
+
+import (
+	"strings"
+	"testing"
+)
+
+// Bad netlists built through the API give errors, never panics.
+func TestBuilderErrors(t *testing.T) {
+	cases := []struct {
+		name  string
+		build func(b *Builder) error
+		want  string
+	}{
+		{"duplicate device", func(b *Builder) error {
+			b.NMOS("m", "a", "x", "y", DeviceOpts{})
+			return b.PMOS("m", "a", "x", "y", DeviceOpts{})
+		}, "duplicate device name"},
+		{"duplicate tgate half", func(b *Builder) error {
+			b.NMOS("t.n", "a", "x", "y", DeviceOpts{})
+			return b.TGate("t", "a", "ab", "x", "y", 0, 0, 0, 0)
+		}, "duplicate device name"},
+		{"missing gate", func(b *Builder) error { return b.NMOS("m", "", "x", "y", DeviceOpts{}) }, "missing gate"},
+		{"missing channel", func(b *Builder) error { return b.PMOS("m", "g", "x", "", DeviceOpts{}) }, "missing channel"},
+		{"missing device name", func(b *Builder) error { return b.NMOS("", "g", "x", "y", DeviceOpts{}) }, "missing device name"},
+		{"charge strength as cap", func(b *Builder) error {
+			return b.NMOS("m", "g", "x", "y", DeviceOpts{Strength: Medium})
+		}, "strength must be"},
+		{"negative size", func(b *Builder) error { return b.NMOS("m", "g", "x", "y", DeviceOpts{W: -1}) }, "sizes must be positive"},
+		{"drive strength as charge", func(b *Builder) error { return b.Node("x", 0, Strong) }, "charge must be"},
+		{"input twice", func(b *Builder) error { b.Input("a"); return b.Input("a") }, "declared twice"},
+		{"same rails", func(b *Builder) error { return b.SetRails("v", "v") }, "both"},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			err := c.build(NewBuilder())
+			if err == nil || !strings.Contains(err.Error(), c.want) {
+				t.Fatalf("error %v, want one containing %q", err, c.want)
+			}
+		})
+	}
+}
+
+// Compile reports every problem it finds, not just the first.
+func TestCompileErrors(t *testing.T) {
+	b := NewBuilder()
+	b.Input("vdd")             // a rail cannot be an input
+	b.Output("nowhere")        // an output no device touches
+	b.Node("lonely", 0, Small) // a node no device touches
+	b.NMOS("m", "a", "x", "y", DeviceOpts{})
+	_, err := b.Compile()
+	if err == nil {
+		t.Fatal("compiled a bad netlist")
+	}
+	for _, want := range []string{`rail "vdd" cannot be an input`, `output "nowhere" is not connected`, `node "lonely" is not connected`} {
+		if !strings.Contains(err.Error(), want) {
+			t.Errorf("%v: missing %q", err, want)
+		}
+	}
+}
+
+// Looking up an unknown node or driving a non-input is an error, not a panic.
+func TestUnknownNode(t *testing.T) {
+	b := NewBuilder()
+	b.Input("a")
+	b.NMOS("m", "a", "x", "gnd", DeviceOpts{})
+	s := NewSim(mustCompile(t, b), Options{})
+	if _, ok := s.Netlist().Lookup("nope"); ok {
+		t.Error("found a node that does not exist")
+	}
+	if _, ok := s.Netlist().LookupDevice("m"); !ok {
+		t.Error("device m not found")
+	}
+	x, _ := s.Netlist().Lookup("x")
+	for _, n := range []int{-1, 99, x} {
+		if err := s.SetInput(n, Drive1); err == nil {
+			t.Errorf("SetInput(%d) accepted", n)
+		}
+	}
+}
