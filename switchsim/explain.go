@@ -62,7 +62,7 @@ func (s *Sim) Explain(n int) Explanation {
 		return e
 	}
 	nl := s.nl
-	members := s.floatingGroupAll(n)
+	members := s.joined(n, true)
 	for _, m := range members {
 		for _, d := range nl.chanDev[nl.chanStart[m]:nl.chanStart[m+1]] {
 			if s.cond[d] == Unknown && !containsInt(e.Unknown, int(d)) {
@@ -81,27 +81,6 @@ func (s *Sim) Explain(n int) Explanation {
 	e.Opposing = s.opposingPaths(n)
 	s.physExplain(&e)
 	return e
-}
-
-// floatingGroupAll returns n's group: the non-source nodes joined to it by
-// devices that are on or unknown.
-func (s *Sim) floatingGroupAll(n int) []int {
-	nl := s.nl
-	seen := map[int]bool{n: true}
-	list := []int{n}
-	for i := 0; i < len(list); i++ {
-		m := list[i]
-		for _, d := range nl.chanDev[nl.chanStart[m]:nl.chanStart[m+1]] {
-			if s.cond[d] == Off {
-				continue
-			}
-			if o := nl.Other(int(d), m); !s.source[o] && !seen[o] {
-				seen[o] = true
-				list = append(list, o)
-			}
-		}
-	}
-	return list
 }
 
 func (s *Sim) step(d, from, to int) PathStep {

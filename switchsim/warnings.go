@@ -104,18 +104,21 @@ func (s *Sim) sharingNames(n int) []string {
 }
 
 // floatingGroup returns n and the non-source nodes joined to it by devices that are on.
-func (s *Sim) floatingGroup(n int) []int {
+func (s *Sim) floatingGroup(n int) []int { return s.joined(n, false) }
+
+// joined returns n and the non-source nodes joined to it by devices that
+// are on, or also unknown with withUnknown (n's group).
+func (s *Sim) joined(n int, withUnknown bool) []int {
 	nl := s.nl
 	seen := map[int]bool{n: true}
 	list := []int{n}
 	for i := 0; i < len(list); i++ {
 		m := list[i]
 		for _, d := range nl.chanDev[nl.chanStart[m]:nl.chanStart[m+1]] {
-			if s.cond[d] == Off {
+			if c := s.cond[d]; c == Off || (c == Unknown && !withUnknown) {
 				continue
 			}
-			o := nl.Other(int(d), m)
-			if !s.source[o] && !seen[o] {
+			if o := nl.Other(int(d), m); !s.source[o] && !seen[o] {
 				seen[o] = true
 				list = append(list, o)
 			}
