@@ -111,6 +111,11 @@ type physState struct {
 	sorder []int32 // level searches' visiting order, part after part
 	dq     []int32 // dividerInfo's queue
 	net    physNet
+
+	// physSingle's result for the group just solved: fast is set when it
+	// took the group, fdel is the delay of its node's change.
+	fast bool
+	fdel float64
 }
 
 // physComp is one part of a group: nodes joined by devices that are on.
@@ -280,15 +285,26 @@ func (s *Sim) passLimit(d int32) float64 {
 }
 
 // limitFor computes device d's pass limit for the gate voltage recorded in gv.
+// A gate at a rail (the commonest case) takes the limit computed once in
+// limRail for that voltage: the same function of the same argument.
 func (s *Sim) limitFor(d int32) float64 {
 	t := &s.nl.Tech
-	switch s.nl.devKind[d] {
-	case NMOS:
-		return t.PassHigh(s.gateVoltsRecorded(d))
-	case PMOS:
-		return t.PassLow(s.gateVoltsRecorded(d))
+	k := s.nl.devKind[d]
+	if k > PMOS {
+		return math.NaN()
 	}
-	return math.NaN()
+	v := s.gateVoltsRecorded(d)
+	switch {
+	case !physFastPath:
+	case v == 0:
+		return s.phys.limRail[k][V0]
+	case v == s.phys.vdd:
+		return s.phys.limRail[k][V1]
+	}
+	if k == NMOS {
+		return t.PassHigh(v)
+	}
+	return t.PassLow(v)
 }
 
 // gateVoltsRecorded is gv[d], an unknown voltage taken as the full level
@@ -310,6 +326,10 @@ func (s *Sim) physGroup(g *group) {
 		return
 	}
 	p := &s.phys
+	if physFastPath && s.physSingle(g) {
+		return
+	}
+	p.fast = false
 	p.next()
 	s.physParts(g)
 	for c := range p.comps {
@@ -913,4 +933,157 @@ func (s *Sim) physResistance(d int) float64 {
 		return math.NaN()
 	}
 	return s.phys.res[d]
+}
+
+// physFastPath lets physSingle take the groups it can, and limitFor use
+// limRail (tests turn it off to compare against the general path).
+var physFastPath = true
+
+// physSingle is physGroup for the commonest group: one node, no device of
+// unknown state, sources of one value (or an X source alone, or none). It
+// gives exactly what physParts and physLevel or physCharge and physDelay
+// give for such a group, without their per-part scratch, searches and heap:
+// with one node every path is a single device to a source. It reports
+// false, having done nothing, for a group it does not take.
+func (s *Sim) physSingle(g *group) bool {
+	has := g.srcHas
+	if len(g.nodes) != 1 || g.hasUnknown || (has[VX] && (has[V0] || has[V1])) || (has[V0] && has[V1]) {
+		return false
+	}
+	nl := s.nl
+	p := &s.phys
+	n := g.nodes[0]
+	in := &p.info[n]
+	p.fast, p.fdel = true, math.NaN()
+	switch {
+	case !has[V0] && !has[V1] && !has[VX]: // floating: a lone node shares with nothing (physCharge)
+		v := s.volts[n]
+		if math.IsNaN(v) {
+			switch s.val[n] {
+			case V0:
+				v = 0
+			case V1:
+				v = p.vdd
+			}
+		}
+		before := in.Before
+		if in.How != howCharge {
+			before = math.NaN()
+		}
+		*in = noPhysRec()
+		in.How, in.Before = howCharge, before
+		g.nvolts[0] = v
+		s.shared[n] = s.shared[n] || p.shareMark[n] == s.settleID
+		p.fdel = 0 // the delay tree's root
+		return true
+	case has[VX]:
+		g.nvolts[0] = math.NaN()
+		*in = noPhysRec()
+		return true
+	}
+	v, full, fully := V0, 0.0, NMOS
+	if has[V1] {
+		v, full, fully = V1, p.vdd, PMOS
+	}
+	degr := false
+	for _, d := range g.devs {
+		if k := nl.devKind[d]; (v == V1 && k == NMOS) || (v == V0 && k == PMOS) {
+			degr = true
+			break
+		}
+	}
+	if !degr { // the least-resistance device to a source of the node's value sets the delay (delayTree)
+		*in = noPhysRec()
+		s.decideLevel(g, 0, v, full, -1)
+		if g.nval[0] != v {
+			return true
+		}
+		dist, par := math.Inf(1), int32(-1)
+		for _, d := range g.devs {
+			a, b := nl.devA[d], nl.devB[d]
+			if s.source[b] {
+				a, b = b, a
+			}
+			if !s.source[a] || s.source[b] || s.val[a] != v {
+				continue
+			}
+			if r := p.res[d]; r < dist {
+				dist, par = r, d
+			}
+		}
+		if par >= 0 {
+			p.fdel = dist * nl.nodeCap[n]
+		}
+		return true
+	}
+	lvl := g.nstr[0]
+	if lvl < Weak {
+		*in = noPhysRec()
+		g.nvolts[0] = math.NaN()
+		return true
+	}
+	// fullSearch: the least-resistance device passing v fully.
+	good, drop, par, dist := -1.0, int32(-1), int32(-1), math.Inf(1)
+	for _, d := range g.devs {
+		if k := nl.devKind[d]; nl.devCap[d] < lvl || (k != fully && k < PullUp) {
+			continue
+		}
+		a, o := nl.devA[d], nl.devB[d]
+		if s.source[o] {
+			o, a = a, o
+		}
+		if !s.source[a] || s.source[o] || s.val[a] != v {
+			continue
+		}
+		if r := p.res[d]; r < dist {
+			good, par, dist = p.vdd, d, r
+		}
+	}
+	if good < 0 { // levelSearch: the best level, ties to the lower resistance
+		for _, d := range g.devs {
+			if nl.devCap[d] < lvl {
+				continue
+			}
+			a, b := nl.devA[d], nl.devB[d]
+			switch {
+			case s.source[a] && !s.source[b] && s.val[a] == v:
+			case s.source[b] && !s.source[a] && s.val[b] == v:
+			default:
+				continue
+			}
+			gd, dr := p.vdd, int32(-1)
+			if lg := s.limitGood(d, v); lg < gd {
+				gd, dr = lg, d
+			}
+			if r := p.res[d]; gd > good || (gd == good && r < dist) {
+				good, drop, par, dist = gd, dr, d, r
+			}
+		}
+	}
+	old := *in
+	*in = noPhysRec()
+	level, ldrop := full, int32(-1)
+	if good >= 0 {
+		level, ldrop = good, drop
+		if v == V0 {
+			level = p.vdd - good
+		}
+	}
+	if prev := s.volts[n]; ldrop >= 0 && ((v == V1 && prev > level) || (v == V0 && prev < level)) {
+		level, ldrop = prev, -1 // charge retention, as in physLevel
+		if prev != full && old.How == howLevel {
+			ldrop = old.Drop
+		}
+		if prev != full && ldrop < 0 {
+			ldrop = drop
+		}
+	}
+	s.decideLevel(g, 0, v, level, ldrop)
+	if g.nval[0] == v { // the search's tree (searchDelay)
+		p.fdel = 0
+		if par >= 0 {
+			p.fdel = s.edgeResistance(par) * nl.nodeCap[n]
+		}
+	}
+	return true
 }

@@ -21,6 +21,10 @@ func (s *Sim) physDelay(g *group, i int) float64 {
 	p := &s.phys
 	n := g.nodes[i]
 	in := &p.info[n]
+	if p.fast {
+		in.Delay = p.fdel
+		return in.Delay
+	}
 	in.Delay = math.NaN()
 	c := p.nc[n]
 	v := g.nval[i]

@@ -1,0 +1,331 @@
+package switchsim_test
+
+import (
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"testing"
+	_ "unsafe" // for go:linkname
+
+	"railyard/designs"
+	sw "railyard/switchsim"
+	"railyard/switchsim/gen"
+	"railyard/switchsim/netfile"
+	"railyard/switchsim/steps"
+)
+
+// physFastPath is the engine's switch for physSingle, the fast path of
+// physical mode for one-node groups (physical.go). It is unexported, and
+// this external package is the one that can reach the random networks
+// (switchsim/gen) and the demo designs (netfile imports switchsim), so the
+// test links to it by name instead of adding an export file.
+//
+//go:linkname physFastPath railyard/switchsim.physFastPath
+var physFastPath bool
+
+// fastPair runs one network through two Sims in physical mode, the general
+// path alone (slow) and with the fast path (fast), and fails at the first
+// difference. The oracle is the general path itself (MODEL.md §4 as
+// DEVELOPERS.md words it, checked against the reference solver by
+// diff_test.go): the fast path must give exactly what it gives.
+type fastPair struct {
+	t          *testing.T
+	name       string
+	nl         *sw.Netlist
+	slow, fast *sw.Sim
+	settles    int
+	lastWarn   []sw.Warning // the fast Sim's warnings of the last settle
+}
+
+func newFastPair(t *testing.T, name string, nl *sw.Netlist) *fastPair {
+	return &fastPair{t: t, name: name, nl: nl,
+		slow: sw.NewSim(nl, sw.Options{Mode: sw.Physical}), fast: sw.NewSim(nl, sw.Options{Mode: sw.Physical})}
+}
+
+func (fp *fastPair) set(n int, d sw.Drive) {
+	if err := fp.slow.SetInput(n, d); err != nil {
+		fp.t.Fatalf("%s: %v", fp.name, err)
+	}
+	fp.fast.SetInput(n, d)
+}
+
+// sameF is exact equality, NaN equal to NaN.
+func sameF(a, b float64) bool { return a == b || (math.IsNaN(a) && math.IsNaN(b)) }
+
+func sameNode(a, b sw.NodeState) bool {
+	return a.Value == b.Value && a.Strength == b.Strength && a.State == b.State && a.Floating == b.Floating && sameF(a.Volts, b.Volts)
+}
+
+// explainText prints an explanation with its divider written out (%v of a
+// nested pointer would print the address); floats print exactly (%v uses
+// the shortest representation that reads back the same).
+func explainText(e sw.Explanation) string {
+	div := "nil"
+	if e.Divider != nil {
+		div = fmt.Sprintf("%+v", *e.Divider)
+	}
+	e.Divider = nil
+	return fmt.Sprintf("%+v divider %s", e, div)
+}
+
+func (fp *fastPair) settle(what string) {
+	t := fp.t
+	fp.settles++
+	physFastPath = false
+	rs := fp.slow.Settle()
+	physFastPath = true
+	rf := fp.fast.Settle()
+	fp.lastWarn = append(fp.lastWarn[:0], rf.Warnings...)
+	at := fmt.Sprintf("%s, settle %d (%s)", fp.name, fp.settles, what)
+	if rs.Rounds != rf.Rounds || rs.Oscillated != rf.Oscillated || len(rs.Changed) != len(rf.Changed) || len(rs.RoundEnd) != len(rf.RoundEnd) {
+		t.Fatalf("%s: rounds %d/%d, oscillated %v/%v, %d/%d changes, %d/%d round ends", at,
+			rs.Rounds, rf.Rounds, rs.Oscillated, rf.Oscillated, len(rs.Changed), len(rf.Changed), len(rs.RoundEnd), len(rf.RoundEnd))
+	}
+	for i := range rs.RoundEnd {
+		if rs.RoundEnd[i] != rf.RoundEnd[i] {
+			t.Fatalf("%s: round %d ends at %d / %d", at, i, rs.RoundEnd[i], rf.RoundEnd[i])
+		}
+	}
+	for i := range rs.Changed {
+		if rs.Changed[i] != rf.Changed[i] || !sameF(rs.Delay[i], rf.Delay[i]) || !sameNode(rs.After[i], rf.After[i]) {
+			t.Fatalf("%s: change %d: node %s delay %g after %+v / node %s delay %g after %+v", at, i,
+				fp.nl.NodeName(int(rs.Changed[i])), rs.Delay[i], rs.After[i], fp.nl.NodeName(int(rf.Changed[i])), rf.Delay[i], rf.After[i])
+		}
+	}
+	if len(rs.Warnings) != len(rf.Warnings) {
+		t.Fatalf("%s: %d / %d warnings:\n%+v\n%+v", at, len(rs.Warnings), len(rf.Warnings), rs.Warnings, rf.Warnings)
+	}
+	for i, w := range rs.Warnings {
+		v := rf.Warnings[i]
+		if w.Kind != v.Kind || w.Node != v.Node || w.Device != v.Device || w.Other != v.Other || !sameF(w.Volts, v.Volts) {
+			t.Fatalf("%s: warning %d: %+v / %+v", at, i, w, v)
+		}
+	}
+	for n := 0; n < fp.nl.NumNodes(); n++ {
+		if a, b := fp.slow.Node(n), fp.fast.Node(n); !sameNode(a, b) {
+			t.Fatalf("%s: node %s: %+v / %+v", at, fp.nl.NodeName(n), a, b)
+		}
+		// The explanation carries the physical records: degrading device,
+		// divider, charge before sharing, delay.
+		if a, b := explainText(fp.slow.Explain(n)), explainText(fp.fast.Explain(n)); a != b {
+			t.Fatalf("%s: node %s explained:\n%s\n%s", at, fp.nl.NodeName(n), a, b)
+		}
+	}
+}
+
+// snapshot saves both Sims at the same point; restore returns both to it,
+// each with its own path.
+func (fp *fastPair) snapshot() (*sw.Snapshot, *sw.Snapshot) {
+	return fp.slow.Snapshot(), fp.fast.Snapshot()
+}
+
+func (fp *fastPair) restore(a, b *sw.Snapshot) {
+	physFastPath = false
+	fp.slow.Restore(a)
+	physFastPath = true
+	fp.fast.Restore(b)
+}
+
+func TestPhysFastPathLinked(t *testing.T) {
+	if !physFastPath {
+		t.Fatal("physFastPath reads false: the link to the engine's switch (default true) is broken")
+	}
+}
+
+// Random networks (switchsim/gen) under random drives, with a random
+// technology now and then so that thresholds and limits move (a preset
+// variant: thresholds near the rails make full and lost levels common).
+func TestPhysFastPathRandom(t *testing.T) {
+	defer func() { physFastPath = true }()
+	rng := rand.New(rand.NewPCG(17, 5))
+	drives := []sw.Drive{sw.Drive0, sw.Drive1, sw.Drive0, sw.Drive1, sw.DriveX, sw.DriveZ}
+	nets := 300
+	if testing.Short() {
+		nets = 60
+	}
+	for net := 0; net < nets; net++ {
+		spec := gen.Random(rng, 2+rng.IntN(12), 2+rng.IntN(22))
+		b, err := spec.Builder()
+		if err != nil {
+			t.Fatal(err)
+		}
+		if net%3 == 1 {
+			tc := b.Tech()
+			tc.Vtn *= 0.5 + rng.Float64()
+			tc.Vtp *= 0.5 + rng.Float64()
+			tc.Gamma *= 1.5 * rng.Float64()
+			if tc.Validate() == nil {
+				b.SetTech(tc)
+			}
+		}
+		nl, err := b.Compile()
+		if err != nil {
+			t.Fatal(err)
+		}
+		fp := newFastPair(t, fmt.Sprintf("net %d\n%s", net, spec), nl)
+		var snaps [2]*sw.Snapshot
+		for step := 0; step < 10; step++ {
+			for _, in := range nl.Inputs() {
+				if step == 0 || rng.IntN(3) == 0 {
+					fp.set(in, drives[rng.IntN(len(drives))])
+				}
+			}
+			fp.settle("random drives")
+			switch {
+			case step == 3:
+				snaps[0], snaps[1] = fp.snapshot()
+			case step == 7:
+				fp.restore(snaps[0], snaps[1])
+			}
+		}
+	}
+}
+
+// The engine's benchmark networks (physical_bench_test.go), whose groups
+// are mostly lone nodes: inverter outputs, selector outputs, latch nodes.
+func TestPhysFastPathBenchNets(t *testing.T) {
+	defer func() { physFastPath = true }()
+	rng := rand.New(rand.NewPCG(2, 9))
+	for _, bn := range physBenchNets() {
+		if bn.name == "datapath200" || bn.name == "invchain1000" {
+			continue // the smaller ones below cover the same cells
+		}
+		nl, err := bn.build().Compile()
+		if err != nil {
+			t.Fatal(err)
+		}
+		fp := newFastPair(t, bn.name, nl)
+		for i, n := range nl.Inputs() {
+			d, ok := bn.setup[nl.NodeName(n)]
+			if !ok {
+				d = sw.Drive(i & 1)
+			}
+			fp.set(n, d)
+		}
+		fp.settle("setup")
+		ins := nl.Inputs()
+		for step := 0; step < 12; step++ {
+			for _, name := range bn.flip {
+				n, _ := nl.Lookup(name)
+				fp.set(n, 1-fp.slow.InputDrive(n))
+			}
+			if step%4 == 3 { // and one input at random, to X now and then
+				n := ins[rng.IntN(len(ins))]
+				fp.set(n, []sw.Drive{sw.Drive0, sw.Drive1, sw.DriveX}[rng.IntN(3)])
+			}
+			fp.settle("step")
+		}
+	}
+	for name, b := range map[string]*sw.Builder{"datapath12": gen.Sized(12), "invchain40": gen.InverterChain(40)} {
+		nl, err := b.Compile()
+		if err != nil {
+			t.Fatal(err)
+		}
+		fp := newFastPair(t, name, nl)
+		ins := nl.Inputs()
+		for step := 0; step < 16; step++ {
+			for _, n := range ins {
+				if step == 0 || rng.IntN(2) == 0 {
+					fp.set(n, sw.Drive(rng.IntN(2)))
+				}
+			}
+			fp.settle("random drives")
+		}
+	}
+}
+
+// Every demo design (designs, read by netfile) through its own steps, then
+// through random drives of its inputs.
+func TestPhysFastPathDemos(t *testing.T) {
+	defer func() { physFastPath = true }()
+	rng := rand.New(rand.NewPCG(8, 1))
+	list := designs.List()
+	if len(list) == 0 {
+		t.Fatal("no demo designs")
+	}
+	for _, e := range list {
+		d, err := netfile.ReadFile("demo:" + e.Name)
+		if err != nil {
+			t.Fatalf("demo %s: %v", e.Name, err)
+		}
+		nl := d.Netlist
+		fp := newFastPair(t, "demo:"+e.Name, nl)
+		fp.settle("initial")
+		if path, ok := steps.Default("demo:" + e.Name); ok {
+			st, err := steps.ReadFile(path, nl)
+			if err != nil {
+				t.Fatalf("demo %s steps: %v", e.Name, err)
+			}
+			for _, row := range st.Rows {
+				for i, n := range st.Apply {
+					fp.set(n, row.Drives[i])
+				}
+				fp.settle(fmt.Sprintf("steps line %d", row.Line))
+			}
+		}
+		drives := []sw.Drive{sw.Drive0, sw.Drive1, sw.Drive0, sw.Drive1, sw.DriveX, sw.DriveZ}
+		for step := 0; step < 20; step++ {
+			for _, n := range nl.Inputs() {
+				if rng.IntN(3) == 0 {
+					fp.set(n, drives[rng.IntN(len(drives))])
+				}
+			}
+			fp.settle("random drives")
+		}
+	}
+}
+
+// A lone floating node that shared charge earlier in the same settle keeps
+// its charge-sharing report (physCharge): a one-round pulse on the gate of
+// the device between two stored nodes joins them, then leaves each alone.
+// The pulse is x AND NOT x, the NOT one round late (unit delay, MODEL.md §5).
+func TestPhysFastPathSharedPulse(t *testing.T) {
+	defer func() { physFastPath = true }()
+	b := sw.NewBuilder()
+	for _, in := range []string{"x", "pre", "dis"} {
+		b.Input(in)
+	}
+	o := sw.DeviceOpts{}
+	b.PMOS("i1.p", "x", "vdd", "xb", o)
+	b.NMOS("i1.n", "x", "xb", "gnd", o)
+	b.PMOS("q.pa", "x", "vdd", "q", o) // q = NAND(x, xb)
+	b.PMOS("q.pb", "xb", "vdd", "q", o)
+	b.NMOS("q.na", "x", "q", "m", o)
+	b.NMOS("q.nb", "xb", "m", "gnd", o)
+	b.PMOS("p.p", "q", "vdd", "p", o) // p = NOT q: the pulse
+	b.NMOS("p.n", "q", "p", "gnd", o)
+	b.PMOS("pa", "pre", "vdd", "a", o) // a stored 1, b stored 0
+	b.NMOS("db", "dis", "b", "gnd", o)
+	b.NMOS("share", "p", "a", "b", o)
+	b.Node("a", 30e-15, sw.HighZ)
+	nl, err := b.Compile()
+	if err != nil {
+		t.Fatal(err)
+	}
+	look := func(name string) int {
+		n, ok := nl.Lookup(name)
+		if !ok {
+			t.Fatalf("no node %s", name)
+		}
+		return n
+	}
+	x, pre, dis := look("x"), look("pre"), look("dis")
+	fp := newFastPair(t, "pulse", nl)
+	fp.set(x, sw.Drive0)
+	fp.set(pre, sw.Drive0)
+	fp.set(dis, sw.Drive1)
+	fp.settle("charge a, discharge b")
+	fp.set(pre, sw.Drive1)
+	fp.set(dis, sw.Drive0)
+	fp.settle("store")
+	fp.set(x, sw.Drive1)
+	fp.settle("pulse")
+	// The premise (MODEL.md §4): charges 1.8 V apart meet, so b shares.
+	found := false
+	for _, w := range fp.lastWarn {
+		found = found || (w.Kind == sw.WarnChargeSharing && w.Node == look("b"))
+	}
+	if !found {
+		t.Fatalf("the pulse did not share b's charge: %+v", fp.lastWarn)
+	}
+}
