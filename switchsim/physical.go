@@ -77,6 +77,7 @@ type physState struct {
 
 	// per device
 	res []float64 // effective on-resistance, ohms
+	con []float64 // 1 / res, siemens
 	gv  []float64 // the gate's voltage at the start of the round it last changed
 	lim []float64 // pass limit for gv (nMOS: PassHigh, pMOS: PassLow), kept by physGateMoved
 	// pass limits of a device gated by a source, by kind and the source's value
@@ -148,12 +149,14 @@ func (s *Sim) physInit() {
 	p.net.denseMax = physDenseMax
 	nn, nd := nl.NumNodes(), nl.NumDevices()
 	p.res, p.gv, p.lim = make([]float64, nd), make([]float64, nd), make([]float64, nd)
+	p.con = make([]float64, nd)
 	p.limRail = [2][2]float64{{t.PassHigh(0), t.PassHigh(t.Vdd)}, {t.PassLow(0), t.PassLow(t.Vdd)}}
 	p.dmark = make([]uint32, nd)
 	p.ring = make([]int32, nd)
 	last := make(map[[2]int32]int32, nd) // channel terminals -> a device between them
 	for d := 0; d < nd; d++ {
 		p.res[d] = deviceResistance(nl, d)
+		p.con[d] = 1 / p.res[d]
 		p.gv[d] = math.NaN()
 		p.lim[d] = s.limitFor(int32(d))
 		key := [2]int32{min(nl.devA[d], nl.devB[d]), max(nl.devA[d], nl.devB[d])}

@@ -192,7 +192,7 @@ func (s *Sim) edgeResistance(d int32) float64 {
 	g := 0.0
 	for e := d; ; {
 		if s.cond[e] == On {
-			g += 1 / p.res[e]
+			g += p.con[e]
 		}
 		if e = p.ring[e]; e == d {
 			break

@@ -151,7 +151,11 @@ func (s *Sim) element(d int32, xv float64) physElem {
 	nl := s.nl
 	p := &s.phys
 	a, b := nl.devA[d], nl.devB[d]
-	e := physElem{a: -1, b: -1, g: 1 / p.res[d], dev: d}
+	g := 1 / p.res[d]
+	if physFastPath {
+		g = p.con[d] // the same quotient, worked out once
+	}
+	e := physElem{a: -1, b: -1, g: g, dev: d}
 	srcVal := VX
 	if s.source[a] {
 		e.va, srcVal = p.sourceVolts(s.val[a], xv)
