@@ -5,7 +5,6 @@ import (
 	"math"
 	"math/rand/v2"
 	"testing"
-	_ "unsafe" // for go:linkname
 
 	"railyard/designs"
 	sw "railyard/switchsim"
@@ -14,14 +13,6 @@ import (
 	"railyard/switchsim/steps"
 )
 
-// physFastPath is the engine's switch for physSingle, the fast path of
-// physical mode for one-node groups (physical.go). It is unexported, and
-// this external package is the one that can reach the random networks
-// (switchsim/gen) and the demo designs (netfile imports switchsim), so the
-// test links to it by name instead of adding an export file.
-//
-//go:linkname physFastPath railyard/switchsim.physFastPath
-var physFastPath bool
 
 // fastPair runs one network through two Sims in physical mode, the general
 // path alone (slow) and with the fast path (fast), and fails at the first
@@ -71,9 +62,9 @@ func explainText(e sw.Explanation) string {
 func (fp *fastPair) settle(what string) {
 	t := fp.t
 	fp.settles++
-	physFastPath = false
+	*sw.PhysFastPath = false
 	rs := fp.slow.Settle()
-	physFastPath = true
+	*sw.PhysFastPath = true
 	rf := fp.fast.Settle()
 	fp.lastWarn = append(fp.lastWarn[:0], rf.Warnings...)
 	at := fmt.Sprintf("%s, settle %d (%s)", fp.name, fp.settles, what)
@@ -120,15 +111,15 @@ func (fp *fastPair) snapshot() (*sw.Snapshot, *sw.Snapshot) {
 }
 
 func (fp *fastPair) restore(a, b *sw.Snapshot) {
-	physFastPath = false
+	*sw.PhysFastPath = false
 	fp.slow.Restore(a)
-	physFastPath = true
+	*sw.PhysFastPath = true
 	fp.fast.Restore(b)
 }
 
 func TestPhysFastPathLinked(t *testing.T) {
-	if !physFastPath {
-		t.Fatal("physFastPath reads false: the link to the engine's switch (default true) is broken")
+	if !*sw.PhysFastPath {
+		t.Fatal("physFastPath reads false: the engine's switch should default to true")
 	}
 }
 
@@ -136,7 +127,7 @@ func TestPhysFastPathLinked(t *testing.T) {
 // technology now and then so that thresholds and limits move (a preset
 // variant: thresholds near the rails make full and lost levels common).
 func TestPhysFastPathRandom(t *testing.T) {
-	defer func() { physFastPath = true }()
+	defer func() { *sw.PhysFastPath = true }()
 	rng := rand.New(rand.NewPCG(17, 5))
 	drives := []sw.Drive{sw.Drive0, sw.Drive1, sw.Drive0, sw.Drive1, sw.DriveX, sw.DriveZ}
 	nets := 300
@@ -184,7 +175,7 @@ func TestPhysFastPathRandom(t *testing.T) {
 // The engine's benchmark networks (physical_bench_test.go), whose groups
 // are mostly lone nodes: inverter outputs, selector outputs, latch nodes.
 func TestPhysFastPathBenchNets(t *testing.T) {
-	defer func() { physFastPath = true }()
+	defer func() { *sw.PhysFastPath = true }()
 	rng := rand.New(rand.NewPCG(2, 9))
 	for _, bn := range physBenchNets() {
 		if bn.name == "datapath200" || bn.name == "invchain1000" {
@@ -237,7 +228,7 @@ func TestPhysFastPathBenchNets(t *testing.T) {
 // Every demo design (designs, read by netfile) through its own steps, then
 // through random drives of its inputs.
 func TestPhysFastPathDemos(t *testing.T) {
-	defer func() { physFastPath = true }()
+	defer func() { *sw.PhysFastPath = true }()
 	rng := rand.New(rand.NewPCG(8, 1))
 	list := designs.List()
 	if len(list) == 0 {
@@ -280,7 +271,7 @@ func TestPhysFastPathDemos(t *testing.T) {
 // the device between two stored nodes joins them, then leaves each alone.
 // The pulse is x AND NOT x, the NOT one round late (unit delay, MODEL.md §5).
 func TestPhysFastPathSharedPulse(t *testing.T) {
-	defer func() { physFastPath = true }()
+	defer func() { *sw.PhysFastPath = true }()
 	b := sw.NewBuilder()
 	for _, in := range []string{"x", "pre", "dis"} {
 		b.Input(in)
