@@ -13,7 +13,6 @@ import (
 	"railyard/switchsim/steps"
 )
 
-
 // fastPair runs one network through two Sims in physical mode, the general
 // path alone (slow) and with the fast path (fast), and fails at the first
 // difference. The oracle is the general path itself (MODEL.md §4 as
