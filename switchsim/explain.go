@@ -52,6 +52,7 @@ type PathStep struct {
 	GateValue  Value
 	Conduction Conduction
 	From, To   int
+	Parallel   []int // other devices that are on between the same two nodes (a transmission gate's other half)
 }
 
 // Explain says why node n holds its present state. It searches the node's
@@ -89,7 +90,14 @@ func (s *Sim) step(d, from, to int) PathStep {
 	if g >= 0 {
 		gv = s.val[g]
 	}
-	return PathStep{Device: d, Gate: g, GateValue: gv, Conduction: s.cond[d], From: from, To: to}
+	ps := PathStep{Device: d, Gate: g, GateValue: gv, Conduction: s.cond[d], From: from, To: to}
+	nl := s.nl
+	for _, o := range nl.chanDev[nl.chanStart[from]:nl.chanStart[from+1]] {
+		if int(o) != d && s.cond[o] == On && nl.Other(int(o), from) == to {
+			ps.Parallel = append(ps.Parallel, int(o))
+		}
+	}
+	return ps
 }
 
 // winningPaths follows the resolved strengths back from n: through devices

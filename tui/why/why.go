@@ -272,8 +272,15 @@ func pathLines(nl *switchsim.Netlist, p switchsim.Path, st Styles) []string {
 		if s.Gate >= 0 {
 			gate = fmt.Sprintf("gate %s=%s", nl.NodeName(s.Gate), s.GateValue)
 		}
-		out = append(out, fmt.Sprintf("    %s %s %s  %s, %s %s %s", st.Device.Render(dv.Name), dv.Kind, gate,
-			s.Conduction, nl.NodeName(s.From), t.G.Arrow, nl.NodeName(s.To)))
+		par := ""
+		for _, o := range s.Parallel {
+			par += ", " + st.Device.Render(nl.Device(o).Name)
+		}
+		if par != "" {
+			par = " (in parallel with" + par[1:] + ")"
+		}
+		out = append(out, fmt.Sprintf("    %s %s %s  %s, %s %s %s%s", st.Device.Render(dv.Name), dv.Kind, gate,
+			s.Conduction, nl.NodeName(s.From), t.G.Arrow, nl.NodeName(s.To), par))
 	}
 	if len(p.Steps) == 0 {
 		out = append(out, st.Dim.Render("    (its own stored charge)"))
