@@ -668,16 +668,7 @@ func TestPhysUnknownDeviceKeepsX(t *testing.T) {
 
 func TestPhysRingStillOscillates(t *testing.T) {
 	// The round limit works the same in physical mode (MODEL.md §5).
-	b := NewBuilder()
-	b.Input("en")
-	b.PMOS("p0", "en", "vdd", "n0", DeviceOpts{})
-	b.PMOS("p0b", "n2", "vdd", "n0", DeviceOpts{})
-	b.NMOS("m0", "en", "n0", "x0", DeviceOpts{})
-	b.NMOS("m0b", "n2", "x0", "gnd", DeviceOpts{})
-	for i, io := range [][2]string{{"n0", "n1"}, {"n1", "n2"}} {
-		b.PMOS("p"+string(rune('1'+i)), io[0], "vdd", io[1], DeviceOpts{})
-		b.NMOS("m"+string(rune('1'+i)), io[0], io[1], "gnd", DeviceOpts{})
-	}
+	b := gatedRing()
 	s := phSim(t, b, Physical)
 	if r := phApply(t, s, map[string]Drive{"en": Drive0}); r.Oscillated {
 		t.Fatal("disabled ring oscillated")

@@ -52,17 +52,7 @@ func TestSmokeInverter(t *testing.T) {
 
 // A ring of three inverters oscillates (common practice).
 func TestSmokeRing(t *testing.T) {
-	b := NewBuilder()
-	b.Input("en")
-	// a NAND as the first stage so the ring can be enabled
-	b.PMOS("p0", "en", "vdd", "n0", DeviceOpts{})
-	b.PMOS("p0b", "n2", "vdd", "n0", DeviceOpts{})
-	b.NMOS("m0", "en", "n0", "x0", DeviceOpts{})
-	b.NMOS("m0b", "n2", "x0", "gnd", DeviceOpts{})
-	for i, io := range [][2]string{{"n0", "n1"}, {"n1", "n2"}} {
-		b.PMOS("p"+string(rune('1'+i)), io[0], "vdd", io[1], DeviceOpts{})
-		b.NMOS("m"+string(rune('1'+i)), io[0], io[1], "gnd", DeviceOpts{})
-	}
+	b := gatedRing()
 	s := NewSim(mustCompile(t, b), Options{Mode: Ideal})
 	set(t, s, "en", Drive0)
 	if r := s.Settle(); r.Oscillated {
@@ -152,4 +142,20 @@ func abs(x float64) float64 {
 		return -x
 	}
 	return x
+}
+
+// gatedRing is a NAND (enable en) and two inverters in a ring: three
+// inverting stages, so it oscillates while en is 1 (common practice).
+func gatedRing() *Builder {
+	b := NewBuilder()
+	b.Input("en")
+	b.PMOS("p0", "en", "vdd", "n0", DeviceOpts{})
+	b.PMOS("p0b", "n2", "vdd", "n0", DeviceOpts{})
+	b.NMOS("m0", "en", "n0", "x0", DeviceOpts{})
+	b.NMOS("m0b", "n2", "x0", "gnd", DeviceOpts{})
+	for i, io := range [][2]string{{"n0", "n1"}, {"n1", "n2"}} {
+		b.PMOS("p"+string(rune('1'+i)), io[0], "vdd", io[1], DeviceOpts{})
+		b.NMOS("m"+string(rune('1'+i)), io[0], io[1], "gnd", DeviceOpts{})
+	}
+	return b
 }
