@@ -572,14 +572,8 @@ func (s *Sim) levelSearch(c int32, v Value, lvl Strength) {
 		if nl.devCap[d] < lvl {
 			continue
 		}
-		a, b := nl.devA[d], nl.devB[d]
-		var o int32
-		switch {
-		case s.source[a] && !s.source[b] && s.val[a] == v:
-			o = b
-		case s.source[b] && !s.source[a] && s.val[b] == v:
-			o = a
-		default:
+		o, ok := s.fedBy(d, v)
+		if !ok {
 			continue
 		}
 		gd, dr := full, int32(-1)
@@ -1089,4 +1083,17 @@ func (s *Sim) physSingle(g *group) bool {
 		}
 	}
 	return true
+}
+
+// fedBy returns the end of device d that is not a source when its other end
+// is a source of value v: where v enters a part through d.
+func (s *Sim) fedBy(d int32, v Value) (int32, bool) {
+	a, b := s.nl.devA[d], s.nl.devB[d]
+	switch {
+	case s.source[a] && !s.source[b] && s.val[a] == v:
+		return b, true
+	case s.source[b] && !s.source[a] && s.val[b] == v:
+		return a, true
+	}
+	return -1, false
 }

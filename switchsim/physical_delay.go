@@ -75,14 +75,8 @@ func (s *Sim) delayTree(c int32, v Value, floating bool) {
 		h.push(0, root)
 	} else {
 		for _, d := range cp.devs {
-			a, b := nl.devA[d], nl.devB[d]
-			var o int32
-			switch {
-			case s.source[a] && !s.source[b] && s.val[a] == v:
-				o = b
-			case s.source[b] && !s.source[a] && s.val[b] == v:
-				o = a
-			default:
+			o, ok := s.fedBy(d, v)
+			if !ok {
 				continue
 			}
 			if r := p.res[d]; r < p.dist[o] {
