@@ -21,6 +21,7 @@ import (
 
 	"railyard/designs"
 	"railyard/switchsim"
+	"railyard/switchsim/diag"
 )
 
 // Design is a design file read and compiled.
@@ -30,6 +31,21 @@ type Design struct {
 	Source     []byte // the file's bytes as read
 	File       string // the name it was read as: a path or demo:NAME
 	Tree       *Tree  // the statements as written, for the writer; nil for a design made from a netlist
+	// Corners are the technology corners the design names (`corner` statements
+	// of a .sw file), in the order written; each is the design's tech with
+	// some keys replaced.
+	Corners []Corner
+	// Notes are what the reader noticed without refusing the file (elements
+	// skipped, delays ignored, sizes that look scaled), with positions; the
+	// commands print them to stderr.
+	Notes diag.List
+}
+
+// Corner is one named technology corner of a design.
+type Corner struct {
+	Name string
+	Tech switchsim.Tech
+	Pos  diag.Pos
 }
 
 // Read reads a design from src with the default limits; filename is used in
