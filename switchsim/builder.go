@@ -28,7 +28,8 @@ type Builder struct {
 	devs     []bdev
 	inputs   []int32
 	outputs  []int32
-	declared map[string]bool // names given to Input/Output/Node
+	declared map[string]bool   // names given to Input/Output/Node
+	original map[string]string // railyard name -> the spelling a netlist gave it
 }
 
 type bnode struct {
@@ -224,6 +225,24 @@ func (b *Builder) Pull(name, node string, up bool, s Strength) error {
 		kind = PullUp
 	}
 	return b.device(name, kind, "", "", node, DeviceOpts{Strength: s})
+}
+
+// Original records the spelling a node or device had in the file it came
+// from (a netlist's `a_193_47#` or `net<3>`) when its railyard name
+// differs. People are shown the original (Netlist.DisplayName); files that
+// railyard writes and reads back (steps, traces) use the railyard name.
+func (b *Builder) Original(name, original string) error {
+	if name == "" || original == "" {
+		return errors.New("missing name")
+	}
+	if name == original {
+		return nil
+	}
+	if b.original == nil {
+		b.original = map[string]string{}
+	}
+	b.original[name] = original
+	return nil
 }
 
 // HasDevice reports whether a device of that name exists.

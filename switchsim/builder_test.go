@@ -78,3 +78,43 @@ func TestUnknownNode(t *testing.T) {
 		}
 	}
 }
+
+// TestOriginalNames: a node and a device named by a netlist in a spelling
+// the design format cannot hold keep that spelling for display and are
+// found by either name.
+func TestOriginalNames(t *testing.T) {
+	b := NewBuilder()
+	b.Input("a")
+	b.NMOS("mn_3_", "a", "net_3_", "gnd", DeviceOpts{})
+	b.PMOS("mp", "a", "net_3_", "vdd", DeviceOpts{})
+	if err := b.Original("net_3_", "net<3>"); err != nil {
+		t.Fatal(err)
+	}
+	b.Original("mn_3_", "MN<3>")
+	nl, err := b.Compile()
+	if err != nil {
+		t.Fatal(err)
+	}
+	n, ok := nl.Lookup("net<3>")
+	m, ok2 := nl.Lookup("net_3_")
+	if !ok || !ok2 || n != m {
+		t.Fatalf("lookup by both names: %d %v, %d %v", n, ok, m, ok2)
+	}
+	if got := nl.DisplayName(n); got != "net<3>" {
+		t.Errorf("DisplayName = %q, want net<3>", got)
+	}
+	if got := nl.NodeName(n); got != "net_3_" {
+		t.Errorf("NodeName = %q, want net_3_", got)
+	}
+	a, _ := nl.Lookup("a")
+	if nl.DisplayName(a) != "a" {
+		t.Errorf("a node without an original shows %q", nl.DisplayName(a))
+	}
+	d, ok := nl.LookupDevice("MN<3>")
+	if !ok || nl.DeviceDisplayName(d) != "MN<3>" || nl.Device(d).Name != "mn_3_" {
+		t.Errorf("device: %d %v %q", d, ok, nl.DeviceDisplayName(d))
+	}
+	if _, ok := nl.Lookup("nothing"); ok {
+		t.Error("found a node that does not exist")
+	}
+}

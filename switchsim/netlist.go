@@ -38,6 +38,10 @@ type Netlist struct {
 	chanDev   []int32
 	gateStart []int32 // CSR: devices gated by node n
 	gateDev   []int32
+
+	// original spellings (Builder.Original), nil when every name is its own
+	nodeOrig, devOrig     []string
+	nodeByOrig, devByOrig []int32
 }
 
 // CompileError lists every problem Compile found.
@@ -130,6 +134,10 @@ func (b *Builder) Compile() (*Netlist, error) {
 	}
 	// Sorted indices instead of maps: 4 bytes a name instead of a map entry.
 	nl.nodeByName, nl.devByName = byName(nl.nodeName), byName(nl.devName)
+	if len(b.original) > 0 {
+		nl.nodeOrig, nl.devOrig = originals(nl.nodeName, b.original), originals(nl.devName, b.original)
+		nl.nodeByOrig, nl.devByOrig = byName(nl.nodeOrig), byName(nl.devOrig)
+	}
 	nl.chanStart, nl.chanDev = csr(nn, nd, func(d int, emit func(int32)) {
 		emit(nl.devA[d])
 		if nl.devB[d] != nl.devA[d] {
@@ -142,6 +150,19 @@ func (b *Builder) Compile() (*Netlist, error) {
 		}
 	})
 	return nl, nil
+}
+
+// originals lists the original spelling of each name (the name itself
+// where none was recorded).
+func originals(names []string, orig map[string]string) []string {
+	out := make([]string, len(names))
+	for i, n := range names {
+		out[i] = n
+		if o, ok := orig[n]; ok {
+			out[i] = o
+		}
+	}
+	return out
 }
 
 // csr builds a compressed adjacency from devices to the nodes each names.
@@ -178,8 +199,25 @@ func (nl *Netlist) NumNodes() int { return len(nl.nodeName) }
 // NumDevices is the number of devices after expansion.
 func (nl *Netlist) NumDevices() int { return len(nl.devName) }
 
-// NodeName returns a node's name.
+// NodeName returns a node's railyard name: the one files use.
 func (nl *Netlist) NodeName(n int) string { return nl.nodeName[n] }
+
+// DisplayName returns a node's name as a person should read it: the
+// spelling of the netlist it came from where that differs, else NodeName.
+func (nl *Netlist) DisplayName(n int) string {
+	if nl.nodeOrig != nil {
+		return nl.nodeOrig[n]
+	}
+	return nl.nodeName[n]
+}
+
+// DeviceDisplayName is DisplayName for device d.
+func (nl *Netlist) DeviceDisplayName(d int) string {
+	if nl.devOrig != nil {
+		return nl.devOrig[d]
+	}
+	return nl.devName[d]
+}
 
 // NodeKind returns whether a node is a rail, an input or internal.
 func (nl *Netlist) NodeKind(n int) NodeKind { return nl.nodeKind[n] }
@@ -190,14 +228,20 @@ func (nl *Netlist) NodeCap(n int) float64 { return nl.nodeCap[n] }
 // NodeCharge returns a node's charge class.
 func (nl *Netlist) NodeCharge(n int) Strength { return nl.nodeCharge[n] }
 
-// Lookup finds a node by name.
+// Lookup finds a node by its railyard name or its original spelling.
 func (nl *Netlist) Lookup(name string) (int, bool) {
-	return lookup(nl.nodeName, nl.nodeByName, name)
+	if n, ok := lookup(nl.nodeName, nl.nodeByName, name); ok || nl.nodeOrig == nil {
+		return n, ok
+	}
+	return lookup(nl.nodeOrig, nl.nodeByOrig, name)
 }
 
-// LookupDevice finds a device by name.
+// LookupDevice finds a device by its railyard name or its original spelling.
 func (nl *Netlist) LookupDevice(name string) (int, bool) {
-	return lookup(nl.devName, nl.devByName, name)
+	if d, ok := lookup(nl.devName, nl.devByName, name); ok || nl.devOrig == nil {
+		return d, ok
+	}
+	return lookup(nl.devOrig, nl.devByOrig, name)
 }
 
 // Power and Ground return the rails' node numbers.
