@@ -256,7 +256,7 @@ func (s *Sim) physExplain(e *Explanation) {
 	switch in.How {
 	case howLevel:
 		e.Degrader = int(in.Drop)
-	case howDivider:
+	case howFight:
 		e.Divider = &Divider{Up: in.RUp, Down: in.RDown, UpDevice: int(in.Up), DownDevice: int(in.Down), Volts: in.Volts}
 	}
 	if e.Floating {

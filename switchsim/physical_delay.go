@@ -107,10 +107,7 @@ func (s *Sim) delayTree(c int32, v Value, floating bool) {
 			if s.cond[d] != On {
 				continue
 			}
-			o := nl.devA[d]
-			if o == m {
-				o = nl.devB[d]
-			}
+			o := nl.other(d, m)
 			if s.source[o] || p.stamp[o] == gen {
 				continue
 			}
@@ -147,10 +144,7 @@ func (s *Sim) elmore(order []int32, tdel []float64) {
 		if d < 0 {
 			return -1
 		}
-		o := nl.devA[d]
-		if o == m {
-			o = nl.devB[d]
-		}
+		o := nl.other(d, m)
 		if s.source[o] {
 			return -1
 		}

@@ -28,8 +28,10 @@ type fastPair struct {
 }
 
 func newFastPair(t *testing.T, name string, nl *sw.Netlist) *fastPair {
-	return &fastPair{t: t, name: name, nl: nl,
+	fp := &fastPair{t: t, name: name, nl: nl,
 		slow: sw.NewSim(nl, sw.Options{Mode: sw.Physical}), fast: sw.NewSim(nl, sw.Options{Mode: sw.Physical})}
+	fp.slow.SetPhysFastPath(false)
+	return fp
 }
 
 func (fp *fastPair) set(n int, d sw.Drive) {
@@ -61,9 +63,7 @@ func explainText(e sw.Explanation) string {
 func (fp *fastPair) settle(what string) {
 	t := fp.t
 	fp.settles++
-	*sw.PhysFastPath = false
 	rs := fp.slow.Settle()
-	*sw.PhysFastPath = true
 	rf := fp.fast.Settle()
 	fp.lastWarn = append(fp.lastWarn[:0], rf.Warnings...)
 	at := fmt.Sprintf("%s, settle %d (%s)", fp.name, fp.settles, what)
@@ -110,15 +110,22 @@ func (fp *fastPair) snapshot() (*sw.Snapshot, *sw.Snapshot) {
 }
 
 func (fp *fastPair) restore(a, b *sw.Snapshot) {
-	*sw.PhysFastPath = false
 	fp.slow.Restore(a)
-	*sw.PhysFastPath = true
 	fp.fast.Restore(b)
 }
 
 func TestPhysFastPathLinked(t *testing.T) {
-	if !*sw.PhysFastPath {
-		t.Fatal("physFastPath reads false: the engine's switch should default to true")
+	nl, err := gen.InverterChain(2).Compile()
+	if err != nil {
+		t.Fatal(err)
+	}
+	s := sw.NewSim(nl, sw.Options{})
+	if !s.PhysFastPath() {
+		t.Fatal("a new Sim's fast path is off: the switch should default to on")
+	}
+	s.SetPhysFastPath(false)
+	if s.PhysFastPath() || !sw.NewSim(nl, sw.Options{}).PhysFastPath() {
+		t.Fatal("the switch is not per Sim")
 	}
 }
 
@@ -126,7 +133,6 @@ func TestPhysFastPathLinked(t *testing.T) {
 // technology now and then so that thresholds and limits move (a preset
 // variant: thresholds near the rails make full and lost levels common).
 func TestPhysFastPathRandom(t *testing.T) {
-	defer func() { *sw.PhysFastPath = true }()
 	rng := rand.New(rand.NewPCG(17, 5))
 	drives := []sw.Drive{sw.Drive0, sw.Drive1, sw.Drive0, sw.Drive1, sw.DriveX, sw.DriveZ}
 	nets := 300
@@ -174,7 +180,6 @@ func TestPhysFastPathRandom(t *testing.T) {
 // The engine's benchmark networks (physical_bench_test.go), whose groups
 // are mostly lone nodes: inverter outputs, selector outputs, latch nodes.
 func TestPhysFastPathBenchNets(t *testing.T) {
-	defer func() { *sw.PhysFastPath = true }()
 	rng := rand.New(rand.NewPCG(2, 9))
 	for _, bn := range physBenchNets() {
 		if bn.name == "datapath200" || bn.name == "invchain1000" {
@@ -227,7 +232,6 @@ func TestPhysFastPathBenchNets(t *testing.T) {
 // Every demo design (designs, read by netfile) through its own steps, then
 // through random drives of its inputs.
 func TestPhysFastPathDemos(t *testing.T) {
-	defer func() { *sw.PhysFastPath = true }()
 	rng := rand.New(rand.NewPCG(8, 1))
 	list := designs.List()
 	if len(list) == 0 {
@@ -270,7 +274,6 @@ func TestPhysFastPathDemos(t *testing.T) {
 // the device between two stored nodes joins them, then leaves each alone.
 // The pulse is x AND NOT x, the NOT one round late (unit delay, MODEL.md §5).
 func TestPhysFastPathSharedPulse(t *testing.T) {
-	defer func() { *sw.PhysFastPath = true }()
 	b := sw.NewBuilder()
 	for _, in := range []string{"x", "pre", "dis"} {
 		b.Input(in)

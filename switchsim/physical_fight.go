@@ -2,7 +2,8 @@ package switchsim
 
 import "math"
 
-// The resistor network of a contested part (MODEL.md §4, contention).
+// Fights: the resistor network of a contested part, a part where sources of
+// both values meet (MODEL.md §4, contention).
 //
 // Every device that is on is a conductance G = 1 / R between its channel
 // terminals. A device whose pass limit can bite carries the current
@@ -152,7 +153,7 @@ func (s *Sim) element(d int32, xv float64) physElem {
 	p := &s.phys
 	a, b := nl.devA[d], nl.devB[d]
 	g := 1 / p.res[d]
-	if physFastPath {
+	if !p.slow {
 		g = p.con[d] // the same quotient, worked out once
 	}
 	e := physElem{a: -1, b: -1, g: g, dev: d}
@@ -392,12 +393,12 @@ func (nt *physNet) solveNode(j int) float64 {
 	return x
 }
 
-// physDivider estimates a part where sources of both values (or an X source
+// physFight estimates a part where sources of both values (or an X source
 // and a value) meet: it solves the network and decides each node by VIL/VIH.
 // An X source may stand anywhere from 0 to vdd; the network is solved with
 // it at both ends (the node voltages rise with it), and a node gets a value
 // only if both solutions give it, at the end nearer the band.
-func (s *Sim) physDivider(g *group, c int32) {
+func (s *Sim) physFight(g *group, c int32) {
 	p := &s.phys
 	cp := &p.comps[c]
 	nt := &p.net
@@ -430,7 +431,7 @@ func (s *Sim) physDivider(g *group, c int32) {
 			volts = lo
 		}
 		p.info[n] = noPhysRec()
-		p.info[n].How = howDivider
+		p.info[n].How = howFight
 		// The ideal strength is that of the ideal winner, and of both values
 		// where they fought; only a value the network turned round needs its
 		// own strength.
@@ -456,7 +457,7 @@ func (s *Sim) physDivider(g *group, c int32) {
 	}
 }
 
-// dividerInfo finds, for a contested node (howDivider) at the present
+// fightInfo finds, for a contested node (howFight) at the present
 // voltages, the devices carrying the largest current into it from the 1
 // side and out of it to the 0 side and its effective resistances up and
 // down: with I the current through the node, RUp = (vdd - V) / I and
@@ -464,7 +465,7 @@ func (s *Sim) physDivider(g *group, c int32) {
 // are the two branch resistances. A node no current passes (a dead end of
 // the network) takes them from the nearest contested node that has some.
 // It is computed on demand (warnings, explanation), not in the solve.
-func (s *Sim) dividerInfo(n int32) (up, down int32, rUp, rDown float64) {
+func (s *Sim) fightInfo(n int32) (up, down int32, rUp, rDown float64) {
 	nl := s.nl
 	p := &s.phys
 	p.next()
@@ -485,14 +486,13 @@ func (s *Sim) dividerInfo(n int32) (up, down int32, rUp, rDown float64) {
 				continue
 			}
 			e := s.element(d, xv)
-			o := nl.devA[d]
-			other := e.va
-			if o == m {
-				o, other = nl.devB[d], e.vb
+			o, other := nl.other(d, m), e.va
+			if o != nl.devA[d] {
+				other = e.vb
 			}
 			if !s.source[o] {
 				other = s.volts[o]
-				if p.stamp[o] != p.gen && p.info[o].How == howDivider {
+				if p.stamp[o] != p.gen && p.info[o].How == howFight {
 					p.stamp[o] = p.gen
 					queue = append(queue, o)
 				}
@@ -535,12 +535,8 @@ func (s *Sim) reachStrength(c int32) {
 	}
 	q := p.order[:0]
 	for _, d := range cp.devs {
-		a, b := nl.devA[d], nl.devB[d]
-		o, src := b, a
-		if s.source[b] {
-			o, src = a, b
-		}
-		if !s.source[src] || s.source[o] {
+		src, o, ok := s.sourceEnd(d)
+		if !ok {
 			continue
 		}
 		st, v := nl.devCap[d], s.val[src]
@@ -565,10 +561,7 @@ func (s *Sim) reachStrength(c int32) {
 			if s.cond[d] != On {
 				continue
 			}
-			o := nl.devA[d]
-			if o == m {
-				o = nl.devB[d]
-			}
+			o := nl.other(d, m)
 			if s.source[o] {
 				continue
 			}
