@@ -38,7 +38,8 @@ type physHow uint8
 const (
 	howNone   physHow = iota // no estimate: ideal mode, a source, or X kept from the ternary method
 	howLevel                 // driven by one value: best path level
-	howFight                 // driven by both values: resistor network
+	howFight                 // a fight: driven by both values, its DC point solved (physical_fight.go)
+	howLeak                  // driven by one value and moved by partly-on devices: solved as a fight
 	howCharge                // floating: charge conservation
 )
 
@@ -59,6 +60,7 @@ type physNode struct {
 	// worked out on demand from the present voltages, see fightInfo).
 	Up, Down   int32
 	RUp, RDown float64
+	Amps       float64 // the current through a node of a fight, A
 	// Before is the voltage the node held before it last shared charge
 	// (howCharge with a charge-sharing event), NaN otherwise.
 	Before float64
@@ -69,12 +71,21 @@ type physNode struct {
 // physRec is the part of physNode kept per node between settles; the rest
 // is worked out when asked for (physInfo).
 type physRec struct {
-	How           physHow
-	Drop          int32
+	How  physHow
+	Drop int32
+	// Up and Down are, for a node of a fight, the devices carrying the most
+	// current into it from the 1 side and out of it to the 0 side, as the
+	// solve left them (-1: none); upLater where fightInfo must work them out.
+	Up, Down      int32
 	Before, Delay float64
 }
 
-func noPhysRec() physRec { return physRec{Drop: -1, Before: math.NaN(), Delay: math.NaN()} }
+// upLater marks a fight's devices as not recorded by the solve.
+const upLater = -2
+
+func noPhysRec() physRec {
+	return physRec{Drop: -1, Up: -1, Down: -1, Before: math.NaN(), Delay: math.NaN()}
+}
 
 // physState is the Sim's physical-mode state. Every slice is allocated in
 // physInit; the scratch grows on first use and is reused afterwards.
@@ -82,8 +93,9 @@ type physState struct {
 	vil, vih, vm, vdd float64
 
 	// per device
-	res []float64 // effective on-resistance, ohms
-	con []float64 // 1 / res, siemens
+	res  []float64 // effective on-resistance, ohms (the delay estimate)
+	con  []float64 // 1 / res, siemens
+	beta []float64 // the fight's device equations: k' W / L of a transistor (A/V^2), 1 / R of a pull (S)
 	gv  []float64 // the gate's voltage at the start of the round it last changed
 	lim []float64 // pass limit for gv (nMOS: PassHigh, pMOS: PassLow), kept by physGateMoved
 	// pass limits of a device gated by a source, by kind and the source's value
@@ -92,7 +104,8 @@ type physState struct {
 
 	// per node, kept between settles
 	info      []physRec
-	shareMark []uint32 // settle stamp of the last charge-sharing event
+	shareMark []uint32  // settle stamp of the last charge-sharing event
+	fightV    []fightStart // where the node's next fight solve starts
 
 	// per node, scratch of the group being solved
 	gidx  []int32   // the node's index in g.nodes
@@ -109,6 +122,14 @@ type physState struct {
 	gen   uint32
 
 	dmark []uint32 // device -> gen when listed in a part
+
+	// Partly-on devices (off by logic, but the gate's voltage passes the
+	// threshold from a rail): leak[d] marks one, leakAt[n] counts those whose
+	// channel touches node n, so that a part without any is not searched.
+	leak    []bool
+	leakAt  []int32
+	cl      []int32 // the leaking devices of the parts, part after part
+	anyLeak bool    // the group being solved touches a partly-on device
 
 	comps  []physComp
 	cn     []int32 // nodes of the parts, part after part (with devices of unknown state)
@@ -134,6 +155,7 @@ type physState struct {
 type physComp struct {
 	nodes []int32 // in g.nodes or cn
 	devs  []int32 // devices that are on, in g.devs or ce
+	leaks []int32 // partly-on devices from its nodes to a source or to each other, in cl
 	has   [3]bool // values of the sources it touches
 	degr  [2]bool // it holds a device that can degrade a 0 (pMOS) / a 1 (nMOS)
 	tree  [2]bool // the delay tree for value v is built
@@ -144,8 +166,9 @@ type physComp struct {
 }
 
 type physSnapshot struct {
-	gv   []float64
-	info []physRec
+	gv     []float64
+	fightV []fightStart
+	info   []physRec
 }
 
 func (s *Sim) physInit() {
@@ -160,7 +183,9 @@ func (s *Sim) physInit() {
 	p.net.denseMax = physDenseMax
 	nn, nd := nl.NumNodes(), nl.NumDevices()
 	p.res, p.gv, p.lim = make([]float64, nd), make([]float64, nd), make([]float64, nd)
-	p.con = make([]float64, nd)
+	p.con, p.beta = make([]float64, nd), make([]float64, nd)
+	p.leak, p.leakAt = make([]bool, nd), make([]int32, nn)
+	p.net.init(t)
 	p.limRail = [2][2]float64{{t.PassHigh(0), t.PassHigh(t.Vdd)}, {t.PassLow(0), t.PassLow(t.Vdd)}}
 	p.dmark = make([]uint32, nd)
 	p.ring = make([]int32, nd)
@@ -168,6 +193,7 @@ func (s *Sim) physInit() {
 	for d := 0; d < nd; d++ {
 		p.res[d] = deviceResistance(nl, d)
 		p.con[d] = 1 / p.res[d]
+		p.beta[d] = deviceBeta(nl, d)
 		p.gv[d] = math.NaN()
 		p.lim[d] = s.limitFor(int32(d))
 		key := [2]int32{min(nl.devA[d], nl.devB[d]), max(nl.devA[d], nl.devB[d])}
@@ -183,6 +209,10 @@ func (s *Sim) physInit() {
 		p.info[n] = noPhysRec()
 	}
 	p.shareMark = make([]uint32, nn)
+	p.fightV = make([]fightStart, nn)
+	for n := range p.fightV {
+		p.fightV[n] = noFightStart()
+	}
 	p.gidx, p.nc, p.li = make([]int32, nn), make([]int32, nn), make([]int32, nn)
 	p.drop, p.par = make([]int32, nn), make([]int32, nn)
 	p.good, p.dist, p.sub = make([]float64, nn), make([]float64, nn), make([]float64, nn)
@@ -193,54 +223,71 @@ func (s *Sim) physInit() {
 
 func noPhysNode() physNode {
 	nan := math.NaN()
-	return physNode{Volts: nan, Drop: -1, Up: -1, Down: -1, RUp: nan, RDown: nan, Before: nan, Delay: nan}
-}
-
-// deviceResistance is R = r_sq L / W with rn for nMOS and rp for pMOS. Pulls
-// have no size and take Tech.DefaultResistance of their strength; so do pull
-// and weak transistors left at the default size (the netlist does not say
-// whether a size was given, so the default size stands for "none"), unless
-// their sized resistance is already higher.
-func deviceResistance(nl *Netlist, d int) float64 {
-	t := nl.Tech
-	k, st := nl.devKind[d], nl.devCap[d]
-	switch k {
-	case PullUp, PullDown:
-		return t.DefaultResistance(st)
-	}
-	rsq, w0 := t.Rn, t.Wn
-	if k == PMOS {
-		rsq, w0 = t.Rp, t.Wp
-	}
-	r := rsq * nl.devL[d] / nl.devW[d]
-	if st < Strong && nl.devW[d] == w0 && nl.devL[d] == t.L {
-		r = max(r, t.DefaultResistance(st))
-	}
-	return r
+	return physNode{Volts: nan, Drop: -1, Up: -1, Down: -1, RUp: nan, RDown: nan, Amps: nan, Before: nan, Delay: nan}
 }
 
 func (s *Sim) physSave() physSnapshot {
 	if s.mode != Physical {
 		return physSnapshot{}
 	}
-	return physSnapshot{append([]float64(nil), s.phys.gv...), append([]physRec(nil), s.phys.info...)}
+	p := &s.phys
+	return physSnapshot{append([]float64(nil), p.gv...), append([]fightStart(nil), p.fightV...), append([]physRec(nil), p.info...)}
 }
 
 func (s *Sim) physRestore(sn physSnapshot) {
 	if s.mode != Physical || sn.gv == nil {
 		return
 	}
-	copy(s.phys.gv, sn.gv)
-	copy(s.phys.info, sn.info)
-	for d := range s.phys.lim {
-		s.phys.lim[d] = s.limitFor(int32(d))
+	p := &s.phys
+	copy(p.gv, sn.gv)
+	copy(p.fightV, sn.fightV)
+	copy(p.info, sn.info)
+	clear(p.leakAt)
+	for d := range p.lim {
+		p.lim[d] = s.limitFor(int32(d))
+		p.leak[d] = false
+		s.setLeak(int32(d), s.cond[d] == Off && s.leakyGate(int32(d), p.gv[d]))
+	}
+}
+
+// leakyGate reports whether a gate at vg lets device d conduct from a
+// channel terminal at the rail it is body-tied to (nMOS: vg > Vtn, pMOS:
+// vdd - vg > |Vtp|): the widest condition for a partly-on device, since the
+// source at the rail has the largest Vgs and no body effect.
+func (s *Sim) leakyGate(d int32, vg float64) bool {
+	t := &s.nl.Tech
+	switch s.nl.devKind[d] {
+	case NMOS:
+		return vg > t.Vtn
+	case PMOS:
+		return s.phys.vdd-vg > t.Vtp
+	}
+	return false
+}
+
+// setLeak records whether device d is partly on.
+func (s *Sim) setLeak(d int32, on bool) {
+	p := &s.phys
+	if p.leak[d] == on {
+		return
+	}
+	p.leak[d] = on
+	inc := int32(1)
+	if !on {
+		inc = -1
+	}
+	a, b := s.nl.devA[d], s.nl.devB[d]
+	p.leakAt[a] += inc
+	if b != a {
+		p.leakAt[b] += inc
 	}
 }
 
 // physGateMoved records device d's gate voltage as of the start of this
 // round (the solver calls it for every device whose gate node changed) and
-// reports whether the device, not off, must be re-solved because that
-// voltage moved: its pass limit follows the gate.
+// reports whether the device must be re-solved because that voltage moved:
+// a device not off, since its pass limit and its current follow the gate,
+// and a device off by logic that is or was partly on.
 func (s *Sim) physGateMoved(d int32) bool {
 	if s.mode != Physical {
 		return false
@@ -252,12 +299,19 @@ func (s *Sim) physGateMoved(d int32) bool {
 	}
 	v := s.volts[gn]
 	old := p.gv[d]
+	off := conduction(s.nl.devKind[d], s.val[gn]) == Off
 	if v == old || (math.IsNaN(v) && math.IsNaN(old)) {
+		if p.leak[d] != (off && s.leakyGate(d, v)) { // it switched between on and partly on
+			s.setLeak(d, !p.leak[d])
+			return true
+		}
 		return false
 	}
 	p.gv[d] = v
 	p.lim[d] = s.limitFor(d)
-	return conduction(s.nl.devKind[d], s.val[gn]) != Off && voltsMoved(old, v)
+	was := p.leak[d]
+	s.setLeak(d, off && s.leakyGate(d, v))
+	return voltsMoved(old, v) && (!off || was || p.leak[d])
 }
 
 // physGroup adds the voltage estimates to the ideal resolution of g.
@@ -275,6 +329,8 @@ func (s *Sim) physGroup(g *group) {
 	for c := range p.comps {
 		cp := &p.comps[c]
 		switch {
+		case cp.has[V0] != cp.has[V1] && !cp.has[VX] && p.anyLeak && s.partLeaks(g, int32(c)):
+			s.physFight(g, int32(c)) // partly-on devices pull on it
 		case !cp.has[V0] && !cp.has[V1] && !cp.has[VX]:
 			s.physCharge(g, int32(c))
 		case cp.has[VX] && !cp.has[V0] && !cp.has[V1]:
@@ -311,11 +367,13 @@ func (s *Sim) physParts(g *group) {
 	nl := s.nl
 	p := &s.phys
 	p.comps = p.comps[:0]
-	p.cn, p.ce, p.sorder = p.cn[:0], p.ce[:0], p.sorder[:0]
+	p.cn, p.ce, p.sorder, p.cl = p.cn[:0], p.ce[:0], p.sorder[:0], p.cl[:0]
 	if !g.hasUnknown {
 		cp := physComp{nodes: g.nodes, devs: g.devs, has: g.srcHas}
+		p.anyLeak = false
 		for i, n := range g.nodes {
 			p.gidx[n], p.nc[n], p.li[n] = int32(i), 0, int32(i)
+			p.anyLeak = p.anyLeak || p.leakAt[n] > 0
 		}
 		for _, d := range g.devs {
 			switch nl.devKind[d] {
@@ -328,8 +386,10 @@ func (s *Sim) physParts(g *group) {
 		p.comps = append(p.comps, cp)
 		return
 	}
+	p.anyLeak = false
 	for i, n := range g.nodes {
 		p.gidx[n], p.nc[n] = int32(i), -1
+		p.anyLeak = p.anyLeak || p.leakAt[n] > 0
 	}
 	gen := p.gen
 	for _, seed := range g.nodes {

@@ -2,16 +2,16 @@ package switchsim
 
 import "math"
 
-// physSingle is physGroup for the commonest group: one node, no device of
-// unknown state, sources of one value (or an X source alone, or none). It
-// gives exactly what physParts and physLevel or physCharge and physDelay
-// give for such a group, without their per-part scratch, searches and heap:
-// with one node every path is a single device to a source. It shares their
-// rules (keepCharge, retained, through, better) and reports false, having
-// done nothing, for a group it does not take.
+// physSingle is physGroup for the commonest group: one node and no device
+// of unknown state or partly on. It gives exactly what physParts and
+// physLevel, physCharge or physFight and physDelay give for such a group,
+// without their per-part scratch, searches and heap: with one node every
+// path is a single device to a source. It shares their rules (keepCharge,
+// retained, through, better, solveFight, loneDelay) and reports false,
+// having done nothing, for a group it does not take.
 func (s *Sim) physSingle(g *group) bool {
 	has := g.srcHas
-	if len(g.nodes) != 1 || g.hasUnknown || (has[VX] && (has[V0] || has[V1])) || (has[V0] && has[V1]) {
+	if len(g.nodes) != 1 || g.hasUnknown || s.phys.leakAt[g.nodes[0]] > 0 {
 		return false
 	}
 	nl := s.nl
@@ -19,6 +19,11 @@ func (s *Sim) physSingle(g *group) bool {
 	n := g.nodes[0]
 	p.fast, p.fdel = true, math.NaN()
 	switch {
+	case (has[VX] && (has[V0] || has[V1])) || (has[V0] && has[V1]): // a fight (physFight)
+		p.gidx[n], p.li[n] = 0, 0
+		s.solveFight(g, g.nodes, g.devs, nil, has)
+		p.fdel = s.loneDelay(g, n, g.nval[0])
+		return true
 	case !has[V0] && !has[V1] && !has[VX]: // floating: a lone node shares with nothing (physCharge)
 		p.floatRecord(n)
 		s.keepCharge(g, 0, s.storedVolts(n))
@@ -48,15 +53,7 @@ func (s *Sim) physSingle(g *group) bool {
 		if g.nval[0] != v {
 			return true
 		}
-		dist, par := math.Inf(1), int32(-1)
-		for _, d := range g.devs {
-			if _, ok := s.fedBy(d, v); ok && p.res[d] < dist {
-				dist, par = p.res[d], d
-			}
-		}
-		if par >= 0 {
-			p.fdel = dist * nl.nodeCap[n]
-		}
+		p.fdel = s.loneDelay(g, n, v)
 		return true
 	}
 	lvl := g.nstr[0]
@@ -98,4 +95,24 @@ func (s *Sim) physSingle(g *group) bool {
 		}
 	}
 	return true
+}
+
+// loneDelay is the Elmore delay of lone node n driven to v: R C through its
+// least-resistance device from a source of value v (delayTree), NaN where
+// none or v is X.
+func (s *Sim) loneDelay(g *group, n int32, v Value) float64 {
+	p := &s.phys
+	if v == VX {
+		return math.NaN()
+	}
+	dist, par := math.Inf(1), int32(-1)
+	for _, d := range g.devs {
+		if _, ok := s.fedBy(d, v); ok && p.res[d] < dist {
+			dist, par = p.res[d], d
+		}
+	}
+	if par < 0 {
+		return math.NaN()
+	}
+	return dist * s.nl.nodeCap[n]
 }

@@ -241,12 +241,18 @@ func ratioed(t *testing.T, load DeviceOpts, drv DeviceOpts) *Sim {
 }
 
 func TestPhysRatioedDivider(t *testing.T) {
+	// A pseudo-nMOS inverter: a pMOS load with its gate grounded against an
+	// nMOS driver. Its low output is the textbook VOL from the level-1
+	// equations (Shichman and Hodges 1968), worked by hand in pseudoNMOSVOL.
 	tc := Generic()
 	lp := 4 * tc.L
 	s := ratioed(t, DeviceOpts{L: lp}, DeviceOpts{})
 	r := phApply(t, s, map[string]Drive{"a": Drive1})
-	rp, rn := tc.Rp*lp/tc.Wp, tc.Rn*tc.L/tc.Wn // R = r_sq L / W (MODEL.md §4)
-	want := tc.Vdd * rn / (rn + rp)            // a resistive divider (Ohm's law)
+	bn, bp := betaOf(tc.Kn, tc.Wn, tc.L), betaOf(tc.Kp, tc.Wp, lp)
+	want := pseudoNMOSVOL(tc, bn, bp)
+	if !(want <= tc.Vtp) {
+		t.Fatalf("test setup: VOL %.3f V leaves the load saturated only below |Vtp|", want)
+	}
 	y := node(s, "y")
 	phNear(t, "y volts", y.Volts, want, 1e-9)
 	if y.Value != V0 || y.State != StateL || y.Strength != Strong {
@@ -256,10 +262,14 @@ func TestPhysRatioedDivider(t *testing.T) {
 	if len(w) != 1 || w[0].Device != phDev(t, s, "drv") || w[0].Other != phDev(t, s, "load") {
 		t.Errorf("contention warnings: %+v, want one naming drv (winner) and load", w)
 	}
+	// The effective resistances at the operating point: the saturated load
+	// carries I = bp (vdd - |Vtp|)^2 / 2; RUp = (vdd - V) / I, RDown = V / I.
+	cur := bp / 2 * (tc.Vdd - tc.Vtp) * (tc.Vdd - tc.Vtp)
 	n, _ := s.Netlist().Lookup("y")
 	in := s.physInfo(n)
-	phNear(t, "divider up", in.RUp, rp, 1e-6*rp)
-	phNear(t, "divider down", in.RDown, rn, 1e-6*rn)
+	phNear(t, "current", in.Amps, cur, 1e-9*cur)
+	phNear(t, "divider up", in.RUp, (tc.Vdd-want)/cur, 1e-6*(tc.Vdd-want)/cur)
+	phNear(t, "divider down", in.RDown, want/cur, 1e-6*want/cur)
 	// a = 0: the load alone pulls y to a full 1.
 	phApply(t, s, map[string]Drive{"a": Drive0})
 	if y := node(s, "y"); y.Volts != tc.Vdd || y.State != State1 {
@@ -268,8 +278,10 @@ func TestPhysRatioedDivider(t *testing.T) {
 }
 
 func TestPhysPullUpDivider(t *testing.T) {
-	// A pull against a default nMOS: the pull's documented default resistance
-	// is 10 x max(rn L / wn, rp L / wp) (DEVELOPERS.md, physical mode).
+	// A resistive-load inverter: a pull (a resistor of the documented default
+	// 10 x max(rn L / wn, rp L / wp), DEVELOPERS.md, physical mode) against a
+	// default nMOS; VOL from the level-1 equations worked by hand
+	// (resistiveLoadVOL, Shichman and Hodges 1968).
 	b := NewBuilder()
 	b.Input("a")
 	b.Pull("pu", "y", true, HighZ)
@@ -277,15 +289,16 @@ func TestPhysPullUpDivider(t *testing.T) {
 	s := phSim(t, b, Physical)
 	tc := s.Netlist().Tech
 	phApply(t, s, map[string]Drive{"a": Drive1})
-	rn := tc.Rn * tc.L / tc.Wn
-	rpu := 10 * max(rn, tc.Rp*tc.L/tc.Wp)
-	phNear(t, "y volts", node(s, "y").Volts, tc.Vdd*rn/(rn+rpu), 1e-9)
+	rpu := 10 * max(tc.Rn*tc.L/tc.Wn, tc.Rp*tc.L/tc.Wp)
+	phNear(t, "y volts", node(s, "y").Volts, resistiveLoadVOL(tc, betaOf(tc.Kn, tc.Wn, tc.L), rpu), 1e-9)
 }
 
 func TestPhysContentionInBand(t *testing.T) {
 	tc := Generic()
-	// rp L / wp = rn L / wn: equal resistances put y at vdd / 2, inside the band.
-	s := ratioed(t, DeviceOpts{W: tc.Wn * tc.Rp / tc.Rn}, DeviceOpts{})
+	// A pMOS load as strong as the driver (kp wp = kn wn), both gates at
+	// full levels and both sources at their rails (no body effect): the two
+	// are mirror images, so y sits at vdd / 2, inside the band (symmetry).
+	s := ratioed(t, DeviceOpts{W: tc.Wn * tc.Kn / tc.Kp}, DeviceOpts{})
 	r := phApply(t, s, map[string]Drive{"a": Drive1})
 	y := node(s, "y")
 	phNear(t, "y volts", y.Volts, tc.Vdd/2, 1e-9)
@@ -298,8 +311,8 @@ func TestPhysContentionInBand(t *testing.T) {
 }
 
 func TestPhysResistanceBeatsStrength(t *testing.T) {
-	// Physical mode decides a contest by the resistor network, not by
-	// strength (MODEL.md §4): a long, narrow strong nMOS loses to a pull.
+	// Physical mode decides a fight by the devices, not by strength (MODEL.md
+	// §4): a long, narrow strong nMOS loses to a pull (resistiveLoadVOL).
 	b := NewBuilder()
 	tc := Generic()
 	b.Input("a")
@@ -317,9 +330,8 @@ func TestPhysResistanceBeatsStrength(t *testing.T) {
 			}
 			continue
 		}
-		rn := tc.Rn * l / w
-		rpu := 10 * tc.RefResistance()
-		phNear(t, "y volts", y.Volts, tc.Vdd*rn/(rn+rpu), 1e-9)
+		want := resistiveLoadVOL(tc, betaOf(tc.Kn, w, l), 10*tc.RefResistance())
+		phNear(t, "y volts", y.Volts, want, 1e-9)
 		if y.Value != V1 || y.State != StateH || y.Strength != Pull {
 			t.Errorf("physical: y = %+v, want H at pull strength", y)
 		}
@@ -327,9 +339,12 @@ func TestPhysResistanceBeatsStrength(t *testing.T) {
 }
 
 func TestPhysWriteAgainstKeeper(t *testing.T) {
-	// A write through an nMOS against a weak keeper to ground: the write path
-	// is a source at its limited level in series with its resistance, so the
-	// node sits at Vlim Rk / (Rw + Rk) (MODEL.md §4 and Ohm's law).
+	// A write through an nMOS against a weak keeper to ground. The write
+	// device's source is the node, so it is saturated with the body effect;
+	// the keeper (a weak device without a size: its length stretched to the
+	// documented default resistance, 40 x RefResistance) is below saturation:
+	// beta_w (vdd - V - Vt(V))^2 / 2 = beta_k ((vdd - Vtn) V - V^2 / 2)
+	// (level-1, Shichman and Hodges 1968), solved here by bisection.
 	b := NewBuilder()
 	b.Input("d")
 	b.Input("wr")
@@ -339,19 +354,23 @@ func TestPhysWriteAgainstKeeper(t *testing.T) {
 	s := phSim(t, b, Physical)
 	tc := s.Netlist().Tech
 	phApply(t, s, map[string]Drive{"d": Drive1, "wr": Drive1, "kb": Drive1})
-	rw := tc.Rn * tc.L / tc.Wn
-	rk := 40 * tc.RefResistance() // the documented default for a weak device without a size
-	lim := passHighNumeric(tc, tc.Vdd)
-	phNear(t, "s volts", node(s, "s").Volts, lim*rk/(rw+rk), 1e-9)
+	bw := betaOf(tc.Kn, tc.Wn, tc.L)
+	bk := bw * (tc.Rn * tc.L / tc.Wn) / (40 * tc.RefResistance())
+	want := bisectUp(func(v float64) float64 {
+		return idsN(tc, bk, tc.Vdd, v, 0) - idsN(tc, bw, tc.Vdd, tc.Vdd, v)
+	}, 0, tc.Vdd)
+	phNear(t, "s volts", node(s, "s").Volts, want, 1e-9)
 	if st := node(s, "s").State; st != StateH {
 		t.Errorf("s state %v, want H (the write wins, contested)", st)
 	}
 }
 
 func TestPhysNetworkLargeMatchesDense(t *testing.T) {
-	// A stack of three nMOS against a pMOS load: node k up from ground sits at
-	// vdd k Rn / (3 Rn + Rp) (series resistors, Ohm's law), by the dense
-	// method and by the iterative one.
+	// A stack of three nMOS against a pMOS load, by Newton on the dense
+	// equations and by the sweeps. The expected voltages are found by
+	// shooting on the test's own level-1 equations: for a trial x1 the stack
+	// current I follows from the bottom device, x2 and y from I through the
+	// devices above it, and x1 is bisected until the load carries I.
 	tc := Generic()
 	lp := 8 * tc.L
 	b := NewBuilder()
@@ -361,21 +380,35 @@ func TestPhysNetworkLargeMatchesDense(t *testing.T) {
 	b.NMOS("n2", "a", "x2", "x1", DeviceOpts{})
 	b.NMOS("n1", "a", "x1", "gnd", DeviceOpts{})
 	nl := mustCompile(t, b)
-	rn, rp := tc.Rn*tc.L/tc.Wn, tc.Rp*lp/tc.Wp
+	bn, bp := betaOf(tc.Kn, tc.Wn, tc.L), betaOf(tc.Kp, tc.Wp, lp)
+	up := func(i, below float64) float64 { // the node above a device carrying i
+		return bisectUp(func(v float64) float64 { return idsN(tc, bn, tc.Vdd, v, below) - i }, below, tc.Vdd)
+	}
+	chain := func(x1 float64) (x2, y, i float64) {
+		i = idsN(tc, bn, tc.Vdd, x1, 0)
+		x2 = up(i, x1)
+		return x2, up(i, x2), i
+	}
+	x1 := bisectUp(func(x1 float64) float64 {
+		_, y, i := chain(x1)
+		return i - idsP(tc, bp, 0, tc.Vdd, y)
+	}, 0, 0.3)
+	x2, y, _ := chain(x1)
 	for _, dense := range []int{physDenseMax, 0} {
 		s := NewSim(nl, Options{})
 		s.phys.net.denseMax = dense
 		phApply(t, s, map[string]Drive{"a": Drive1})
-		for k, n := range []string{"x1", "x2", "y"} {
-			phNear(t, n, node(s, n).Volts, tc.Vdd*float64(k+1)*rn/(3*rn+rp), 1e-9)
+		for n, want := range map[string]float64{"x1": x1, "x2": x2, "y": y} {
+			phNear(t, n, node(s, n).Volts, want, 1e-7)
 		}
 	}
 }
 
 func TestPhysXSourceRange(t *testing.T) {
 	// An X input through a weak device against a strong 0: the X may stand
-	// anywhere from 0 to vdd; at vdd it is a source at the nMOS's limit in
-	// series with the weak resistance (MODEL.md §4), still below VIL.
+	// anywhere from 0 to vdd; at vdd the weak device (saturated, its source
+	// the node, body effect) fights the strong nMOS below saturation
+	// (level-1, solved here by bisection), still below VIL.
 	b := NewBuilder()
 	b.Input("x")
 	b.Input("a")
@@ -384,8 +417,11 @@ func TestPhysXSourceRange(t *testing.T) {
 	s := phSim(t, b, Physical)
 	tc := s.Netlist().Tech
 	phApply(t, s, map[string]Drive{"x": DriveX, "a": Drive1})
-	rn, rw := tc.Rn*tc.L/tc.Wn, 40*tc.RefResistance()
-	want := passHighNumeric(tc, tc.Vdd) * rn / (rn + rw)
+	bn := betaOf(tc.Kn, tc.Wn, tc.L)
+	bw := bn * (tc.Rn * tc.L / tc.Wn) / (40 * tc.RefResistance())
+	want := bisectUp(func(v float64) float64 {
+		return idsN(tc, bn, tc.Vdd, v, 0) - idsN(tc, bw, tc.Vdd, tc.Vdd, v)
+	}, 0, tc.Vdd)
 	y := node(s, "y")
 	phNear(t, "y volts (worst case)", y.Volts, want, 1e-9)
 	if y.Value != V0 || y.State != StateL {

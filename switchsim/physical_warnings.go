@@ -22,7 +22,10 @@ func (s *Sim) physWarnings(n int, add func(kind string, n, d, o int)) {
 			add(WarnContention, n, -1, -1) // the other value reaches it through a device of unknown state
 		}
 	case howFight:
-		win, lose, _, _ := s.fightInfo(int32(n))
+		win, lose := in.Up, in.Down
+		if win == upLater {
+			win, lose, _, _, _ = s.fightInfo(int32(n))
+		}
 		if s.val[n] == V0 {
 			win, lose = lose, win
 		}
@@ -42,11 +45,11 @@ func (s *Sim) partialOn(n int, add func(kind string, n, d, o int)) {
 		return
 	}
 	t := &nl.Tech
-	sp := math.Sqrt(t.Phi)
 	for _, d := range nl.gateDev[nl.gateStart[n]:nl.gateStart[n+1]] {
-		if s.cond[d] != Off {
+		if !s.phys.leak[d] { // not even partly on from the rail it is body-tied to
 			continue
 		}
+		sp := math.Sqrt(t.Phi)
 		va, vb := s.volts[nl.devA[d]], s.volts[nl.devB[d]]
 		switch {
 		case math.IsNaN(va) && math.IsNaN(vb):
@@ -84,8 +87,8 @@ func (s *Sim) physInfo(n int) physNode {
 	}
 	r := s.phys.info[n]
 	in.How, in.Drop, in.Before, in.Delay = r.How, r.Drop, r.Before, r.Delay
-	if in.How == howFight {
-		in.Up, in.Down, in.RUp, in.RDown = s.fightInfo(int32(n))
+	if in.How == howFight || in.How == howLeak {
+		in.Up, in.Down, in.RUp, in.RDown, in.Amps = s.fightInfo(int32(n))
 	}
 	return in
 }
