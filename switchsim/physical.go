@@ -96,15 +96,15 @@ type physState struct {
 	res  []float64 // effective on-resistance, ohms (the delay estimate)
 	con  []float64 // 1 / res, siemens
 	beta []float64 // the fight's device equations: k' W / L of a transistor (A/V^2), 1 / R of a pull (S)
-	gv  []float64 // the gate's voltage at the start of the round it last changed
-	lim []float64 // pass limit for gv (nMOS: PassHigh, pMOS: PassLow), kept by physGateMoved
+	gv   []float64 // the gate's voltage at the start of the round it last changed
+	lim  []float64 // pass limit for gv (nMOS: PassHigh, pMOS: PassLow), kept by physGateMoved
 	// pass limits of a device gated by a source, by kind and the source's value
 	limRail [2][2]float64
 	ring    []int32 // the devices between the same two terminals, as a ring (a transmission gate's halves)
 
 	// per node, kept between settles
 	info      []physRec
-	shareMark []uint32  // settle stamp of the last charge-sharing event
+	shareMark []uint32     // settle stamp of the last charge-sharing event
 	fightV    []fightStart // where the node's next fight solve starts
 
 	// per node, scratch of the group being solved

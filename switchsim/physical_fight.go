@@ -58,15 +58,15 @@ type physElem struct {
 
 // physNet is the scratch of one fight's solve and the technology it uses.
 type physNet struct {
-	denseMax                     int
-	k                            int
+	denseMax                      int
+	k                             int
 	vdd, vtn, vtp, gamma, phi, sp float64 // sp = sqrt(phi)
-	gmin                         float64
-	el                           []physElem
-	start, adj, fill             []int32 // elements at local node j: adj[start[j]:start[j+1]]
-	v, hold, trial               []float64
-	jac, rhs, res                []float64
-	lo                           []float64 // solution with X sources at 0 (or the only solution)
+	gmin                          float64
+	el                            []physElem
+	start, adj, fill              []int32 // elements at local node j: adj[start[j]:start[j+1]]
+	v, hold, trial                []float64
+	jac, rhs, res                 []float64
+	lo                            []float64 // solution with X sources at 0 (or the only solution)
 
 	// Peeling (see peel): peelAt[j] is node j's place in the order nodes
 	// were peeled, inCore for the core; core is the network of the core
@@ -77,7 +77,7 @@ type physNet struct {
 	sig       uint32    // the fight's signature (netBuild)
 	up, down  []int32   // strongest: the devices carrying the most current in and out
 	bin, bout []float64 // and those currents
-	core                 *physNet
+	core      *physNet
 }
 
 func (nt *physNet) init(t Tech) {
