@@ -71,7 +71,11 @@ type physNode struct {
 // physRec is the part of physNode kept per node between settles; the rest
 // is worked out when asked for (physInfo).
 type physRec struct {
-	How  physHow
+	How physHow
+	// Lost is the value whose level the estimate lost (the node is X), VX
+	// where none was: a degraded path's value, or a stored value that
+	// charge sharing took out of its band.
+	Lost Value
 	Drop int32
 	// Up and Down are, for a node of a fight, the devices carrying the most
 	// current into it from the 1 side and out of it to the 0 side, as the
@@ -84,7 +88,7 @@ type physRec struct {
 const upLater = -2
 
 func noPhysRec() physRec {
-	return physRec{Drop: -1, Up: -1, Down: -1, Before: math.NaN(), Delay: math.NaN()}
+	return physRec{Lost: VX, Drop: -1, Up: -1, Down: -1, Before: math.NaN(), Delay: math.NaN()}
 }
 
 // physState is the Sim's physical-mode state. Every slice is allocated in
@@ -104,6 +108,7 @@ type physState struct {
 
 	// per node, kept between settles
 	info      []physRec
+	watch     []bool       // outputs and the nodes Watch named: their levels matter
 	shareMark []uint32     // settle stamp of the last charge-sharing event
 	fightV    []fightStart // where the node's next fight solve starts
 
@@ -139,6 +144,9 @@ type physState struct {
 	sorder []int32 // level searches' visiting order, part after part
 	dq     []int32 // fightInfo's queue
 	net    physNet
+	share  physShareScratch
+	shLo   []float64 // shareCharge's voltages with unknown charges at 0
+	shHi   []float64 // and at vdd (shLo itself where none is unknown)
 
 	// physSingle's result for the group just solved: fast is set when it
 	// took the group, fdel is the delay of its node's change.
@@ -209,6 +217,10 @@ func (s *Sim) physInit() {
 		p.info[n] = noPhysRec()
 	}
 	p.shareMark = make([]uint32, nn)
+	p.watch = make([]bool, nn)
+	for _, o := range nl.outputs {
+		p.watch[o] = true
+	}
 	p.fightV = make([]fightStart, nn)
 	for n := range p.fightV {
 		p.fightV[n] = noFightStart()

@@ -52,12 +52,15 @@ func sameNode(a, b sw.NodeState) bool {
 // nested pointer would print the address); floats print exactly (%v uses
 // the shortest representation that reads back the same).
 func explainText(e sw.Explanation) string {
-	div := "nil"
+	div, lost := "nil", "nil"
 	if e.Divider != nil {
 		div = fmt.Sprintf("%+v", *e.Divider)
 	}
-	e.Divider = nil
-	return fmt.Sprintf("%+v divider %s", e, div)
+	if e.Lost != nil {
+		lost = fmt.Sprintf("%+v", *e.Lost)
+	}
+	e.Divider, e.Lost = nil, nil
+	return fmt.Sprintf("%+v divider %s lost %s", e, div, lost)
 }
 
 func (fp *fastPair) settle(what string) {

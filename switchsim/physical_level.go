@@ -159,6 +159,39 @@ func (s *Sim) retained(n int32, v Value, level float64, drop int32, old physRec)
 	return prev, drop
 }
 
+// levelRange is the one rule of levels (MODEL.md §4), for a node whose
+// estimate lies in [lo, hi] and whose value by the switch-level model is
+// want: a 1 holds at or above VIH, a 0 at or below VIL, at the end of the
+// range nearer the band; elsewhere the value is lost and the node is X,
+// never flipped (lost is then want; the volts are kept when the range is
+// one point). Where the switch-level model has no value (want X: charges of
+// equal class that differ) the level decides by VIL/VIH.
+func (p *physState) levelRange(want Value, lo, hi float64) (val Value, volts float64, lost Value) {
+	one := math.NaN()
+	if lo == hi {
+		one = lo
+	}
+	switch want {
+	case V1:
+		if lo >= p.vih {
+			return V1, lo, VX
+		}
+		return VX, one, V1
+	case V0:
+		if hi <= p.vil {
+			return V0, hi, VX
+		}
+		return VX, one, V0
+	}
+	switch {
+	case hi <= p.vil:
+		return V0, hi, VX
+	case lo >= p.vih:
+		return V1, lo, VX
+	}
+	return VX, one, VX
+}
+
 // decideLevel applies a path level to node g.nodes[i], driven by v: a level
 // past VIH (for a 1) or VIL (for a 0) keeps the value, shown H/L if it is not
 // full; a level inside the band loses it (X).
@@ -168,8 +201,9 @@ func (s *Sim) decideLevel(g *group, i int, v Value, level float64, drop int32) {
 	g.nvolts[i] = level
 	in := &p.info[n]
 	in.How, in.Drop = howLevel, drop
-	if (v == V1 && level < p.vih) || (v == V0 && level > p.vil) {
+	if val, _, lost := p.levelRange(v, level, level); val == VX {
 		g.nval[i], g.nstate[i] = VX, StateX
+		in.Lost = lost
 		return
 	}
 	if drop >= 0 && g.nstate[i] <= State1 {

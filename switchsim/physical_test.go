@@ -1,6 +1,7 @@
 package switchsim
 
 import (
+	"fmt"
 	"math"
 	"testing"
 )
@@ -41,6 +42,20 @@ func phWarning(s *Sim, r *Result, kind, name string) []Warning {
 		}
 	}
 	return out
+}
+
+// watch tells s that the named nodes are checked (Sim.Watch).
+func watch(t *testing.T, s *Sim, names ...string) {
+	t.Helper()
+	var ns []int
+	for _, name := range names {
+		n, ok := s.Netlist().Lookup(name)
+		if !ok {
+			t.Fatalf("no node %s", name)
+		}
+		ns = append(ns, n)
+	}
+	s.Watch(ns)
 }
 
 func phNear(t *testing.T, what string, got, want, tol float64) {
@@ -132,6 +147,7 @@ func TestPhysGateCascadeLosesLevel(t *testing.T) {
 	b.Input("en")
 	b.NMOS("m1", "en", "in", "g1", DeviceOpts{})
 	b.NMOS("m2", "g1", "in2", "y", DeviceOpts{})
+	b.Output("y") // its level matters
 	s := phSim(t, b, Physical)
 	tc := s.Netlist().Tech
 	r := phApply(t, s, map[string]Drive{"in": Drive1, "in2": Drive1, "en": Drive1})
@@ -162,6 +178,7 @@ func TestPhysSeriesChainDropsOnce(t *testing.T) {
 	b.NMOS("m2", "en", "a", "c", DeviceOpts{})
 	b.NMOS("m3", "en", "c", "y", DeviceOpts{})
 	s := phSim(t, b, Physical)
+	watch(t, s, "a", "c", "y") // the session's checked nodes: their levels matter
 	tc := s.Netlist().Tech
 	r := phApply(t, s, map[string]Drive{"in": Drive1, "en": Drive1})
 	want := passHighNumeric(tc, tc.Vdd)
@@ -182,6 +199,7 @@ func TestPhysGateMovedResolves(t *testing.T) {
 	}
 	b.TGate("t", "en", "enb", "in", "g", 0, 0, 0, HighZ)
 	b.NMOS("m2", "g", "in2", "y", DeviceOpts{})
+	b.Output("y")
 	s := phSim(t, b, Physical)
 	tc := s.Netlist().Tech
 	// the pMOS half off: g passes through the nMOS half only
@@ -714,5 +732,325 @@ func TestPhysRingStillOscillates(t *testing.T) {
 	}
 	if n1 := node(s, "n1"); n1.Value != VX || !math.IsNaN(n1.Volts) {
 		t.Errorf("n1 = %+v, want X with unknown volts", n1)
+	}
+}
+
+// shareThrough builds two stored nodes a (ca, charged to vdd through a
+// pMOS) and b (cb, cleared through an nMOS) joined by one pass device of
+// kind k, gated by en (an nMOS) or enb (a pMOS), with technology tc.
+func shareThrough(t *testing.T, tc Tech, k DeviceKind, ca, cb float64) *Sim {
+	b := NewBuilder()
+	b.SetTech(tc)
+	for _, n := range []string{"pre", "clr", "en", "enb"} {
+		b.Input(n)
+	}
+	b.Node("a", ca, HighZ)
+	b.Node("b", cb, HighZ)
+	b.PMOS("mp", "pre", "vdd", "a", DeviceOpts{})
+	b.NMOS("mc", "clr", "b", "gnd", DeviceOpts{})
+	if k == NMOS {
+		b.NMOS("share", "en", "a", "b", DeviceOpts{})
+	} else {
+		b.PMOS("share", "enb", "a", "b", DeviceOpts{})
+	}
+	s := phSim(t, b, Physical)
+	phApply(t, s, map[string]Drive{"pre": Drive0, "clr": Drive1, "en": Drive0, "enb": Drive1})
+	phApply(t, s, map[string]Drive{"pre": Drive1, "clr": Drive0})
+	return s
+}
+
+func TestPhysChargeSharingThroughThreshold(t *testing.T) {
+	// An nMOS of threshold 0.45 V (gamma 0) with its gate at 1.8 V between a
+	// 90 fF node at 1.8 V and a 10 fF node at 0 V: charge flows only until
+	// the lower side reaches Vg - Vt = 1.35 V, so b ends at 1.35 V and a at
+	// 1.8 - (10/90) 1.35 = 1.65 V, not both at the mean 1.62 V (charge
+	// conservation, common practice).
+	tc := Generic()
+	tc.Gamma = 0
+	s := shareThrough(t, tc, NMOS, 90e-15, 10e-15)
+	r := phApply(t, s, map[string]Drive{"en": Drive1})
+	a, b := node(s, "a"), node(s, "b")
+	phNear(t, "a volts", a.Volts, 1.65, 1e-9)
+	phNear(t, "b volts", b.Volts, 1.35, 1e-9)
+	phNear(t, "charge", 90e-15*a.Volts+10e-15*b.Volts, 90e-15*1.8, 1e-24)
+	for _, x := range []NodeState{a, b} {
+		if x.State != StateZ || x.Value != V1 {
+			t.Errorf("after sharing %+v, want Z holding 1 (above VIH)", x)
+		}
+	}
+	if len(phWarning(s, r, WarnChargeSharing, "a")) != 1 || len(phWarning(s, r, WarnChargeSharing, "b")) != 1 {
+		t.Errorf("want a charge-sharing warning on both: %+v", r.Warnings)
+	}
+	// The mirror image: a pMOS with its gate at 0 V passes charge down only
+	// until the higher side falls to |Vtp| = 0.45 V: from a 10 fF node at
+	// 1.8 V into a 90 fF node at 0 V (the mean would be 0.18 V), a stops at
+	// 0.45 V and b takes (10/90) (1.8 - 0.45) = 0.15 V.
+	s = shareThrough(t, tc, PMOS, 10e-15, 90e-15)
+	phApply(t, s, map[string]Drive{"enb": Drive0})
+	phNear(t, "a volts (pMOS)", node(s, "a").Volts, 0.45, 1e-9)
+	phNear(t, "b volts (pMOS)", node(s, "b").Volts, 0.15, 1e-9)
+	// Where the limit does not bite (the mean below it) both sides meet:
+	// 10 fF at 1.8 V into 40 fF at 0 V through the nMOS: 0.36 V on both.
+	s = shareThrough(t, tc, NMOS, 10e-15, 40e-15)
+	phApply(t, s, map[string]Drive{"en": Drive1})
+	phNear(t, "a volts (mean)", node(s, "a").Volts, 0.36, 1e-9)
+	phNear(t, "b volts (mean)", node(s, "b").Volts, 0.36, 1e-9)
+}
+
+func TestPhysLevelWarningsWhereLevelMatters(t *testing.T) {
+	// A degraded 1 on a node that gates nothing and is neither an output nor
+	// checked: its level is read by nobody, so no warning (MODEL.md §4), but
+	// the facts stay (state H, the device of the drop in the explanation).
+	build := func(gates bool) *Sim {
+		b := NewBuilder()
+		b.Input("in")
+		b.Input("en")
+		b.NMOS("m1", "en", "in", "y", DeviceOpts{})
+		if gates {
+			b.PMOS("ip", "y", "vdd", "z", DeviceOpts{})
+			b.NMOS("in_", "y", "z", "gnd", DeviceOpts{})
+		}
+		return phSim(t, b, Physical)
+	}
+	s := build(false)
+	r := phApply(t, s, map[string]Drive{"in": Drive1, "en": Drive1})
+	yn, _ := s.Netlist().Lookup("y")
+	if y := node(s, "y"); y.State != StateH || len(phWarning(s, r, WarnDegraded, "y")) != 0 {
+		t.Errorf("y = %+v with warnings %+v: want H and no warning", y, r.Warnings)
+	}
+	if e := s.Explain(yn); e.Degrader != phDev(t, s, "m1") {
+		t.Errorf("explanation of y names degrader %d, want m1", e.Degrader)
+	}
+	watch(t, s, "y") // now the session checks it
+	phApply(t, s, map[string]Drive{"in": Drive0})
+	if r := phApply(t, s, map[string]Drive{"in": Drive1}); len(phWarning(s, r, WarnDegraded, "y")) != 1 {
+		t.Errorf("watched y: warnings %+v, want one degraded", r.Warnings)
+	}
+	s = build(true) // y gates an inverter
+	if r := phApply(t, s, map[string]Drive{"in": Drive1, "en": Drive1}); len(phWarning(s, r, WarnDegraded, "y")) != 1 {
+		t.Errorf("y gating a stage: warnings %+v, want one degraded", r.Warnings)
+	}
+}
+
+func TestPhysLevelLostSaysWhichSide(t *testing.T) {
+	// A gate-cascaded nMOS pass: the 1 reaches y at PassHigh(PassHigh(vdd)),
+	// 0.57 V with the generic preset, below VIL (0.737 V): the next stage
+	// reads a 0, so the value would be flipped; it stays X (MODEL.md §4).
+	b := NewBuilder()
+	b.Input("in")
+	b.Input("en")
+	b.NMOS("m1", "en", "in", "g1", DeviceOpts{})
+	b.NMOS("m2", "g1", "in", "y", DeviceOpts{})
+	b.Output("y")
+	s := phSim(t, b, Physical)
+	tc := s.Netlist().Tech
+	r := phApply(t, s, map[string]Drive{"in": Drive1, "en": Drive1})
+	vil, vih, _ := tc.Thresholds()
+	yv := passHighNumeric(tc, passHighNumeric(tc, tc.Vdd))
+	if !(yv < vil) {
+		t.Fatalf("test setup: y at %.3f V not below VIL %.3f V", yv, vil)
+	}
+	w := phWarning(s, r, WarnLevelLost, "y")
+	if len(w) != 1 {
+		t.Fatalf("level-lost warnings %+v", r.Warnings)
+	}
+	msg := s.Message(w[0])
+	for _, want := range []string{"its 1 is lost", "below VIL", "reads a 0", "flipped", "m2"} {
+		if !contains(msg, want) {
+			t.Errorf("message %q lacks %q", msg, want)
+		}
+	}
+	yn, _ := s.Netlist().Lookup("y")
+	l := s.Explain(yn).Lost
+	if l == nil || l.Value != V1 || l.Reads != V0 || l.Cause != LostByDrop || l.Device != phDev(t, s, "m2") {
+		t.Errorf("explanation's lost level %+v, want the 1 lost, read as 0, dropped by m2", l)
+	}
+	if m := s.Margin(yn); math.Abs(m.Noise-(yv-vih)) > 1e-9 {
+		t.Errorf("noise margin %g, want V - VIH = %g for the lost 1", m.Noise, yv-vih)
+	}
+	// Inside the band: thresholds overridden to 1.0 / 1.3 V put one drop
+	// (1.14 V) in the band: the next stage's reading is unknown.
+	tc.VIL, tc.VIH = 1.0, 1.3
+	b2 := NewBuilder()
+	b2.SetTech(tc)
+	b2.Input("in")
+	b2.Input("en")
+	b2.NMOS("m1", "en", "in", "y", DeviceOpts{})
+	b2.Output("y")
+	s2 := phSim(t, b2, Physical)
+	r2 := phApply(t, s2, map[string]Drive{"in": Drive1, "en": Drive1})
+	w = phWarning(s2, r2, WarnLevelLost, "y")
+	if len(w) != 1 || !contains(s2.Message(w[0]), "inside the undefined band") || contains(s2.Message(w[0]), "flipped") {
+		t.Errorf("in-band warnings %+v (%v)", w, r2.Warnings)
+	}
+	yn2, _ := s2.Netlist().Lookup("y")
+	if l := s2.Explain(yn2).Lost; l == nil || l.Reads != VX {
+		t.Errorf("in-band lost level %+v, want read as X", l)
+	}
+}
+
+func contains(s, sub string) bool {
+	for i := 0; i+len(sub) <= len(s); i++ {
+		if s[i:i+len(sub)] == sub {
+			return true
+		}
+	}
+	return false
+}
+
+func TestPhysSharingLosesStoredValue(t *testing.T) {
+	// A large-class node storing 1 (10 fF) shares through a transmission
+	// gate with a 40 fF medium node storing 0: the switch-level model keeps
+	// the larger class's 1 (IEEE 1364-2005 §7), but the charge settles at
+	// 10/50 x 1.8 = 0.36 V (charge conservation), below VIL: by the one rule
+	// of levels the 1 is lost and the node is X, not read back as a 0.
+	b := NewBuilder()
+	for _, n := range []string{"pre", "clr", "en", "enb"} {
+		b.Input(n)
+	}
+	b.Node("a", 10e-15, Large)
+	b.Node("b", 40e-15, HighZ)
+	b.PMOS("mp", "pre", "vdd", "a", DeviceOpts{})
+	b.NMOS("mc", "clr", "b", "gnd", DeviceOpts{})
+	b.TGate("t", "en", "enb", "a", "b", 0, 0, 0, HighZ)
+	b.Output("a")
+	s := phSim(t, b, Physical)
+	phApply(t, s, map[string]Drive{"pre": Drive0, "clr": Drive1, "en": Drive0, "enb": Drive1})
+	phApply(t, s, map[string]Drive{"pre": Drive1, "clr": Drive0})
+	r := phApply(t, s, map[string]Drive{"en": Drive1, "enb": Drive0})
+	a := node(s, "a")
+	phNear(t, "a volts", a.Volts, 0.36, 1e-9)
+	if a.Value != VX || a.State != StateZ {
+		t.Errorf("a = %+v, want Z holding X (its 1 lost)", a)
+	}
+	w := phWarning(s, r, WarnChargeSharing, "a")
+	if len(w) != 1 || !contains(s.Message(w[0]), "stored 1 is lost") || !contains(s.Message(w[0]), "reads a 0") {
+		t.Errorf("charge-sharing warnings %+v", w)
+	}
+	an, _ := s.Netlist().Lookup("a")
+	if l := s.Explain(an).Lost; l == nil || l.Cause != LostBySharing || l.Value != V1 || l.Reads != V0 {
+		t.Errorf("lost level %+v", l)
+	}
+}
+
+func TestPhysPartlyOnMovesTheNode(t *testing.T) {
+	// An inverter whose input is an nMOS-passed 1, PassHigh(vdd) = 1.142 V:
+	// its pMOS, off by logic, has Vsg = 0.658 V > |Vtp| and is saturated,
+	// I = beta_p (Vsg - |Vtp|)^2 / 2, against the nMOS below saturation
+	// (level-1, Shichman and Hodges 1968), so the output leaves 0 V:
+	// beta_n ((Vg - Vtn) V - V^2 / 2) = I, about 0.022 V (hand calculation).
+	b := NewBuilder()
+	b.Input("in")
+	b.Input("en")
+	b.NMOS("pass", "en", "in", "x", DeviceOpts{})
+	b.PMOS("inv.p", "x", "vdd", "y", DeviceOpts{})
+	b.NMOS("inv.n", "x", "y", "gnd", DeviceOpts{})
+	s := phSim(t, b, Physical)
+	tc := s.Netlist().Tech
+	r := phApply(t, s, map[string]Drive{"in": Drive1, "en": Drive1})
+	vg := passHighNumeric(tc, tc.Vdd)
+	bp, bn := betaOf(tc.Kp, tc.Wp, tc.L), betaOf(tc.Kn, tc.Wn, tc.L)
+	cur := bp / 2 * (tc.Vdd - vg - tc.Vtp) * (tc.Vdd - vg - tc.Vtp)
+	ov := vg - tc.Vtn
+	want := ov - math.Sqrt(ov*ov-2*cur/bn)
+	y := node(s, "y")
+	phNear(t, "y volts", y.Volts, want, 1e-9)
+	if y.Value != V0 || y.State != StateL {
+		t.Errorf("y = %+v, want a 0 off its rail (L)", y)
+	}
+	w := phWarning(s, r, WarnPartialOn, "x")
+	if len(w) != 1 || w[0].Device != phDev(t, s, "inv.p") || !contains(s.Message(w[0]), "µA of static current") {
+		t.Errorf("partial-on warnings %+v", w)
+	}
+	bias := s.DeviceBias(phDev(t, s, "inv.p"))
+	if !bias.PartlyOn || bias.FullGate {
+		t.Errorf("bias %+v, want partly on with a gate off the rails", bias)
+	}
+	phNear(t, "gate volts", bias.GateVolts, vg, 1e-9)
+	phNear(t, "static current", bias.Current, cur, 1e-9*cur) // from terminal A (vdd) to B (y)
+	if len(phWarning(s, r, WarnContention, "y")) != 0 {
+		t.Errorf("a partly-on device is not a contention: %+v", r.Warnings)
+	}
+	yn, _ := s.Netlist().Lookup("y")
+	if d := s.Explain(yn).Divider; d == nil || math.Abs(d.Amps-cur) > 1e-9*cur {
+		t.Errorf("explanation's operating point %+v, want %g A through y", d, cur)
+	}
+}
+
+func TestPhysMargins(t *testing.T) {
+	// Noise margins (MODEL.md §4): V - VIH for a 1, VIL - V for a 0.
+	tc := Generic()
+	vil, vih, vm := tc.Thresholds()
+	b := NewBuilder()
+	b.Input("in")
+	b.Input("en")
+	b.Input("a")
+	b.NMOS("m1", "en", "in", "y", DeviceOpts{}) // a degraded 1 on y
+	b.PMOS("ip", "y", "vdd", "z", DeviceOpts{}) // y drives a reference inverter
+	b.NMOS("in_", "y", "z", "gnd", DeviceOpts{})
+	// a pseudo-nMOS fight on f, which drives an inverter with a 4x pMOS
+	b.PMOS("load", "gnd", "vdd", "f", DeviceOpts{L: 4 * tc.L})
+	b.NMOS("drv", "a", "f", "gnd", DeviceOpts{})
+	b.PMOS("sp", "f", "vdd", "g", DeviceOpts{W: 4 * tc.Wp})
+	b.NMOS("sn", "f", "g", "gnd", DeviceOpts{})
+	s := phSim(t, b, Physical)
+	phApply(t, s, map[string]Drive{"in": Drive1, "en": Drive1, "a": Drive1})
+	look := func(name string) int { n, _ := s.Netlist().Lookup(name); return n }
+	yv := passHighNumeric(tc, tc.Vdd)
+	m := s.Margin(look("y"))
+	phNear(t, "noise margin of the degraded 1", m.Noise, yv-vih, 1e-9)
+	phNear(t, "VM of the stage y drives (the reference inverter)", m.StageVM, vm, 1e-12)
+	if !math.IsNaN(m.Write) {
+		t.Errorf("write margin %g on a node no fight reaches, want NaN", m.Write)
+	}
+	phNear(t, "noise margin of a full 1", s.Margin(look("g")).Noise, tc.Vdd-vih, 1e-12)
+	// f: VOL of the pseudo-nMOS inverter; the stage it drives has
+	// r = sqrt(kp 4 wp / (kn wn)), VM = (Vtn + r (vdd - |Vtp|)) / (1 + r)
+	// (long-channel textbook formula).
+	fv := pseudoNMOSVOL(tc, betaOf(tc.Kn, tc.Wn, tc.L), betaOf(tc.Kp, tc.Wp, 4*tc.L))
+	r := math.Sqrt(tc.Kp * 4 * tc.Wp / (tc.Kn * tc.Wn))
+	svm := (tc.Vtn + r*(tc.Vdd-tc.Vtp)) / (1 + r)
+	m = s.Margin(look("f"))
+	phNear(t, "noise margin of the fight's 0", m.Noise, vil-fv, 1e-9)
+	phNear(t, "the driven stage's own VM", m.StageVM, svm, 1e-12)
+	phNear(t, "write margin", m.Write, math.Abs(fv-svm), 1e-9)
+	if m := s.Margin(look("in")); m.Noise != tc.Vdd-vih {
+		t.Errorf("a driven 1 input: noise margin %g, want vdd - VIH", m.Noise)
+	}
+	if m := NewSim(s.Netlist(), Options{Mode: Ideal}).Margin(look("y")); !math.IsNaN(m.Noise) {
+		t.Errorf("ideal mode margin %+v, want NaN", m)
+	}
+}
+
+func TestPhysFightPicture(t *testing.T) {
+	// The picture of a pseudo-nMOS fight: the load's current into the node
+	// and the driver's out of it as functions of the node's voltage, from
+	// the level-1 equations (the test's own, level1_test.go), crossing at
+	// the node's voltage.
+	tc := Generic()
+	lp := 4 * tc.L
+	s := ratioed(t, DeviceOpts{L: lp}, DeviceOpts{})
+	phApply(t, s, map[string]Drive{"a": Drive1})
+	yn, _ := s.Netlist().Lookup("y")
+	f, ok := s.Fight(yn)
+	if !ok {
+		t.Fatal("no fight at y")
+	}
+	bn, bp := betaOf(tc.Kn, tc.Wn, tc.L), betaOf(tc.Kp, tc.Wp, lp)
+	if len(f.Up) != 1 || f.Up[0] != phDev(t, s, "load") || len(f.Down) != 1 || f.Down[0] != phDev(t, s, "drv") {
+		t.Errorf("sides %v / %v, want load / drv", f.Up, f.Down)
+	}
+	for _, v := range []float64{0, 0.1, 0.5, 0.9, 1.4, 1.8} {
+		up, down := f.Currents(v)
+		phNear(t, fmt.Sprintf("load current at %g V", v), up, idsP(tc, bp, 0, tc.Vdd, v), 1e-15)
+		phNear(t, fmt.Sprintf("driver current at %g V", v), down, idsN(tc, bn, tc.Vdd, v, 0), 1e-15)
+	}
+	up, down := f.Currents(f.Volts)
+	phNear(t, "currents at the crossing", up-down, 0, 1e-9*up) // the solve stops within 1e-9 vdd
+	if vil, vih, _ := tc.Thresholds(); f.VIL != vil || f.VIH != vih || !math.IsNaN(f.StageVM) {
+		t.Errorf("picture %+v: want VIL/VIH and no stage (y drives nothing)", f)
+	}
+	if _, ok := s.Fight(s.Netlist().Power()); ok {
+		t.Error("a fight at a rail")
 	}
 }

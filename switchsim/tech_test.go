@@ -207,3 +207,49 @@ func TestDefaultResistanceMargin(t *testing.T) {
 		}
 	}
 }
+
+func TestTechValidateRanges(t *testing.T) {
+	// Values outside physical ranges are refused with the key at fault, so
+	// that a reader can report the error at that key (DEVELOPERS.md lists
+	// the ranges). vdd = 0.8 V is below Vtn + |Vtp| = 0.9 V: the square-law
+	// reference inverter then has no region of gain, so VIL and VIH do not
+	// exist (long-channel textbook result, from memory).
+	for _, c := range []struct {
+		key string
+		v   float64
+	}{
+		{"kn", 1e-320}, {"vdd", 1e308}, {"vdd", math.NaN()}, {"kp", math.Inf(1)}, {"vtn", 0},
+		{"vdd", 0.8}, {"vtp", 1.9}, {"gamma", -0.1}, {"l", 5}, {"cnode", 1e-30}, {"rn", 0}, {"vil", 1.9},
+	} {
+		tc := Generic()
+		if err := tc.Set(c.key, c.v); err != nil {
+			t.Fatal(err)
+		}
+		err := tc.Validate()
+		te, ok := err.(*TechError)
+		if !ok || te.Key != c.key {
+			t.Errorf("%s=%g: error %v, want a TechError naming %s", c.key, c.v, err, c.key)
+		}
+	}
+	tc := Generic()
+	tc.Vdd = 0.8
+	tc.VIL, tc.VIH = 0.3, 0.5 // given thresholds need no gain
+	if err := tc.Validate(); err != nil {
+		t.Errorf("vdd 0.8 with vil and vih given: %v", err)
+	}
+	if g := Generic(); g.Validate() != nil {
+		t.Errorf("generic refused: %v", g.Validate())
+	}
+	// Every accepted technology has finite thresholds in order.
+	for _, vdd := range []float64{0.95, 1.2, 1.8, 3.3, 5, 15, 20} {
+		tc := Generic()
+		tc.Vdd = vdd
+		if tc.Validate() != nil {
+			continue
+		}
+		vil, vih, vm := tc.Thresholds()
+		if !(0 < vil && vil < vm && vm < vih && vih < vdd) {
+			t.Errorf("vdd %g: VIL %g VM %g VIH %g out of order", vdd, vil, vm, vih)
+		}
+	}
+}

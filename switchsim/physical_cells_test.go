@@ -1,0 +1,59 @@
+package switchsim_test
+
+import (
+	"fmt"
+	"testing"
+
+	sw "railyard/switchsim"
+	"railyard/switchsim/netfile"
+)
+
+// Level warnings are given where a level matters (MODEL.md §4: nodes that
+// gate a device, outputs, checked nodes): the built-in cells, whose inner
+// nodes (a series stack's middle, a clocked inverter's) gate nothing, give
+// none in any input state reached from any other, in physical mode.
+func TestPhysBuiltinCellsNoLevelWarnings(t *testing.T) {
+	for cell, ports := range map[string][]string{
+		"inv":   {"a", "y"},
+		"nand2": {"a", "b", "y"},
+		"nor2":  {"a", "b", "y"},
+		"tinv":  {"a", "en", "enb", "y"},
+	} {
+		ins := ports[:len(ports)-1]
+		src := fmt.Sprintf("input %s\noutput y\nuse %s g1 %s\n", join(ins), cell, join(ports))
+		d, err := netfile.Read(cell+".sw", []byte(src))
+		if err != nil {
+			t.Fatalf("%s: %v", cell, err)
+		}
+		nl := d.Netlist
+		states := 1 << len(ins)
+		for from := 0; from < states; from++ {
+			for to := 0; to < states; to++ {
+				s := sw.NewSim(nl, sw.Options{Mode: sw.Physical})
+				for _, st := range []int{from, to} {
+					for i, name := range ins {
+						n, _ := nl.Lookup(name)
+						s.SetInput(n, sw.Drive(st>>i&1))
+					}
+					for _, w := range s.Settle().Warnings {
+						switch w.Kind {
+						case sw.WarnDegraded, sw.WarnLevelLost, sw.WarnPartialOn:
+							t.Errorf("%s, inputs %0*b then %0*b: %s", cell, len(ins), from, len(ins), to, s.Message(w))
+						}
+					}
+				}
+			}
+		}
+	}
+}
+
+func join(names []string) string {
+	out := ""
+	for i, n := range names {
+		if i > 0 {
+			out += " "
+		}
+		out += n
+	}
+	return out
+}
