@@ -262,6 +262,10 @@ func (s *Sim) physRestore(sn physSnapshot) {
 	}
 }
 
+// physLeak reports whether device d, off by logic, is partly on: a source
+// at its channel then still reaches the nodes on the other side.
+func (s *Sim) physLeak(d int32) bool { return s.mode == Physical && s.phys.leak[d] }
+
 // leakyGate reports whether a gate at vg lets device d conduct from a
 // channel terminal at the rail it is body-tied to (nMOS: vg > Vtn, pMOS:
 // vdd - vg > |Vtp|): the widest condition for a partly-on device, since the
@@ -352,6 +356,9 @@ func (s *Sim) physGroup(g *group) {
 				s.phys.info[n] = noPhysRec()
 			}
 		case cp.has[V0] && cp.has[V1], cp.has[VX]:
+			if p.anyLeak {
+				s.partLeaks(g, int32(c)) // partly-on devices join the fight
+			}
 			s.physFight(g, int32(c))
 		case cp.has[V1]:
 			s.physLevel(g, int32(c), V1)

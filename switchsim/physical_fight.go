@@ -772,21 +772,18 @@ func (s *Sim) solveFight(g *group, nodes, devs, leaks []int32, has [3]bool) {
 			g.nvolts[i] = math.NaN()
 			continue
 		}
-		lo, hi := nt.lo[j], nt.v[j]
-		val, volts := VX, math.NaN()
-		switch {
-		case hi <= p.vil:
-			val, volts = V0, hi
-		case lo >= p.vih:
-			val, volts = V1, lo
-		case lo == hi:
-			volts = lo
+		// A fight is decided by VIL/VIH; a part of one value that partly-on
+		// devices move keeps its value by the one rule of levels.
+		want := VX
+		if !fight {
+			want = g.nval[i]
 		}
+		val, volts, lost := p.levelRange(want, nt.lo[j], nt.v[j])
 		p.info[n].How = howFight
 		if !fight {
 			p.info[n].How = howLeak
 		}
-		p.info[n].Up, p.info[n].Down = nt.up[j], nt.down[j]
+		p.info[n].Up, p.info[n].Down, p.info[n].Lost = nt.up[j], nt.down[j], lost
 		// The ideal strength is that of the ideal winner, and of both values
 		// where they fought; only a value the network turned round needs its
 		// own strength.

@@ -73,30 +73,17 @@ func (s *Sim) physLevel(g *group, c int32, v Value) {
 		}
 		return
 	}
-	// One search per winning strength present: a node's level is the best
-	// over the paths of its own strength (devices capped at least that strong).
-	var present [Supply + 1]bool
-	for _, n := range nodes {
-		i := s.groupIndex(g, n)
-		if !keepX(g, i) && g.nstr[i] >= Weak {
-			present[g.nstr[i]] = true
-		}
-	}
-	runs := 0
-	for _, pr := range present {
-		if pr {
-			runs++
-		}
-	}
-	cp.stree, cp.sval = runs == 1, v
-	for lvl := Supply; lvl >= Weak; lvl-- {
-		if !present[lvl] {
-			continue
-		}
-		s.levelSearch(c, v, lvl)
+	// A node's level is the best over every path of driving devices, of
+	// whatever strength: with one value in the part, current flows until
+	// each node reaches the highest level (for a 1) some path delivers, so
+	// a weak restorer beside a pass device brings the node to its full
+	// level, as at the DC operating point (MODEL.md §4).
+	cp.stree, cp.sval = true, v
+	{
+		s.levelSearch(c, v, Weak)
 		for _, n := range nodes {
 			i := s.groupIndex(g, n)
-			if keepX(g, i) || g.nstr[i] != lvl {
+			if keepX(g, i) || g.nstr[i] < Weak {
 				continue
 			}
 			old := s.phys.info[n]

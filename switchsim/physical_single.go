@@ -56,11 +56,11 @@ func (s *Sim) physSingle(g *group) bool {
 		p.fdel = s.loneDelay(g, n, v)
 		return true
 	}
-	lvl := g.nstr[0]
-	if lvl < Weak {
+	if g.nstr[0] < Weak {
 		g.nvolts[0] = math.NaN()
 		return true
 	}
+	lvl := Weak // every driving path counts (physLevel)
 	// fullSearch: the least-resistance device passing v fully.
 	good, drop, par, dist := -1.0, int32(-1), int32(-1), math.Inf(1)
 	for _, d := range g.devs {

@@ -267,25 +267,12 @@ func (s *Sim) lostLevel(n int) *LostLevel {
 	case howCharge:
 		l.Cause = LostBySharing
 	case howLeak:
-		l.Cause, l.Device, l.Value = LostByLeak, int(s.leakOf(int32(n))), s.leakValue(int32(n))
+		l.Cause, l.Device = LostByLeak, int(s.leakOf(int32(n)))
 	default:
 		return nil
 	}
-	if l.Value == VX && l.Cause != LostByLeak {
+	if l.Value == VX {
 		return nil
 	}
 	return l
-}
-
-// leakValue is the value the sources of node n's part drive (howLeak).
-func (s *Sim) leakValue(n int32) Value {
-	nl := s.nl
-	for _, d := range nl.chanDev[nl.chanStart[n]:nl.chanStart[n+1]] {
-		if s.cond[d] == On {
-			if o := nl.other(d, n); s.source[o] {
-				return s.val[o]
-			}
-		}
-	}
-	return VX
 }
