@@ -2,6 +2,7 @@ package switchsim_test
 
 import (
 	"fmt"
+	"strings"
 	"testing"
 
 	sw "railyard/switchsim"
@@ -56,4 +57,24 @@ func join(names []string) string {
 		out += n
 	}
 	return out
+}
+
+// Technology values out of their physical ranges are refused by the design
+// reader with a position (FORMAT.md), naming the key.
+func TestTechRangesThroughReader(t *testing.T) {
+	for _, c := range []struct{ opt, key string }{
+		{"kn=1e-320", "kn"}, {"vdd=1e308", "vdd"}, {"vdd=0.8", "vdd"}, {"cnode=5", "cnode"}, {"w=0", ""},
+	} {
+		src := "tech generic " + c.opt + "\ninput a\noutput y\nuse inv i a y\n"
+		_, err := netfile.Read("t.sw", []byte(src))
+		if c.key == "" { // not a technology key: the reader's own error
+			if err == nil {
+				t.Errorf("%s accepted", c.opt)
+			}
+			continue
+		}
+		if err == nil || !strings.HasPrefix(err.Error(), "t.sw:1:") || !strings.Contains(err.Error(), c.key+"=") {
+			t.Errorf("%s: error %v, want one at t.sw:1 naming %s", c.opt, err, c.key)
+		}
+	}
 }
