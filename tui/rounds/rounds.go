@@ -264,7 +264,7 @@ func (m Model) heading() []string {
 		for i, c := range s.Slowest {
 			path[i] = m.names.Node[s.Changes[c].Node]
 		}
-		lines = append(lines, st.Dim.Render(t.Clip(fmt.Sprintf("slowest chain %s (Elmore, first-order): %s",
+		lines = append(lines, st.Dim.Render(t.Clip(fmt.Sprintf("slowest chain %s (Elmore): %s",
 			panel.Seconds(s.Arrival), strings.Join(path, " "+g.Arrow+" ")), m.w)))
 	}
 	return lines
