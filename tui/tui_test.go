@@ -422,8 +422,12 @@ func TestEveryViewFits(t *testing.T) {
 	}
 }
 
-// Goldens: the screen after two steps and a toggle, colour off. Update
-// with go test ./tui -update after checking the new screens by eye.
+// Goldens: whole screens, colour off. Update with go test ./tui -update
+// after checking the new screens by eye. Checked by hand: the header (name,
+// description, mode, step N/4, the FAIL badge after row 4), the columns
+// lined up, the timeline watching the output y first, then the inputs in
+// their order (y follows sel ? b : a on every action), and the Vectors view
+// spelling out row 4: what it applies and its failed check.
 func TestGolden(t *testing.T) {
 	for _, c := range []struct {
 		name string

@@ -237,7 +237,7 @@ func (m Model) View() string {
 	case Choose:
 		field = ""
 		if m.save.Kind == panel.SaveVCD {
-			q, hint = "save a VCD of the history in force", "  enter save · tab the trace instead · esc cancel"
+			q, hint = "save a VCD of the history", "  enter save · tab the trace instead · esc cancel"
 		} else {
 			q, hint = "save the session trace", "  enter save · tab a VCD instead · esc cancel"
 		}

@@ -173,7 +173,9 @@ func (m Model) Update(msg tea.Msg) (Model, tea.Cmd) {
 	case key.Matches(k, m.KeyMap.Left):
 		m.hoff = max(m.hoff-8, 0)
 	case key.Matches(k, m.KeyMap.Right):
-		m.hoff = min(m.hoff+8, max(m.maxValues()-8, 0))
+		// stop when the end of the longest row is in view
+		labelW, numW := m.columns()
+		m.hoff = min(m.hoff+8, max(m.maxValues()-m.valuesW(labelW, numW)+2, 0))
 	}
 	return m, nil
 }
@@ -202,17 +204,14 @@ func (m Model) View() string {
 		info += "  " + st.Fail.Render(fmt.Sprintf("%s %d failing", g.Fail, failed))
 	}
 	lines := []string{st.Dim.Render(t.Clip(info, m.w))}
-	numW := len(fmt.Sprint(len(m.steps)))
-	// the label gets what the apply and want columns leave, at least a third
-	labelW := min(max(m.maxLabel(), 5), max(m.w-6-numW-m.maxValues(), m.w/3, 8))
+	labelW, numW := m.columns()
 	values := "apply | want"
 	if m.hoff > 0 {
 		values += fmt.Sprintf(" (from +%d, %s)", m.hoff, m.KeyMap.Left.Help().Key)
 	} else if m.valuesW(labelW, numW) < m.maxValues() {
 		values += fmt.Sprintf(" (%s scrolls)", m.KeyMap.Right.Help().Key)
 	}
-	if m.maxLabel() == 0 {
-		labelW = -1 // no labels: no column (and no space after the number)
+	if labelW < 0 {
 		lines = append(lines, st.Header.Render(fmt.Sprintf("    %*s %s", numW, "#", values)))
 	} else {
 		lines = append(lines, st.Header.Render(fmt.Sprintf("    %*s %-*s %s", numW, "#", labelW, "label", values)))
@@ -273,6 +272,17 @@ func (m Model) View() string {
 	}
 	lines = append(lines, m.details()...)
 	return theme.Block(lines, m.w, m.h)
+}
+
+// columns are the widths of the label (-1: no labels, no column) and of
+// the row number.
+func (m Model) columns() (labelW, numW int) {
+	numW = len(fmt.Sprint(len(m.steps)))
+	if m.maxLabel() == 0 {
+		return -1, numW
+	}
+	// the label gets what the apply and want columns leave, at least a third
+	return min(max(m.maxLabel(), 5), max(m.w-6-numW-m.maxValues(), m.w/3, 8)), numW
 }
 
 // valuesW is the cells left for the apply | want column on a row.
