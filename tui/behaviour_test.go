@@ -395,6 +395,12 @@ func TestGateVoltsWhereNotFull(t *testing.T) {
 	if l := lineWith(v, "pass.n", "nmos"); !strings.Contains(l, "clk=1 ") || strings.Contains(l, "clk=1 1.80V") {
 		t.Errorf("Devices: pass.n's gate clk is a full 1 and needs no volts: %q", l)
 	}
+	// at 80 columns too: the channel is cut before the volts
+	m80 := New(s, 80, 24, Options{})
+	press(m80, "d")
+	if l := lineWith(m80.View(), "fwd.p", "pmos"); !strings.Contains(l, "s=0 "+volts+"V") {
+		t.Errorf("Devices at 80x24: fwd.p's row %q lacks s=0 %sV", l, volts)
+	}
 	// W/L as the design file draws them (strong_keeper.sw: keeper w=1.44u l=0.18u)
 	if l := lineWith(v, "keep.n", "nmos"); !strings.Contains(l, "1.44/0.18") {
 		t.Errorf("Devices: keep.n's row %q lacks its W/L 1.44/0.18", l)

@@ -345,7 +345,7 @@ func (m *Model) helpColumns(h int) (cols [][]string, perPage, colW int) {
 		" Z    floating: keeps its stored value",
 		" X    unknown, or a fight of equals",
 		" "+t.G.Changed+" changed by the last settle",
-		" "+t.G.Watched+" on the timeline  "+t.G.Group+" in the node's group",
+		" "+t.G.Watched+" on the timeline  "+t.G.Group+" of the group",
 		" "+t.G.Fail+" failed check  "+t.G.Pass+" passed",
 		" "+t.G.Warn+" warning  "+t.G.Set+" input set by hand",
 		" Waveforms: "+t.Legend())

@@ -234,8 +234,8 @@ func (m Model) View() string {
 	}
 	gateW := max(min(m.w/5, 12), 7)
 	partial := m.anyPartialGate()
-	if partial && m.w >= 60 {
-		gateW += 6 // room for " 1.14V"
+	if partial {
+		gateW += 6 // room for " 1.14V": the channel is cut first
 	}
 	showWL := m.w >= 72
 	showOhms := showWL && m.anyOhms()
@@ -297,7 +297,7 @@ func (m Model) View() string {
 		}
 		b.WriteString(name)
 		fmt.Fprintf(&b, " %-*s ", kindW, kindName(dv.Kind, kindW))
-		b.WriteString(theme.Pad(m.gateCell(dv, gateW, partial && m.w >= 60), gateW))
+		b.WriteString(theme.Pad(m.gateCell(dv, gateW, partial), gateW))
 		b.WriteByte(' ')
 		b.WriteString(m.condCell(d))
 		b.WriteByte(' ')
