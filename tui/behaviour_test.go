@@ -16,16 +16,13 @@ import (
 	"railyard/switchsim/netfile"
 	"railyard/switchsim/session"
 	"railyard/switchsim/steps"
+	"railyard/tui/internal/paneltest"
 	"railyard/tui/panel"
 )
 
 func openDemo(t testing.TB, name string, mode switchsim.Mode) *session.Session {
 	t.Helper()
-	s, err := session.Open("demo:"+name, "", session.Options{Mode: mode})
-	if err != nil {
-		t.Fatal(err)
-	}
-	return s
+	return paneltest.Demo(t, name, mode)
 }
 
 // lineWith is the first line of the frame holding every one of words.

@@ -17,6 +17,7 @@ import (
 
 	"railyard/switchsim"
 	"railyard/switchsim/session"
+	"railyard/tui/internal/paneltest"
 )
 
 // The fixture testdata/opsel.sw is a 2:1 selector, y = sel ? b : a (common
@@ -43,31 +44,7 @@ func openFixture(t testing.TB) *session.Session {
 }
 
 // keyMsg turns a key name into the message a terminal would send.
-func keyMsg(k string) tea.KeyMsg {
-	switch k {
-	case "space":
-		return tea.KeyMsg{Type: tea.KeySpace, Runes: []rune{' '}}
-	case "enter":
-		return tea.KeyMsg{Type: tea.KeyEnter}
-	case "tab":
-		return tea.KeyMsg{Type: tea.KeyTab}
-	case "esc":
-		return tea.KeyMsg{Type: tea.KeyEsc}
-	case "down":
-		return tea.KeyMsg{Type: tea.KeyDown}
-	case "up":
-		return tea.KeyMsg{Type: tea.KeyUp}
-	case "left":
-		return tea.KeyMsg{Type: tea.KeyLeft}
-	case "right":
-		return tea.KeyMsg{Type: tea.KeyRight}
-	case "ctrl+u":
-		return tea.KeyMsg{Type: tea.KeyCtrlU}
-	case "backspace":
-		return tea.KeyMsg{Type: tea.KeyBackspace}
-	}
-	return tea.KeyMsg{Type: tea.KeyRunes, Runes: []rune(k)}
-}
+func keyMsg(k string) tea.KeyMsg { return paneltest.Key(k) }
 
 // send gives the model a message and then the messages its commands send
 // (the panels' intents), as the program would; it reports whether a

@@ -192,8 +192,8 @@ func (m Model) Update(msg tea.Msg) (Model, tea.Cmd) {
 	if !ok {
 		return m, nil
 	}
-	if m.filter.Typing() {
-		if m.filter.Update(k) {
+	if took, changed := m.filter.Take(k); took {
+		if changed {
 			m.rebuild()
 		}
 		return m, nil
@@ -257,7 +257,7 @@ func (m Model) View() string {
 		head += fmt.Sprintf("%-9s ", "W/L um")
 	}
 	if showOhms {
-		head += fmt.Sprintf("%-7s ", "R on")
+		head += fmt.Sprintf("%-9s ", "R on")
 	}
 	lines := []string{
 		st.Dim.Render(t.Clip("devices "+info, m.w)),
@@ -309,7 +309,11 @@ func (m Model) View() string {
 			if d < len(m.ohms) {
 				r = m.ohms[d]
 			}
-			b.WriteString(theme.Pad(ohms(r), 7) + " ")
+			if math.IsNaN(r) {
+				b.WriteString(theme.Pad("-", 9) + " ")
+			} else {
+				b.WriteString(theme.Pad(panel.Ohms(r), 9) + " ")
+			}
 		}
 		b.WriteString(m.names.Node[dv.A] + g.Rule + m.names.Node[dv.B])
 		lines = append(lines, b.String())
@@ -385,7 +389,7 @@ func (m Model) detail() string {
 	// The on-resistance estimate goes here too once the physical mode
 	// gives it (SetOhms): until then the column and this part stay away.
 	if d < len(m.ohms) && !math.IsNaN(m.ohms[d]) {
-		parts = append(parts, "R on "+ohms(m.ohms[d]))
+		parts = append(parts, "R on "+panel.Ohms(m.ohms[d]))
 	}
 	parts = append(parts, m.names.Node[dv.A]+t.G.Rule+m.names.Node[dv.B])
 	return st.Dim.Render(t.Clip(t.G.Cursor+" "+strings.Join(parts, "  "), m.w))
@@ -418,18 +422,6 @@ func size(dv switchsim.Device) string {
 		return "-"
 	}
 	return fmt.Sprintf("%.3g/%.3g", dv.W*1e6, dv.L*1e6)
-}
-
-func ohms(r float64) string {
-	switch {
-	case math.IsNaN(r) || math.IsInf(r, 0):
-		return "-"
-	case r >= 1e6:
-		return fmt.Sprintf("%.3gM", r/1e6)
-	case r >= 1e3:
-		return fmt.Sprintf("%.3gk", r/1e3)
-	}
-	return fmt.Sprintf("%.3g", r)
 }
 
 // kindName fits a device kind in w cells (4 or 6).

@@ -115,11 +115,11 @@ func TestOhmsColumn(t *testing.T) {
 	ohms[0] = 4700
 	m.SetOhms(ohms)
 	v := m.View()
-	if !strings.Contains(v, "R on") || !strings.Contains(row(v, s.Netlist().Device(0).Name), "4.7k") {
+	if !strings.Contains(v, "R on") || !strings.Contains(row(v, s.Netlist().Device(0).Name), "4.7 kohm") {
 		t.Errorf("R on column:\n%s", v)
 	}
 	lines := strings.Split(v, "\n")
-	if last := lines[len(lines)-1]; !strings.Contains(last, "R on 4.7k") {
+	if last := lines[len(lines)-1]; !strings.Contains(last, "R on 4.7 kohm") {
 		t.Errorf("the selected device's line %q lacks its R on", last)
 	}
 }

@@ -179,8 +179,8 @@ func (m Model) Update(msg tea.Msg) (Model, tea.Cmd) {
 	if !ok {
 		return m, nil
 	}
-	if m.filter.Typing() {
-		if m.filter.Update(k) {
+	if took, changed := m.filter.Take(k); took {
+		if changed {
 			m.rebuild()
 		}
 		return m, nil

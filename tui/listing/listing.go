@@ -173,6 +173,16 @@ func (f *Filter) Update(msg tea.KeyMsg) bool {
 	return f.in.Update(msg)
 }
 
+// Take feeds k to the filter when it is being typed: took says the key
+// was the filter's, changed that the text changed (the rows want
+// rebuilding).
+func (f *Filter) Take(k tea.KeyMsg) (took, changed bool) {
+	if !f.typing {
+		return false, false
+	}
+	return true, f.Update(k)
+}
+
 // View draws the field while typing, or the filter in force.
 func (f *Filter) View() string {
 	if f.typing {

@@ -152,3 +152,17 @@ func Seconds(s float64) string {
 	}
 	return fmt.Sprintf("%.3gs", s)
 }
+
+// Ohms prints a resistance with its unit ("12.4 kohm"), "open" where
+// there is none.
+func Ohms(r float64) string {
+	switch {
+	case math.IsInf(r, 0) || math.IsNaN(r):
+		return "open"
+	case r >= 1e6:
+		return fmt.Sprintf("%.3g Mohm", r/1e6)
+	case r >= 1e3:
+		return fmt.Sprintf("%.3g kohm", r/1e3)
+	}
+	return fmt.Sprintf("%.3g ohm", r)
+}

@@ -238,7 +238,7 @@ func Lines(nl *switchsim.Netlist, names *panel.Names, e switchsim.Explanation, l
 	}
 	if e.Divider != nil {
 		out = append(out, "", fmt.Sprintf("Divider: %s to the 1 side, %s to the 0 side %s %.2f V",
-			ohms(e.Divider.Up), ohms(e.Divider.Down), t.G.Arrow, e.Divider.Volts))
+			panel.Ohms(e.Divider.Up), panel.Ohms(e.Divider.Down), t.G.Arrow, e.Divider.Volts))
 	}
 	if e.Floating {
 		out = append(out, "")
@@ -316,18 +316,6 @@ func plural(n int, w string) string {
 		return "1 " + w
 	}
 	return fmt.Sprintf("%d %ss", n, w)
-}
-
-func ohms(r float64) string {
-	switch {
-	case math.IsInf(r, 0) || math.IsNaN(r):
-		return "open"
-	case r >= 1e6:
-		return fmt.Sprintf("%.3g Mohm", r/1e6)
-	case r >= 1e3:
-		return fmt.Sprintf("%.3g kohm", r/1e3)
-	}
-	return fmt.Sprintf("%.3g ohm", r)
 }
 
 func farads(c float64) string {
