@@ -4,10 +4,10 @@ package tui
 
 import (
 	"fmt"
-	"path/filepath"
 	"strings"
 
 	"railyard/switchsim"
+	"railyard/switchsim/load"
 	"railyard/switchsim/session"
 	"railyard/tui/prompt"
 )
@@ -187,7 +187,7 @@ func (m *Model) openSave() {
 	}
 	base := m.sess.Design.Name
 	if base == "" {
-		base = strings.TrimSuffix(filepath.Base(strings.TrimPrefix(m.sess.DesignPath, "demo:")), ".sw")
+		base = load.BaseName(m.sess.DesignPath)
 	}
 	tr, vcd := base+".trace", base+".vcd"
 	if m.opt.TracePath != "" {

@@ -7,6 +7,7 @@ import (
 	"testing"
 
 	"railyard/designs"
+	"railyard/switchsim/diag"
 	"railyard/switchsim/netfile"
 	"railyard/switchsim/steps"
 )
@@ -16,7 +17,7 @@ var fuzzLimits = netfile.Limits{FileSize: 64 << 10, LineLen: 4 << 10, Depth: 16,
 
 func seedDesigns(f *testing.F) {
 	for _, e := range designs.List() {
-		sw, _, _ := designs.Source(e.Name)
+		sw, _ := designs.FS.ReadFile(e.Name + ".sw")
 		f.Add(sw)
 	}
 	f.Add(netfile.LibrarySource())
@@ -24,7 +25,7 @@ func seedDesigns(f *testing.F) {
 	f.Add([]byte("design x \"d\"\ntech generic vdd=1.2 vtp=-0.3\npower vcc\nground vss\ninput a\nnode a cap=1f charge=small\npulldown p a strength=weak\n"))
 }
 
-// FuzzRead: no input panics; every error is an ErrorList with a position in
+// FuzzRead: no input panics; every error is a diag.List with a position in
 // the file; a design that reads survives the writer: read(write(d)) gives
 // the same netlist, both from the tree and flat.
 func FuzzRead(f *testing.F) {
@@ -32,7 +33,7 @@ func FuzzRead(f *testing.F) {
 	f.Fuzz(func(t *testing.T, src []byte) {
 		d, err := netfile.ReadLimits("f.sw", src, fuzzLimits)
 		if err != nil {
-			var list netfile.ErrorList
+			var list diag.List
 			if !errors.As(err, &list) || len(list) == 0 {
 				t.Fatalf("error %T: %v", err, err)
 			}
@@ -69,10 +70,11 @@ func FuzzRead(f *testing.F) {
 }
 
 // FuzzSteps reads a design and a steps file against it: no panic, errors
-// are ErrorLists, and rows that read have one value per column.
+// are diag.Lists, and rows that read have one value per column.
 func FuzzSteps(f *testing.F) {
 	for _, e := range designs.List() {
-		sw, st, _ := designs.Source(e.Name)
+		sw, _ := designs.FS.ReadFile(e.Name + ".sw")
+		st, _ := designs.FS.ReadFile(e.Name + ".steps")
 		f.Add(sw, st)
 	}
 	f.Add([]byte("input a b\noutput y\nuse nand2 g a b y\n"), []byte("apply a b\ncheck y g.mid\n0 0|1 -\nx z | X Z # l\n"))
@@ -83,7 +85,7 @@ func FuzzSteps(f *testing.F) {
 		}
 		st, err := steps.ReadLimits("f.steps", src, d.Netlist, steps.Limits{FileSize: 64 << 10, LineLen: 4 << 10})
 		if err != nil {
-			var list netfile.ErrorList
+			var list diag.List
 			if !errors.As(err, &list) || len(list) == 0 {
 				t.Fatalf("error %T: %v", err, err)
 			}

@@ -3,6 +3,7 @@ package netfile_test
 import (
 	"testing"
 
+	"railyard/designs"
 	"railyard/switchsim"
 	"railyard/switchsim/netfile"
 )
@@ -158,4 +159,13 @@ func TestLibraryRenamedRails(t *testing.T) {
 	if got := s.node("y"); got.State != switchsim.State1 {
 		t.Errorf("y = %s, want 1", got.State)
 	}
+}
+
+// readDemo reads an embedded demo's design, as the reader sees its bytes.
+func readDemo(name string) (*netfile.Design, error) {
+	src, err := designs.FS.ReadFile(name + ".sw")
+	if err != nil {
+		return nil, err
+	}
+	return netfile.Read("demo:"+name, src)
 }

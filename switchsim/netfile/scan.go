@@ -2,7 +2,8 @@ package netfile
 
 import (
 	"strconv"
-	"unicode/utf8"
+
+	"railyard/switchsim/diag"
 )
 
 // Word is one token of a line: a bare Word, or a double-quoted string
@@ -21,66 +22,11 @@ type srcLine struct {
 	hasComment bool
 }
 
-// CheckText reports the first byte that keeps src from being text: a NUL
-// byte or a byte sequence that is not UTF-8. It returns nil for text.
-func CheckText(file string, src []byte) *Error {
-	line, col := 1, 1
-	for i := 0; i < len(src); {
-		c := src[i]
-		if c == 0 {
-			return &Error{Pos{file, line, col}, "not a text file: NUL byte"}
-		}
-		if c < utf8.RuneSelf {
-			i++
-			if c == '\n' {
-				line, col = line+1, 1
-			} else {
-				col++
-			}
-			continue
-		}
-		r, n := utf8.DecodeRune(src[i:])
-		if r == utf8.RuneError && n <= 1 {
-			return &Error{Pos{file, line, col}, "not a text file: invalid UTF-8"}
-		}
-		i += n
-		col += n
-	}
-	return nil
-}
-
-// CheckSize reports a file longer than max bytes, at the position where it
-// passes the limit.
-func CheckSize(file string, src []byte, max int) *Error {
-	if len(src) <= max {
-		return nil
-	}
-	line, col := 1, 1
-	for _, c := range src[:max] {
-		if c == '\n' {
-			line, col = line+1, 1
-		} else {
-			col++
-		}
-	}
-	return &Error{Pos{file, line, col}, "file is longer than the limit of " + sizeString(max)}
-}
-
-func sizeString(n int) string {
-	switch {
-	case n >= 1<<20 && n%(1<<20) == 0:
-		return strconv.Itoa(n>>20) + " MiB"
-	case n >= 1<<10 && n%(1<<10) == 0:
-		return strconv.Itoa(n>>10) + " KiB"
-	}
-	return strconv.Itoa(n) + " bytes"
-}
-
 func isSpace(c byte) bool { return c == ' ' || c == '\t' || c == '\r' || c == '\f' || c == '\v' }
 
 // scanLines splits src (already checked to be text) into lines of words.
 // A line longer than maxLine is reported and left empty.
-func scanLines(file string, src []byte, maxLine int, errs *sink) []srcLine {
+func scanLines(file string, src []byte, maxLine int, errs *diag.Sink) []srcLine {
 	if len(src) >= 3 && src[0] == 0xEF && src[1] == 0xBB && src[2] == 0xBF {
 		src = src[3:] // a byte-order mark says nothing in UTF-8
 	}
@@ -100,7 +46,7 @@ func scanLines(file string, src []byte, maxLine int, errs *sink) []srcLine {
 		}
 		l := srcLine{num: num}
 		if len(text) > maxLine {
-			errs.add(Pos{file, num, maxLine + 1}, "line is longer than the limit of %d bytes", maxLine)
+			errs.Add(at(file, num, maxLine+1), "line is longer than the limit of %d bytes", maxLine)
 			lines = append(lines, l)
 			continue
 		}
@@ -122,13 +68,13 @@ func scanLines(file string, src []byte, maxLine int, errs *sink) []srcLine {
 			case c == '"':
 				q, err := strconv.QuotedPrefix(string(text[i:]))
 				if err != nil {
-					errs.add(Pos{file, num, i + 1}, "string is not closed or has a bad escape (use \\\" and \\\\ inside quotes)")
+					errs.Add(at(file, num, i+1), "string is not closed or has a bad escape (use \\\" and \\\\ inside quotes)")
 					i = len(text)
 					break
 				}
 				s, err := strconv.Unquote(q)
 				if err != nil {
-					errs.add(Pos{file, num, i + 1}, "bad string %s", q)
+					errs.Add(at(file, num, i+1), "bad string %s", q)
 				}
 				l.words = append(l.words, Word{Text: s, Line: num, Col: i + 1, Quoted: true})
 				i += len(q)
@@ -145,3 +91,6 @@ func scanLines(file string, src []byte, maxLine int, errs *sink) []srcLine {
 	}
 	return lines
 }
+
+// at is the position of a line and column of file.
+func at(file string, line, col int) diag.Pos { return diag.Pos{File: file, Line: line, Col: col} }
