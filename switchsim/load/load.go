@@ -52,11 +52,14 @@ func BaseName(name string) string {
 
 // Limits of a read (README, "Errors and limits").
 const (
-	DefaultMaxBytes = 4 << 20          // bytes of one file: the readers' own limit
-	MaxIncludes     = 64               // files one design may include, in all
-	MaxIncludeBytes = 16 << 20         // bytes of the files one design includes, in all
-	PipeWait        = 10 * time.Second // how long a pipe or device may keep a read waiting
+	DefaultMaxBytes = 4 << 20  // bytes of one file: the readers' own limit
+	MaxIncludes     = 64       // files one design may include, in all
+	MaxIncludeBytes = 16 << 20 // bytes of the files one design includes, in all
 )
+
+// pipeWait is how long a pipe or a device may keep a read waiting (a
+// variable so that the tests need not wait that long).
+var pipeWait = 10 * time.Second
 
 // Options choose how designs are read: the format (else by extension),
 // the reader options of netlists from elsewhere, and the size bound of a
@@ -227,7 +230,7 @@ func (b *bounded) Read(p []byte) (int, error) {
 		}
 	}
 	if errors.Is(err, os.ErrDeadlineExceeded) {
-		err = fail(b.label, "cannot read: nothing more came within %s (a pipe or device that does not end)", PipeWait)
+		err = fail(b.label, "cannot read: nothing more came within %s (a pipe or device that does not end)", pipeWait)
 	}
 	return n, err
 }
@@ -249,7 +252,7 @@ func (l *Loader) checkKind(f fs.File, label string, regular bool) error {
 			return fail(label, "cannot read: not a regular file")
 		}
 		if d, ok := f.(interface{ SetReadDeadline(time.Time) error }); ok {
-			d.SetReadDeadline(time.Now().Add(PipeWait))
+			d.SetReadDeadline(time.Now().Add(pipeWait))
 		}
 	}
 	return nil
@@ -278,7 +281,7 @@ func (l *Loader) ReadFile(name string) ([]byte, error) {
 	src, err := io.ReadAll(io.LimitReader(f, int64(max)+1))
 	if err != nil {
 		if errors.Is(err, os.ErrDeadlineExceeded) {
-			return nil, fail(label, "cannot read: nothing more came within %s (a pipe or device that does not end)", PipeWait)
+			return nil, fail(label, "cannot read: nothing more came within %s (a pipe or device that does not end)", pipeWait)
 		}
 		return nil, fail(label, "cannot read: %s", reason(err))
 	}
