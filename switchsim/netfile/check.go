@@ -42,7 +42,7 @@ type cellDef struct {
 	file          string
 	line, col     int
 	ports         []string
-	portIx        map[string]int
+	portIx        map[string]int // by name, for cells of many ports; nil for few
 	items         []item
 	lib           bool
 	power, ground string // the rail names of the file that defines it
@@ -75,7 +75,34 @@ type item struct {
 	cell      *cellDef
 }
 
-func (cd *cellDef) hasPort(n string) bool { _, ok := cd.portIx[n]; return ok }
+func (cd *cellDef) hasPort(n string) bool { _, ok := cd.portIndex(n); return ok }
+
+// portIndex finds a port by name: a scan for a few ports (most cells),
+// a map beyond, so that a file of many small cells costs no map each.
+func (cd *cellDef) portIndex(n string) (int, bool) {
+	if cd.portIx != nil {
+		i, ok := cd.portIx[n]
+		return i, ok
+	}
+	for i, p := range cd.ports {
+		if p == n {
+			return i, true
+		}
+	}
+	return 0, false
+}
+
+func (cd *cellDef) addPort(n string) {
+	cd.ports = append(cd.ports, n)
+	if cd.portIx == nil && len(cd.ports) > 8 {
+		cd.portIx = make(map[string]int, 16)
+		for i, p := range cd.ports {
+			cd.portIx[p] = i
+		}
+	} else if cd.portIx != nil {
+		cd.portIx[n] = len(cd.ports) - 1
+	}
+}
 
 func (cd *cellDef) bad(lim Limits) bool { return cd.cycle || cd.height > lim.Depth }
 
@@ -361,7 +388,7 @@ func (c *checker) check(t *Tree) *program {
 			if cd := c.cells[firstArg(s)]; cd != nil && cd.line == s.Line {
 				cd.items = c.body(s.Body, cd)
 			} else {
-				c.body(s.Body, &cellDef{name: firstArg(s), power: p.power, ground: p.ground, portIx: map[string]int{}})
+				c.body(s.Body, &cellDef{name: firstArg(s), power: p.power, ground: p.ground})
 			}
 		}
 	}
@@ -522,7 +549,7 @@ func (c *checker) cellHeader(s *Stmt, p *program) *cellDef {
 		c.errAt(s.Args[0].Line, s.Args[0].Col, "cell %s defined twice (first at %s)", name, c.where(prev.line, prev.col))
 		return nil
 	}
-	cd := &cellDef{name: name, file: c.file, line: s.Line, col: s.Col, portIx: map[string]int{}, lib: c.lib, power: p.power, ground: p.ground, deep: -1}
+	cd := &cellDef{name: name, file: c.file, line: s.Line, col: s.Col, lib: c.lib, power: p.power, ground: p.ground, deep: -1}
 	for _, w := range s.Args[1:] {
 		port, ok := c.name(w, "a port name")
 		if !ok {
@@ -534,8 +561,7 @@ func (c *checker) cellHeader(s *Stmt, p *program) *cellDef {
 		case cd.hasPort(port):
 			c.errAt(w.Line, w.Col, "port %s of cell %s given twice", port, name)
 		default:
-			cd.portIx[port] = len(cd.ports)
-			cd.ports = append(cd.ports, port)
+			cd.addPort(port)
 		}
 	}
 	c.cells[name] = cd

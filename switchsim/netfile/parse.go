@@ -57,8 +57,10 @@ func parseTree(file string, lines []srcLine, errs *diag.Sink) *Tree {
 			t.Stmts = append(t.Stmts, s)
 		}
 	}
-	for _, l := range lines {
-		s := &Stmt{Line: l.num, Comment: l.comment, HasComment: l.hasComment}
+	slab := make([]Stmt, len(lines)) // one allocation for every statement
+	for i, l := range lines {
+		s := &slab[i]
+		*s = Stmt{Line: l.num, Comment: l.comment, HasComment: l.hasComment}
 		if len(l.words) == 0 {
 			add(s)
 			continue
@@ -70,7 +72,17 @@ func parseTree(file string, lines []srcLine, errs *diag.Sink) *Tree {
 			continue
 		}
 		s.Kind = kw.Text
+		plain := true
 		for _, w := range l.words[1:] {
+			plain = plain && !w.Quoted && strings.IndexByte(w.Text, '=') < 0
+		}
+		if plain {
+			s.Args = l.words[1:] // the common case: no copy
+		}
+		for _, w := range l.words[1:] {
+			if plain {
+				break
+			}
 			if w.Quoted {
 				s.Strs = append(s.Strs, w)
 				continue

@@ -240,7 +240,7 @@ func (f *flattener) scope(items []item, cd *cellDef, prefix string, ports []stri
 		if cd == nil {
 			return n
 		}
-		if i, ok := cd.portIx[n]; ok {
+		if i, ok := cd.portIndex(n); ok {
 			return ports[i]
 		}
 		switch n {

@@ -2,6 +2,7 @@ package netfile
 
 import (
 	"strconv"
+	"strings"
 
 	"railyard/switchsim/diag"
 )
@@ -25,24 +26,24 @@ type srcLine struct {
 func isSpace(c byte) bool { return c == ' ' || c == '\t' || c == '\r' || c == '\f' || c == '\v' }
 
 // scanLines splits src (already checked to be text) into lines of words.
-// A line longer than maxLine is reported and left empty.
+// A line longer than maxLine is reported and left empty. The text is
+// copied once; words are slices of that copy, and the lines' words share
+// one backing array, so a file costs a fixed number of bytes a word.
 func scanLines(file string, src []byte, maxLine int, errs *diag.Sink) []srcLine {
 	if len(src) >= 3 && src[0] == 0xEF && src[1] == 0xBB && src[2] == 0xBF {
 		src = src[3:] // a byte-order mark says nothing in UTF-8
 	}
-	var lines []srcLine
+	all := string(src)
+	lines := make([]srcLine, 0, strings.Count(all, "\n")+1)
+	words := make([]Word, 0, countWords(all))
 	num := 0
-	for len(src) > 0 {
+	for len(all) > 0 {
 		num++
-		end := 0
-		for end < len(src) && src[end] != '\n' {
-			end++
-		}
-		text := src[:end]
-		if end < len(src) {
-			src = src[end+1:]
+		text := all
+		if end := strings.IndexByte(all, '\n'); end >= 0 {
+			text, all = all[:end], all[end+1:]
 		} else {
-			src = nil
+			all = ""
 		}
 		l := srcLine{num: num}
 		if len(text) > maxLine {
@@ -50,6 +51,7 @@ func scanLines(file string, src []byte, maxLine int, errs *diag.Sink) []srcLine 
 			lines = append(lines, l)
 			continue
 		}
+		first := len(words)
 		for i := 0; i < len(text); {
 			c := text[i]
 			switch {
@@ -63,10 +65,10 @@ func scanLines(file string, src []byte, maxLine int, errs *diag.Sink) []srcLine 
 				for k > j && isSpace(text[k-1]) {
 					k--
 				}
-				l.comment, l.hasComment = string(text[j:k]), true
+				l.comment, l.hasComment = text[j:k], true
 				i = len(text)
 			case c == '"':
-				q, err := strconv.QuotedPrefix(string(text[i:]))
+				q, err := strconv.QuotedPrefix(text[i:])
 				if err != nil {
 					errs.Add(at(file, num, i+1), "string is not closed or has a bad escape (use \\\" and \\\\ inside quotes)")
 					i = len(text)
@@ -76,20 +78,44 @@ func scanLines(file string, src []byte, maxLine int, errs *diag.Sink) []srcLine 
 				if err != nil {
 					errs.Add(at(file, num, i+1), "bad string %s", q)
 				}
-				l.words = append(l.words, Word{Text: s, Line: num, Col: i + 1, Quoted: true})
+				words = append(words, Word{Text: s, Line: num, Col: i + 1, Quoted: true})
 				i += len(q)
 			default:
 				j := i
 				for j < len(text) && !isSpace(text[j]) && text[j] != '#' && text[j] != '"' {
 					j++
 				}
-				l.words = append(l.words, Word{Text: string(text[i:j]), Line: num, Col: i + 1})
+				words = append(words, Word{Text: text[i:j], Line: num, Col: i + 1})
 				i = j
 			}
 		}
+		l.words = words[first:len(words):len(words)]
 		lines = append(lines, l)
 	}
 	return lines
+}
+
+// countWords counts the words of a text the way scanLines splits them,
+// closely enough to size its array once (a quoted string holding spaces
+// counts more than once: the estimate errs high).
+func countWords(s string) int {
+	n, in, comment := 0, false, false
+	for i := 0; i < len(s); i++ {
+		c := s[i]
+		switch {
+		case c == '\n':
+			in, comment = false, false
+		case comment:
+		case c == '#':
+			comment = true
+		case isSpace(c):
+			in = false
+		case !in:
+			in = true
+			n++
+		}
+	}
+	return n
 }
 
 // at is the position of a line and column of file.
