@@ -23,6 +23,8 @@ func seedDesigns(f *testing.F) {
 	f.Add(netfile.LibrarySource())
 	f.Add([]byte("cell a X\n  use b i X\nend\ncell b Y\n  use a j Y\nend\nuse a top q\n"))
 	f.Add([]byte("design x \"d\"\ntech generic vdd=1.2 vtp=-0.3\npower vcc\nground vss\ninput a\nnode a cap=1f charge=small\npulldown p a strength=weak\n"))
+	f.Add([]byte("tech generic vdd=1.8\ncorner slow vdd=1.62 vtn=0.5 kn=150u\ncorner fast vdd=1.98\ninput a\nuse inv u a y\nalias u.n \"MN<0>\"\nalias y \"net\\\"3\"\n"))
+	f.Add([]byte("input a\nnmos n a y gnd w=0.5 l=2m\nnode y cap=5\ncorner k vdd=0.3\nalias q \"Q\"\n"))
 }
 
 // FuzzRead: no input panics; every error is a diag.List with a position in
@@ -64,6 +66,22 @@ func FuzzRead(f *testing.F) {
 			}
 			if diff := diffNetlists(d.Netlist, d2.Netlist); len(diff) > 0 {
 				t.Fatalf("read(write(d)) differs (flat %v):\n%s\n%s", flat, strings.Join(diff, "\n"), buf.String())
+			}
+			if flat {
+				continue // the flat writer writes the netlist alone
+			}
+			if len(d2.Corners) != len(d.Corners) {
+				t.Fatalf("read(write(d)) has %d corners, not %d", len(d2.Corners), len(d.Corners))
+			}
+			for i := range d.Corners {
+				if d.Corners[i].Name != d2.Corners[i].Name || d.Corners[i].Tech != d2.Corners[i].Tech {
+					t.Fatalf("corner %d differs: %+v vs %+v", i, d.Corners[i], d2.Corners[i])
+				}
+			}
+			for n := 0; n < d.Netlist.NumNodes(); n++ {
+				if a, b := d.Netlist.DisplayName(n), d2.Netlist.DisplayName(n); a != b {
+					t.Fatalf("node %s shows as %q, then %q", d.Netlist.NodeName(n), a, b)
+				}
 			}
 		}
 	})

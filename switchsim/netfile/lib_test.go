@@ -4,6 +4,7 @@ import (
 	"testing"
 
 	"railyard/designs"
+	"railyard/switchsim/diag"
 	"railyard/switchsim"
 	"railyard/switchsim/netfile"
 )
@@ -169,3 +170,13 @@ func readDemo(name string) (*netfile.Design, error) {
 	}
 	return netfile.Read("demo:"+name, src)
 }
+
+func demoNames() []string {
+	var names []string
+	for _, e := range designs.List() {
+		names = append(names, e.Name)
+	}
+	return names
+}
+
+func pos(line int) diag.Pos { return diag.Pos{File: "x.sp", Line: line, Col: 1} }

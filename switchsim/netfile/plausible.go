@@ -3,6 +3,7 @@ package netfile
 import (
 	"fmt"
 	"math"
+	"strconv"
 	"strings"
 
 	"railyard/switchsim/diag"
@@ -145,13 +146,19 @@ func mustNumber(s string) float64 {
 	return v
 }
 
-// quantity prints a value with its unit and an SI prefix: 500 nm, 5 fF, 0.5 m.
+// quantity prints a value with its unit and an SI prefix, to four
+// digits: 500 nm, 5 fF, 1 aF, 2 mm, and 0.5 m rather than 500 mm.
 func quantity(v float64, unit string) string {
-	s := FormatNumber(v)
-	if n := len(s); n > 0 {
-		if _, ok := siPrefix[s[n-1]]; ok {
-			return s[:n-1] + " " + s[n-1:] + unit // u for micro, in ASCII as the format writes it
+	if v >= 0.1 || v <= 0 {
+		return strconv.FormatFloat(v, 'g', 4, 64) + " " + unit
+	}
+	for _, p := range []struct {
+		exp    int
+		prefix string
+	}{{-3, "m"}, {-6, "u"}, {-9, "n"}, {-12, "p"}, {-15, "f"}, {-18, "a"}} {
+		if m := v / math.Pow10(p.exp); m >= 1 || p.exp == -18 {
+			return strconv.FormatFloat(m, 'g', 4, 64) + " " + p.prefix + unit // u for micro, in ASCII as the format writes it
 		}
 	}
-	return s + " " + unit
+	return ""
 }
