@@ -4,8 +4,8 @@ import (
 	"testing"
 
 	"railyard/designs"
-	"railyard/switchsim/diag"
 	"railyard/switchsim"
+	"railyard/switchsim/diag"
 	"railyard/switchsim/netfile"
 )
 
