@@ -153,7 +153,7 @@ func TestFIFODoesNotHang(t *testing.T) {
 }
 
 // The default steps: the same base name with .steps beside the design
-// (FORMAT.md); a demo's is demo:NAME.steps.
+// (README, "Steps files"); a demo's is demo:NAME.steps.
 func TestDefaultSteps(t *testing.T) {
 	dir := t.TempDir()
 	sw := write(t, dir, "latch.sw", latch)
