@@ -707,20 +707,12 @@ func (c *checker) body(stmts []*Stmt, cd *cellDef) []item {
 			}
 			it.terms, ok = terms(s.Args[1:])
 			ok = ok && good
-			for _, key := range []string{"w", "l", "wn", "wp"} {
-				if v, has := o[key]; has {
-					x, good := c.numberOK(v, true)
-					ok = ok && good
-					switch key {
-					case "w":
-						it.w = x
-					case "l":
-						it.l = x
-					case "wn":
-						it.wn = x
-					case "wp":
-						it.wp = x
-					}
+			for _, size := range []struct {
+				key string
+				dst *float64
+			}{{"w", &it.w}, {"l", &it.l}, {"wn", &it.wn}, {"wp", &it.wp}} {
+				if v, has := o[size.key]; has {
+					*size.dst, ok = c.numberOK(v, ok)
 				}
 			}
 			if v, has := o["strength"]; has {
