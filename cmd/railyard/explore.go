@@ -6,6 +6,7 @@ import (
 
 	"railyard/designs"
 	"railyard/switchsim"
+	"railyard/switchsim/load"
 	"railyard/switchsim/session"
 	"railyard/tui"
 )
@@ -42,7 +43,7 @@ func cmdExplore(args []string, stdout, stderr io.Writer) int {
 	if code >= 0 {
 		return code
 	}
-	design := "demo:" + designs.Default
+	design := load.DemoPrefix + designs.Default
 	switch len(pos) {
 	case 0:
 	case 1:

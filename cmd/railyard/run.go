@@ -7,6 +7,7 @@ import (
 
 	"railyard/designs"
 	"railyard/switchsim"
+	"railyard/switchsim/load"
 	"railyard/switchsim/session"
 )
 
@@ -108,7 +109,7 @@ func runDesign(design string, o runOptions, stdout, stderr io.Writer) int {
 // batchDefault is bare `railyard` off a terminal: the demo's batch report,
 // exit 0 whatever its checks say (FORMAT.md).
 func batchDefault(stdout, stderr io.Writer) int {
-	if code := runDesign("demo:"+designs.Default, runOptions{}, stdout, stderr); code == exitUsage {
+	if code := runDesign(load.DemoPrefix+designs.Default, runOptions{}, stdout, stderr); code == exitUsage {
 		return code
 	}
 	return exitOK
