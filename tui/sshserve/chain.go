@@ -19,7 +19,9 @@ type sshSettings struct {
 	chain    []func(ssh.Handler) ssh.Handler // innermost first
 }
 
-// newSSHServer builds the server with wish (needs keygen v0.5.4 or later in go.mod).
+// newSSHServer builds the server with wish. The host key is always given, so
+// wish never makes one of its own (it would write id_ed25519 in the working
+// folder).
 func newSSHServer(c sshSettings) (*ssh.Server, error) {
 	mw := make([]wish.Middleware, len(c.chain))
 	for i, m := range c.chain {
