@@ -16,7 +16,11 @@ type sshSettings struct {
 	auth     ssh.PublicKeyHandler // nil: no client authentication (loopback --no-auth only)
 	connIdle time.Duration
 	failed   func(net.Conn, error)
-	chain    []func(ssh.Handler) ssh.Handler // innermost first
+	// accept sees every connection first, before the handshake; nil
+	// closes it. handshake gives the settings of its handshake.
+	accept    ssh.ConnCallback
+	handshake ssh.ServerConfigCallback
+	chain     []func(ssh.Handler) ssh.Handler // innermost first
 }
 
 // newSSHServer builds the server with wish. The host key is always given, so
@@ -33,6 +37,8 @@ func newSSHServer(c sshSettings) (*ssh.Server, error) {
 		func(s *ssh.Server) error { s.AddHostKey(c.hostKey); return nil },
 		wish.WithMiddleware(mw...),
 		func(s *ssh.Server) error { s.ConnectionFailedCallback = c.failed; return nil },
+		ssh.WrapConn(c.accept),
+		func(s *ssh.Server) error { s.ServerConfigCallback = c.handshake; return nil },
 	}
 	if c.connIdle > 0 {
 		opts = append(opts, wish.WithIdleTimeout(c.connIdle))
