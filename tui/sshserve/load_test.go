@@ -208,7 +208,12 @@ func TestLoadConcurrentSessions(t *testing.T) {
 		t.Skip("the load test runs with -load")
 	}
 	n := *loadSessions
-	ts := startServer(t, 1, realExplorer, func(c *Config) { c.MaxSessions = n + 1 })
+	// All n connect from one address at the same moment, more than the
+	// default caps before authentication let in at once (TestLoadPendingFlood
+	// is the test of those): here they are raised to n.
+	ts := startServer(t, 1, realExplorer, func(c *Config) {
+		c.MaxSessions, c.MaxPending, c.MaxPendingPerAddr = n+1, max(n, DefaultMaxPending), n
+	})
 	ts.writeDesign(t, "opsel.sw", opselDesign)
 
 	heap := func() uint64 {
