@@ -95,29 +95,27 @@ func New(cfg Config) (*Server, error) {
 	if cfg.Listen == "" {
 		cfg.Listen = DefaultListen
 	}
-	if cfg.MaxSessions == 0 {
-		cfg.MaxSessions = DefaultMaxSessions
-	}
-	if cfg.MaxSessions < 0 {
-		return nil, fmt.Errorf("--max-sessions must be positive, got %d", cfg.MaxSessions)
+	for _, c := range []struct {
+		v    *int
+		def  int
+		flag string
+	}{
+		{&cfg.MaxSessions, DefaultMaxSessions, "--max-sessions"},
+		{&cfg.MaxPending, DefaultMaxPending, "--max-pending"},
+		{&cfg.MaxPendingPerAddr, DefaultMaxPendingPerAddr, "--max-pending-per-addr"},
+	} {
+		if *c.v == 0 {
+			*c.v = c.def
+		}
+		if *c.v < 0 {
+			return nil, fmt.Errorf("%s must be positive, got %d", c.flag, *c.v)
+		}
 	}
 	if cfg.IdleTimeout < 0 {
 		return nil, fmt.Errorf("--idle-timeout must not be negative, got %s", cfg.IdleTimeout)
 	}
-	if cfg.MaxPending == 0 {
-		cfg.MaxPending = DefaultMaxPending
-	}
-	if cfg.MaxPendingPerAddr == 0 {
-		cfg.MaxPendingPerAddr = DefaultMaxPendingPerAddr
-	}
 	if cfg.HandshakeTimeout == 0 {
 		cfg.HandshakeTimeout = DefaultHandshakeTimeout
-	}
-	if cfg.MaxPending < 0 {
-		return nil, fmt.Errorf("--max-pending must be positive, got %d", cfg.MaxPending)
-	}
-	if cfg.MaxPendingPerAddr < 0 {
-		return nil, fmt.Errorf("--max-pending-per-addr must be positive, got %d", cfg.MaxPendingPerAddr)
 	}
 	if cfg.HandshakeTimeout < 0 {
 		return nil, fmt.Errorf("--handshake-timeout must be positive, got %s", cfg.HandshakeTimeout)
