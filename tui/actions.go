@@ -13,6 +13,7 @@ import (
 
 	"railyard/switchsim"
 	"railyard/switchsim/diag"
+	"railyard/switchsim/load"
 	"railyard/switchsim/session"
 	"railyard/tui/panel"
 	"railyard/tui/prompt"
@@ -189,7 +190,7 @@ func (m *Model) openSave() {
 	} else {
 		base := m.sess.Design.Name
 		if base == "" {
-			base = strings.TrimSuffix(filepath.Base(strings.TrimPrefix(m.sess.DesignPath, "demo:")), ".sw")
+			base = load.BaseName(m.sess.DesignPath)
 		}
 		tr, vcd := base+".trace", base+".vcd"
 		if m.opt.TracePath != "" {
