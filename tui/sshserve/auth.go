@@ -126,7 +126,7 @@ func (s *Server) publicKeyAllowed(ctx ssh.Context, key ssh.PublicKey) bool {
 	}
 	ok, err := s.keys.allowed(key)
 	if err != nil {
-		s.log.Error("authorized keys", "error", err.Error())
+		s.log.Error("authorized keys", "error", diag.Printable(err.Error())) // may quote the file's key options
 	}
 	if !ok {
 		s.log.Warn("auth refused", "user", user, "key", fp, "remote", remote, "reason", "key not authorised")

@@ -252,7 +252,7 @@ func (s *Server) run(sess ssh.Session, v *visit, m tea.Model, act *activity, las
 	case errors.Is(err, tea.ErrProgramPanic):
 		return "internal error; this session is closed (the others go on)", "panic"
 	case err != nil && sess.Context().Err() == nil && !errors.Is(err, tea.ErrProgramKilled):
-		s.log.Warn("program error", "user", v.user, "error", err.Error())
+		s.log.Warn("program error", "user", v.user, "error", diag.Printable(err.Error()))
 		return "the session stopped: " + err.Error(), "error"
 	}
 	return "", ""

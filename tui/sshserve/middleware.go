@@ -114,7 +114,7 @@ func (s *Server) logPanic(v *visit, r any, stack []byte) {
 	user, design, id := v.user, v.design, v.id
 	v.mu.Unlock()
 	s.log.Error("session panic", "user", user, "design", design, "session", id,
-		"panic", fmt.Sprint(r), "stack", string(stack))
+		"panic", diag.Printable(fmt.Sprint(r)), "stack", string(stack))
 }
 
 // checkAccess is the last word on who is in: the SSH layer already demanded a

@@ -15,6 +15,7 @@ import (
 	"github.com/charmbracelet/ssh"
 	gossh "golang.org/x/crypto/ssh"
 
+	"railyard/switchsim/diag"
 	"railyard/switchsim/load"
 	"railyard/switchsim/netfile"
 	"railyard/tui"
@@ -299,7 +300,8 @@ func (s *Server) connectionFailed(c net.Conn, err error) {
 	if errors.Is(err, errDropped) {
 		return // the gate dropped it and logged why
 	}
-	s.log.Warn("handshake failed", "event", "failed", "remote", c.RemoteAddr().String(), "reason", err.Error())
+	// The reason can quote what the client sent (its algorithm names).
+	s.log.Warn("handshake failed", "event", "failed", "remote", c.RemoteAddr().String(), "reason", diag.Printable(err.Error()))
 }
 
 // pendingKey holds a connection's pendingConn in its SSH context, from
