@@ -23,6 +23,19 @@ func rawControl(s string) bool {
 	return false
 }
 
+// logIsPrintableJSON checks that every log line is a JSON object (logRecords
+// fails on any that is not) whose strings hold no raw control codes.
+func (ts *testServer) logIsPrintableJSON(t *testing.T) {
+	t.Helper()
+	for _, rec := range logRecords(t, ts.log.String()) {
+		for k, v := range rec {
+			if s, ok := v.(string); ok && rawControl(s) {
+				t.Errorf("log field %s holds raw control codes: %q", k, s)
+			}
+		}
+	}
+}
+
 func TestUserNameWithControlCodesIsLoggedPrintable(t *testing.T) {
 	ts := startServer(t, 1)
 	// With a listed key: refused for the name, and logged.
@@ -34,14 +47,7 @@ func TestUserNameWithControlCodesIsLoggedPrintable(t *testing.T) {
 	if !strings.Contains(r["reason"].(string), "user name") {
 		t.Errorf("the refusal does not say it is the name: %v", r)
 	}
-	// logRecords fails on any line that is not JSON.
-	for _, rec := range logRecords(t, ts.log.String()) {
-		for k, v := range rec {
-			if s, ok := v.(string); ok && rawControl(s) {
-				t.Errorf("log field %s holds raw control codes: %q", k, s)
-			}
-		}
-	}
+	ts.logIsPrintableJSON(t)
 }
 
 func TestUserNameWithControlCodesWithoutAuth(t *testing.T) {
@@ -61,13 +67,7 @@ func TestUserNameWithControlCodesWithoutAuth(t *testing.T) {
 	}
 	ts.waitLog(t, "session start", map[string]any{"user": `\x1b]0;x\x07`})
 	ts.waitLog(t, "session end", map[string]any{"user": `\x1b]0;x\x07`, "reason": "bad user name"})
-	for _, rec := range logRecords(t, ts.log.String()) {
-		for k, v := range rec {
-			if s, ok := v.(string); ok && rawControl(s) {
-				t.Errorf("log field %s holds raw control codes: %q", k, s)
-			}
-		}
-	}
+	ts.logIsPrintableJSON(t)
 }
 
 func TestPickerShowsFileNamesPrintable(t *testing.T) {
