@@ -203,7 +203,7 @@ func checkDesigns(args []string, o checkOptions, stdout, stderr io.Writer) int {
 		}
 	}
 	if cache != nil {
-		cache.trim()
+		cache.trim(maxCacheBytes)
 	}
 	switch {
 	case broken:

@@ -372,8 +372,8 @@ func (c *resultCache) put(key string, r *designResult) {
 }
 
 // trim removes the least recently used entries while the folder holds more
-// than maxCacheBytes.
-func (c *resultCache) trim() {
+// than limit bytes of them.
+func (c *resultCache) trim(limit int64) {
 	ents, err := os.ReadDir(c.dir)
 	if err != nil {
 		return
@@ -398,7 +398,7 @@ func (c *resultCache) trim() {
 	}
 	sort.Slice(list, func(i, j int) bool { return list[i].when.Before(list[j].when) })
 	for _, e := range list {
-		if total <= maxCacheBytes {
+		if total <= limit {
 			break
 		}
 		if os.Remove(e.path) == nil {

@@ -65,12 +65,12 @@ func (r seqRow) MarshalJSON() ([]byte, error) {
 	b.WriteByte('{')
 	for i, s := range r {
 		if i > 0 {
-			b.WriteString(", ")
+			b.WriteByte(',')
 		}
 		k, _ := json.Marshal(s.Input)
 		v, _ := json.Marshal(s.Drive)
 		b.Write(k)
-		b.WriteString(": ")
+		b.WriteByte(':')
 		b.Write(v)
 	}
 	b.WriteByte('}')

@@ -234,7 +234,8 @@ type Report struct {
 	Transitions int // settles tried from explored states
 	Depth       int // the longest shortest sequence, in moves
 	Stopped     Stop
-	Replays     int // states rebuilt by replay, beyond the snapshot budget
+	Replays     int   // states rebuilt by replay, beyond the snapshot budget
+	TableBytes  int64 // memory kept for the states found: keys, index, parents, depths
 	Elapsed     time.Duration
 	Findings    []Finding // in the order first seen
 }

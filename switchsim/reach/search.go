@@ -144,6 +144,7 @@ func (s *search) run(ctx context.Context) {
 	defer func() {
 		s.rep.Elapsed = time.Since(s.t0)
 		s.rep.States = s.tab.n
+		s.rep.TableBytes = s.tab.bytes() + 4*int64(cap(s.parent)+cap(s.depth))
 		s.rep.Findings = make([]Finding, len(s.findings))
 		for i, f := range s.findings {
 			f.Steps = s.sequence(f.from, f.to)

@@ -5,8 +5,9 @@ import (
 	"hash/maphash"
 )
 
-// table is the set of states found: fixed-length packed keys in chunks (so
-// growing never copies them) and an open-addressing index of state numbers.
+// table is the set of states found: fixed-length packed keys in chunks of
+// at most 1 MiB (so growing copies little) and an open-addressing index of
+// state numbers.
 // A state costs its key's bytes and, at most half full, two index slots.
 type table struct {
 	keyLen   int
@@ -55,7 +56,13 @@ func (t *table) add(k []byte) int32 {
 	id := int32(t.n)
 	c := t.n / t.perChunk
 	if c == len(t.chunks) {
-		t.chunks = append(t.chunks, make([]byte, 0, t.perChunk*t.keyLen))
+		// The first chunk starts small and grows by append (a small design
+		// never pays for a whole chunk); later ones are made whole.
+		size := t.perChunk * t.keyLen
+		if c == 0 {
+			size = min(size, 64*t.keyLen)
+		}
+		t.chunks = append(t.chunks, make([]byte, 0, size))
 	}
 	t.chunks[c] = append(t.chunks[c], k...)
 	t.n++
