@@ -626,3 +626,131 @@ func TestProgress(t *testing.T) {
 		}
 	}
 }
+
+// referenceCounts is a plain breadth-first search written apart from the
+// package's: states keyed by a string of every drive and value, a map of
+// snapshots, and counts of what each step shows (oscillation, judged on a
+// node that had a value before the step) and of the outputs' states.
+func referenceCounts(nl *switchsim.Netlist, mode switchsim.Mode, pairs bool) (states, transitions int, count map[string][2]int) {
+	count = map[string][2]int{} // "kind node" -> {states, transitions}
+	sim := switchsim.NewSim(nl, switchsim.Options{Mode: mode})
+	sim.Settle()
+	ins := nl.Inputs()
+	for _, n := range ins {
+		sim.SetInput(n, switchsim.Drive0)
+	}
+	sim.Settle()
+	key := func() string {
+		var b strings.Builder
+		for _, n := range ins {
+			b.WriteString(sim.InputDrive(n).String())
+		}
+		b.WriteByte('|')
+		for n := 0; n < nl.NumNodes(); n++ {
+			b.WriteString(sim.Node(n).Value.String())
+		}
+		return b.String()
+	}
+	outputs := func(newState, transition bool) {
+		for _, o := range nl.Outputs() {
+			k := ""
+			switch sim.Node(o).State {
+			case switchsim.StateZ:
+				k = string(FloatingOutput)
+			case switchsim.StateL, switchsim.StateH:
+				k = string(DegradedOutput)
+			default:
+				continue
+			}
+			c := count[k+" "+nl.NodeName(o)]
+			if newState {
+				c[0]++
+			}
+			if transition {
+				c[1]++
+			}
+			count[k+" "+nl.NodeName(o)] = c
+		}
+	}
+	seen := map[string]bool{key(): true}
+	queue := []*switchsim.Snapshot{sim.Snapshot()}
+	outputs(true, false)
+	for len(queue) > 0 {
+		snap := queue[0]
+		queue = queue[1:]
+		sim.Restore(snap)
+		var moves [][]int
+		for i := range ins {
+			moves = append(moves, []int{i})
+			for j := i + 1; pairs && j < len(ins); j++ {
+				moves = append(moves, []int{i, j})
+			}
+		}
+		fromCounted := map[string]bool{}
+		for _, mv := range moves {
+			sim.Restore(snap)
+			var before []switchsim.Value
+			for n := 0; n < nl.NumNodes(); n++ {
+				before = append(before, sim.Node(n).Value)
+			}
+			for _, i := range mv {
+				sim.SetInput(ins[i], 1-sim.InputDrive(ins[i]))
+			}
+			r := sim.Settle()
+			transitions++
+			for _, w := range r.Warnings {
+				if w.Kind == switchsim.WarnOscillation && before[w.Node] != switchsim.VX {
+					k := string(Oscillation) + " " + nl.NodeName(w.Node)
+					c := count[k]
+					c[1]++
+					if !fromCounted[k] {
+						fromCounted[k] = true
+						c[0]++
+					}
+					count[k] = c
+				}
+			}
+			k := key()
+			outputs(!seen[k], true)
+			if !seen[k] {
+				seen[k] = true
+				queue = append(queue, sim.Snapshot())
+			}
+		}
+	}
+	return len(seen), transitions, count
+}
+
+func TestCountsAgainstReference(t *testing.T) {
+	for _, c := range []struct {
+		name, src string
+		mode      switchsim.Mode
+		pairs     bool
+	}{
+		{"bus", busSrc, switchsim.Ideal, false},
+		{"bus", busSrc, switchsim.Physical, true},
+		{"demo:flipflop", "", switchsim.Physical, true},
+		{"demo:flipflop", "", switchsim.Ideal, true},
+		{"demo:static_latch", "", switchsim.Physical, true},
+		{"demo:lost_level", "", switchsim.Physical, true},
+		{"demo:mux2_pass", "", switchsim.Physical, false},
+		{"ring3", ring3Src, switchsim.Ideal, false},
+	} {
+		nl := load(t, c.name, c.src)
+		states, transitions, want := referenceCounts(nl, c.mode, c.pairs)
+		r := explore(t, nl, Options{Mode: c.mode, Pairs: c.pairs})
+		if r.States != states || r.Transitions != transitions {
+			t.Errorf("%s %s: %d states, %d transitions; the reference %d, %d", c.name, c.mode, r.States, r.Transitions, states, transitions)
+		}
+		got := map[string][2]int{}
+		for _, f := range r.Findings {
+			switch f.Kind {
+			case Oscillation, FloatingOutput, DegradedOutput:
+				got[string(f.Kind)+" "+nl.NodeName(f.Node)] = [2]int{f.States, f.Transitions}
+			}
+		}
+		if fmt.Sprint(got) != fmt.Sprint(want) {
+			t.Errorf("%s %s pairs %v: counts {states, transitions}\n %v\nthe reference\n %v", c.name, c.mode, c.pairs, got, want)
+		}
+	}
+}

@@ -258,7 +258,7 @@ func (s *search) run(ctx context.Context) {
 					sn = s.sim.Snapshot()
 					s.held += s.snapCost
 				}
-				s.queue = append(s.queue, pending{snap: sn, conds: append([]cond(nil), cc...)})
+				s.queue = append(s.queue, pending{snap: sn, conds: keep(cc)})
 			}
 			s.count(p, to, !seen, cc)
 		}
@@ -273,6 +273,17 @@ func (s *search) verify() {
 	if string(k) != string(s.next) {
 		panic(fmt.Sprintf("reach: incremental key %x, packed afresh %x", s.next, k))
 	}
+}
+
+// keep copies the conditions a state hands on.
+func keep(cc []cond) []cond {
+	var out []cond
+	for _, c := range cc {
+		if carried(c.kind) {
+			out = append(out, c)
+		}
+	}
+	return out
 }
 
 func (s *search) snapBudget() int64 {
@@ -413,9 +424,7 @@ func (s *search) carry(before []cond, r *switchsim.Result, mv []Set, judge bool)
 		}
 	}
 	for _, c := range before {
-		// A short names its device's terminals, which are sources that no
-		// settle changes: the engine reports it on every settle it holds in.
-		if n := c.w.Node; c.kind != Short && n >= 0 && n < len(s.fresh) && s.changed[n] != s.stamp && s.fresh[n] != s.stamp {
+		if n := c.w.Node; carried(c.kind) && n >= 0 && n < len(s.fresh) && s.changed[n] != s.stamp && s.fresh[n] != s.stamp {
 			out = append(out, c)
 		}
 	}
@@ -424,6 +433,18 @@ func (s *search) carry(before []cond, r *switchsim.Result, mv []Set, judge bool)
 		return append([]cond(nil), out...)
 	}
 	return out
+}
+
+// carried reports the conditions a state hands on to the next on the nodes
+// a settle leaves alone. What a step did (a race, a glitch, an oscillation)
+// is not handed on; nor is a short, whose terminals are sources that no
+// settle changes: the engine reports it on every settle it holds in.
+func carried(k Kind) bool {
+	switch k {
+	case Conflict, LevelLost, Contention, WriteFail:
+		return true
+	}
+	return false
 }
 
 // isStateKind reports the kinds that are conditions of a state.
