@@ -100,8 +100,8 @@ type Options struct {
 	Budget float64
 	// SnapshotBudget bounds the snapshots held (0: DefaultSnapshotBudget).
 	SnapshotBudget int64
-	// Progress, when set, is called at most once every ProgressEvery
-	// (at least every 64 transitions are between two calls) and once at the end.
+	// Progress, when set, is called at most once every ProgressEvery (the
+	// clock is read every 64 transitions) and once at the end.
 	Progress      func(Progress)
 	ProgressEvery time.Duration
 
