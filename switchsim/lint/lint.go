@@ -29,7 +29,8 @@ const (
 
 // Failing reports whether a finding of this kind makes `check` fail: an
 // output that always floats, and a short from one rail to the other (a
-// static current whatever the inputs; the README's check section). The
+// static current whatever the inputs; the README, "Checking every reachable
+// state"). The
 // others are slips worth reading that break no level.
 func (k Kind) Failing() bool { return k == FloatingOutput || k == RailShort }
 

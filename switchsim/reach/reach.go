@@ -1,6 +1,6 @@
-// Package reach checks a design in every state it can reach (the README's
-// check section; DEVELOPERS.md, "The reachable-state search"). Starting from
-// the settled state with every input 0, or after a reset sequence the
+// Package reach checks a design in every state it can reach (the README,
+// "Checking every reachable state"; DEVELOPERS.md, "The reachable-state
+// search"). Starting from the settled state with every input 0, or after a reset sequence the
 // caller gives, it tries every input change that can follow (each input
 // flipped, and on request every pair of inputs changed together) and
 // searches the settled states breadth first, so that every finding comes

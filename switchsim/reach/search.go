@@ -48,7 +48,7 @@ type search struct {
 	tab      *table
 	parent   []int32
 	depth    []int32
-	queue    []pending // the states head.. not yet expanded, in state order
+	queue    []pending // the states from qbase on, in state order; emptied as each is expanded
 	qbase    int32     // state number of queue[0]
 	held     int64     // bytes of snapshots in the queue
 	snapCost int64
@@ -185,7 +185,7 @@ func (s *search) run(ctx context.Context) {
 	s.tab.add(s.cur)
 	s.parent, s.depth = append(s.parent, -1), append(s.depth, 0)
 	s.start = s.sim.Snapshot()
-	s.queue = append(s.queue, pending{snap: s.start, conds: conds})
+	s.queue = append(s.queue, pending{snap: s.start, conds: keep(conds)})
 	s.count(-1, 0, true, conds)
 
 	max := s.opt.maxStates()
@@ -213,14 +213,14 @@ func (s *search) run(ctx context.Context) {
 		}
 		moves = s.moves(moves[:0])
 		for _, mv := range moves {
-			if s.rep.Transitions&63 == 0 {
-				if err := ctx.Err(); err != nil {
-					s.rep.Stopped = Canceled
-					if errors.Is(err, context.DeadlineExceeded) {
-						s.rep.Stopped = AtTimeLimit
-					}
-					return
+			if err := ctx.Err(); err != nil { // every step: a settle of a large design is slow
+				s.rep.Stopped = Canceled
+				if errors.Is(err, context.DeadlineExceeded) {
+					s.rep.Stopped = AtTimeLimit
 				}
+				return
+			}
+			if s.rep.Transitions&63 == 0 {
 				s.tick()
 			}
 			s.sim.Restore(snap)
