@@ -1,10 +1,10 @@
 // Package reach checks a design in every state it can reach (the README,
 // "Checking every reachable state"; DEVELOPERS.md, "The reachable-state
-// search"). Starting from the settled state with every input 0, or after a reset sequence the
-// caller gives, it tries every input change that can follow (each input
-// flipped, and on request every pair of inputs changed together) and
-// searches the settled states breadth first, so that every finding comes
-// with a shortest input sequence from the start.
+// search"). Starting from the settled state with every input 0, or after
+// a reset sequence the caller gives, it tries every input change that can
+// follow (each input flipped, and on request every pair of inputs changed
+// together) and searches the settled states breadth first, so that every
+// finding comes with a shortest input sequence from the start.
 //
 // A state is the inputs' drives and every node's logic value, packed two
 // bits a slot; two settles that agree on both are one state, and the
