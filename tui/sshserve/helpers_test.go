@@ -133,12 +133,33 @@ func (ts *testServer) writeDesign(t testing.TB, name, src string) string {
 
 // dial connects as user with the given auth methods.
 func (ts *testServer) dial(user string, auth ...gossh.AuthMethod) (*gossh.Client, error) {
-	return gossh.Dial("tcp", ts.addr, &gossh.ClientConfig{
+	return ts.dialFrom("", user, auth...)
+}
+
+// dialFrom connects from the local address ip (any when empty). Loopback on
+// Linux accepts the whole of 127.0.0.0/8, so tests can come from 127.0.0.2.
+func (ts *testServer) dialFrom(ip, user string, auth ...gossh.AuthMethod) (*gossh.Client, error) {
+	d := net.Dialer{Timeout: readDeadline}
+	if ip != "" {
+		d.LocalAddr = &net.TCPAddr{IP: net.ParseIP(ip)}
+	}
+	conn, err := d.Dial("tcp", ts.addr)
+	if err != nil {
+		return nil, err
+	}
+	// The handshake has the same bound a dial by address would give it.
+	conn.SetDeadline(time.Now().Add(readDeadline))
+	cc, chans, reqs, err := gossh.NewClientConn(conn, ts.addr, &gossh.ClientConfig{
 		User:            user,
 		Auth:            auth,
 		HostKeyCallback: gossh.FixedHostKey(ts.HostKey()),
-		Timeout:         readDeadline,
 	})
+	if err != nil {
+		conn.Close()
+		return nil, err
+	}
+	conn.SetDeadline(time.Time{})
+	return gossh.NewClient(cc, chans, reqs), nil
 }
 
 // term is one client session with a pty, its output collected.
