@@ -13,6 +13,8 @@ import (
 	"strings"
 	"testing"
 	"time"
+
+	"railyard/switchsim/reach"
 )
 
 // copyDesigns copies testdata files into a new folder and returns it.
@@ -531,4 +533,33 @@ func TestCheckDemosExhaustive(t *testing.T) {
 			t.Errorf("strong_keeper: exit %d\n%s", code, out)
 		}
 	})
+}
+
+func TestCheckProgressLine(t *testing.T) {
+	// Off a terminal and without a search, nothing at all is written.
+	var quiet bytes.Buffer
+	p := newCheckProgress(&quiet, 3, false)
+	p.start(0, "lib/a.sw")
+	p.finish(0)
+	p.stop()
+	if quiet.Len() != 0 {
+		t.Errorf("progress off a terminal: %q", quiet.String())
+	}
+	// The line: designs done of total, the time, the design running longest
+	// and how far its search has got.
+	var w bytes.Buffer
+	p = newCheckProgress(&w, 3, true)
+	defer p.stop()
+	p.start(1, "lib/slow.sw")
+	p.t0 = p.t0.Add(-2 * time.Second)
+	p.running[1].start = p.running[1].start.Add(-1500 * time.Millisecond)
+	p.searching(1)(reach.Progress{States: 120, Transitions: 480})
+	p.start(2, "lib/fast.sw")
+	p.finish(0)
+	p.mu.Lock()
+	l := p.line()
+	p.mu.Unlock()
+	if !regexp.MustCompile(`^railyard check: 1/3 designs, 2(\.\d)?s; slowest running: lib/slow\.sw 1\.5s, 120 states, 480 transitions$`).MatchString(l) {
+		t.Errorf("progress line %q", l)
+	}
 }
