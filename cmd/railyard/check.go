@@ -14,6 +14,8 @@ import (
 	"time"
 
 	"railyard/designs"
+	"railyard/switchsim/load"
+	"railyard/switchsim/netfile"
 	"railyard/switchsim/reach"
 )
 
@@ -84,6 +86,7 @@ func cmdCheck(args []string, stdout, stderr io.Writer) int {
 	fs.IntVar(&o.jobs, "j", 0, "check `N` designs at once (default: every core)")
 	fs.Var(&o.shard, "shard", "check only shard `K/N` of the designs (split by a hash of each path)")
 	fs.StringVar(&o.cache, "cache", "", "keep results in `DIR`; an unchanged design is not checked again")
+	lf := addLoadFlags(fs)
 	pos, code := parseArgs(fs, args, stdout, stderr)
 	if code >= 0 {
 		return code
@@ -110,13 +113,17 @@ func cmdCheck(args []string, stdout, stderr io.Writer) int {
 	if o.jobs == 0 {
 		o.jobs = runtime.NumCPU()
 	}
-	return checkDesigns(pos, o, stdout, stderr)
+	files, err := lf.loader()
+	if err != nil {
+		return usageError(stderr, "check", "%v", err)
+	}
+	return checkDesigns(files, pos, o, stdout, stderr)
 }
 
 // checkDesigns is the library check: find the designs, refuse bad input
 // before printing anything, check in parallel, report in order.
-func checkDesigns(args []string, o checkOptions, stdout, stderr io.Writer) int {
-	paths, err := findDesigns(args)
+func checkDesigns(files *load.Loader, args []string, o checkOptions, stdout, stderr io.Writer) int {
+	paths, err := findDesigns(files, args)
 	if err != nil {
 		fmt.Fprintf(stderr, "railyard check: %v\n", err)
 		return exitUsage
@@ -141,7 +148,7 @@ func checkDesigns(args []string, o checkOptions, stdout, stderr io.Writer) int {
 	// search over the budget stops the run before anything is printed.
 	t0 := time.Now()
 	jobs := make([]*checkJob, len(paths))
-	parallel(len(paths), o.jobs, func(i int) { jobs[i] = prepare(paths[i], o, cache) })
+	parallel(len(paths), o.jobs, func(i int) { jobs[i] = prepare(files, paths[i], o, cache) })
 	bad := false
 	for _, j := range jobs {
 		if j.err != nil {
@@ -151,6 +158,10 @@ func checkDesigns(args []string, o checkOptions, stdout, stderr io.Writer) int {
 	}
 	if bad {
 		return exitUsage
+	}
+	for _, j := range jobs {
+		printNotes(stderr, &netfile.Design{Notes: j.notes})
+		j.notes = nil
 	}
 
 	prog := newCheckProgress(stderr, len(jobs), o.exhaustive)
@@ -168,7 +179,7 @@ func checkDesigns(args []string, o checkOptions, stdout, stderr io.Writer) int {
 			return
 		}
 		prog.start(i, j.path)
-		results[i] = runCheck(j, o, prog.searching(i))
+		results[i] = runCheck(files, j, o, prog.searching(i))
 		prog.finish(i)
 		if cache != nil && results[i].err == nil && results[i].Stopped != reach.AtTimeLimit.String() {
 			cache.put(j.key, results[i])

@@ -4,31 +4,26 @@ import (
 	"crypto/sha256"
 	"encoding/hex"
 	"fmt"
-	"io/fs"
 	"math"
 	"os"
 	"path/filepath"
-	"slices"
 	"strings"
 	"time"
 
-	"railyard/designs"
 	"railyard/switchsim"
 	"railyard/switchsim/diag"
 	"railyard/switchsim/lint"
+	"railyard/switchsim/load"
 	"railyard/switchsim/netfile"
 	"railyard/switchsim/reach"
-	"railyard/switchsim/steps"
 )
 
-// designExts are the extensions a folder is searched for. The netlist
-// readers' extensions join them when the loader lands (FORMAT.md).
-var designExts = []string{".sw"}
-
-// findDesigns expands the arguments into design paths, in order: a file or
-// demo:NAME as it is, a folder searched recursively for design files in
-// lexical order (hidden folders skipped). A path named twice is checked once.
-func findDesigns(args []string) ([]string, error) {
+// findDesigns expands the arguments into design names, in order: a file or
+// demo:NAME as it is, a folder (or demo: for every demo) searched
+// recursively by the loader's walk for files of a design format, in
+// lexical order (hidden files and folders skipped). A name given twice is
+// checked once.
+func findDesigns(files *load.Loader, args []string) ([]string, error) {
 	var out []string
 	seen := map[string]bool{}
 	add := func(p string) {
@@ -38,48 +33,30 @@ func findDesigns(args []string) ([]string, error) {
 		}
 	}
 	for _, a := range args {
-		if strings.HasPrefix(a, "demo:") {
+		if demo, ok := load.CutDemo(a); ok && demo != "" {
 			add(a)
 			continue
 		}
-		st, err := os.Stat(a)
-		if err != nil {
-			return nil, fmt.Errorf("%s: no such design or folder", diag.Printable(a))
-		}
-		if !st.IsDir() {
-			add(filepath.ToSlash(filepath.Clean(a)))
-			continue
+		if _, ok := load.CutDemo(a); !ok {
+			if st, err := os.Stat(a); err != nil || !st.IsDir() {
+				add(filepath.ToSlash(filepath.Clean(a))) // the loader says why it cannot be read
+				continue
+			}
 		}
 		found := 0
-		err = walkDesigns(a, func(p string) { found++; add(filepath.ToSlash(p)) })
+		err := files.Walk(a, func(e load.Entry) error {
+			found++
+			add(filepath.ToSlash(e.Design))
+			return nil
+		})
 		if err != nil {
-			return nil, err
+			return nil, fmt.Errorf("%s: %v", diag.Printable(a), err)
 		}
 		if found == 0 {
-			return nil, fmt.Errorf("%s: no design files (%s) in it", diag.Printable(a), strings.Join(designExts, " "))
+			return nil, fmt.Errorf("%s: no design files in it (formats: %s)", diag.Printable(a), strings.Join(load.FormatNames(), ", "))
 		}
 	}
 	return out, nil
-}
-
-// walkDesigns calls fn for every design file under dir. It stands in for the
-// shared loader's folder walk until that lands.
-func walkDesigns(dir string, fn func(path string)) error {
-	return filepath.WalkDir(dir, func(p string, d fs.DirEntry, err error) error {
-		if err != nil {
-			return fmt.Errorf("%s: %v", diag.Printable(p), err)
-		}
-		if d.IsDir() {
-			if p != dir && strings.HasPrefix(d.Name(), ".") {
-				return filepath.SkipDir
-			}
-			return nil
-		}
-		if slices.Contains(designExts, filepath.Ext(p)) && d.Type().IsRegular() {
-			fn(p)
-		}
-		return nil
-	})
 }
 
 // checkJob is one design to check, read and planned.
@@ -87,6 +64,7 @@ type checkJob struct {
 	path   string
 	key    string        // cache key, with --cache
 	cached *designResult // a result from the cache
+	notes  diag.List     // what the reader noticed, printed before the report
 	err    error         // bad input or a refused search
 }
 
@@ -98,9 +76,9 @@ type loaded struct {
 	reset     [][]reach.Set
 }
 
-// load reads a design and, for --reset, its steps.
-func load(path string, o checkOptions) (*loaded, error) {
-	d, err := netfile.ReadFile(path)
+// loadCheck reads a design and, for --reset, its steps.
+func loadCheck(files *load.Loader, path string, o checkOptions) (*loaded, error) {
+	d, err := files.Design(path)
 	if err != nil {
 		return nil, err
 	}
@@ -110,23 +88,20 @@ func load(path string, o checkOptions) (*loaded, error) {
 	}
 	sp := o.steps
 	if sp == "" {
-		p, ok := steps.Default(path)
+		p, ok := files.DefaultSteps(path)
 		if !ok {
-			return nil, fmt.Errorf("%s: --reset %d needs the design's steps, and it has none (give --steps FILE)", diag.Printable(path), o.reset)
+			return nil, fmt.Errorf("%s: --reset %d needs the design's steps, and it has none (give --steps FILE)", diag.Printable(files.Path(path)), o.reset)
 		}
 		sp = p
 	}
-	if l.stepsSrc, err = readStepsFile(sp); err != nil {
-		return nil, err
-	}
-	st, err := steps.Read(sp, l.stepsSrc, d.Netlist)
+	st, src, err := files.Steps(sp, d.Netlist)
 	if err != nil {
 		return nil, err
 	}
 	if len(st.Rows) < o.reset {
-		return nil, fmt.Errorf("%s: --reset %d: the steps have %d rows", diag.Printable(sp), o.reset, len(st.Rows))
+		return nil, fmt.Errorf("%s: --reset %d: the steps have %d rows", diag.Printable(files.Path(sp)), o.reset, len(st.Rows))
 	}
-	l.stepsPath = sp
+	l.stepsPath, l.stepsSrc = files.Path(sp), src
 	for _, row := range st.Rows[:o.reset] {
 		var r []reach.Set
 		for c, n := range st.Apply {
@@ -135,18 +110,6 @@ func load(path string, o checkOptions) (*loaded, error) {
 		l.reset = append(l.reset, r)
 	}
 	return l, nil
-}
-
-// readStepsFile reads a steps file's bytes within the reader's size limit;
-// demo:NAME.steps is an embedded demo's.
-func readStepsFile(path string) ([]byte, error) {
-	if name, ok := strings.CutPrefix(path, "demo:"); ok {
-		if _, src, ok := designs.Source(strings.TrimSuffix(name, ".steps")); ok && src != nil {
-			return src, nil
-		}
-		return nil, fmt.Errorf("%s: no such demo steps", diag.Printable(path))
-	}
-	return netfile.ReadText(path, steps.DefaultLimits().FileSize)
 }
 
 func (o checkOptions) reachOptions(l *loaded) reach.Options {
@@ -161,13 +124,14 @@ func (o checkOptions) reachOptions(l *loaded) reach.Options {
 }
 
 // prepare reads and plans one design, and looks it up in the cache.
-func prepare(path string, o checkOptions, cache *resultCache) *checkJob {
+func prepare(files *load.Loader, path string, o checkOptions, cache *resultCache) *checkJob {
 	j := &checkJob{path: path}
-	l, err := load(path, o)
+	l, err := loadCheck(files, path, o)
 	if err != nil {
 		j.err = err
 		return j
 	}
+	j.notes = l.d.Notes
 	if o.exhaustive {
 		if _, err := reach.Check(l.d.Netlist, o.reachOptions(l)); err != nil {
 			j.err = fmt.Errorf("%s: %w", diag.Printable(path), err)
@@ -177,7 +141,7 @@ func prepare(path string, o checkOptions, cache *resultCache) *checkJob {
 	if cache != nil {
 		j.key = cacheKey(l, o)
 		if r := cache.get(j.key); r != nil {
-			r.Path, r.Cached = path, true
+			r.Path, r.Cached = files.Path(path), true
 			j.cached = r
 		}
 	}
@@ -185,14 +149,14 @@ func prepare(path string, o checkOptions, cache *resultCache) *checkJob {
 }
 
 // runCheck checks one design: the static checks, then the search.
-func runCheck(j *checkJob, o checkOptions, progress func(reach.Progress)) *designResult {
+func runCheck(files *load.Loader, j *checkJob, o checkOptions, progress func(reach.Progress)) *designResult {
 	t0 := time.Now()
-	l, err := load(j.path, o) // read again: a library's designs are not all held at once
+	l, err := loadCheck(files, j.path, o) // read again: a library's designs are not all held at once
 	if err != nil {
 		return &designResult{err: err}
 	}
 	nl := l.d.Netlist
-	r := &designResult{Path: j.path, Name: l.d.Name, Mode: "physical", Nodes: nl.NumNodes(), Devices: nl.NumDevices(),
+	r := &designResult{Path: files.Path(j.path), Name: l.d.Name, Mode: "physical", Nodes: nl.NumNodes(), Devices: nl.NumDevices(),
 		InputNames: names(nl, nl.Inputs()), Exhaustive: o.exhaustive}
 	if o.ideal {
 		r.Mode = "ideal"

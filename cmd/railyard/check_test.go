@@ -86,7 +86,7 @@ func TestCheckRefusesBeforePrinting(t *testing.T) {
 		// The bus: 8 vectors x 3 moves x 2 devices = 48 device-settles.
 		{[]string{"check", "testdata/bus.sw", "--exhaustive", "--budget", "47"}, `about 48 device-settles .* over the budget of 47; lift it with --budget 0`},
 		{[]string{"check", "testdata/opsel.sw", "testdata/broken.sw"}, `(?m)^testdata/broken\.sw:4:1: `},
-		{[]string{"check", "testdata/nonexistent.sw"}, `nonexistent\.sw: no such design or folder`},
+		{[]string{"check", "testdata/nonexistent.sw"}, `nonexistent\.sw: cannot read: no such file`},
 		{[]string{"check", "testdata/bus.sw", "--pairs"}, `go with --exhaustive`},
 		{[]string{"check", "testdata/bus.sw", "--exhaustive", "--shard", "0/3"}, `want K/N`},
 		{[]string{"check", "testdata/bus.sw", "--exhaustive", "--reset", "1"}, `needs the design's steps`},

@@ -295,19 +295,20 @@ type fakeModel struct {
 }
 
 func fakeExplorer(r ExplorerRequest) (tea.Model, error) {
-	if _, err := readFakeDesign(r.Design); err != nil {
+	if _, err := readFakeDesign(r); err != nil {
 		return nil, err
 	}
 	return &fakeModel{req: r, w: r.Width, h: r.Height}, nil
 }
 
-// readFakeDesign reads a design the way an explorer would, so that a refused
-// name could only be caught by the server's resolution.
-func readFakeDesign(p string) ([]byte, error) {
-	if strings.HasPrefix(p, "demo:") {
+// readFakeDesign reads a design the way an explorer would (through the
+// request's loader), so that a refused name could only be caught by the
+// server's resolution or the loader's root.
+func readFakeDesign(r ExplorerRequest) ([]byte, error) {
+	if strings.HasPrefix(r.Design, "demo:") {
 		return []byte("demo"), nil
 	}
-	return os.ReadFile(p)
+	return r.Files.ReadFile(r.Design)
 }
 
 func (m *fakeModel) Init() tea.Cmd { return nil }

@@ -16,6 +16,7 @@ import (
 	"github.com/charmbracelet/ssh"
 	gossh "golang.org/x/crypto/ssh"
 
+	"railyard/switchsim/load"
 	"railyard/switchsim/netfile"
 )
 
@@ -65,9 +66,12 @@ type Config struct {
 
 // ExplorerRequest is what the Explorer hook gets to build one connection's model.
 type ExplorerRequest struct {
-	Name          string // as the user chose it: a file name under Designs or demo:NAME
-	Design        string // what to open: a resolved path inside Designs, or demo:NAME
-	Steps         string // the design's default steps, resolved inside Designs; empty for none or a demo
+	Name   string // as the user chose it: a file name under Designs or demo:NAME
+	Design string // what to open through Files: a file name inside Designs, or demo:NAME
+	Steps  string // the design's default steps, inside Designs; empty for none
+	// Files opens Design and Steps: a loader over the served folder that no
+	// name or symbolic link can leave (nil: the command line's files).
+	Files         *load.Loader
 	Width, Height int    // the client's terminal
 	Banner        string // the session id, for the header
 	TracePath     string // where the trace is saved; empty when the server keeps none
