@@ -5,6 +5,7 @@ import (
 	"testing"
 
 	"railyard/switchsim/lint"
+	"railyard/switchsim/load"
 	"railyard/switchsim/netfile"
 )
 
@@ -18,7 +19,7 @@ func read(t *testing.T, name, src string) *netfile.Design {
 }
 
 func TestFindsEachSlip(t *testing.T) {
-	d, err := netfile.ReadFile("testdata/slips.sw")
+	d, err := load.Host(load.Options{}).Design("testdata/slips.sw")
 	if err != nil {
 		t.Fatal(err)
 	}

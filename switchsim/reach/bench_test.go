@@ -31,7 +31,7 @@ func benchSearch(b *testing.B, nl *switchsim.Netlist, opt Options) {
 // BenchmarkSearchFlipFlop: demo:flipflop, every reachable state, single
 // flips and with pairs, in each mode.
 func BenchmarkSearchFlipFlop(b *testing.B) {
-	nl := load(b, "demo:flipflop", "")
+	nl := design(b, "demo:flipflop", "")
 	for _, m := range []switchsim.Mode{switchsim.Ideal, switchsim.Physical} {
 		for _, pairs := range []bool{false, true} {
 			name := m.String() + "/singles"

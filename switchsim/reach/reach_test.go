@@ -9,6 +9,7 @@ import (
 	"time"
 
 	"railyard/switchsim"
+	"railyard/switchsim/load"
 	"railyard/switchsim/netfile"
 )
 
@@ -98,12 +99,12 @@ use inv o dyn out
 `
 )
 
-func load(t testing.TB, name, src string) *switchsim.Netlist {
+func design(t testing.TB, name, src string) *switchsim.Netlist {
 	t.Helper()
 	var d *netfile.Design
 	var err error
 	if strings.HasPrefix(name, "demo:") {
-		d, err = netfile.ReadFile(name)
+		d, err = load.Host(load.Options{}).Design(name)
 	} else {
 		d, err = netfile.Read(name+".sw", []byte(src))
 	}
@@ -147,7 +148,7 @@ func describe(r *Report, nl *switchsim.Netlist) string {
 func moves(_ *Report, f Finding) int { return f.Moves }
 
 func TestBusCountedByHand(t *testing.T) {
-	nl := load(t, "bus", busSrc)
+	nl := design(t, "bus", busSrc)
 	r := explore(t, nl, Options{Mode: switchsim.Ideal})
 	// Counted by hand. With en=1 the bus follows a and b: 4 states. With
 	// en=0 it floats holding 0, 1 or X (X until first written, and again
@@ -179,7 +180,7 @@ func TestBusCountedByHand(t *testing.T) {
 func TestFirstSettleCounts(t *testing.T) {
 	// Issue 17 item 8: a fight that the very first settle makes, and that
 	// no later settle re-solves, must still be found, in both modes.
-	nl := load(t, "pulls", pullsSrc)
+	nl := design(t, "pulls", pullsSrc)
 	for _, m := range []switchsim.Mode{switchsim.Ideal, switchsim.Physical} {
 		r := explore(t, nl, Options{Mode: m})
 		c := find(r, nl, Conflict, "y")
@@ -254,7 +255,7 @@ func TestEachKindFiresAndStaysSilent(t *testing.T) {
 			if c.skip != "" {
 				t.Skip(c.skip)
 			}
-			nl := load(t, c.name, c.src)
+			nl := design(t, c.name, c.src)
 			r := explore(t, nl, Options{Mode: c.mode, Pairs: c.pairs})
 			f := find(r, nl, c.kind, c.node)
 			switch {
@@ -294,7 +295,7 @@ func TestUninitialisedXIsNoFinding(t *testing.T) {
 	// Before its first rising clock edge the flip-flop's slave holds X
 	// (nothing was ever clocked into it): that is no finding, and a
 	// flip-flop clocked with single changes has none at all.
-	nl := load(t, "demo:flipflop", "")
+	nl := design(t, "demo:flipflop", "")
 	r := explore(t, nl, Options{Mode: switchsim.Physical})
 	q, _ := nl.Lookup("q")
 	sim := switchsim.NewSim(nl, switchsim.Options{Mode: switchsim.Physical})
@@ -389,7 +390,7 @@ func TestShortestAgainstBruteForce(t *testing.T) {
 		{"ring3", ring3Src, switchsim.Ideal},
 		{"ratioed", ratioedSrc, switchsim.Physical},
 	} {
-		nl := load(t, c.name, c.src)
+		nl := design(t, c.name, c.src)
 		const depth = 5
 		want := bruteShortest(nl, c.mode, depth)
 		r := explore(t, nl, Options{Mode: c.mode})
@@ -437,7 +438,7 @@ func TestSequencesReproduce(t *testing.T) {
 		{"demo:flipflop", "", switchsim.Physical, true},
 		{"ring3", ring3Src, switchsim.Ideal, false},
 	} {
-		nl := load(t, c.name, c.src)
+		nl := design(t, c.name, c.src)
 		r := explore(t, nl, Options{Mode: c.mode, Pairs: c.pairs})
 		if len(r.Findings) == 0 {
 			t.Errorf("%s: no findings to replay", c.name)
@@ -461,12 +462,12 @@ func TestSequencesReproduce(t *testing.T) {
 }
 
 func TestCapStopsTheSearch(t *testing.T) {
-	nl := load(t, "bus", busSrc)
+	nl := design(t, "bus", busSrc)
 	r := explore(t, nl, Options{Mode: switchsim.Ideal, MaxStates: 5})
 	if r.Stopped != AtCap || r.States != 5 || r.Pass() {
 		t.Errorf("stopped %v at %d states, pass %v; want the cap at 5 and no pass", r.Stopped, r.States, r.Pass())
 	}
-	clean := load(t, "opsel", opselSrc)
+	clean := design(t, "opsel", opselSrc)
 	if r := explore(t, clean, Options{Mode: switchsim.Ideal, MaxStates: 3}); r.Pass() || r.AnyFailing() {
 		t.Errorf("a clean design stopped at the cap must not pass (stopped %v)", r.Stopped)
 	}
@@ -476,7 +477,7 @@ func TestCapStopsTheSearch(t *testing.T) {
 }
 
 func TestTimeLimitStopsTheSearch(t *testing.T) {
-	nl := load(t, "bus", busSrc)
+	nl := design(t, "bus", busSrc)
 	ctx, cancel := context.WithDeadline(context.Background(), time.Now().Add(-time.Second))
 	defer cancel()
 	r, err := Search(ctx, nl, Options{Mode: switchsim.Ideal})
@@ -495,13 +496,13 @@ func TestRefusals(t *testing.T) {
 	for i := 0; i < 21; i++ {
 		fmt.Fprintf(&b, "nmos n%d i%d y gnd\n", i, i)
 	}
-	wide := load(t, "wide", b.String())
+	wide := design(t, "wide", b.String())
 	var tm *TooManyInputsError
 	if _, err := Search(context.Background(), wide, Options{}); !errors.As(err, &tm) || tm.Inputs != 21 || tm.Max != MaxInputs {
 		t.Errorf("21 inputs: %v", err)
 	}
 	// The bus: 3 inputs, 8 vectors, 3 moves a state, 2 devices: 48.
-	bus := load(t, "bus", busSrc)
+	bus := design(t, "bus", busSrc)
 	p := Estimate(bus, Options{})
 	if p.States != 8 || p.Moves != 3 || p.Cost != 48 {
 		t.Errorf("plan %+v, want 8 states x 3 moves x 2 devices", p)
@@ -524,7 +525,7 @@ func TestReset(t *testing.T) {
 	// with clk=1 s follows d (2 states), with clk=0 it holds 0 or 1 for
 	// either d (4); from every input 0 there are 2 more, s never written (X)
 	// with clk=0.
-	nl := load(t, "demo:static_latch", "")
+	nl := design(t, "demo:static_latch", "")
 	clk, _ := nl.Lookup("clk")
 	d, _ := nl.Lookup("d")
 	s, _ := nl.Lookup("s")
@@ -552,7 +553,7 @@ func TestReset(t *testing.T) {
 	if v := sim.Node(s).Value; v != switchsim.V1 {
 		t.Fatalf("s is %s after the reset, want 1", v)
 	}
-	bus := load(t, "bus", busSrc)
+	bus := design(t, "bus", busSrc)
 	en, _ := bus.Lookup("en")
 	a, _ := bus.Lookup("a")
 	rb := explore(t, bus, Options{Mode: switchsim.Ideal, Reset: [][]Set{{{en, switchsim.Drive1}, {a, switchsim.Drive1}}}})
@@ -569,7 +570,7 @@ func TestSnapshotBudgetReplaysTheSameSearch(t *testing.T) {
 	// With no room for snapshots every state is rebuilt by replaying its
 	// sequence: the search must come out the same.
 	for _, name := range []string{"demo:flipflop", "demo:lost_level", "demo:strong_keeper"} {
-		nl := load(t, name, "")
+		nl := design(t, name, "")
 		a := explore(t, nl, Options{Mode: switchsim.Physical, Pairs: true})
 		b := explore(t, nl, Options{Mode: switchsim.Physical, Pairs: true, SnapshotBudget: 1})
 		if b.Replays != b.States-1 || a.Replays != 0 {
@@ -590,7 +591,7 @@ func TestDemos(t *testing.T) {
 		"strong_keeper": "write-fail s",
 	}
 	for _, name := range []string{"dynamic_latch", "flipflop", "lost_level", "mux2_pass", "mux2_tgate", "mux4_tgate", "static_latch", "strong_keeper", "xor_tgate"} {
-		nl := load(t, "demo:"+name, "")
+		nl := design(t, "demo:"+name, "")
 		r := explore(t, nl, Options{Mode: switchsim.Physical})
 		want, bad := fails[name]
 		if name == "strong_keeper" && find(r, nl, WriteFail, "s") == nil {
@@ -610,7 +611,7 @@ func TestDemos(t *testing.T) {
 }
 
 func TestProgress(t *testing.T) {
-	nl := load(t, "demo:mux4_tgate", "")
+	nl := design(t, "demo:mux4_tgate", "")
 	var calls []Progress
 	r := explore(t, nl, Options{Mode: switchsim.Ideal, Pairs: true, ProgressEvery: time.Nanosecond, Progress: func(p Progress) { calls = append(calls, p) }})
 	if len(calls) < 2 {
@@ -736,7 +737,7 @@ func TestCountsAgainstReference(t *testing.T) {
 		{"demo:mux2_pass", "", switchsim.Physical, false},
 		{"ring3", ring3Src, switchsim.Ideal, false},
 	} {
-		nl := load(t, c.name, c.src)
+		nl := design(t, c.name, c.src)
 		states, transitions, want := referenceCounts(nl, c.mode, c.pairs)
 		r := explore(t, nl, Options{Mode: c.mode, Pairs: c.pairs})
 		if r.States != states || r.Transitions != transitions {
