@@ -23,10 +23,10 @@ const checkUsage = `
 usage: railyard check PATH ... [--exhaustive [--pairs] [--reset N]] [--ideal]
                                [--json] [--junit FILE] [-j N] [--shard K/N] [--cache DIR]
 
-Check designs: each PATH is a design file (.sw), demo:NAME, or a folder,
-searched recursively for .sw files. Designs are checked in parallel on -j
-workers and reported in the order given; with more than one design a
-summary table ends the report.
+Check designs: each PATH is a design file, demo:NAME, or a folder searched
+recursively for design files by extension (demo: alone is every demo).
+Designs are checked in parallel on -j workers and reported in the order
+given; with more than one design a summary table ends the report.
 
 Static checks read the structure alone: a node no device can drive, a gate
 node with no driver, an input that drives nothing, a device whose channel
