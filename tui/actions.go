@@ -9,6 +9,8 @@ import (
 
 	"railyard/switchsim"
 	"railyard/switchsim/session"
+	"railyard/switchsim/trace"
+	"railyard/switchsim/wave"
 	"railyard/tui/prompt"
 )
 
@@ -185,9 +187,9 @@ func (m *Model) openSave() {
 		m.fail("read-only viewer: saving is the owner's")
 		return
 	}
-	base := m.sess.Design.Name
+	base := m.sess.Design().Name
 	if base == "" {
-		base = strings.TrimSuffix(filepath.Base(strings.TrimPrefix(m.sess.DesignPath, "demo:")), ".sw")
+		base = strings.TrimSuffix(filepath.Base(strings.TrimPrefix(m.sess.DesignPath(), "demo:")), ".sw")
 	}
 	tr, vcd := base+".trace", base+".vcd"
 	if m.opt.TracePath != "" {
@@ -218,21 +220,26 @@ func (m *Model) answer(a *prompt.Answer) {
 		m.change(func() { m.jump(a.Step) })
 	case prompt.SaveTrace:
 		m.lock()
-		err := m.sess.SaveTrace(a.Text)
+		saved, err := trace.Save(m.sess, a.Text)
 		m.unlock()
 		if err != nil {
 			m.fail("could not save the trace: " + err.Error())
 			return
 		}
-		m.say(fmt.Sprintf("saved the trace (%s) to %s; railyard replay %s repeats it", plural(len(m.sess.Trace()), "action"), a.Text, a.Text))
+		msg := fmt.Sprintf("saved the trace (%s) to %s; railyard replay %s repeats it", plural(saved.Actions, "action"), a.Text, a.Text)
+		if saved.Skipped > 0 {
+			msg = fmt.Sprintf("saved the first %s to %s: %s, so the last %d were not kept", plural(saved.Actions, "action"), a.Text, saved.Why, saved.Skipped)
+		}
+		m.say(msg)
 	case prompt.SaveVCD:
 		m.lock()
-		err := m.sess.SaveVCD(a.Text, session.VCDOptions{})
+		err := wave.Save(m.sess, a.Text, wave.Options{})
+		n := m.sess.Len()
 		m.unlock()
 		if err != nil {
 			m.fail("could not export the VCD: " + err.Error())
 			return
 		}
-		m.say(fmt.Sprintf("exported a VCD of %s to %s", plural(len(m.sess.History()), "action"), a.Text))
+		m.say(fmt.Sprintf("exported a VCD of %s to %s", plural(n, "action"), a.Text))
 	}
 }

@@ -23,12 +23,9 @@ func (m *Model) sync() {
 	hist := s.History()
 	last := hist[len(hist)-1]
 	nn := nl.NumNodes()
-	states := last.States
-	if states == nil {
-		states = make([]switchsim.NodeState, nn)
-		for n := range states {
-			states[n] = s.Sim.Node(n)
-		}
+	states := make([]switchsim.NodeState, nn)
+	for n := range states {
+		states[n] = s.Node(n)
 	}
 	changed := make([]bool, nn)
 	for _, c := range last.Changes {
@@ -47,7 +44,7 @@ func (m *Model) sync() {
 	ins := nl.Inputs()
 	drives := make([]switchsim.Drive, len(ins))
 	for i, n := range ins {
-		drives[i] = s.Sim.InputDrive(n)
+		drives[i] = s.InputDrive(n)
 	}
 	m.inputs.SetStates(drives, states, changed)
 	m.inputs.SetWatched(m.watchSet)
@@ -56,7 +53,7 @@ func (m *Model) sync() {
 
 	cond := make([]switchsim.Conduction, nl.NumDevices())
 	for d := range cond {
-		cond[d] = s.Sim.Conduction(d)
+		cond[d] = s.Conduction(d)
 	}
 	vals := make([]switchsim.Value, nn)
 	for n := range vals {
@@ -64,9 +61,13 @@ func (m *Model) sync() {
 	}
 	m.devices.SetStates(cond, vals)
 
+	// The rounds view reads the state each changed node had before the action.
 	var before []switchsim.NodeState
 	if len(hist) > 1 {
-		before = hist[len(hist)-2].States
+		before = make([]switchsim.NodeState, nn)
+		for _, c := range last.Changes {
+			before[c.Node].State = c.Was
+		}
 	}
 	st := rounds.Settle{Title: m.title(last), Rounds: last.Rounds, Before: before, Oscillated: last.Oscillated}
 	if len(hist) == 1 {
@@ -82,11 +83,12 @@ func (m *Model) sync() {
 	var cols []timeline.Column
 	var entries []logpanel.Entry
 	m.numSteps, m.nextStep, m.failed = s.NumSteps(), s.NextStep(), 0
-	for _, e := range hist {
+	track := s.Track(m.watched)
+	for i, e := range hist {
 		if e.Action.Kind == session.Step && e.Failed() {
 			m.failed++
 		}
-		col := timeline.Column{Mark: "+", States: e.States, Failed: e.Failed()}
+		col := timeline.Column{Mark: "+", States: track[i], Failed: e.Failed()}
 		switch e.Action.Kind {
 		case session.Start:
 			col.Mark = "0"
@@ -104,6 +106,9 @@ func (m *Model) sync() {
 		}
 		cols = append(cols, col)
 		en := logpanel.Entry{Title: m.title(e)}
+		if e.Dropped() && e.NumWarnings() > 0 {
+			en.Title += fmt.Sprintf(" (%d warnings, details dropped for memory)", e.NumWarnings())
+		}
 		for _, w := range e.Warnings {
 			en.Warnings = append(en.Warnings, logpanel.Warning{Kind: w.Kind, Message: w.Message})
 		}
@@ -123,7 +128,7 @@ func (m *Model) explain() {
 	}
 	s := m.sess
 	nl := s.Netlist()
-	e := s.Sim.Explain(m.inspect)
+	e := s.Explain(m.inspect)
 	m.why.Set(nl, e, m.nodeWarnings(m.inspect))
 	group := make([]bool, nl.NumDevices())
 	devs := groupDevices(s, m.inspect)
@@ -180,7 +185,7 @@ func groupDevices(s *session.Session, n int) []int {
 		case switchsim.Power, switchsim.Ground:
 			return true
 		case switchsim.Input:
-			return s.Sim.InputDrive(x) != switchsim.DriveZ
+			return s.InputDrive(x) != switchsim.DriveZ
 		}
 		return false
 	}
@@ -191,7 +196,7 @@ func groupDevices(s *session.Session, n int) []int {
 	if isSource(n) {
 		// an input or rail: its group is what it drives directly
 		for _, d := range nl.ChannelDevices(n) {
-			if s.Sim.Conduction(d) != switchsim.Off && !devSeen[d] {
+			if s.Conduction(d) != switchsim.Off && !devSeen[d] {
 				devSeen[d] = true
 				devs = append(devs, d)
 			}
@@ -201,7 +206,7 @@ func groupDevices(s *session.Session, n int) []int {
 	for i := 0; i < len(queue); i++ {
 		x := queue[i]
 		for _, d := range nl.ChannelDevices(x) {
-			if s.Sim.Conduction(d) == switchsim.Off {
+			if s.Conduction(d) == switchsim.Off {
 				continue
 			}
 			if !devSeen[d] {
@@ -220,19 +225,20 @@ func groupDevices(s *session.Session, n int) []int {
 
 // stepRows words the steps file's rows for the vectors view.
 func stepRows(s *session.Session) []stepper.Step {
-	if s.Steps == nil {
+	st := s.Steps()
+	if st == nil {
 		return nil
 	}
 	nl := s.Netlist()
-	out := make([]stepper.Step, len(s.Steps.Rows))
-	for i, r := range s.Steps.Rows {
+	out := make([]stepper.Step, len(st.Rows))
+	for i, r := range st.Rows {
 		var ap, wa []string
-		for c, n := range s.Steps.Apply {
+		for c, n := range st.Apply {
 			if c < len(r.Drives) {
 				ap = append(ap, nl.NodeName(n)+"="+r.Drives[c].String())
 			}
 		}
-		for c, n := range s.Steps.Check {
+		for c, n := range st.Check {
 			if c < len(r.Wants) && r.Wants[c].String() != "-" {
 				wa = append(wa, nl.NodeName(n)+"="+r.Wants[c].String())
 			}
@@ -243,8 +249,8 @@ func stepRows(s *session.Session) []stepper.Step {
 }
 
 func stepsFile(s *session.Session) string {
-	if s.StepsPath == "" {
+	if s.StepsPath() == "" {
 		return ""
 	}
-	return filepath.Base(s.StepsPath)
+	return filepath.Base(s.StepsPath())
 }

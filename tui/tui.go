@@ -22,6 +22,7 @@ import (
 	"github.com/charmbracelet/lipgloss"
 
 	"railyard/switchsim/session"
+	"railyard/switchsim/trace"
 	"railyard/tui/devices"
 	"railyard/tui/inputs"
 	"railyard/tui/logpanel"
@@ -526,7 +527,8 @@ func (m *Model) toggleWatch(n int) {
 
 // Run runs the explorer on the process's terminal (alternate screen) until
 // the user quits. With opt.TracePath set, the trace of the whole session is
-// written there on quit, atomically.
+// written there on quit, atomically; the session must record one
+// (trace.Start).
 func Run(s *session.Session, opt Options) error {
 	if os.Getenv("NO_COLOR") != "" {
 		opt.NoColor = true
@@ -541,7 +543,7 @@ func run(s *session.Session, opt Options, w, h int, popts ...tea.ProgramOption) 
 	_, err := p.Run()
 	if opt.TracePath != "" {
 		m.lock()
-		terr := s.SaveTrace(opt.TracePath)
+		_, terr := trace.Save(s, opt.TracePath)
 		m.unlock()
 		if terr != nil {
 			return errors.Join(err, fmt.Errorf("writing the trace: %w", terr))

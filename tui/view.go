@@ -122,16 +122,16 @@ func (m *Model) fullView() string {
 func (m *Model) header() string {
 	t := m.th
 	s := m.sess
-	name := s.Design.Name
+	name := s.Design().Name
 	if name == "" {
-		name = s.DesignPath
+		name = s.DesignPath()
 	}
 	left := t.Header.Render("railyard") + " " + t.Dim.Render(t.G.Bar) + " " + t.Bold.Render(name)
-	if d := s.Design.Desc; d != "" {
+	if d := s.Design().Desc; d != "" {
 		left += " " + t.Dim.Render(d)
 	}
 	var right []string
-	right = append(right, t.Dim.Render(s.Opts.Mode.String()))
+	right = append(right, t.Dim.Render(s.Options().Mode.String()))
 	if m.numSteps > 0 {
 		right = append(right, fmt.Sprintf("step %d/%d", m.nextStep, m.numSteps))
 	}

@@ -55,7 +55,7 @@ func cmdCheck(args []string, stdout, stderr io.Writer) int {
 	s := session.New(d, pos[0], nil, opt)
 	nl := s.Netlist()
 	fmt.Fprintf(stdout, "design %s (%s): %d nodes, %d devices, %d inputs\n",
-		s.Design.Name, s.DesignPath, nl.NumNodes(), nl.NumDevices(), len(nl.Inputs()))
+		s.Design().Name, s.DesignPath(), nl.NumNodes(), nl.NumDevices(), len(nl.Inputs()))
 
 	static := session.StaticCheck(nl)
 	fmt.Fprintf(stdout, "\nstatic checks: %s\n", countFindings(len(static)))

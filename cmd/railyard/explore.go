@@ -3,10 +3,14 @@ package main
 import (
 	"fmt"
 	"io"
+	"path/filepath"
 
 	"railyard/designs"
 	"railyard/switchsim"
+	"railyard/switchsim/outfile"
 	"railyard/switchsim/session"
+	"railyard/switchsim/steps"
+	"railyard/switchsim/trace"
 	"railyard/tui"
 )
 
@@ -48,10 +52,32 @@ func cmdExplore(args []string, stdout, stderr io.Writer) int {
 	default:
 		return usageError(stderr, "explore", "want at most one DESIGN, got %d arguments", len(pos))
 	}
+	if o.trace != "" {
+		keep := []outfile.Keep{{Path: design, What: "the design"}, {Path: o.steps, What: "the steps file"}}
+		if st, ok := steps.Default(design); ok && o.steps == "" {
+			keep[1].Path = st
+		}
+		if err := outfile.Check(o.trace, keep...); err != nil {
+			fmt.Fprintf(stderr, "railyard explore: --trace: %v\n", err)
+			return exitUsage
+		}
+	}
 	s, err := session.Open(design, o.steps, session.Options{Mode: switchsim.Physical})
 	if err != nil {
 		return loadError(stderr, err)
 	}
+	// The session always records its trace, so that the save key works;
+	// it streams beside --trace when given.
+	dir := ""
+	if o.trace != "" {
+		dir = filepath.Dir(o.trace)
+	}
+	w, err := trace.Start(s, dir, trace.Options{})
+	if err != nil {
+		fmt.Fprintf(stderr, "railyard explore: %v\n", err)
+		return exitUsage
+	}
+	defer w.Close()
 	return startExplorer(s, o, stderr)
 }
 

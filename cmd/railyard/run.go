@@ -3,11 +3,15 @@ package main
 import (
 	"fmt"
 	"io"
-	"math"
+	"path/filepath"
 
 	"railyard/designs"
 	"railyard/switchsim"
+	"railyard/switchsim/outfile"
 	"railyard/switchsim/session"
+	"railyard/switchsim/steps"
+	"railyard/switchsim/trace"
+	"railyard/switchsim/wave"
 )
 
 const runUsage = `
@@ -18,7 +22,11 @@ same-named .steps file), check the nodes the steps name, and print a report.
 Without steps the report shows the design's initial settle.
 
 Exit status: 0 when every check passes, 1 when one fails, 2 on bad input
-(nothing is written to --trace or --vcd then).
+(nothing is written to --trace or --vcd then). --trace and --vcd never
+replace the design, its steps, each other, or anything that is not a
+regular file; they are checked before anything runs and written whole at
+the end (a temporary file renamed into place, removed on an interrupt).
+In physical mode the VCD also holds each node's estimated voltage.
 
 examples:
   railyard run demo:` + designs.Default + `
@@ -42,7 +50,7 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 	fs.BoolVar(&o.ideal, "ideal", false, "ideal mode: strengths only, no voltage estimates")
 	fs.BoolVar(&o.fullSwing, "full-swing", false, "0 and 1 checks also require the strong full-level states")
 	fs.StringVar(&o.trace, "trace", "", "save the session trace to `FILE` (for railyard replay)")
-	fs.StringVar(&o.vcd, "vcd", "", "write a VCD waveform of every node to `FILE`")
+	fs.StringVar(&o.vcd, "vcd", "", "write a VCD waveform of every node to `FILE` (with voltages in physical mode)")
 	pos, code := parseArgs(fs, args, stdout, stderr)
 	if code >= 0 {
 		return code
@@ -53,46 +61,119 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 	return runDesign(pos[0], o, stdout, stderr)
 }
 
-// runDesign runs a design's steps and reports; the files are written only
-// once the run has succeeded.
+// runDesign runs a design's steps and reports. Every output path is
+// checked before anything is simulated; the report streams as the steps
+// run; the files are put in place only once the run has succeeded.
 func runDesign(design string, o runOptions, stdout, stderr io.Writer) int {
+	keep, err := checkOutputs(design, o)
+	if err != nil {
+		fmt.Fprintf(stderr, "railyard run: %v\n", err)
+		return exitUsage
+	}
+	if o.trace != "" || o.vcd != "" {
+		defer outfile.HandleSignals()()
+	}
 	opt := session.Options{Mode: switchsim.Physical, FullSwing: o.fullSwing}
 	if o.ideal {
 		opt.Mode = switchsim.Ideal
-	}
-	if o.vcd != "" {
-		opt.KeepStates = math.MaxInt // a waveform needs every state, whatever the size
 	}
 	s, err := session.Open(design, o.steps, opt)
 	if err != nil {
 		return loadError(stderr, err)
 	}
-	s.RunToEnd(false)
+	var tw *trace.Writer
 	if o.trace != "" {
-		if err := s.SaveTrace(o.trace); err != nil {
-			fmt.Fprintf(stderr, "railyard run: writing the trace: %v\n", err)
+		if tw, err = trace.Start(s, filepath.Dir(o.trace), trace.Options{}); err != nil {
+			fmt.Fprintf(stderr, "railyard run: --trace %s: %v\n", o.trace, err)
 			return exitUsage
 		}
+		defer tw.Close()
 	}
+	var vf *outfile.File
+	var vw *wave.Writer
 	if o.vcd != "" {
-		if err := s.SaveVCD(o.vcd, session.VCDOptions{Version: version}); err != nil {
-			fmt.Fprintf(stderr, "railyard run: writing the waveform: %v\n", err)
+		if vf, err = outfile.Create(o.vcd, keep...); err != nil {
+			fmt.Fprintf(stderr, "railyard run: --vcd: %v\n", err)
 			return exitUsage
 		}
+		defer vf.Abort() // harmless after Commit
+		vw = wave.NewWriter(vf, s, wave.Options{Version: version})
+		vw.Add(s.Last(), s.Node)
 	}
+	format := session.Text
 	if o.json {
-		err = s.WriteJSON(stdout)
-	} else {
-		err = s.WriteText(stdout)
+		format = session.JSON
 	}
+	rep := session.NewReport(stdout, s, format)
+	if s.NumSteps() == 0 {
+		rep.Add(s.Last(), s.Node) // a design without steps: its resting state
+	}
+	for {
+		e, ok := s.Next()
+		if !ok {
+			break
+		}
+		rep.Add(e, s.Node)
+		if vw != nil {
+			vw.Add(e, s.Node)
+		}
+	}
+	sum, err := rep.Close()
 	if err != nil {
 		fmt.Fprintf(stderr, "railyard run: %v\n", err)
 		return exitUsage
 	}
-	if !session.Summarize(s.ReportEvents()).Pass() {
+	if tw != nil {
+		if _, err := tw.Save(o.trace, keep...); err != nil {
+			fmt.Fprintf(stderr, "railyard run: writing the trace: %v\n", err)
+			return exitUsage
+		}
+	}
+	if vw != nil {
+		vw.Close()
+		if err := vf.Commit(); err != nil {
+			fmt.Fprintf(stderr, "railyard run: writing the waveform: %v\n", err)
+			return exitUsage
+		}
+	}
+	if !sum.Pass() {
 		return exitFail
 	}
 	return exitOK
+}
+
+// checkOutputs refuses --trace and --vcd paths that would replace the
+// run's own inputs (the design, its steps), each other, or anything that is
+// not a regular file, before anything is simulated. It returns the files
+// the outputs must keep clear of.
+func checkOutputs(design string, o runOptions) ([]outfile.Keep, error) {
+	keep := []outfile.Keep{{Path: design, What: "the design"}}
+	st := o.steps
+	if st == "" {
+		st, _ = steps.Default(design)
+	}
+	if st != "" {
+		keep = append(keep, outfile.Keep{Path: st, What: "the steps file"})
+	}
+	if o.trace != "" {
+		if err := outfile.Check(o.trace, keep...); err != nil {
+			return nil, fmt.Errorf("--trace: %w", err)
+		}
+	}
+	if o.vcd != "" {
+		vkeep := keep
+		if o.trace != "" {
+			vkeep = append(vkeep, outfile.Keep{Path: o.trace, What: "the --trace output"})
+		}
+		if err := outfile.Check(o.vcd, vkeep...); err != nil {
+			return nil, fmt.Errorf("--vcd: %w", err)
+		}
+		keep = vkeep
+	}
+	if o.trace != "" && o.vcd != "" {
+		keep = append(keep, outfile.Keep{Path: o.vcd, What: "the --vcd output"})
+	}
+	return keep, nil
 }
 
 // batchDefault is bare `railyard` off a terminal: the demo's batch report,

@@ -224,8 +224,8 @@ func (s *Session) Exhaustive(opt ExhaustiveOptions) (*ExhaustiveReport, error) {
 	if len(ins) > max {
 		return nil, &TooManyInputsError{len(ins), max}
 	}
-	sim := switchsim.NewSim(nl, switchsim.Options{Mode: s.Opts.Mode})
-	sim.Restore(s.Sim.Snapshot())
+	sim := switchsim.NewSim(nl, switchsim.Options{Mode: s.opts.Mode})
+	sim.Restore(s.sim.Snapshot())
 
 	rep := &ExhaustiveReport{Inputs: ins, Vectors: 1 << len(ins)}
 	type key struct {

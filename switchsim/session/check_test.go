@@ -128,7 +128,7 @@ func TestExhaustiveBus(t *testing.T) {
 		t.Error("a conflict and a floating output must fail the check (FORMAT.md)")
 	}
 	// The session itself is left as it was: inputs still X after the initial settle.
-	if dr := s.Sim.InputDrive(s.Netlist().Inputs()[0]); dr != switchsim.DriveX {
+	if dr := s.InputDrive(s.Netlist().Inputs()[0]); dr != switchsim.DriveX {
 		t.Errorf("the exhaustive check changed the session's inputs (en is %s)", dr)
 	}
 }

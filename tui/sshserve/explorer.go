@@ -1,10 +1,14 @@
 package sshserve
 
 import (
+	"path/filepath"
+	"strings"
+
 	tea "github.com/charmbracelet/bubbletea"
 
 	"railyard/designs"
 	"railyard/switchsim/session"
+	"railyard/switchsim/trace"
 	"railyard/tui"
 )
 
@@ -22,7 +26,10 @@ func (e explorer) Update(msg tea.Msg) (tea.Model, tea.Cmd) {
 	return e, cmd
 }
 
-func (e explorer) SaveTrace(path string) error { return e.Session().SaveTrace(path) }
+func (e explorer) SaveTrace(path string) error {
+	_, err := trace.Save(e.Session(), path)
+	return err
+}
 
 // SaveKeys are the keys that open the explorer's save prompt.
 func (e explorer) SaveKeys() []string { return tui.DefaultKeyMap().Save.Keys() }
@@ -33,6 +40,18 @@ func openExplorer(r ExplorerRequest) (tea.Model, error) {
 	if err != nil {
 		return nil, err
 	}
+	if r.TracePath != "" {
+		// The trace streams beside where it will be saved, and names the
+		// design as the designs folder holds it, so that it replays
+		// elsewhere with replay --designs.
+		opt := trace.Options{DesignName: servedName(r.Design)}
+		if r.Steps != "" {
+			opt.StepsName = servedName(r.Steps)
+		}
+		if _, err := trace.Start(s, filepath.Dir(r.TracePath), opt); err != nil {
+			return nil, err
+		}
+	}
 	m := tui.New(s, r.Width, r.Height, tui.Options{
 		TracePath: r.TracePath,
 		ASCII:     r.ASCII,
@@ -41,6 +60,15 @@ func openExplorer(r ExplorerRequest) (tea.Model, error) {
 		Renderer:  r.Renderer,
 	})
 	return explorer{m}, nil
+}
+
+// servedName is a served file's name relative to the designs folder (the
+// folder is flat: a name is a file in it), or demo:NAME as it is.
+func servedName(p string) string {
+	if strings.HasPrefix(p, "demo:") {
+		return p
+	}
+	return filepath.Base(p)
 }
 
 // demoNames lists the embedded demos (served as demo:NAME).

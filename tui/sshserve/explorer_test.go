@@ -9,6 +9,7 @@ import (
 
 	"railyard/designs"
 	"railyard/switchsim/session"
+	"railyard/switchsim/trace"
 )
 
 // opselDesign is an operand selector bit of this project's own: pick chooses
@@ -141,16 +142,19 @@ func TestExplorerTraceIsSavedAndReplays(t *testing.T) {
 	if len(m) != 1 {
 		t.Fatalf("traces under traces/alice: %v", m)
 	}
-	f, err := os.Open(m[0])
+	src, err := os.ReadFile(m[0])
 	must(t, err)
-	defer f.Close()
-	tr, err := session.ReadTrace(m[0], f)
+	_, acts, err := trace.ReadAll(m[0], src)
 	must(t, err)
 	// Start, then the one toggle: pick driven 0.
-	if len(tr.Actions) != 2 || tr.Actions[1].Kind != session.Set || tr.Actions[1].Set != [2]string{"pick", "0"} {
-		t.Fatalf("trace actions %+v, want start then set pick 0", tr.Actions)
+	if len(acts) != 2 || acts[1].Kind != session.Set || acts[1].Set != [2]string{"pick", "0"} {
+		t.Fatalf("trace actions %+v, want start then set pick 0", acts)
 	}
-	rep, err := session.Replay(tr)
+	// The trace names the design relative to the designs folder.
+	if !strings.Contains(string(src), "\ndesign opsel.sw\n") {
+		t.Errorf("the trace does not name the design as opsel.sw:\n%s", src)
+	}
+	rep, err := trace.Replay(m[0], strings.NewReader(string(src)), trace.ReplayOptions{Designs: filepath.Join(ts.dir, "designs")})
 	must(t, err)
 	if !rep.Match() {
 		t.Errorf("the saved trace does not replay: %v", rep.Differences)
