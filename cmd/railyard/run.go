@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"io"
 	"path/filepath"
+	"slices"
 
 	"railyard/designs"
 	"railyard/switchsim"
@@ -92,7 +93,7 @@ func runDesign(design string, o runOptions, stdout, stderr io.Writer) int {
 	var vf *outfile.File
 	var vw *wave.Writer
 	if o.vcd != "" {
-		if vf, err = outfile.Create(o.vcd, keep...); err != nil {
+		if vf, err = outfile.Create(o.vcd, keep.vcd...); err != nil {
 			fmt.Fprintf(stderr, "railyard run: --vcd: %v\n", err)
 			return exitUsage
 		}
@@ -124,7 +125,7 @@ func runDesign(design string, o runOptions, stdout, stderr io.Writer) int {
 		return exitUsage
 	}
 	if tw != nil {
-		if _, err := tw.Save(o.trace, keep...); err != nil {
+		if _, err := tw.Save(o.trace, keep.trace...); err != nil {
 			fmt.Fprintf(stderr, "railyard run: writing the trace: %v\n", err)
 			return exitUsage
 		}
@@ -142,38 +143,37 @@ func runDesign(design string, o runOptions, stdout, stderr io.Writer) int {
 	return exitOK
 }
 
+// outputKeep are the files each output must keep clear of.
+type outputKeep struct{ trace, vcd []outfile.Keep }
+
 // checkOutputs refuses --trace and --vcd paths that would replace the
 // run's own inputs (the design, its steps), each other, or anything that is
-// not a regular file, before anything is simulated. It returns the files
-// the outputs must keep clear of.
-func checkOutputs(design string, o runOptions) ([]outfile.Keep, error) {
-	keep := []outfile.Keep{{Path: design, What: "the design"}}
+// not a regular file, before anything is simulated.
+func checkOutputs(design string, o runOptions) (outputKeep, error) {
+	inputs := []outfile.Keep{{Path: design, What: "the design"}}
 	st := o.steps
 	if st == "" {
 		st, _ = steps.Default(design)
 	}
 	if st != "" {
-		keep = append(keep, outfile.Keep{Path: st, What: "the steps file"})
+		inputs = append(inputs, outfile.Keep{Path: st, What: "the steps file"})
+	}
+	k := outputKeep{trace: inputs, vcd: inputs}
+	if o.trace != "" && o.vcd != "" {
+		k.trace = append(slices.Clip(inputs), outfile.Keep{Path: o.vcd, What: "the --vcd output"})
+		k.vcd = append(slices.Clip(inputs), outfile.Keep{Path: o.trace, What: "the --trace output"})
 	}
 	if o.trace != "" {
-		if err := outfile.Check(o.trace, keep...); err != nil {
-			return nil, fmt.Errorf("--trace: %w", err)
+		if err := outfile.Check(o.trace, inputs...); err != nil {
+			return k, fmt.Errorf("--trace: %w", err)
 		}
 	}
 	if o.vcd != "" {
-		vkeep := keep
-		if o.trace != "" {
-			vkeep = append(vkeep, outfile.Keep{Path: o.trace, What: "the --trace output"})
+		if err := outfile.Check(o.vcd, k.vcd...); err != nil {
+			return k, fmt.Errorf("--vcd: %w", err)
 		}
-		if err := outfile.Check(o.vcd, vkeep...); err != nil {
-			return nil, fmt.Errorf("--vcd: %w", err)
-		}
-		keep = vkeep
 	}
-	if o.trace != "" && o.vcd != "" {
-		keep = append(keep, outfile.Keep{Path: o.vcd, What: "the --vcd output"})
-	}
-	return keep, nil
+	return k, nil
 }
 
 // batchDefault is bare `railyard` off a terminal: the demo's batch report,

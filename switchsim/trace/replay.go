@@ -7,6 +7,8 @@ import (
 	"io/fs"
 	"os"
 	"path/filepath"
+	"regexp"
+	"slices"
 	"strings"
 
 	"railyard/designs"
@@ -277,6 +279,10 @@ func findDesign(traceFile string, h *Header, opt ReplayOptions) (path string, ch
 		}
 		return h.Design, session.Hash(src) != h.DesignHash, nil
 	}
+	if ext := strings.ToLower(filepath.Ext(h.Design)); !slices.Contains(designExts, ext) {
+		// A trace may name any file; railyard reads only designs.
+		return "", false, &diag.Error{Pos: h.DesignPos, Msg: fmt.Sprintf("%s is not a design file (want one of %s): not read", pathText(h.Design), strings.Join(designExts, " "))}
+	}
 	first := ""
 	for _, c := range cands {
 		if !isFile(c) {
@@ -303,7 +309,7 @@ func findDesign(traceFile string, h *Header, opt ReplayOptions) (path string, ch
 	} else {
 		where += "; give --designs DIR to search a folder for it by content"
 	}
-	return "", false, &diag.Error{Pos: h.DesignPos, Msg: fmt.Sprintf("the design %s was not found %s", excerpt(h.Design), where)}
+	return "", false, &diag.Error{Pos: h.DesignPos, Msg: fmt.Sprintf("the design %s was not found %s", pathText(h.Design), where)}
 }
 
 func demoSource(name string) ([]byte, error) {
@@ -331,7 +337,7 @@ func findSteps(traceFile string, h *Header, opt ReplayOptions, nl *switchsim.Net
 			st, err = steps.Read(h.Steps, ssrc, nl)
 		}
 		if !ok || ssrc == nil || err != nil {
-			rep.Notes = append(rep.Notes, fmt.Sprintf("%s: the steps %s do not read: step rows and labels are not compared", h.StepsPos, excerpt(h.Steps)))
+			rep.Notes = append(rep.Notes, fmt.Sprintf("%s: the steps %s do not read: step rows and labels are not compared", h.StepsPos, pathText(h.Steps)))
 			return nil, ""
 		}
 		if session.Hash(ssrc) != h.StepsHash {
@@ -350,7 +356,7 @@ func findSteps(traceFile string, h *Header, opt ReplayOptions, nl *switchsim.Net
 		path = searchHash(opt.Designs, h.StepsHash)
 	}
 	if path == "" {
-		rep.Notes = append(rep.Notes, fmt.Sprintf("%s: the steps file %s was not found unchanged: step rows and labels are not compared", h.StepsPos, excerpt(h.Steps)))
+		rep.Notes = append(rep.Notes, fmt.Sprintf("%s: the steps file %s was not found unchanged: step rows and labels are not compared", h.StepsPos, pathText(h.Steps)))
 		return nil, ""
 	}
 	src, err := netfile.ReadText(path, steps.DefaultLimits().FileSize)
@@ -445,10 +451,27 @@ func readDesign(path string) (*netfile.Design, error) {
 	return nil, errors.New(strings.Join(out, "\n"))
 }
 
-// shortLine keeps an error's position and a short excerpt of its message.
+// pathText quotes a file name the trace gives, made printable and cut to
+// a length a line holds.
+func pathText(p string) string {
+	if len(p) > 160 {
+		return excerpt(p[:160]) + "..."
+	}
+	return fmt.Sprintf("%q", diag.Printable(p))
+}
+
+// designExts are the extensions of the design files railyard reads
+// (README, "Designs"): .sw and the netlist forms.
+var designExts = []string{".sw", ".sp", ".spice", ".cir", ".cdl", ".net", ".ckt", ".v", ".vg"}
+
+// quoted finds the quoted words a reader's message copies from the file.
+var quoted = regexp.MustCompile(`"([^"]{20})[^"]*"`)
+
+// shortLine keeps an error's position and a short excerpt of its message:
+// the words it quotes from the file cut to 20 bytes, the line to 100.
 func shortLine(l string) string {
 	const n = 100
-	l = diag.Printable(l)
+	l = quoted.ReplaceAllString(diag.Printable(l), `"$1..."`)
 	if len(l) <= n {
 		return l
 	}

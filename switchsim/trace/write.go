@@ -74,7 +74,7 @@ func Start(s *session.Session, dir string, opt Options) (*Writer, error) {
 		w.named = f.Name() // removed by Close instead
 	}
 	// The header and the end lines take some of the cap: reserve it.
-	w.limit = opt.MaxBytes - int64(len(w.header("/"+strings.Repeat("x", 512))))
+	w.limit = opt.MaxBytes - int64(len(w.header("/"+strings.Repeat("x", 512)))) - 512
 	runtime.AddCleanup(w, func(f *os.File) { f.Close() }, f)
 	if err := s.Attach(w); err != nil {
 		w.Close()

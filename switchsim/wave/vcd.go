@@ -95,7 +95,7 @@ func NewWriter(w io.Writer, s *session.Session, opt Options) *Writer {
 	p("$version\n\t%s\n$end\n", text(version))
 	volts := ""
 	if withVolts {
-		volts = "; NAME_v are estimated node voltages in volts (first-order estimates; 0 where unknown, when the wire is x)"
+		volts = "; NAME_v are estimated node voltages in volts (first-order estimates; 0 where unknown, when the wire reads x or z)"
 	}
 	p("$comment\n\tdesign %s sha256 %s, mode %s; one time unit per step: #0 is the initial settle, #k the state after action k%s\n$end\n",
 		text(s.DesignPath()), s.DesignHash(), s.Options().Mode, volts)
