@@ -253,8 +253,8 @@ func unregister(o *File) {
 	mu.Unlock()
 }
 
-// Pending is the number of temporary files in progress (for tests).
-func Pending() int {
+// pendingFiles is the number of temporary files in progress (for tests).
+func pendingFiles() int {
 	mu.Lock()
 	defer mu.Unlock()
 	return len(pending)

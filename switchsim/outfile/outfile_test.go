@@ -132,8 +132,8 @@ func TestCommitAbortWrite(t *testing.T) {
 	if b, _ := os.ReadFile(p); string(b) != "new\n" || len(entries(t, dir)) != 1 {
 		t.Errorf("a failed Write left %q and %v", b, entries(t, dir))
 	}
-	if Pending() != 0 {
-		t.Errorf("%d temporary files still registered", Pending())
+	if pendingFiles() != 0 {
+		t.Errorf("%d temporary files still registered", pendingFiles())
 	}
 }
 

@@ -23,15 +23,6 @@ type Summary struct {
 // Pass reports whether every check passed.
 func (m Summary) Pass() bool { return m.Failed == 0 }
 
-// Summarize counts the steps, checks, failures and warnings of events.
-func Summarize(events []*Event) Summary {
-	var m Summary
-	for _, e := range events {
-		m.add(e)
-	}
-	return m
-}
-
 // add counts one event. A dropped event's checks are gone, so only its
 // failure is counted; the report streams events whole, before any drop.
 func (m *Summary) add(e *Event) {

@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"encoding/json"
 	"fmt"
+	"io"
 	"math"
 	"sort"
 	"strings"
@@ -281,7 +282,11 @@ func TestSummarizeSkipsDontCare(t *testing.T) {
 		t.Fatal(err)
 	}
 	s.RunToEnd(false)
-	m := session.Summarize(s.History()[1:])
+	r := session.NewReport(io.Discard, s, session.Text)
+	for _, e := range s.History()[1:] {
+		r.Add(e, s.Node)
+	}
+	m, _ := r.Close()
 	if m.Steps != 2 || m.Checks != 3 || m.Failed != 0 {
 		t.Errorf("summary %+v, want 2 steps, 3 checks, 0 failed", m)
 	}

@@ -104,10 +104,10 @@ func formatDelay(d float64) string {
 	return strconv.FormatFloat(d, 'g', 4, 64)
 }
 
-// TechString prints a technology's keys in a stable order with the values
+// techString prints a technology's keys in a stable order with the values
 // in force: vil and vih are the thresholds physical mode decides by (the
 // reference inverter's unless the design sets them).
-func TechString(t switchsim.Tech) string {
+func techString(t switchsim.Tech) string {
 	vil, vih, _ := t.Thresholds()
 	var parts []string
 	for _, k := range switchsim.TechKeys() {

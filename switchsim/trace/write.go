@@ -181,7 +181,7 @@ func (w *Writer) header(path string) string {
 	}
 	p("mode %s\n", s.Options().Mode)
 	p("full-swing %s\n", yesNo(s.Options().FullSwing))
-	p("tech %s\n", TechString(s.Netlist().Tech))
+	p("tech %s\n", techString(s.Netlist().Tech))
 	p("created %s\n", w.opt.Created.UTC().Format(time.RFC3339))
 	return b.String()
 }

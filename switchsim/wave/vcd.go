@@ -148,7 +148,7 @@ func (v *Writer) Add(e *session.Event, node func(n int) switchsim.NodeState) {
 
 // put writes node i's values where they changed (all of them when first).
 func (v *Writer) put(i int, st switchsim.NodeState, first bool) {
-	l := Letter(st)
+	l := letter(st)
 	if first || l != v.letters[i] {
 		v.letters[i] = l
 		v.w.WriteByte(l)
@@ -165,7 +165,7 @@ func (v *Writer) put(i int, st switchsim.NodeState, first bool) {
 	volts = math.Round(volts*1e6) / 1e6 // a microvolt: the estimates carry no more
 	if first || volts != v.volts[i] {
 		v.volts[i] = volts
-		v.w.WriteString("r" + Real(volts) + " " + v.vids[i] + "\n")
+		v.w.WriteString("r" + realNumber(volts) + " " + v.vids[i] + "\n")
 	}
 }
 
@@ -210,10 +210,10 @@ func waveNodes(nl *switchsim.Netlist) []int {
 	return ns
 }
 
-// Letter is a node's four-state letter (IEEE 1364-2005 §18.2.1): z for a
+// letter is a node's four-state letter (IEEE 1364-2005 §18.2.1): z for a
 // floating node whatever charge it holds, x for X, and the logic value for
 // 0, 1, L and H (the VCD four-state form carries no strength).
-func Letter(st switchsim.NodeState) byte {
+func letter(st switchsim.NodeState) byte {
 	switch st.State {
 	case switchsim.StateZ:
 		return 'z'
@@ -225,10 +225,10 @@ func Letter(st switchsim.NodeState) byte {
 	return '1'
 }
 
-// Real prints a voltage as a real number in the grammar IEEE 1364-2005
+// realNumber prints a voltage as a real number in the grammar IEEE 1364-2005
 // uses (§3.5.1: digits with a decimal point or an exponent, or both), e.g.
 // "1.21", "0.0", "1e-05".
-func Real(v float64) string {
+func realNumber(v float64) string {
 	s := strconv.FormatFloat(v, 'g', -1, 64)
 	if !strings.ContainsAny(s, ".e") {
 		s += ".0"

@@ -535,8 +535,8 @@ nmos n en d hi
 func TestRealNumbers(t *testing.T) {
 	// Every voltage the writer prints is a real_number of §3.5.1.
 	for _, v := range []float64{0, 1, 1.8, 0.737, 1e-5, 123456789, 1.2e-12} {
-		if r := Real(v); !realNumberRe.MatchString(r) {
-			t.Errorf("Real(%v) = %q is not a real_number", v, r)
+		if r := realNumber(v); !realNumberRe.MatchString(r) {
+			t.Errorf("realNumber(%v) = %q is not a real_number", v, r)
 		}
 	}
 }
