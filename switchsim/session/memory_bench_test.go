@@ -63,14 +63,19 @@ func BenchmarkMemoryChain(b *testing.B) {
 		b.Fatal(err)
 	}
 	b.Logf("design %d bytes, %d devices, %d nodes", len(src), d.Netlist.NumDevices(), d.Netlist.NumNodes())
+	measure(b, d, sts, Options{Mode: switchsim.Ideal})
+}
+
+// measure runs the steps b.N times and reports the figures of each run.
+func measure(b *testing.B, d *netfile.Design, sts *steps.Steps, opt Options) {
 	for i := 0; i < b.N; i++ {
 		var s *Session
 		live, total := heapAfter(func() {
-			s = New(d, "chain.sw", sts, Options{Mode: switchsim.Ideal})
+			s = New(d, d.File, sts, opt)
 			s.RunToEnd(false)
 		})
 		runtime.KeepAlive(s)
-		report(b, live, total, 2000)
+		report(b, live, total, len(sts.Rows))
 	}
 }
 
@@ -81,15 +86,7 @@ func BenchmarkMemoryLatch(b *testing.B) {
 		b.Run(fmt.Sprint(n), func(b *testing.B) {
 			d := latchDesign(b)
 			sts := latchSteps(b, d.Netlist, n)
-			for i := 0; i < b.N; i++ {
-				var s *Session
-				live, total := heapAfter(func() {
-					s = New(d, "latch.sw", sts, Options{Mode: switchsim.Physical})
-					s.RunToEnd(false)
-				})
-				runtime.KeepAlive(s)
-				report(b, live, total, n)
-			}
+			measure(b, d, sts, Options{Mode: switchsim.Physical})
 		})
 	}
 }

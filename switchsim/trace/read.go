@@ -486,23 +486,29 @@ func (r *reader) stepDetails(a *Action, rest string, col int) {
 		r.errAt(r.line, col, "step %d wants its drives and checks parted by |", n)
 		return
 	}
-	for _, t := range fields(drives) {
+	a.Drives = r.pairs(drives, col, "a step drive wants NAME=0|1|x|z", func(v string) bool {
+		_, ok := switchsim.ParseDrive(v)
+		return ok
+	})
+	a.Checks = r.pairs(checks, col+len(drives)+1, "a step check wants NAME=WANT (0 1 X Z L H -)", func(v string) bool {
+		_, ok := steps.ParseWant(v)
+		return ok
+	})
+}
+
+// pairs reads the NAME=VALUE words of text (which starts at column col),
+// reporting each malformed one with what it wants.
+func (r *reader) pairs(text string, col int, want string, valid func(string) bool) [][2]string {
+	var out [][2]string
+	for _, t := range fields(text) {
 		name, v, ok := strings.Cut(t.s, "=")
-		if _, okd := switchsim.ParseDrive(v); !ok || name == "" || !okd {
-			r.errAt(r.line, col+t.col-1, "a step drive wants NAME=0|1|x|z, not %s", excerpt(t.s))
+		if !ok || name == "" || !valid(v) {
+			r.errAt(r.line, col+t.col-1, "%s, not %s", want, excerpt(t.s))
 			continue
 		}
-		a.Drives = append(a.Drives, [2]string{name, v})
+		out = append(out, [2]string{name, v})
 	}
-	ccol := col + len(drives) + 1
-	for _, t := range fields(checks) {
-		name, v, ok := strings.Cut(t.s, "=")
-		if _, okw := steps.ParseWant(v); !ok || name == "" || !okw {
-			r.errAt(r.line, ccol+t.col-1, "a step check wants NAME=WANT (0 1 X Z L H -), not %s", excerpt(t.s))
-			continue
-		}
-		a.Checks = append(a.Checks, [2]string{name, v})
-	}
+	return out
 }
 
 var (
