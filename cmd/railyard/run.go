@@ -125,9 +125,14 @@ func runDesign(design string, o runOptions, stdout, stderr io.Writer) int {
 		return exitUsage
 	}
 	if tw != nil {
-		if _, err := tw.Save(o.trace, keep.trace...); err != nil {
+		saved, err := tw.Save(o.trace, keep.trace...)
+		if err != nil {
 			fmt.Fprintf(stderr, "railyard run: writing the trace: %v\n", err)
 			return exitUsage
+		}
+		if saved.Skipped > 0 {
+			fmt.Fprintf(stderr, "railyard run: %s: %s; it holds the first %d actions, the last %d were not written\n",
+				o.trace, saved.Why, saved.Actions, saved.Skipped)
 		}
 	}
 	if vw != nil {
