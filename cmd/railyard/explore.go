@@ -7,9 +7,9 @@ import (
 
 	"railyard/designs"
 	"railyard/switchsim"
+	"railyard/switchsim/load"
 	"railyard/switchsim/outfile"
 	"railyard/switchsim/session"
-	"railyard/switchsim/steps"
 	"railyard/switchsim/trace"
 	"railyard/tui"
 )
@@ -32,6 +32,7 @@ examples:
 type exploreOptions struct {
 	steps, trace string
 	ascii        bool
+	load         *loadFlags
 }
 
 func cmdExplore(args []string, stdout, stderr io.Writer) int {
@@ -40,11 +41,12 @@ func cmdExplore(args []string, stdout, stderr io.Writer) int {
 	fs.StringVar(&o.steps, "steps", "", "the steps `FILE` (default: DESIGN's same-named .steps file)")
 	fs.StringVar(&o.trace, "trace", "", "save the session trace to `FILE` on quitting")
 	fs.BoolVar(&o.ascii, "ascii", false, "draw with ASCII only")
+	o.load = addLoadFlags(fs)
 	pos, code := parseArgs(fs, args, stdout, stderr)
 	if code >= 0 {
 		return code
 	}
-	design := "demo:" + designs.Default
+	design := load.DemoPrefix + designs.Default
 	switch len(pos) {
 	case 0:
 	case 1:
@@ -52,9 +54,13 @@ func cmdExplore(args []string, stdout, stderr io.Writer) int {
 	default:
 		return usageError(stderr, "explore", "want at most one DESIGN, got %d arguments", len(pos))
 	}
+	files, err := o.load.loader()
+	if err != nil {
+		return usageError(stderr, "explore", "%v", err)
+	}
 	if o.trace != "" {
 		keep := []outfile.Keep{{Path: design, What: "the design"}, {Path: o.steps, What: "the steps file"}}
-		if st, ok := steps.Default(design); ok && o.steps == "" {
+		if st, ok := files.DefaultSteps(design); ok && o.steps == "" {
 			keep[1].Path = st
 		}
 		if err := outfile.Check(o.trace, keep...); err != nil {
@@ -62,10 +68,11 @@ func cmdExplore(args []string, stdout, stderr io.Writer) int {
 			return exitUsage
 		}
 	}
-	s, err := session.Open(design, o.steps, session.Options{Mode: switchsim.Physical})
+	s, err := session.OpenFrom(files, design, o.steps, session.Options{Mode: switchsim.Physical})
 	if err != nil {
 		return loadError(stderr, err)
 	}
+	printNotes(stderr, s.Design())
 	// The session always records its trace, so that the save key works;
 	// it streams beside --trace when given.
 	dir := ""

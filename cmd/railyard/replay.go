@@ -3,10 +3,10 @@ package main
 import (
 	"fmt"
 	"io"
-	"os"
 
 	"railyard/designs"
 	"railyard/switchsim/diag"
+	"railyard/switchsim/load"
 	"railyard/switchsim/trace"
 )
 
@@ -45,7 +45,10 @@ func cmdReplay(args []string, stdout, stderr io.Writer) int {
 		return usageError(stderr, "replay", "want one TRACE, got %d arguments", len(pos))
 	}
 	path := pos[0]
-	f, err := openTrace(path)
+	// Opened through the loader: a missing file or a folder is reported as
+	// PATH: cannot read: why, and the stream is bounded in size (the trace
+	// reader's own bound, with its position, comes first).
+	f, err := load.Host(load.Options{}).Reader(path, trace.MaxReadBytes+trace.MaxLine+2)
 	if err != nil {
 		return loadError(stderr, err)
 	}
@@ -78,28 +81,4 @@ func cmdReplay(args []string, stdout, stderr io.Writer) int {
 		fmt.Fprintf(stdout, "the replay differs from the trace: %d differences\n", n)
 	}
 	return exitFail
-}
-
-// openTrace opens a trace file, refusing what is not a regular file (a
-// folder, a device) with the path's position.
-func openTrace(path string) (*os.File, error) {
-	fi, err := os.Stat(path)
-	if err != nil {
-		return nil, &diag.Error{Pos: diag.Pos{File: path}, Msg: "cannot read: " + errText(err)}
-	}
-	if !fi.Mode().IsRegular() {
-		return nil, &diag.Error{Pos: diag.Pos{File: path}, Msg: "cannot read: not a regular file"}
-	}
-	f, err := os.Open(path)
-	if err != nil {
-		return nil, &diag.Error{Pos: diag.Pos{File: path}, Msg: "cannot read: " + errText(err)}
-	}
-	return f, nil
-}
-
-func errText(err error) string {
-	if pe, ok := err.(*os.PathError); ok {
-		return pe.Err.Error()
-	}
-	return err.Error()
 }

@@ -8,9 +8,9 @@ import (
 
 	"railyard/designs"
 	"railyard/switchsim"
+	"railyard/switchsim/load"
 	"railyard/switchsim/outfile"
 	"railyard/switchsim/session"
-	"railyard/switchsim/steps"
 	"railyard/switchsim/trace"
 	"railyard/switchsim/wave"
 )
@@ -41,6 +41,7 @@ examples:
 type runOptions struct {
 	steps, trace, vcd      string
 	json, ideal, fullSwing bool
+	load                   *loadFlags // nil: the defaults
 }
 
 func cmdRun(args []string, stdout, stderr io.Writer) int {
@@ -52,6 +53,7 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 	fs.BoolVar(&o.fullSwing, "full-swing", false, "0 and 1 checks also require the strong full-level states")
 	fs.StringVar(&o.trace, "trace", "", "save the session trace to `FILE` (for railyard replay)")
 	fs.StringVar(&o.vcd, "vcd", "", "write a VCD waveform of every node to `FILE` (with voltages in physical mode)")
+	o.load = addLoadFlags(fs)
 	pos, code := parseArgs(fs, args, stdout, stderr)
 	if code >= 0 {
 		return code
@@ -66,7 +68,14 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 // checked before anything is simulated; the report streams as the steps
 // run; the files are put in place only once the run has succeeded.
 func runDesign(design string, o runOptions, stdout, stderr io.Writer) int {
-	keep, err := checkOutputs(design, o)
+	if o.load == nil {
+		o.load = &loadFlags{}
+	}
+	files, err := o.load.loader()
+	if err != nil {
+		return usageError(stderr, "run", "%v", err)
+	}
+	keep, err := checkOutputs(files, design, o)
 	if err != nil {
 		fmt.Fprintf(stderr, "railyard run: %v\n", err)
 		return exitUsage
@@ -78,10 +87,11 @@ func runDesign(design string, o runOptions, stdout, stderr io.Writer) int {
 	if o.ideal {
 		opt.Mode = switchsim.Ideal
 	}
-	s, err := session.Open(design, o.steps, opt)
+	s, err := session.OpenFrom(files, design, o.steps, opt)
 	if err != nil {
 		return loadError(stderr, err)
 	}
+	printNotes(stderr, s.Design())
 	var tw *trace.Writer
 	if o.trace != "" {
 		if tw, err = trace.Start(s, filepath.Dir(o.trace), trace.Options{}); err != nil {
@@ -154,11 +164,11 @@ type outputKeep struct{ trace, vcd []outfile.Keep }
 // checkOutputs refuses --trace and --vcd paths that would replace the
 // run's own inputs (the design, its steps), each other, or anything that is
 // not a regular file, before anything is simulated.
-func checkOutputs(design string, o runOptions) (outputKeep, error) {
+func checkOutputs(files *load.Loader, design string, o runOptions) (outputKeep, error) {
 	inputs := []outfile.Keep{{Path: design, What: "the design"}}
 	st := o.steps
 	if st == "" {
-		st, _ = steps.Default(design)
+		st, _ = files.DefaultSteps(design)
 	}
 	if st != "" {
 		inputs = append(inputs, outfile.Keep{Path: st, What: "the steps file"})
@@ -184,7 +194,7 @@ func checkOutputs(design string, o runOptions) (outputKeep, error) {
 // batchDefault is bare `railyard` off a terminal: the demo's batch report,
 // exit 0 whatever its checks say (FORMAT.md).
 func batchDefault(stdout, stderr io.Writer) int {
-	if code := runDesign("demo:"+designs.Default, runOptions{}, stdout, stderr); code == exitUsage {
+	if code := runDesign(load.DemoPrefix+designs.Default, runOptions{}, stdout, stderr); code == exitUsage {
 		return code
 	}
 	return exitOK

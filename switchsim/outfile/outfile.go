@@ -15,9 +15,10 @@ import (
 	"os"
 	"os/signal"
 	"path/filepath"
-	"strings"
 	"sync"
 	"syscall"
+
+	"railyard/switchsim/load"
 )
 
 // Keep is a file an output must not replace: one of the run's inputs or
@@ -44,7 +45,7 @@ func Check(path string, keep ...Keep) error {
 	if path == "" {
 		return &Error{path, "no file named"}
 	}
-	if strings.HasPrefix(path, "demo:") {
+	if isDemo(path) {
 		return &Error{path, "demo: names an embedded design, not a file to write"}
 	}
 	fi, err := os.Lstat(path)
@@ -98,7 +99,7 @@ func notRegular(m fs.FileMode) string {
 // path, or (when both exist) the same file by identity, which catches hard
 // links and other spellings through symbolic links of folders.
 func same(a, b string) bool {
-	if b == "" || strings.HasPrefix(b, "demo:") {
+	if b == "" || isDemo(b) {
 		return false
 	}
 	aa, err1 := filepath.Abs(a)
@@ -288,4 +289,10 @@ func HandleSignals() (stop func()) {
 		signal.Stop(ch)
 		close(quit)
 	}
+}
+
+// isDemo reports whether a name is an embedded demo (load.CutDemo).
+func isDemo(name string) bool {
+	_, ok := load.CutDemo(name)
+	return ok
 }

@@ -2,6 +2,7 @@ package session
 
 import (
 	"fmt"
+	"io/fs"
 	"math"
 	"runtime"
 	"strings"
@@ -264,7 +265,10 @@ func TestSnapshotsWithinBudget(t *testing.T) {
 // latchSteps writes n rows of static_latch's own steps.
 func latchSteps(tb testing.TB, nl *switchsim.Netlist, n int) *steps.Steps {
 	tb.Helper()
-	_, src, _ := designs.Source("static_latch")
+	src, err := fs.ReadFile(designs.FS, "static_latch.steps")
+	if err != nil {
+		tb.Fatal(err)
+	}
 	var rows []string
 	for _, l := range strings.Split(string(src), "\n") {
 		if l = strings.TrimSpace(l); l != "" && !strings.HasPrefix(l, "#") && !strings.HasPrefix(l, "apply") && !strings.HasPrefix(l, "check") {
@@ -285,7 +289,10 @@ func latchSteps(tb testing.TB, nl *switchsim.Netlist, n int) *steps.Steps {
 
 func latchDesign(tb testing.TB) *netfile.Design {
 	tb.Helper()
-	sw, _, _ := designs.Source("static_latch")
+	sw, err := fs.ReadFile(designs.FS, "static_latch.sw")
+	if err != nil {
+		tb.Fatal(err)
+	}
 	d, err := netfile.Read("latch.sw", sw)
 	if err != nil {
 		tb.Fatal(err)

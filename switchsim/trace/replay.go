@@ -8,12 +8,11 @@ import (
 	"os"
 	"path/filepath"
 	"regexp"
-	"slices"
 	"strings"
 
-	"railyard/designs"
 	"railyard/switchsim"
 	"railyard/switchsim/diag"
+	"railyard/switchsim/load"
 	"railyard/switchsim/netfile"
 	"railyard/switchsim/session"
 	"railyard/switchsim/steps"
@@ -21,6 +20,9 @@ import (
 
 // ReplayOptions say where a replay looks for the design.
 type ReplayOptions struct {
+	// Files reads the design and the steps (the command line's loader with
+	// its format flags); nil: the plain host loader.
+	Files *load.Loader
 	// Designs is a folder searched for the design (and its steps) when it
 	// is not where the trace says: first by the name the trace gives, then
 	// by content hash, so a design that moved or was renamed is found.
@@ -46,6 +48,13 @@ func (r *Report) Match() bool { return r.Count == 0 }
 
 // MaxDifferences bounds the differences a replay lists.
 const MaxDifferences = 20
+
+func (o ReplayOptions) files() *load.Loader {
+	if o.Files != nil {
+		return o.Files
+	}
+	return load.Host(load.Options{})
+}
 
 // designErrors is how many errors of a design that will not read are shown:
 // a trace may name a file that is no design at all.
@@ -78,7 +87,7 @@ func Replay(file string, r io.Reader, opt ReplayOptions) (*Report, error) {
 			if err != nil {
 				return err
 			}
-			d, err := readDesign(path)
+			d, err := readDesign(opt.files(), path)
 			if err != nil {
 				return err
 			}
@@ -243,7 +252,7 @@ func quoteShort(s string) string {
 // its base name there (a served trace names its design relative to the
 // server's designs folder).
 func candidates(traceFile, name string, h *Header, designsDir string) []string {
-	if strings.HasPrefix(name, "demo:") {
+	if isDemo(name) {
 		return []string{name}
 	}
 	p := filepath.FromSlash(name)
@@ -271,17 +280,22 @@ func candidates(traceFile, name string, h *Header, designsDir string) []string {
 // matches, else one found by hash under opt.Designs, else the first
 // candidate that exists (reported as changed).
 func findDesign(traceFile string, h *Header, opt ReplayOptions) (path string, changed bool, err error) {
+	files := opt.files()
 	cands := candidates(traceFile, h.Design, h, opt.Designs)
-	if strings.HasPrefix(h.Design, "demo:") {
-		src, err := demoSource(h.Design)
+	if _, demo := load.CutDemo(h.Design); demo {
+		d, err := readDesign(files, h.Design)
 		if err != nil {
-			return "", false, &diag.Error{Pos: h.DesignPos, Msg: err.Error()}
+			return "", false, err
 		}
-		return h.Design, session.Hash(src) != h.DesignHash, nil
+		return h.Design, session.Hash(d.Source) != h.DesignHash, nil
 	}
-	if ext := strings.ToLower(filepath.Ext(h.Design)); !slices.Contains(designExts, ext) {
+	if !load.Known(h.Design) {
 		// A trace may name any file; railyard reads only designs.
-		return "", false, &diag.Error{Pos: h.DesignPos, Msg: fmt.Sprintf("%s is not a design file (want one of %s): not read", pathText(h.Design), strings.Join(designExts, " "))}
+		var exts []string
+		for _, f := range load.Formats() {
+			exts = append(exts, f.Exts...)
+		}
+		return "", false, &diag.Error{Pos: h.DesignPos, Msg: fmt.Sprintf("%s is not a design file (want one of %s): not read", pathText(h.Design), strings.Join(exts, " "))}
 	}
 	first := ""
 	for _, c := range cands {
@@ -291,12 +305,12 @@ func findDesign(traceFile string, h *Header, opt ReplayOptions) (path string, ch
 		if first == "" {
 			first = c
 		}
-		if hashFile(c) == h.DesignHash {
+		if hashFile(files, c) == h.DesignHash {
 			return c, false, nil
 		}
 	}
 	if opt.Designs != "" {
-		if p := searchHash(opt.Designs, h.DesignHash); p != "" {
+		if p := searchHash(files, opt.Designs, h.DesignHash); p != "" {
 			return p, false, nil
 		}
 	}
@@ -312,14 +326,6 @@ func findDesign(traceFile string, h *Header, opt ReplayOptions) (path string, ch
 	return "", false, &diag.Error{Pos: h.DesignPos, Msg: fmt.Sprintf("the design %s was not found %s", pathText(h.Design), where)}
 }
 
-func demoSource(name string) ([]byte, error) {
-	sw, _, ok := designs.Source(strings.TrimPrefix(name, "demo:"))
-	if !ok {
-		return nil, fmt.Errorf("no demo design named %s", excerpt(strings.TrimPrefix(name, "demo:")))
-	}
-	return sw, nil
-}
-
 // findSteps finds the steps file the trace names, for comparing each
 // step's row and label. It is optional: without it the rows are not
 // compared, and a note says so; a steps file whose content changed is a
@@ -328,15 +334,11 @@ func findSteps(traceFile string, h *Header, opt ReplayOptions, nl *switchsim.Net
 	if h.Steps == "" {
 		return nil, ""
 	}
+	files := opt.files()
 	var path string
-	if name, ok := strings.CutPrefix(h.Steps, "demo:"); ok {
-		_, ssrc, ok := designs.Source(strings.TrimSuffix(name, ".steps"))
-		var st *steps.Steps
-		var err error
-		if ok && ssrc != nil {
-			st, err = steps.Read(h.Steps, ssrc, nl)
-		}
-		if !ok || ssrc == nil || err != nil {
+	if _, demo := load.CutDemo(h.Steps); demo {
+		st, ssrc, err := files.Steps(h.Steps, nl)
+		if err != nil {
 			rep.Notes = append(rep.Notes, fmt.Sprintf("%s: the steps %s do not read: step rows and labels are not compared", h.StepsPos, pathText(h.Steps)))
 			return nil, ""
 		}
@@ -347,24 +349,20 @@ func findSteps(traceFile string, h *Header, opt ReplayOptions, nl *switchsim.Net
 		return st, h.Steps
 	}
 	for _, c := range candidates(traceFile, h.Steps, h, opt.Designs) {
-		if isFile(c) && hashFile(c) == h.StepsHash {
+		if isFile(c) && hashFile(files, c) == h.StepsHash {
 			path = c
 			break
 		}
 	}
 	if path == "" && opt.Designs != "" {
-		path = searchHash(opt.Designs, h.StepsHash)
+		path = searchHash(files, opt.Designs, h.StepsHash)
 	}
 	if path == "" {
 		rep.Notes = append(rep.Notes, fmt.Sprintf("%s: the steps file %s was not found unchanged: step rows and labels are not compared", h.StepsPos, pathText(h.Steps)))
 		return nil, ""
 	}
-	src, err := netfile.ReadText(path, steps.DefaultLimits().FileSize)
-	if err == nil {
-		var st *steps.Steps
-		if st, err = steps.Read(path, src, nl); err == nil {
-			return st, path
-		}
+	if st, _, err := files.Steps(path, nl); err == nil {
+		return st, path
 	}
 	rep.Notes = append(rep.Notes, fmt.Sprintf("%s: the steps file %s does not read for this design: step rows and labels are not compared", h.StepsPos, path))
 	return nil, ""
@@ -375,11 +373,11 @@ func isFile(p string) bool {
 	return err == nil && fi.Mode().IsRegular()
 }
 
-// hashFile is the content hash of a file within the design size limit, or
-// "" for one that cannot be read or is larger.
-func hashFile(p string) string {
-	src, err := netfile.ReadText(p, netfile.DefaultLimits().FileSize)
-	if err != nil || len(src) > netfile.DefaultLimits().FileSize {
+// hashFile is the content hash of a file within the loader's size limit,
+// or "" for one that cannot be read or is larger.
+func hashFile(files *load.Loader, p string) string {
+	src, err := files.ReadFile(p)
+	if err != nil {
 		return ""
 	}
 	return session.Hash(src)
@@ -396,11 +394,14 @@ const (
 // searchHash walks dir (not following symbolic links) for a regular file
 // whose content hash is hash, in lexical order; "" when none is found
 // within the search bounds.
-func searchHash(dir, hash string) string {
+func searchHash(files *load.Loader, dir, hash string) string {
 	found := ""
-	files := 0
+	seen := 0
 	var read int64
-	limit := int64(netfile.DefaultLimits().FileSize)
+	limit := int64(load.DefaultMaxBytes)
+	if m := files.Options().MaxBytes; m > 0 {
+		limit = int64(m)
+	}
 	filepath.WalkDir(dir, func(p string, d fs.DirEntry, err error) error {
 		if err != nil {
 			return nil
@@ -414,8 +415,8 @@ func searchHash(dir, hash string) string {
 		if !d.Type().IsRegular() {
 			return nil
 		}
-		files++
-		if files > searchFiles || read > searchBytes {
+		seen++
+		if seen > searchFiles || read > searchBytes {
 			return fs.SkipAll
 		}
 		fi, err := d.Info()
@@ -423,7 +424,7 @@ func searchHash(dir, hash string) string {
 			return nil
 		}
 		read += fi.Size()
-		if hashFile(p) == hash {
+		if hashFile(files, p) == hash {
 			found = p
 			return fs.SkipAll
 		}
@@ -434,8 +435,8 @@ func searchHash(dir, hash string) string {
 
 // readDesign reads the design. A file that is plainly not a design (a
 // trace may name any file) gives only its first errors, each cut short.
-func readDesign(path string) (*netfile.Design, error) {
-	d, err := netfile.ReadFile(path)
+func readDesign(files *load.Loader, path string) (*netfile.Design, error) {
+	d, err := files.Design(path)
 	if err == nil {
 		return d, nil
 	}
@@ -459,10 +460,6 @@ func pathText(p string) string {
 	}
 	return fmt.Sprintf("%q", diag.Printable(p))
 }
-
-// designExts are the extensions of the design files railyard reads
-// (README, "Designs"): .sw and the netlist forms.
-var designExts = []string{".sw", ".sp", ".spice", ".cir", ".cdl", ".net", ".ckt", ".v", ".vg"}
 
 // quoted finds the quoted words a reader's message copies from the file.
 var quoted = regexp.MustCompile(`"([^"]{20})[^"]*"`)

@@ -14,6 +14,7 @@ import (
 	"time"
 
 	"railyard/switchsim/diag"
+	"railyard/switchsim/load"
 	"railyard/switchsim/outfile"
 	"railyard/switchsim/session"
 )
@@ -191,8 +192,11 @@ func (w *Writer) header(path string) string {
 // trace (so that a project folder copied whole still replays), with
 // forward slashes; otherwise absolute; embedded names as they are.
 func relName(tracePath, file string) string {
-	if strings.HasPrefix(file, "demo:") {
+	if isDemo(file) {
 		return file
+	}
+	if tracePath == "" {
+		return filepath.ToSlash(file)
 	}
 	absFile, err1 := filepath.Abs(file)
 	absDir, err2 := filepath.Abs(filepath.Dir(tracePath))
@@ -251,25 +255,55 @@ func (w *Writer) Save(path string, keep ...outfile.Keep) (Saved, error) {
 		return Saved{}, &outfile.Error{Path: path, Msg: w.err.Error()}
 	}
 	keep = append(keep, Inputs(w.s)...)
-	err := outfile.Write(path, keep, func(out io.Writer) error {
-		if _, err := io.WriteString(out, w.header(path)); err != nil {
-			return err
-		}
-		if _, err := io.Copy(out, io.NewSectionReader(w.spool, 0, w.size)); err != nil {
-			return err
-		}
-		tail := "\n"
-		if w.skipped > 0 {
-			tail += fmt.Sprintf("# %s: the %d actions after these were not written\ncapped %d\n", diag.Printable(w.why), w.skipped, w.skipped)
-		}
-		tail += fmt.Sprintf("end %d\n", w.actions)
-		_, err := io.WriteString(out, tail)
-		return err
-	})
+	err := outfile.Write(path, keep, func(out io.Writer) error { return w.writeTo(out, path) })
 	if err != nil {
 		return Saved{}, err
 	}
-	return Saved{Path: path, Actions: w.actions, Skipped: w.skipped, Why: w.why}, nil
+	return w.saved(path), nil
+}
+
+// WriteTo writes the whole trace recorded so far to out, naming the design
+// and steps relative to the folder of at (the path the trace will have),
+// or as the session opened them when at is "". It is for a caller that
+// puts the file in place itself (a server's save folder); Save is the
+// checked, atomic way to a path.
+func (w *Writer) WriteTo(out io.Writer, at string) (Saved, error) {
+	w.mu.Lock()
+	defer w.mu.Unlock()
+	if w.err == nil {
+		if err := w.bw.Flush(); err != nil {
+			w.err = fmt.Errorf("keeping the trace: %v", unwrapPath(err))
+		}
+	}
+	if w.err != nil {
+		return Saved{}, w.err
+	}
+	if err := w.writeTo(out, at); err != nil {
+		return Saved{}, err
+	}
+	return w.saved(at), nil
+}
+
+func (w *Writer) saved(path string) Saved {
+	return Saved{Path: path, Actions: w.actions, Skipped: w.skipped, Why: w.why}
+}
+
+// writeTo writes the header, the spooled actions and the end (lock held,
+// spool flushed).
+func (w *Writer) writeTo(out io.Writer, at string) error {
+	if _, err := io.WriteString(out, w.header(at)); err != nil {
+		return err
+	}
+	if _, err := io.Copy(out, io.NewSectionReader(w.spool, 0, w.size)); err != nil {
+		return err
+	}
+	tail := "\n"
+	if w.skipped > 0 {
+		tail += fmt.Sprintf("# %s: the %d actions after these were not written\ncapped %d\n", diag.Printable(w.why), w.skipped, w.skipped)
+	}
+	tail += fmt.Sprintf("end %d\n", w.actions)
+	_, err := io.WriteString(out, tail)
+	return err
 }
 
 // Close releases the spool. The Writer records nothing more.
@@ -306,6 +340,16 @@ func Of(s *session.Session) *Writer {
 	return nil
 }
 
+// Write writes the trace of s (recorded by its Writer) to out, names as
+// for Writer.WriteTo.
+func Write(s *session.Session, out io.Writer, at string) (Saved, error) {
+	w := Of(s)
+	if w == nil {
+		return Saved{}, ErrNoTrace
+	}
+	return w.WriteTo(out, at)
+}
+
 // ErrNoTrace is returned by Save for a session that records no trace.
 var ErrNoTrace = errors.New("this session records no trace (it was opened without one)")
 
@@ -317,4 +361,10 @@ func Save(s *session.Session, path string, keep ...outfile.Keep) (Saved, error) 
 		return Saved{}, ErrNoTrace
 	}
 	return w.Save(path, keep...)
+}
+
+// isDemo reports whether a name is an embedded demo (load.CutDemo).
+func isDemo(name string) bool {
+	_, ok := load.CutDemo(name)
+	return ok
 }

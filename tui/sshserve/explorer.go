@@ -2,11 +2,11 @@ package sshserve
 
 import (
 	"path/filepath"
-	"strings"
 
 	tea "github.com/charmbracelet/bubbletea"
 
 	"railyard/designs"
+	"railyard/switchsim/load"
 	"railyard/switchsim/session"
 	"railyard/switchsim/trace"
 	"railyard/tui"
@@ -36,7 +36,11 @@ func (e explorer) SaveKeys() []string { return tui.DefaultKeyMap().Save.Keys() }
 
 // openExplorer opens a session on the resolved design and builds the explorer.
 func openExplorer(r ExplorerRequest) (tea.Model, error) {
-	s, err := session.Open(r.Design, r.Steps, session.Options{})
+	files := r.Files
+	if files == nil {
+		files = load.Host(load.Options{})
+	}
+	s, err := session.OpenFrom(files, r.Design, r.Steps, session.Options{})
 	if err != nil {
 		return nil, err
 	}
@@ -65,7 +69,7 @@ func openExplorer(r ExplorerRequest) (tea.Model, error) {
 // servedName is a served file's name relative to the designs folder (the
 // folder is flat: a name is a file in it), or demo:NAME as it is.
 func servedName(p string) string {
-	if strings.HasPrefix(p, "demo:") {
+	if isDemo(p) {
 		return p
 	}
 	return filepath.Base(p)
@@ -78,4 +82,10 @@ func demoNames() []string {
 		names = append(names, e.Name)
 	}
 	return names
+}
+
+// isDemo reports whether a name is an embedded demo (load.CutDemo).
+func isDemo(name string) bool {
+	_, ok := load.CutDemo(name)
+	return ok
 }
