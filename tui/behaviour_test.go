@@ -83,7 +83,7 @@ func TestSaveToTheOwnersPlace(t *testing.T) {
 		t.Fatalf("with Options.Save, s shows a path prompt:\n%s", v)
 	}
 	press(m, "enter")
-	if len(f.files) != 1 || f.kinds[0] != SaveTrace || !bytes.Contains(f.files[0], []byte("railyard-trace 1")) {
+	if len(f.files) != 1 || f.kinds[0] != SaveTrace || !bytes.Contains(f.files[0], []byte("railyard-trace 2")) {
 		t.Fatalf("enter did not hand the trace to the owner: %d files %v", len(f.files), f.kinds)
 	}
 	if !strings.Contains(m.Status(), "saved the trace (2 actions) as kept-1.trace") {
@@ -165,7 +165,7 @@ func TestSaveAsksBeforeReplacing(t *testing.T) {
 		t.Fatalf("n replaced the file: %q", b)
 	}
 	save("y")
-	if b, _ := os.ReadFile(path); !bytes.Contains(b, []byte("railyard-trace 1")) {
+	if b, _ := os.ReadFile(path); !bytes.Contains(b, []byte("railyard-trace 2")) {
 		t.Fatalf("y did not replace the file: %q", b)
 	}
 	press(m, "n")

@@ -167,6 +167,11 @@ func New(s *session.Session, width, height int, opt Options) *Model {
 	nl := s.Netlist()
 	m := &Model{sess: s, opt: opt, th: th, keys: DefaultKeyMap(), w: width, h: height, inspect: -1,
 		written: map[string]bool{}}
+	if trace.Of(s) == nil && s.Actions() == 1 {
+		// The save key needs the session's trace: record it from the start
+		// (an unnamed spool in the temporary folder) unless the caller does.
+		trace.Start(s, "", trace.Options{})
+	}
 	if opt.MinWidth == 0 {
 		m.opt.MinWidth = 80
 	}

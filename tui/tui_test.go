@@ -296,8 +296,8 @@ func TestSaveTraceAndVCD(t *testing.T) {
 	if err != nil {
 		t.Fatalf("trace not written: %v (status %q)", err, m.Status())
 	}
-	// the trace format's magic line and the two steps (session/trace.go)
-	if !bytes.Contains(b, []byte("railyard-trace 1")) || bytes.Count(b, []byte("\naction ")) != 3 {
+	// the trace format's magic line and the two steps (switchsim/trace)
+	if !bytes.Contains(b, []byte("railyard-trace 2")) || bytes.Count(b, []byte("\naction ")) != 3 {
 		t.Errorf("trace lacks the magic line or the start and two steps:\n%s", b)
 	}
 	vcd := filepath.Join(dir, "run.vcd")

@@ -154,10 +154,24 @@ func TestExplorerTraceIsSavedAndReplays(t *testing.T) {
 	if !strings.Contains(string(src), "\ndesign opsel.sw\n") {
 		t.Errorf("the trace does not name the design as opsel.sw:\n%s", src)
 	}
-	rep, err := trace.Replay(m[0], strings.NewReader(string(src)), trace.ReplayOptions{Designs: filepath.Join(ts.dir, "designs")})
+	// The designs folder copied to a designer's own machine (another
+	// folder), the trace moved there too: it replays with --designs.
+	elsewhere := t.TempDir()
+	copied := filepath.Join(elsewhere, "my-cells")
+	must(t, os.Mkdir(copied, 0o755))
+	ents, err := os.ReadDir(filepath.Join(ts.dir, "designs"))
 	must(t, err)
-	if !rep.Match() {
-		t.Errorf("the saved trace does not replay: %v", rep.Differences)
+	for _, e := range ents {
+		b, err := os.ReadFile(filepath.Join(ts.dir, "designs", e.Name()))
+		must(t, err)
+		must(t, os.WriteFile(filepath.Join(copied, e.Name()), b, 0o644))
+	}
+	moved := filepath.Join(elsewhere, "alice.trace")
+	must(t, os.WriteFile(moved, src, 0o644))
+	rep, err := trace.Replay(moved, strings.NewReader(string(src)), trace.ReplayOptions{Designs: copied})
+	must(t, err)
+	if !rep.Match() || rep.Design != filepath.Join(copied, "opsel.sw") {
+		t.Errorf("the saved trace does not replay from the copy: design %s, %v", rep.Design, rep.Differences)
 	}
 }
 
