@@ -173,6 +173,11 @@ func TestExplorerTraceIsSavedAndReplays(t *testing.T) {
 	if !rep.Match() || rep.Design != filepath.Join(copied, "opsel.sw") {
 		t.Errorf("the saved trace does not replay from the copy: design %s, %v", rep.Design, rep.Differences)
 	}
+	// End the session and let its last save finish before the test's
+	// folder is removed.
+	tm.send("q")
+	tm.exit()
+	ts.waitLog(t, "session end", map[string]any{"user": "alice"})
 }
 
 func TestExplorerRefusesBadDesignWithoutServerPaths(t *testing.T) {
