@@ -127,7 +127,7 @@ func (m *Model) header() string {
 		left += " " + t.Dim.Render(d)
 	}
 	var right []string
-	right = append(right, t.Dim.Render(m.sess.Opts.Mode.String()))
+	right = append(right, t.Dim.Render(m.sess.Options().Mode.String()))
 	if m.numSteps > 0 {
 		right = append(right, fmt.Sprintf("step %d/%d", m.nextStep, m.numSteps))
 	}
