@@ -773,7 +773,7 @@ func (f *flattener) resistor(e *elem, in *inst) {
 	case f.isRail(a):
 		dv.Kind, dv.A, dv.B = railPull(a == f.nb.Power), -1, b
 	case f.isRail(b):
-		dv.Kind, dv.A = railPull(b == f.nb.Power), -1
+		dv.Kind, dv.A, dv.B = railPull(b == f.nb.Power), -1, a
 	default:
 		dv.Kind, dv.Opts.Resistive = netbuild.Tran, true
 	}

@@ -652,9 +652,11 @@ func (p *parser) prim(m *module, kw tok) {
 	if p.peek().is("#") {
 		p.delay()
 	}
-	for {
+	for first := true; ; first = false {
 		it := proto
-		it.pos = p.peek().pos
+		if !first {
+			it.pos = p.peek().pos // an unnamed instance is named by where it starts
+		}
 		if q := p.peek(); q.kind == tIdent {
 			it.name = p.take()
 			if p.peek().is("[") {
