@@ -175,7 +175,9 @@ func WriteDeck(w io.Writer, nl *switchsim.Netlist, st *steps.Steps, opt DeckOpti
 	if opt.PMOSModel == "" {
 		p(".model %s pmos (level=1 vto=%s kp=%s gamma=%s phi=%s)", GenericPMOS, cardNumber(-t.Vtp), cardNumber(t.Kp), cardNumber(t.Gamma), cardNumber(t.Phi))
 	}
-	p("")
+	if opt.NMOSModel == "" || opt.PMOSModel == "" {
+		p("")
+	}
 	p("v%s %s 0 dc %s", pw, pw, cardNumber(t.Vdd))
 	p("xdut %s %s 0 %s", strings.Join(portNames, " "), pw, name)
 	p("")
@@ -347,7 +349,7 @@ func nodeRef(nl *switchsim.Netlist, n int) string {
 
 func writeMeasures(bw *bufio.Writer, nl *switchsim.Netlist, st *steps.Steps, opt DeckOptions) {
 	vil, vih, _ := nl.Tech.Thresholds()
-	fmt.Fprintf(bw, "* checks at the end of each step: railyard's logic thresholds are vil %s V and vih %s V\n", cardNumber(vil), cardNumber(vih))
+	fmt.Fprintf(bw, "* checks at the end of each step: railyard's logic thresholds are vil %.3f V and vih %.3f V\n", vil, vih)
 	for k, r := range st.Rows {
 		end := float64(k+1) * opt.Period
 		for c, n := range st.Check {
@@ -397,6 +399,11 @@ func measureName(s string) string {
 // format's own suffixes (meg for mega; the format reads M as milli).
 func cardNumber(v float64) string {
 	s := netfile.FormatNumber(v)
+	if len(s) > 12 { // a time like 3 x 10n, 30.000000000000004n: 12 digits are plenty
+		if r, err := strconv.ParseFloat(strconv.FormatFloat(v, 'g', 12, 64), 64); err == nil {
+			s = netfile.FormatNumber(r)
+		}
+	}
 	switch {
 	case strings.HasSuffix(s, "M"):
 		return s[:len(s)-1] + "meg"

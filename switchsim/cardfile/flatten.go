@@ -90,6 +90,13 @@ func newFlattener(file string, d *deck, opt Options, lim Limits, errs, notes *ne
 
 // run picks the top, expands it and builds the netlist.
 func (f *flattener) run() *switchsim.Netlist {
+	var stack []*subckt
+	for _, s := range f.d.order { // cycles anywhere are errors, whichever subcircuit is the top
+		f.walk(s, &stack, s.pos)
+	}
+	if f.errs.Any() {
+		return nil
+	}
 	top, ok := f.pickTop()
 	if !ok {
 		return nil

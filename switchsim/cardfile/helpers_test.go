@@ -2,6 +2,7 @@ package cardfile_test
 
 import (
 	"errors"
+	"fmt"
 	"strings"
 	"testing"
 	"testing/fstest"
@@ -95,3 +96,5 @@ func (s *sim) node(name string) sw.NodeState {
 }
 
 var modes = []sw.Mode{sw.Ideal, sw.Physical}
+
+func sprintf(f string, a ...any) string { return fmt.Sprintf(f, a...) }

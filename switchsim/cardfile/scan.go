@@ -85,7 +85,7 @@ func (s *scanner) file(name string, src []byte, top bool) {
 		s.finish(name, c)
 	}
 	num := 0
-	for len(src) > 0 && !s.errs.Full() {
+	for len(src) > 0 {
 		num++
 		end := 0
 		for end < len(src) && src[end] != '\n' {
