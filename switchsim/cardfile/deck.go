@@ -81,13 +81,13 @@ func WriteDeck(w io.Writer, nl *switchsim.Netlist, st *steps.Steps, opt DeckOpti
 	if pm == "" {
 		pm = GenericPMOS
 	}
-	pw, gn := nl.NodeName(nl.Power()), nl.NodeName(nl.Ground())
+	pw, gn := cardName(nl, nl.Power()), cardName(nl, nl.Ground())
 	var ports []int
 	ports = append(ports, nl.Inputs()...)
 	ports = append(ports, nl.Outputs()...)
 	bw := bufio.NewWriter(w)
 	p := func(format string, a ...any) { fmt.Fprintf(bw, format+"\n", a...) }
-	p("* railyard testbench for %s: %d steps of %s, edges of %s", name, len(st.Rows), cardNumber(opt.Period), cardNumber(opt.Edge))
+	p("* railyard testbench for %s: %d steps of %s, edges of %s", name, len(st.Rows), cardRounded(opt.Period), cardRounded(opt.Edge))
 	if opt.Source != "" {
 		p("* from %s", opt.Source)
 	}
@@ -96,20 +96,27 @@ func WriteDeck(w io.Writer, nl *switchsim.Netlist, st *steps.Steps, opt DeckOpti
 	var portNames []string
 	var pin []string
 	for i, n := range ports {
-		portNames = append(portNames, nl.NodeName(n))
+		portNames = append(portNames, cardName(nl, n))
 		dir := "i"
 		if i >= len(nl.Inputs()) {
 			dir = "o"
 		}
-		pin = append(pin, nl.NodeName(n)+":"+dir)
+		pin = append(pin, cardName(nl, n)+":"+dir)
 	}
 	p(".subckt %s %s %s %s", name, strings.Join(portNames, " "), pw, gn)
 	p("*.pininfo %s %s:p %s:g", strings.Join(pin, " "), pw, gn)
+	elems := map[string]bool{}
+	var clash error
 	devName := func(letter byte, s string) string {
-		if s != "" && s[0]|0x20 == letter {
-			return s
+		if s == "" || s[0]|0x20 != letter {
+			s = string(letter) + s
 		}
-		return string(letter) + s
+		if l := strings.ToLower(s); elems[l] && clash == nil {
+			clash = fmt.Errorf("two devices are both %s in the card format, which does not tell case apart", s)
+		} else {
+			elems[l] = true
+		}
+		return s
 	}
 	for d := 0; d < nl.NumDevices(); d++ {
 		dv := nl.Device(d)
@@ -123,22 +130,21 @@ func WriteDeck(w io.Writer, nl *switchsim.Netlist, st *steps.Steps, opt DeckOpti
 			if dv.Strength < switchsim.Strong && dv.W == w0 && dv.L == t.L {
 				if r := t.DefaultResistance(dv.Strength); r > rsq*l/dv.W {
 					l = r * dv.W / rsq
-					p("* %s is %s in railyard: lengthened to its default resistance of %s ohm", dv.Name, dv.Strength, cardNumber(r))
+					p("* %s is %s in railyard: lengthened to its default resistance of %s ohm", dv.Name, dv.Strength, cardRounded(r))
 				}
 			}
 			if dv.Resistive {
 				p("* %s is resistive in railyard (IEEE 1364-2005 §7.12): a plain transistor here", dv.Name)
 			}
-			p("%s %s %s %s %s %s w=%s l=%s", devName('m', dv.Name), nl.NodeName(dv.A), nl.NodeName(dv.Gate), nl.NodeName(dv.B), bulk, model,
-				cardNumber(dv.W), cardNumber(l))
+			p("%s %s %s %s %s %s w=%s l=%s", devName('m', devCardName(nl, d)), cardName(nl, dv.A), cardName(nl, dv.Gate), cardName(nl, dv.B), bulk, model,
+				cardNumber(dv.W), cardRounded(l))
 		default:
 			r := dv.Ohms
 			if r == 0 {
 				r = t.DefaultResistance(dv.Strength)
 				p("* %s is a %s of strength %s in railyard: its default resistance", dv.Name, dv.Kind, dv.Strength)
 			}
-			a := nl.NodeName(dv.A)
-			p("%s %s %s %s", devName('r', dv.Name), a, nl.NodeName(dv.B), cardNumber(r))
+			p("%s %s %s %s", devName('r', devCardName(nl, d)), cardName(nl, dv.A), cardName(nl, dv.B), cardRounded(r))
 		}
 	}
 	var given, dflt []int
@@ -156,13 +162,16 @@ func WriteDeck(w io.Writer, nl *switchsim.Netlist, st *steps.Steps, opt DeckOpti
 		p("* node capacitances the design gives")
 	}
 	for _, n := range given {
-		p("cn_%s %s %s %s", nl.NodeName(n), nl.NodeName(n), gn, cardNumber(nl.NodeCap(n)))
+		p("cn_%s %s %s %s", cardName(nl, n), cardName(nl, n), gn, cardNumber(nl.NodeCap(n)))
 	}
 	if len(dflt) > 0 {
 		p("* railyard's default node capacitance (cnode) on the other nodes: delete those your device models account for")
 	}
 	for _, n := range dflt {
-		p("cn_%s %s %s %s", nl.NodeName(n), nl.NodeName(n), gn, cardNumber(nl.NodeCap(n)))
+		p("cn_%s %s %s %s", cardName(nl, n), cardName(nl, n), gn, cardNumber(nl.NodeCap(n)))
+	}
+	if clash != nil {
+		return clash
 	}
 	p(".ends %s", name)
 	p("")
@@ -186,7 +195,7 @@ func WriteDeck(w io.Writer, nl *switchsim.Netlist, st *steps.Steps, opt DeckOpti
 	}
 	writeInitial(bw, nl, st, opt)
 	stop := float64(len(st.Rows)) * opt.Period
-	p(".tran %s %s", cardNumber(math.Min(opt.Edge/4, opt.Period/50)), cardNumber(stop))
+	p(".tran %s %s", cardRounded(math.Min(opt.Edge/4, opt.Period/50)), cardRounded(stop))
 	writeMeasures(bw, nl, st, opt)
 	p(".end")
 	return bw.Flush()
@@ -202,7 +211,7 @@ func touched(nl *switchsim.Netlist, n int) bool {
 func caseClashes(nl *switchsim.Netlist) error {
 	seen := map[string]string{}
 	for n := 0; n < nl.NumNodes(); n++ {
-		s := nl.NodeName(n)
+		s := cardName(nl, n)
 		l := strings.ToLower(s)
 		if prev, ok := seen[l]; ok && prev != s {
 			return fmt.Errorf("nodes %s and %s differ only in case, which the card format does not tell apart", prev, s)
@@ -232,9 +241,9 @@ func writeSources(bw *bufio.Writer, nl *switchsim.Netlist, st *steps.Steps, opt 
 	for c, n := range st.Apply {
 		col[n] = c
 	}
-	fmt.Fprintf(bw, "* inputs: step k holds from (k-1) x %s to k x %s; x is half the supply\n", cardNumber(opt.Period), cardNumber(opt.Period))
+	fmt.Fprintf(bw, "* inputs: step k holds from (k-1) x %s to k x %s; x is half the supply\n", cardRounded(opt.Period), cardRounded(opt.Period))
 	for _, in := range nl.Inputs() {
-		name := nl.NodeName(in)
+		name := cardName(nl, in)
 		c, applied := col[in]
 		drives := make([]switchsim.Drive, len(st.Rows))
 		released := false
@@ -285,7 +294,7 @@ func pwl(drives []switchsim.Drive, opt DeckOptions, volts func(switchsim.Drive, 
 			continue
 		}
 		t0 := float64(k) * opt.Period
-		pts = append(pts, cardNumber(t0)+" "+cardNumber(last), cardNumber(t0+opt.Edge)+" "+cardNumber(v))
+		pts = append(pts, cardRounded(t0)+" "+cardNumber(last), cardRounded(t0+opt.Edge)+" "+cardNumber(v))
 		last = v
 	}
 	return strings.Join(pts, " ")
@@ -337,14 +346,48 @@ func applyRow(s *switchsim.Sim, st *steps.Steps, k int) {
 // own name, an inner node through the instance.
 func nodeRef(nl *switchsim.Netlist, n int) string {
 	if nl.NodeKind(n) == switchsim.Input {
-		return nl.NodeName(n)
+		return cardName(nl, n)
 	}
 	for _, o := range nl.Outputs() {
 		if o == n {
-			return nl.NodeName(n)
+			return cardName(nl, n)
 		}
 	}
-	return "xdut." + nl.NodeName(n)
+	return "xdut." + cardName(nl, n)
+}
+
+// cardName is how the deck spells node n: the spelling the design came
+// with (a netlist's own a_193_47#), so that reading the deck back gives
+// the same railyard names, or the railyard name where that spelling is no
+// word of the card format.
+func cardName(nl *switchsim.Netlist, n int) string {
+	if o := nl.DisplayName(n); cardWord(o) {
+		return o
+	}
+	return nl.NodeName(n)
+}
+
+func devCardName(nl *switchsim.Netlist, d int) string {
+	if o := nl.DeviceDisplayName(d); cardWord(o) {
+		return o
+	}
+	return nl.Device(d).Name
+}
+
+// cardWord reports whether s reads back as one name where a node or a
+// device's name stands (never first on a line): no space, none of the
+// characters the scanner splits words at, not 0 (ground) or a lone $ (a
+// comment).
+func cardWord(s string) bool {
+	if s == "" || s == "0" || s == "$" {
+		return false
+	}
+	for i := 0; i < len(s); i++ {
+		if c := s[i]; c <= ' ' || c == 0x7f || strings.IndexByte("=(),{}'\";", c) >= 0 {
+			return false
+		}
+	}
+	return true
 }
 
 func writeMeasures(bw *bufio.Writer, nl *switchsim.Netlist, st *steps.Steps, opt DeckOptions) {
@@ -361,8 +404,8 @@ func writeMeasures(bw *bufio.Writer, nl *switchsim.Netlist, st *steps.Steps, opt
 			if r.Label != "" {
 				label = " " + strconv.Quote(r.Label)
 			}
-			fmt.Fprintf(bw, "* step %d%s: railyard wants %s %s\n", k+1, label, nl.NodeName(n), wantWords(want))
-			fmt.Fprintf(bw, ".measure tran s%d_%s find v(%s) at=%s\n", k+1, measureName(nl.NodeName(n)), nodeRef(nl, n), cardNumber(end))
+			fmt.Fprintf(bw, "* step %d%s: railyard wants %s %s\n", k+1, label, cardName(nl, n), wantWords(want))
+			fmt.Fprintf(bw, ".measure tran s%d_%s find v(%s) at=%s\n", k+1, measureName(cardName(nl, n)), nodeRef(nl, n), cardRounded(end))
 		}
 	}
 }
@@ -395,15 +438,21 @@ func measureName(s string) string {
 	return string(b)
 }
 
+// cardRounded prints a computed value (a time, a default resistance, a
+// lengthened gate): 3 x 10n is 30n, not 30.000000000000004n; 12 digits
+// are plenty. Sizes and capacitances from the design are written exactly.
+func cardRounded(v float64) string {
+	if r, err := strconv.ParseFloat(strconv.FormatFloat(v, 'g', 12, 64), 64); err == nil {
+		v = r
+	}
+	return cardNumber(v)
+}
+
 // cardNumber prints v for the card format: engineering notation with the
 // format's own suffixes (meg for mega; the format reads M as milli).
 func cardNumber(v float64) string {
 	s := netfile.FormatNumber(v)
-	if len(s) > 12 { // a time like 3 x 10n, 30.000000000000004n: 12 digits are plenty
-		if r, err := strconv.ParseFloat(strconv.FormatFloat(v, 'g', 12, 64), 64); err == nil {
-			s = netfile.FormatNumber(r)
-		}
-	}
+
 	switch {
 	case strings.HasSuffix(s, "M"):
 		return s[:len(s)-1] + "meg"

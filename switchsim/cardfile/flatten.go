@@ -826,6 +826,7 @@ func (f *flattener) ports(top *subckt, in *inst) {
 	}
 	for _, t := range top.ports {
 		delete(given, strings.ToLower(t.text))
+		delete(given, strings.ToLower(netbuild.Escape(strings.ToLower(t.text))))
 	}
 	for n := range given {
 		f.errs.Add(top.pos, "--inputs names %s, which is not a signal port of subcircuit %s", n, top.name)
@@ -845,8 +846,8 @@ func (f *flattener) ports(top *subckt, in *inst) {
 	for _, p := range sig {
 		l := strings.ToLower(p.t.text)
 		isIn := false
-		for _, n := range f.opt.Inputs {
-			isIn = isIn || strings.EqualFold(n, l)
+		for _, n := range f.opt.Inputs { // the netlist's spelling, or the railyard name
+			isIn = isIn || strings.EqualFold(n, l) || n == netbuild.Escape(l)
 		}
 		switch {
 		case isIn || top.pininfo[l] == 'i':

@@ -2,18 +2,18 @@
 * from t.sp, latch.steps
 * railyard's results are first-order switch-level estimates: this deck is for confirming them
 
-.subckt tlatch d clk q vdd gnd
-*.pininfo d:i clk:i q:o vdd:p gnd:g
-mxinv0.mn clkb clk gnd gnd nfet_l1 w=360n l=180n
-mxinv0.mp clkb clk vdd vdd pfet_l1 w=720n l=180n
-mn1 d clk s gnd nfet_l1 w=360n l=180n
-mp1 d clkb s vdd pfet_l1 w=720n l=180n
-mxinv1.mn qb s gnd gnd nfet_l1 w=360n l=180n
-mxinv1.mp qb s vdd vdd pfet_l1 w=720n l=180n
-mxinv2.mn q qb gnd gnd nfet_l1 w=360n l=180n
-mxinv2.mp q qb vdd vdd pfet_l1 w=720n l=180n
-mn2 q clkb s gnd nfet_l1 w=360n l=180n
-mp2 q clk s vdd pfet_l1 w=720n l=180n
+.subckt tlatch d clk q VDD gnd
+*.pininfo d:i clk:i q:o VDD:p gnd:g
+mXinv0.MN clkb clk gnd gnd nfet_l1 w=360n l=180n
+mXinv0.MP clkb clk VDD VDD pfet_l1 w=720n l=180n
+MN1 d clk s gnd nfet_l1 w=360n l=180n
+MP1 d clkb s VDD pfet_l1 w=720n l=180n
+mXinv1.MN qb s gnd gnd nfet_l1 w=360n l=180n
+mXinv1.MP qb s VDD VDD pfet_l1 w=720n l=180n
+mXinv2.MN q qb gnd gnd nfet_l1 w=360n l=180n
+mXinv2.MP q qb VDD VDD pfet_l1 w=720n l=180n
+MN2 q clkb s gnd nfet_l1 w=360n l=180n
+MP2 q clk s VDD pfet_l1 w=720n l=180n
 * railyard's default node capacitance (cnode) on the other nodes: delete those your device models account for
 cn_d d gnd 5f
 cn_clk clk gnd 5f
@@ -27,8 +27,8 @@ cn_qb qb gnd 5f
 .model nfet_l1 nmos (level=1 vto=450m kp=170u gamma=400m phi=700m)
 .model pfet_l1 pmos (level=1 vto=-450m kp=60u gamma=400m phi=700m)
 
-vvdd vdd 0 dc 1.8
-xdut d clk q vdd 0 tlatch
+vVDD VDD 0 dc 1.8
+xdut d clk q VDD 0 tlatch
 
 * inputs: step k holds from (k-1) x 10n to k x 10n; x is half the supply
 vd d_drv 0 pwl(0 0 10n 0 10.1n 1.8 30n 1.8 30.1n 0)

@@ -15,8 +15,10 @@ import (
 // Letters, digits, _ . [ and ] are kept; < and > become [ and ] (bus bits:
 // net<3> is net[3]); / becomes . (a flattened path: X1/MN3 is X1.MN3);
 // every other byte b becomes X followed by b in two upper-case hex digits
-// (a_193_47# is a_193_47X23, vdd! is vddX21); a component that would not
-// start with a letter or _ gets a leading N (node 12 is N12). The card
+// (a_193_47# is a_193_47X23, vdd! is vddX21); a name, and every part of
+// it after a dot, that would not start with a letter or _ gets a leading N
+// (node 12 is N12, x1.00 is x1.N00, as the inner node 00 of instance x1
+// is named), and a name ending in a dot gets a trailing N. The card
 // reader folds names to lower case first, so the upper-case X, N and
 // hex digits never stand for themselves there and the escape reads back
 // unambiguously; where two names still meet (net<3> beside net[3]), Namer
@@ -25,9 +27,9 @@ import (
 func Escape(s string) string {
 	clean := s != ""
 	for i := 0; i < len(s) && clean; i++ {
-		clean = keep(s[i]) && (i > 0 || startOK(s[0]))
+		clean = keep(s[i]) && ((i > 0 && s[i-1] != '.') || startOK(s[i]))
 	}
-	if clean {
+	if clean && s[len(s)-1] != '.' {
 		return s
 	}
 	var b strings.Builder
@@ -48,15 +50,16 @@ func Escape(s string) string {
 			b.WriteByte(hexDigit[c&15])
 			continue
 		}
-		if b.Len() == 0 && !startOK(c) {
-			b.WriteByte('N')
+		if (b.Len() == 0 || b.String()[b.Len()-1] == '.') && !startOK(c) {
+			b.WriteByte('N') // every component starts with a letter: a flat x1.00 names what x1's 00 does
 		}
 		b.WriteByte(c)
 	}
-	if b.Len() == 0 {
-		return "N"
+	out := b.String()
+	if out == "" || out[len(out)-1] == '.' {
+		out += "N"
 	}
-	return b.String()
+	return out
 }
 
 const hexDigit = "0123456789ABCDEF"
