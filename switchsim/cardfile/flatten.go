@@ -396,14 +396,14 @@ func (f *flattener) node(t tok, in *inst) int32 {
 		if !f.powerSeen {
 			f.powerSeen = true
 			n := &f.nb.Nodes[f.nb.Power]
-			n.Want, n.Orig, n.Pos = netbuild.RailWant(t.text, true), t.text, t.pos
+			n.Want, n.Orig, n.Pos = netbuild.RailWant(t.text, true, true), t.text, t.pos
 		}
 		return f.nb.Power
 	case -1:
 		if !f.groundSeen && l != "0" {
 			f.groundSeen = true
 			n := &f.nb.Nodes[f.nb.Ground]
-			n.Want, n.Orig, n.Pos = netbuild.RailWant(t.text, false), t.text, t.pos
+			n.Want, n.Orig, n.Pos = netbuild.RailWant(t.text, false, true), t.text, t.pos
 		}
 		return f.nb.Ground
 	}
@@ -1027,7 +1027,6 @@ func (f *flattener) tech() {
 		return
 	}
 	if len(from) > 0 {
-		t.Name = "netlist"
 		f.notes.Add(firstPos(nm, pm), "technology from model %s: vtn %.3g V, vtp %.3g V, kn %.3g A/V^2, kp %.3g A/V^2, gamma %.3g, phi %.3g V",
 			strings.Join(from, " and "), t.Vtn, t.Vtp, t.Kn, t.Kp, t.Gamma, t.Phi)
 	}

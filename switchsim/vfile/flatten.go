@@ -40,12 +40,17 @@ func newFlattener(file string, p *parser, opt Options, lim Limits, errs, notes *
 }
 
 func (f *flattener) run() *switchsim.Netlist {
+	var stack []*module
+	for _, m := range f.p.order { // cycles anywhere are errors, whichever module is the top
+		f.walk(m, &stack, m.pos)
+	}
+	if f.errs.Any() {
+		return nil
+	}
 	top := f.pickTop()
 	if top == nil {
 		return nil
 	}
-	var stack []*module
-	f.walk(top, &stack, top.pos)
 	if top.devs > f.lim.Devices {
 		f.errs.Add(top.pos, "the design expands to more than the limit of %d devices", f.lim.Devices)
 	}
@@ -263,7 +268,7 @@ func (f *flattener) bit(r ref, n *net, b int, in *inst) int32 {
 		if !f.powerSeen {
 			f.powerSeen = true
 			nd := &f.nb.Nodes[f.nb.Power]
-			nd.Want, nd.Orig, nd.Pos = netbuild.RailWant(orig, true), orig, r.pos
+			nd.Want, nd.Orig, nd.Pos = netbuild.RailWant(orig, true, false), orig, r.pos
 		}
 		return f.nb.Power
 	case -1:
@@ -273,7 +278,7 @@ func (f *flattener) bit(r ref, n *net, b int, in *inst) int32 {
 		if !f.groundSeen {
 			f.groundSeen = true
 			nd := &f.nb.Nodes[f.nb.Ground]
-			nd.Want, nd.Orig, nd.Pos = netbuild.RailWant(orig, false), orig, r.pos
+			nd.Want, nd.Orig, nd.Pos = netbuild.RailWant(orig, false, false), orig, r.pos
 		}
 		return f.nb.Ground
 	}

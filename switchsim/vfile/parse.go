@@ -129,9 +129,24 @@ type parser struct {
 	delayNoted bool // a delay was seen: noted once
 }
 
-func (p *parser) peek() tok { return p.toks[p.i] }
+// peek is the next token; past the end it stays at the final tEOF.
+func (p *parser) peek() tok {
+	if p.i >= len(p.toks) {
+		p.i = len(p.toks) - 1
+	}
+	return p.toks[p.i]
+}
+
+// at is the token n ahead of the next (tEOF past the end).
+func (p *parser) at(n int) tok {
+	if p.i+n >= len(p.toks) {
+		return p.toks[len(p.toks)-1]
+	}
+	return p.toks[p.i+n]
+}
+
 func (p *parser) take() tok {
-	t := p.toks[p.i]
+	t := p.peek()
 	if t.kind != tEOF {
 		p.i++
 	}
@@ -177,6 +192,17 @@ func (p *parser) skipTo(s string) {
 			p.i--
 			return
 		}
+	}
+}
+
+// skipBefore moves up to the next s, endmodule or the end, leaving it.
+func (p *parser) skipBefore(s string) {
+	for {
+		t := p.peek()
+		if t.kind == tEOF || t.is(s) || t.kind == tIdent && t.text == "endmodule" {
+			return
+		}
+		p.i++
 	}
 }
 
@@ -363,8 +389,7 @@ func (p *parser) rangeOpt(r *[2]int) bool {
 	b, ok3 := p.intConst()
 	ok4 := p.expect("]", "after a range")
 	if !(ok1 && ok2 && ok3 && ok4) {
-		p.skipTo(";")
-		p.i--
+		p.skipBefore(";")
 		return false
 	}
 	if abs(a-b)+1 > p.lim.VectorBits {
@@ -467,7 +492,7 @@ func (p *parser) item(m *module) {
 			end := map[string]string{"function": "endfunction", "task": "endtask", "generate": "endgenerate", "fork": "join", "begin": "end"}[w]
 			for q := p.take(); q.kind != tEOF && !(q.kind == tIdent && (q.text == end || q.text == "endmodule")); q = p.take() {
 			}
-			if p.toks[p.i-1].text == "endmodule" {
+			if p.i > 0 && p.toks[p.i-1].text == "endmodule" {
 				p.i--
 			}
 			return
@@ -599,7 +624,7 @@ func (p *parser) strengthSpec(it *item, kw tok) bool {
 		return true
 	}
 	// A strength spec is ( strength-keyword ...; otherwise it is the terminal list.
-	if q := p.toks[p.i+1]; q.kind != tIdent || !isStrengthWord(q.text) {
+	if q := p.at(1); q.kind != tIdent || !isStrengthWord(q.text) {
 		return true
 	}
 	if kw.text != "pullup" && kw.text != "pulldown" {
@@ -614,8 +639,7 @@ func (p *parser) strengthSpec(it *item, kw tok) bool {
 		val := q.text[len(q.text)-1]
 		if q.kind != tIdent || !ok || (val != '0' && val != '1') {
 			p.errs.Add(q.pos, "expected a strength (supply strong pull weak, with 0 or 1: strong1), found %s", describe(q))
-			p.skipTo(";")
-			p.i--
+			p.skipBefore(";")
 			return false
 		}
 		if s == switchsim.HighZ {
@@ -626,8 +650,7 @@ func (p *parser) strengthSpec(it *item, kw tok) bool {
 			return true
 		}
 		if !p.expect(",", "between strengths") {
-			p.skipTo(";")
-			p.i--
+			p.skipBefore(";")
 			return false
 		}
 	}
@@ -739,7 +762,7 @@ func (p *parser) ref() ref {
 		return r
 	case t.kind != tIdent:
 		p.errs.Add(t.pos, "expected a net name, found %s", describe(t))
-		p.i++
+		p.take()
 		r.empty = true
 		return r
 	}
@@ -777,14 +800,17 @@ func (p *parser) instance(m *module, mod tok) {
 		p.skipTo(";")
 		return
 	}
-	for {
+	for first := true; ; first = false {
 		it := item{module: mod, pos: mod.pos}
 		name, ok := p.ident("an instance name")
 		if !ok {
 			p.skipTo(";")
 			return
 		}
-		it.name, it.pos = name, name.pos
+		it.name = name
+		if !first {
+			it.pos = name.pos
+		}
 		if p.peek().is("[") {
 			p.errs.Add(p.peek().pos, "arrays of instances are not supported: write one instance a bit")
 			p.skipTo(";")

@@ -46,10 +46,14 @@ func (r Rails) Kind(name string) int {
 	return 0
 }
 
-// RailWant is the railyard name a rail spelled s asks for: s escaped,
-// without the trailing ! that marks a global name, and gnd for node 0.
-func RailWant(s string, power bool) string {
-	s = strings.TrimSuffix(strings.ToLower(s), "!")
+// RailWant is the railyard name a rail spelled s asks for: s escaped
+// (folded to lower case where the format ignores case), without the
+// trailing ! that marks a global name, and gnd for node 0.
+func RailWant(s string, power, fold bool) string {
+	if fold {
+		s = strings.ToLower(s)
+	}
+	s = strings.TrimSuffix(s, "!")
 	if s == "" || s == "0" {
 		if power {
 			return "vdd"
