@@ -33,10 +33,10 @@ type Netlist struct {
 	devCap    []Strength
 	devW      []float64
 	devL      []float64
-	devByName []int32 // device numbers sorted by name
+	devByName []int32   // device numbers sorted by name
 	devResist []bool    // IEEE 1364-2005 §7.12 resistive devices; nil when there are none
 	devOhms   []float64 // resistances given in ohms (R cards); nil when none is
-	chanStart []int32 // CSR: devices whose channel touches node n are chanDev[chanStart[n]:chanStart[n+1]]
+	chanStart []int32   // CSR: devices whose channel touches node n are chanDev[chanStart[n]:chanStart[n+1]]
 	chanDev   []int32
 	gateStart []int32 // CSR: devices gated by node n
 	gateDev   []int32

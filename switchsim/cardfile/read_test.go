@@ -462,11 +462,11 @@ mpo z y vdd vdd pch
 // a cycle is an error; depth and count are bounded.
 func TestInclude(t *testing.T) {
 	files := fstest.MapFS{
-		"cells/top.sp":    {Data: []byte(".include 'lib/inv.sp'\n.include \"lib/models.sp\"\n.subckt top a y\nx1 a y inv\n.ends\n")},
-		"cells/lib/inv.sp": {Data: []byte(".subckt inv a y\nmn y a 0 0 nch\nmp y a vdd vdd pch\n.ends\n")},
+		"cells/top.sp":        {Data: []byte(".include 'lib/inv.sp'\n.include \"lib/models.sp\"\n.subckt top a y\nx1 a y inv\n.ends\n")},
+		"cells/lib/inv.sp":    {Data: []byte(".subckt inv a y\nmn y a 0 0 nch\nmp y a vdd vdd pch\n.ends\n")},
 		"cells/lib/models.sp": {Data: []byte(".model nch nmos vto=0.41\n.model pch pmos vto=-0.43\n")},
-		"loop/a.sp":       {Data: []byte(".include b.sp\n")},
-		"loop/b.sp":       {Data: []byte(".include a.sp\n")},
+		"loop/a.sp":           {Data: []byte(".include b.sp\n")},
+		"loop/b.sp":           {Data: []byte(".include a.sp\n")},
 	}
 	src, _ := files.ReadFile("cells/top.sp")
 	d, err := cardfile.Read("cells/top.sp", src, cardfile.Options{Open: mapOpener(files)})

@@ -15,11 +15,11 @@ func TestParseValueSuffixes(t *testing.T) {
 		{"10", 10}, {"-2.5", -2.5}, {"+.5", 0.5}, {"1e-6", 1e-6}, {"1.5E3", 1500},
 		{"1f", 1e-15}, {"1p", 1e-12}, {"1n", 1e-9}, {"1u", 1e-6}, {"1m", 1e-3}, {"1k", 1e3}, {"1g", 1e9}, {"1t", 1e12},
 		{"1F", 1e-15}, {"1P", 1e-12}, {"1N", 1e-9}, {"1U", 1e-6}, {"1K", 1e3}, {"1G", 1e9}, {"1T", 1e12},
-		{"1M", 1e-3},                               // M is milli, not mega (common practice)
+		{"1M", 1e-3},                                // M is milli, not mega (common practice)
 		{"1meg", 1e6}, {"1MEG", 1e6}, {"1Meg", 1e6}, // meg is mega
 		{"10fF", 10e-15}, {"0.18um", 0.18e-6}, {"1.8V", 1.8}, {"5kOhm", 5e3}, {"2megohm", 2e6},
-		{"3v", 3},     // a letter that is no suffix is a unit
-		{"1e-3k", 1},  // exponent and suffix together
+		{"3v", 3},    // a letter that is no suffix is a unit
+		{"1e-3k", 1}, // exponent and suffix together
 		{"0.18u", 0.18e-6},
 	}
 	for _, c := range cases {

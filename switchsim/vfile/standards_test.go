@@ -74,9 +74,9 @@ func TestStrengthReductionRows(t *testing.T) {
 		want      sw.Strength
 		wantX     bool // a's 1 reduced to small meets b's own small 0: X
 	}{
-		{"supply drive -> pull drive", "  rtran l (vdd, b);\n  nmos ua (a, ina, ena);\n", false, sw.Pull, false},                    // §7.12
+		{"supply drive -> pull drive", "  rtran l (vdd, b);\n  nmos ua (a, ina, ena);\n", false, sw.Pull, false},                         // §7.12
 		{"strong drive -> pull drive", "  nmos na (a, vdd, ena);\n  rtran l (a, b);\n  nmos ua (x, ina, ena);\n", false, sw.Pull, false}, // §7.12
-		{"pull drive -> weak drive", "  pullup (pull1) pa (a);\n  rtran l (a, b);\n  nmos ua (x, ina, ena);\n", false, sw.Weak, false},    // §7.12
+		{"pull drive -> weak drive", "  pullup (pull1) pa (a);\n  rtran l (a, b);\n  nmos ua (x, ina, ena);\n", false, sw.Weak, false},   // §7.12
 		{"weak drive -> medium capacitor", "  pullup (weak1) pa (a);\n  rtran l (a, b);\n  nmos ua (x, ina, ena);\n", false, sw.Medium, false},
 		{"large capacitor -> medium capacitor", "  trireg (large) a;\n  nmos wa (a, ina, ena);\n  rtran l (a, b);\n", true, sw.Medium, false},
 		{"medium capacitor -> small capacitor", "  trireg (medium) a;\n  nmos wa (a, ina, ena);\n  rtran l (a, b);\n", true, sw.Small, true},
