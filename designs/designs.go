@@ -11,7 +11,7 @@ import (
 	"strings"
 )
 
-//go:embed *.sw *.steps
+//go:embed *.sw *.steps *.sp *.v
 var files embed.FS
 
 // Default is the demo railyard opens when it is given none: the static latch.

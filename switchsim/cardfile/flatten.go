@@ -122,6 +122,9 @@ func (f *flattener) run() *switchsim.Netlist {
 		f.scope(top.body.elems, in)
 	} else {
 		f.scope(f.d.top.elems, in)
+		for _, c := range f.d.skipped {
+			f.notes.Add(c.pos, "skipped: %s card (an analysis or control card)", c.head())
+		}
 	}
 	f.nb.Name = netbuild.Escape(strings.ToLower(name))
 	f.nb.Desc = f.d.title

@@ -213,6 +213,8 @@ func parse(cards []card, errs, notes *netbuild.Sink) *deck {
 				notes.Add(c.pos, "skipped: options %s (only scale= means anything here)", strings.Join(other, " "))
 			}
 		case ".end":
+		case ".lib":
+			notes.Add(c.pos, "skipped: .lib %s (library references are not read; give the models with .model cards or --nmos-models/--pmos-models)", arg(c, 1))
 		case ".endc", ".endl":
 			notes.Add(c.pos, "%s with no block to close: ignored", h)
 		default:

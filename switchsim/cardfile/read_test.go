@@ -412,8 +412,13 @@ func TestTopChoice(t *testing.T) {
 	if msg := readErr(t, lib, cardfile.Options{Top: "c"}); !strings.Contains(msg, `no subcircuit named "c" (this deck defines: a, b)`) {
 		t.Errorf("--top c: %s", msg)
 	}
-	d := read(t, "* flat deck\nm1 y a 0 0 nch\nm2 y a vdd vdd pch\nva a 0 dc 0\n", cardfile.Options{})
+	d := read(t, "* flat deck\nm1 y a 0 0 nch\nm2 y a vdd vdd pch\nva a 0 dc 0\n.tran 1n 10n\n.lib 'models.lib' tt\n", cardfile.Options{})
 	nl := d.Netlist
+	for _, want := range []string{"t.sp:5:1: skipped: .tran card", "t.sp:6:1: skipped: .lib models.lib", "t.sp:4:1: skipped: V va (a voltage source)"} {
+		if !strings.Contains(notes(d), want) {
+			t.Errorf("notes lack %q:\n%s", want, notes(d))
+		}
+	}
 	if len(nl.Inputs()) != 1 || nl.NodeName(nl.Inputs()[0]) != "a" {
 		t.Errorf("flat deck: inputs %v, want a (driven by va)", nl.Inputs())
 	}
