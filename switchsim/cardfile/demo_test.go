@@ -2,32 +2,12 @@ package cardfile_test
 
 import (
 	"os"
+	"railyard/switchsim/internal/simtest"
 	"testing"
 
-	sw "railyard/switchsim"
 	"railyard/switchsim/cardfile"
 	"railyard/switchsim/steps"
 )
-
-// runSteps settles every row of st and returns the failed checks.
-func runSteps(t *testing.T, nl *sw.Netlist, st *steps.Steps, mode sw.Mode) []string {
-	t.Helper()
-	s := sw.NewSim(nl, sw.Options{Mode: mode})
-	s.Settle()
-	var fails []string
-	for _, row := range st.Rows {
-		for i, n := range st.Apply {
-			s.SetInput(n, row.Drives[i])
-		}
-		s.Settle()
-		for i, n := range st.Check {
-			if got := s.Node(n); !row.Wants[i].Check(got, false) {
-				fails = append(fails, sprintf("line %d: %s want %s, got %s (%s)", row.Line, nl.NodeName(n), row.Wants[i], got.State, row.Label))
-			}
-		}
-	}
-	return fails
-}
 
 // The embedded netlist demo reads and its steps pass in both modes (the
 // checks were worked out by hand from the circuit: common practice), with
@@ -53,7 +33,7 @@ func TestDemoOpselLatch(t *testing.T) {
 		t.Errorf("%d devices, description %q", d.Netlist.NumDevices(), d.Desc)
 	}
 	for _, mode := range modes {
-		for _, f := range runSteps(t, d.Netlist, st, mode) {
+		for _, f := range simtest.RunSteps(d.Netlist, st, mode, false) {
 			t.Errorf("%s: %s", mode, f)
 		}
 	}

@@ -2,6 +2,7 @@ package cardfile_test
 
 import (
 	"fmt"
+	"railyard/switchsim/internal/simtest"
 	"strings"
 	"testing"
 
@@ -101,13 +102,13 @@ func TestExtractedSelector(t *testing.T) {
 		}
 		// And it selects, in both modes.
 		for _, mode := range modes {
-			s := newSim(t, nl, mode)
+			s := simtest.New(t, nl, mode)
 			for _, st := range []struct {
 				apply string
 				opnd  sw.State
 			}{{"SEL=0 REG=1 IMM=0", sw.State0}, {"SEL=0 REG=0 IMM=1", sw.State1}, {"SEL=1 REG=0 IMM=1", sw.State0}, {"SEL=1 REG=1 IMM=0", sw.State1}} {
-				s.apply(st.apply)
-				if got := s.node("OPND").State; got != st.opnd {
+				s.Apply(st.apply)
+				if got := s.Node("OPND").State; got != st.opnd {
 					t.Errorf("%s, %s, %s: OPND %s, want %s (an inverting selector)", c.name, mode, st.apply, got, st.opnd)
 				}
 			}
@@ -132,9 +133,9 @@ func TestExtractedChain(t *testing.T) {
 	}
 	b.WriteString(".ends\n")
 	d := read(t, b.String(), cardfile.Options{Inputs: []string{"in"}})
-	s := newSim(t, d.Netlist, sw.Ideal)
-	s.apply("in=1")
-	if got := s.node("out").State; got != sw.State1 {
+	s := simtest.New(t, d.Netlist, sw.Ideal)
+	s.Apply("in=1")
+	if got := s.Node("out").State; got != sw.State1 {
 		t.Errorf("out %s after an even number of inverters, want 1", got)
 	}
 }

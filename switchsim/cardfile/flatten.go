@@ -22,6 +22,7 @@ type flattener struct {
 	errs, notes *netbuild.Sink
 	rails       netbuild.Rails
 	nb          *netbuild.Design
+	tree        *netbuild.Tree[*subckt]
 	global      *env
 	powerSeen   bool
 	groundSeen  bool
@@ -76,6 +77,16 @@ func newFlattener(file string, d *deck, opt Options, lim Limits, errs, notes *ne
 	}
 	f.rails.AddGround("0") // node 0 is ground in the card format, whatever --ground says
 	f.nb = netbuild.NewDesign(netbuild.Node{Want: "vdd"}, netbuild.Node{Want: "gnd"})
+	f.tree = &netbuild.Tree[*subckt]{What: "subcircuit", Name: func(s *subckt) string { return s.name },
+		Depth: lim.Depth, Max: netbuild.Size{lim.Devices, lim.Elements}, Errs: errs,
+		Body: func(s *subckt, use func(*subckt, diag.Pos)) netbuild.Size {
+			var own netbuild.Size
+			for _, e := range s.body.elems {
+				sz := f.elemSize(e, use)
+				own[0], own[1] = own[0]+sz[0], own[1]+sz[1]
+			}
+			return own
+		}}
 	f.global = &env{vars: map[string]*pval{}}
 	for i := range d.top.params {
 		p := &d.top.params[i]
@@ -90,9 +101,8 @@ func newFlattener(file string, d *deck, opt Options, lim Limits, errs, notes *ne
 
 // run picks the top, expands it and builds the netlist.
 func (f *flattener) run() *switchsim.Netlist {
-	var stack []*subckt
 	for _, s := range f.d.order { // cycles anywhere are errors, whichever subcircuit is the top
-		f.walk(s, &stack, s.pos)
+		f.tree.Measure(s, s.pos)
 	}
 	if f.errs.Any() {
 		return nil
@@ -184,96 +194,60 @@ func (f *flattener) pickTop() (*subckt, bool) {
 }
 
 func (f *flattener) subList(list []*subckt) string {
-	var names []string
+	names := make([]string, len(list))
 	for i, s := range list {
-		if i == 12 {
-			names = append(names, fmt.Sprintf("and %d more", len(list)-12))
-			break
-		}
-		names = append(names, s.name)
+		names[i] = s.name
 	}
-	if len(names) == 0 {
-		return "none"
-	}
-	return strings.Join(names, ", ")
+	return netbuild.List(names)
 }
 
 // measure walks the instance tree from the top: cycles, depth and the
 // expanded size are errors before anything is expanded.
 func (f *flattener) measure(top *subckt) {
-	var stack []*subckt
 	if top != nil {
-		f.walk(top, &stack, top.pos)
-		f.sizeCheck(top.devs, top.elems, top.pos)
+		sz := f.tree.Measure(top, top.pos)
+		f.sizeCheck(sz, top.pos)
 		return
 	}
-	devs, elems := 0, 0
+	var sz netbuild.Size
 	for _, e := range f.d.top.elems {
-		dv, el := f.count(e, &stack)
-		devs, elems = min(devs+dv, f.lim.Devices+1), min(elems+el, f.lim.Elements+1)
+		own := f.elemSize(e, func(c *subckt, at diag.Pos) {
+			cs := f.tree.Measure(c, at)
+			sz[0], sz[1] = sz[0]+cs[0], sz[1]+cs[1]
+		})
+		sz[0], sz[1] = min(sz[0]+own[0], f.lim.Devices+1), min(sz[1]+own[1], f.lim.Elements+1)
 	}
-	f.sizeCheck(devs, elems, diag.Pos{File: f.file})
+	f.sizeCheck(sz, diag.Pos{File: f.file})
 }
 
-func (f *flattener) sizeCheck(devs, elems int, at diag.Pos) {
+func (f *flattener) sizeCheck(sz netbuild.Size, at diag.Pos) {
 	switch {
-	case devs > f.lim.Devices:
+	case sz[0] > f.lim.Devices:
 		f.errs.Add(at, "the design expands to more than the limit of %d devices", f.lim.Devices)
-	case elems > f.lim.Elements:
+	case sz[1] > f.lim.Elements:
 		f.errs.Add(at, "the design expands to more than the limit of %d elements", f.lim.Elements)
 	}
 }
 
-// count is one element's devices and elements once expanded.
-func (f *flattener) count(e elem, stack *[]*subckt) (devs, elems int) {
+// elemSize is one element's own devices and elements; an instance of a
+// subcircuit goes to use instead.
+func (f *flattener) elemSize(e elem, use func(*subckt, diag.Pos)) netbuild.Size {
 	switch e.letter {
 	case 'm', 'r':
-		return 1, 1
+		return netbuild.Size{1, 1}
 	case 'c':
-		return 0, 1
+		return netbuild.Size{0, 1}
 	case 'x':
 		if len(e.args) == 0 {
-			return 0, 0
+			return netbuild.Size{}
 		}
 		if c := f.d.subs[strings.ToLower(e.args[len(e.args)-1].text)]; c != nil {
-			f.walk(c, stack, e.pos)
-			return c.devs, c.elems
+			use(c, e.pos)
+			return netbuild.Size{}
 		}
-		return 1, 1
+		return netbuild.Size{1, 1} // a transistor model wrapped as a subcircuit
 	}
-	return 0, 0
-}
-
-func (f *flattener) walk(s *subckt, stack *[]*subckt, at diag.Pos) {
-	switch s.visit {
-	case 2:
-		return
-	case 1:
-		i := len(*stack) - 1
-		for i > 0 && (*stack)[i] != s {
-			i--
-		}
-		var chain []string
-		for _, x := range (*stack)[i:] {
-			chain = append(chain, x.name)
-			x.bad = true
-		}
-		f.errs.Add(at, "subcircuit %s instantiates itself: %s -> %s", s.name, strings.Join(chain, " -> "), s.name)
-		return
-	}
-	if len(*stack) >= f.lim.Depth {
-		f.errs.Add(at, "instances nest more than %d deep (at subcircuit %s)", f.lim.Depth, s.name)
-		s.visit, s.bad = 2, true
-		return
-	}
-	s.visit = 1
-	*stack = append(*stack, s)
-	for _, e := range s.body.elems {
-		dv, el := f.count(e, stack)
-		s.devs, s.elems = min(s.devs+dv, f.lim.Devices+1), min(s.elems+el, f.lim.Elements+1)
-	}
-	*stack = (*stack)[:len(*stack)-1]
-	s.visit = 2
+	return netbuild.Size{}
 }
 
 // instEnv makes the parameter scope of an instance of s with the values
@@ -664,7 +638,7 @@ func (f *flattener) instance(e *elem, in *inst) {
 			s.name, len(s.ports), plural(len(s.ports)), strings.Join(ports, " "), e.name.text, len(nodes))
 		return
 	}
-	if s.bad {
+	if f.tree.Bad(s) {
 		return
 	}
 	ports := make([]int32, len(nodes))

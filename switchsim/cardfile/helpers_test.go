@@ -57,44 +57,6 @@ func mapOpener(files fstest.MapFS) cardfile.Opener {
 	}
 }
 
-type sim struct {
-	t  *testing.T
-	s  *sw.Sim
-	nl *sw.Netlist
-}
-
-func newSim(t *testing.T, nl *sw.Netlist, mode sw.Mode) *sim {
-	s := &sim{t, sw.NewSim(nl, sw.Options{Mode: mode}), nl}
-	s.s.Settle()
-	return s
-}
-
-// apply sets "name=drive ..." and settles.
-func (s *sim) apply(assign string) {
-	s.t.Helper()
-	for _, f := range strings.Fields(assign) {
-		name, d, _ := strings.Cut(f, "=")
-		n, ok := s.nl.Lookup(name)
-		dr, ok2 := sw.ParseDrive(d)
-		if !ok || !ok2 {
-			s.t.Fatalf("bad assignment %q", f)
-		}
-		if err := s.s.SetInput(n, dr); err != nil {
-			s.t.Fatalf("%s: %v", name, err)
-		}
-	}
-	s.s.Settle()
-}
-
-func (s *sim) node(name string) sw.NodeState {
-	s.t.Helper()
-	n, ok := s.nl.Lookup(name)
-	if !ok {
-		s.t.Fatalf("no node %s", name)
-	}
-	return s.s.Node(n)
-}
-
 var modes = []sw.Mode{sw.Ideal, sw.Physical}
 
 func sprintf(f string, a ...any) string { return fmt.Sprintf(f, a...) }

@@ -36,12 +36,7 @@ type subckt struct {
 	body    scope
 	pininfo map[string]byte // lower-case pin -> i o b p g
 	closed  bool
-
-	visit uint8 // walk state: 0 new, 1 on the stack, 2 measured
-	devs  int   // devices once expanded, saturated past the limit
-	elems int   // elements once expanded, saturated
-	bad   bool  // on a cycle or nested too deep
-	used  bool  // instantiated by some card
+	used    bool // instantiated by some card
 }
 
 // elem is one element card: its letter, name, positional words and

@@ -2,6 +2,7 @@ package cardfile_test
 
 import (
 	"math"
+	"railyard/switchsim/internal/simtest"
 	"strings"
 	"testing"
 	"testing/fstest"
@@ -247,16 +248,16 @@ rsh vdd 0 1
 		t.Errorf("the resistor across the rails is not noted:\n%s", notes(d))
 	}
 	// Ideal mode: a supply input through the resistor is pull (IEEE 1364-2005 §7.12).
-	s := newSim(t, nl, sw.Ideal)
-	s.apply("a=0")
-	if got := s.node("y"); got.Strength != sw.Pull || got.Value != sw.VX {
+	s := simtest.New(t, nl, sw.Ideal)
+	s.Apply("a=0")
+	if got := s.Node("y"); got.Strength != sw.Pull || got.Value != sw.VX {
 		t.Errorf("y = %v: a 0 through r1 (pull) meets the pull-up (pull): X at pull", got)
 	}
 	// Physical mode: a divider of 10k against 50k: y = vdd 10/(10+50).
-	p := newSim(t, nl, sw.Physical)
-	p.apply("a=0")
+	p := simtest.New(t, nl, sw.Physical)
+	p.Apply("a=0")
 	want := nl.Tech.Vdd * 10e3 / 60e3 // Ohm's law
-	if got := p.node("y"); math.Abs(got.Volts-want) > 1e-3 || got.Value != sw.V0 {
+	if got := p.Node("y"); math.Abs(got.Volts-want) > 1e-3 || got.Value != sw.V0 {
 		t.Errorf("y = %v at %.3f V, want 0 at %.3f V", got.Value, got.Volts, want)
 	}
 }

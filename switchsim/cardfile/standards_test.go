@@ -6,6 +6,7 @@ package cardfile_test
 
 import (
 	"fmt"
+	"railyard/switchsim/internal/simtest"
 	"testing"
 
 	sw "railyard/switchsim"
@@ -60,16 +61,16 @@ func TestMirrorAdderTruthTable(t *testing.T) {
 		t.Fatalf("%d devices, want 28 (the mirror adder)", got)
 	}
 	for _, mode := range modes {
-		s := newSim(t, d.Netlist, mode)
+		s := simtest.New(t, d.Netlist, mode)
 		for v := 0; v < 8; v++ {
 			a, b, c := v>>2&1, v>>1&1, v&1
-			s.apply(fmt.Sprintf("a=%d b=%d c=%d", a, b, c))
+			s.Apply(fmt.Sprintf("a=%d b=%d c=%d", a, b, c))
 			sum, cout := (a+b+c)&1, (a+b+c)>>1 // the full adder's truth table
 			for _, chk := range []struct {
 				node string
 				want int
 			}{{"sum", sum}, {"cout", cout}} {
-				got := s.node(chk.node)
+				got := s.Node(chk.node)
 				want := sw.State0 + sw.State(chk.want) // a static CMOS output is a strong full level
 				if got.State != want {
 					t.Errorf("%s: a=%d b=%d c=%d: %s is %s, want %s", mode, a, b, c, chk.node, got.State, want)
@@ -109,7 +110,7 @@ func TestTGateLatchTransparentAndHold(t *testing.T) {
 		t.Errorf("title %q: line 1 of a deck is its title (common practice)", d.Desc)
 	}
 	for _, mode := range modes {
-		s := newSim(t, nl, mode)
+		s := simtest.New(t, nl, mode)
 		// One input changes a step: a change of d together with the closing
 		// clock is a race (a hold-time violation) and rightly gives X.
 		steps := []struct {
@@ -126,13 +127,13 @@ func TestTGateLatchTransparentAndHold(t *testing.T) {
 			{"clk=0 d=1", sw.State0, "closed: the loop holds 0"},
 		}
 		for i, st := range steps {
-			s.apply(st.apply)
-			if got := s.node("q"); got.State != st.q {
+			s.Apply(st.apply)
+			if got := s.Node("q"); got.State != st.q {
 				t.Errorf("%s step %d (%s): q is %s, want %s: %s", mode, i+1, st.apply, got.State, st.q, st.why)
 			}
 		}
 		// The held value is driven by the loop, not stored charge.
-		if s.node("s").Floating {
+		if s.Node("s").Floating {
 			t.Errorf("%s: s floats while the latch holds: the feedback gate should drive it", mode)
 		}
 	}

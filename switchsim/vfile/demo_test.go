@@ -2,9 +2,9 @@ package vfile_test
 
 import (
 	"os"
+	"railyard/switchsim/internal/simtest"
 	"testing"
 
-	sw "railyard/switchsim"
 	"railyard/switchsim/steps"
 	"railyard/switchsim/vfile"
 )
@@ -30,18 +30,8 @@ func TestDemoImmSelect(t *testing.T) {
 		t.Fatal(err)
 	}
 	for _, mode := range modes {
-		s := sw.NewSim(d.Netlist, sw.Options{Mode: mode})
-		s.Settle()
-		for _, row := range st.Rows {
-			for i, n := range st.Apply {
-				s.SetInput(n, row.Drives[i])
-			}
-			s.Settle()
-			for i, n := range st.Check {
-				if got := s.Node(n); !row.Wants[i].Check(got, true) {
-					t.Errorf("%s line %d: %s want %s (full swing), got %s (%s)", mode, row.Line, d.Netlist.NodeName(n), row.Wants[i], got.State, row.Label)
-				}
-			}
+		for _, f := range simtest.RunSteps(d.Netlist, st, mode, true) {
+			t.Errorf("%s (full swing): %s", mode, f)
 		}
 	}
 }

@@ -18,6 +18,7 @@ type flattener struct {
 	errs, notes *netbuild.Sink
 	rails       netbuild.Rails
 	nb          *netbuild.Design
+	tree        *netbuild.Tree[*module]
 	powerSeen   bool
 	groundSeen  bool
 	devs        int
@@ -34,15 +35,33 @@ type inst struct {
 }
 
 func newFlattener(file string, p *parser, opt Options, lim Limits, errs, notes *netbuild.Sink) *flattener {
-	return &flattener{file: file, p: p, opt: opt, lim: lim, errs: errs, notes: notes,
+	f := &flattener{file: file, p: p, opt: opt, lim: lim, errs: errs, notes: notes,
 		rails: netbuild.NewRails(opt.Power, opt.Ground),
 		nb:    netbuild.NewDesign(netbuild.Node{Want: "vdd"}, netbuild.Node{Want: "gnd"})}
+	f.tree = &netbuild.Tree[*module]{What: "module", Name: func(m *module) string { return m.name },
+		Depth: lim.Depth, Max: netbuild.Size{lim.Devices, lim.Devices}, Errs: errs,
+		Body: func(m *module, use func(*module, diag.Pos)) netbuild.Size {
+			n := 0
+			for _, it := range m.items {
+				switch {
+				case it.prim == "cmos" || it.prim == "rcmos":
+					n += 2
+				case it.prim != "":
+					n++
+				default:
+					if c := p.mods[it.module.text]; c != nil {
+						use(c, it.pos)
+					}
+				}
+			}
+			return netbuild.Size{n, n}
+		}}
+	return f
 }
 
 func (f *flattener) run() *switchsim.Netlist {
-	var stack []*module
 	for _, m := range f.p.order { // cycles anywhere are errors, whichever module is the top
-		f.walk(m, &stack, m.pos)
+		f.tree.Measure(m, m.pos)
 	}
 	if f.errs.Any() {
 		return nil
@@ -51,7 +70,7 @@ func (f *flattener) run() *switchsim.Netlist {
 	if top == nil {
 		return nil
 	}
-	if top.devs > f.lim.Devices {
+	if f.tree.Measure(top, top.pos)[0] > f.lim.Devices {
 		f.errs.Add(top.pos, "the design expands to more than the limit of %d devices", f.lim.Devices)
 	}
 	if f.errs.Any() {
@@ -110,61 +129,11 @@ func (f *flattener) pickTop() *module {
 }
 
 func (f *flattener) modList(ms []*module) string {
-	var names []string
+	names := make([]string, len(ms))
 	for i, m := range ms {
-		if i == 12 {
-			names = append(names, fmt.Sprintf("and %d more", len(ms)-12))
-			break
-		}
-		names = append(names, m.name)
+		names[i] = m.name
 	}
-	if len(names) == 0 {
-		return "none"
-	}
-	return strings.Join(names, ", ")
-}
-
-// walk measures m: cycles and nesting are errors, devs the expanded size.
-func (f *flattener) walk(m *module, stack *[]*module, at diag.Pos) {
-	switch m.visit {
-	case 2:
-		return
-	case 1:
-		i := len(*stack) - 1
-		for i > 0 && (*stack)[i] != m {
-			i--
-		}
-		var chain []string
-		for _, x := range (*stack)[i:] {
-			chain = append(chain, x.name)
-			x.bad = true
-		}
-		f.errs.Add(at, "module %s instantiates itself: %s -> %s", m.name, strings.Join(chain, " -> "), m.name)
-		return
-	}
-	if len(*stack) >= f.lim.Depth {
-		f.errs.Add(at, "instances nest more than %d deep (at module %s)", f.lim.Depth, m.name)
-		m.visit, m.bad = 2, true
-		return
-	}
-	m.visit = 1
-	*stack = append(*stack, m)
-	for _, it := range m.items {
-		n := 1
-		switch {
-		case it.prim == "cmos" || it.prim == "rcmos":
-			n = 2
-		case it.prim == "":
-			n = 0
-			if c := f.p.mods[it.module.text]; c != nil {
-				f.walk(c, stack, it.pos)
-				n = c.devs
-			}
-		}
-		m.devs = min(m.devs+n, f.lim.Devices+1)
-	}
-	*stack = (*stack)[:len(*stack)-1]
-	m.visit = 2
+	return netbuild.List(names)
 }
 
 // netOf finds a name's declaration in m; undeclared names are implicit
@@ -410,7 +379,7 @@ func (f *flattener) instance(it *item, in *inst) {
 		f.errs.Add(it.module.pos, "instance %s of unknown module %s (this file defines: %s)", it.name.text, it.module.text, f.modList(f.p.order))
 		return
 	}
-	if m.bad {
+	if f.tree.Bad(m) {
 		return
 	}
 	ports := map[string][]int32{}

@@ -17,11 +17,7 @@ type module struct {
 	nets  map[string]*net
 	order []*net // declared nets, in order
 	items []item
-
-	visit uint8
-	devs  int
-	bad   bool
-	used  bool
+	used  bool // instantiated by another module
 }
 
 // net is a declared net or port: its kind, direction, charge and bits.

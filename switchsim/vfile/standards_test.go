@@ -7,6 +7,7 @@ package vfile_test
 
 import (
 	"fmt"
+	"railyard/switchsim/internal/simtest"
 	"strings"
 	"testing"
 
@@ -88,14 +89,14 @@ func TestStrengthReductionRows(t *testing.T) {
 		if err != nil {
 			t.Fatalf("%s: %v\n%s", r.row, err, text)
 		}
-		s := newSim(t, d.Netlist, sw.Ideal)
-		s.apply("ina=1 ena=1 inb=0 enb=1") // write a=1 (charge rows) and b=0, both strongly
+		s := simtest.New(t, d.Netlist, sw.Ideal)
+		s.Apply("ina=1 ena=1 inb=0 enb=1") // write a=1 (charge rows) and b=0, both strongly
 		if r.charge {
-			s.apply("ena=0 enb=0")
+			s.Apply("ena=0 enb=0")
 		} else {
-			s.apply("enb=0")
+			s.Apply("enb=0")
 		}
-		got := s.node("b")
+		got := s.Node("b")
 		switch {
 		case r.wantX && (got.Value != sw.VX || got.Strength != r.want):
 			t.Errorf("%s: b = %s %s, want X at %s", r.row, got.Value, got.Strength, r.want)
@@ -121,12 +122,12 @@ func TestNonResistiveReduction(t *testing.T) {
   trireg (small) w;
 endmodule
 `, vfile.Options{})
-	s := newSim(t, d.Netlist, sw.Ideal)
-	s.apply("a=1")
-	if got := s.node("y"); got.Strength != sw.Strong {
+	s := simtest.New(t, d.Netlist, sw.Ideal)
+	s.Apply("a=1")
+	if got := s.Node("y"); got.Strength != sw.Strong {
 		t.Errorf("y = %s: supply through a tran is strong", got.Strength)
 	}
-	if got := s.node("w"); got.Strength != sw.Weak {
+	if got := s.Node("w"); got.Strength != sw.Weak {
 		t.Errorf("w = %s: weak through a tran stays weak", got.Strength)
 	}
 }
@@ -156,7 +157,7 @@ endmodule
 func TestLatchModule(t *testing.T) {
 	d := read(t, latchModule, vfile.Options{})
 	for _, mode := range modes {
-		s := newSim(t, d.Netlist, mode)
+		s := simtest.New(t, d.Netlist, mode)
 		for i, st := range []struct {
 			apply string
 			q     sw.State
@@ -164,8 +165,8 @@ func TestLatchModule(t *testing.T) {
 			{"clk=1 d=0", sw.State0}, {"clk=1 d=1", sw.State1}, {"clk=0 d=1", sw.State1}, {"clk=0 d=0", sw.State1},
 			{"clk=1 d=0", sw.State0}, {"clk=0 d=0", sw.State0}, {"clk=0 d=1", sw.State0},
 		} {
-			s.apply(st.apply)
-			if got := s.node("q").State; got != st.q {
+			s.Apply(st.apply)
+			if got := s.Node("q").State; got != st.q {
 				t.Errorf("%s step %d (%s): q %s, want %s", mode, i+1, st.apply, got, st.q)
 			}
 		}
@@ -192,12 +193,12 @@ func TestSelectorModule(t *testing.T) {
 		t.Errorf("the delay note should come once:\n%s", n)
 	}
 	for _, mode := range modes {
-		s := newSim(t, d.Netlist, mode)
+		s := simtest.New(t, d.Netlist, mode)
 		for sel := 0; sel < 4; sel++ {
 			for data := 0; data < 16; data += 5 {
-				s.apply(fmt.Sprintf("s[1]=%d s[0]=%d d[3]=%d d[2]=%d d[1]=%d d[0]=%d", sel>>1, sel&1, data>>3&1, data>>2&1, data>>1&1, data&1))
+				s.Apply(fmt.Sprintf("s[1]=%d s[0]=%d d[3]=%d d[2]=%d d[1]=%d d[0]=%d", sel>>1, sel&1, data>>3&1, data>>2&1, data>>1&1, data&1))
 				want := sw.State0 + sw.State(data>>sel&1) // a 4:1 selector through transmission gates passes full levels
-				if got := s.node("y").State; got != want {
+				if got := s.Node("y").State; got != want {
 					t.Errorf("%s s=%d d=%04b: y %s, want %s", mode, sel, data, got, want)
 				}
 			}

@@ -114,3 +114,15 @@ func (n *Namer) Name(want string) string {
 		}
 	}
 }
+
+// List words a list of names for a message: "a, b, c", at most 12 and
+// then how many more, "none" for none.
+func List(names []string) string {
+	switch {
+	case len(names) == 0:
+		return "none"
+	case len(names) > 12:
+		return strings.Join(names[:12], ", ") + ", and " + strconv.Itoa(len(names)-12) + " more"
+	}
+	return strings.Join(names, ", ")
+}
