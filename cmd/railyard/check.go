@@ -7,7 +7,6 @@ import (
 
 	"railyard/designs"
 	"railyard/switchsim"
-	"railyard/switchsim/netfile"
 	"railyard/switchsim/session"
 )
 
@@ -36,6 +35,7 @@ func cmdCheck(args []string, stdout, stderr io.Writer) int {
 	fs := newFlags("check", checkUsage)
 	exhaustive := fs.Bool("exhaustive", false, "apply every input combination (at most 20 inputs)")
 	ideal := fs.Bool("ideal", false, "ideal mode: strengths only, no voltage estimates")
+	lf := addLoadFlags(fs)
 	pos, code := parseArgs(fs, args, stdout, stderr)
 	if code >= 0 {
 		return code
@@ -48,11 +48,16 @@ func cmdCheck(args []string, stdout, stderr io.Writer) int {
 		opt.Mode = switchsim.Ideal
 	}
 	// The design alone: a steps file beside it plays no part in the checks.
-	d, err := netfile.ReadFile(pos[0])
+	files, err := lf.loader()
+	if err != nil {
+		return usageError(stderr, "check", "%v", err)
+	}
+	d, err := files.Design(pos[0])
 	if err != nil {
 		return loadError(stderr, err)
 	}
-	s := session.New(d, pos[0], nil, opt)
+	printNotes(stderr, d)
+	s := session.New(d, files.Path(pos[0]), nil, opt)
 	nl := s.Netlist()
 	fmt.Fprintf(stdout, "design %s (%s): %d nodes, %d devices, %d inputs\n",
 		s.Design.Name, s.DesignPath, nl.NumNodes(), nl.NumDevices(), len(nl.Inputs()))

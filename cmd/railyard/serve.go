@@ -20,6 +20,7 @@ import (
 const serveUsage = `
 usage: railyard serve --authorized-keys FILE --designs DIR [--listen ADDR]
        [--host-key FILE] [--traces DIR] [--max-sessions N] [--idle-timeout D]
+       [--max-pending N] [--max-pending-per-addr N] [--handshake-timeout D]
 
 Serve the explorer over SSH. Designers connect with a plain SSH client and
 a key listed in --authorized-keys (public keys only: no passwords). The SSH
@@ -27,6 +28,12 @@ command chooses the design: NAME for DIR/NAME.sw (with its .steps beside
 it), demo:NAME for an embedded demo, nothing for a picker, and
 'join SESSION-ID' to watch someone's session read-only. Traces go under
 --traces/USER/. Connections are logged to stderr as JSON lines.
+
+A connection has --handshake-timeout to authenticate. Connections not yet
+authenticated are capped per remote address (an IPv6 one by its /64) and in
+all: over its address's cap a new connection is refused; over the cap in
+all the oldest pending handshake of the address holding the most is dropped
+to let the new one in, so a flood from one address cannot keep others out.
 
 examples:
   railyard serve --authorized-keys team_keys --designs cells --traces traces
@@ -53,6 +60,9 @@ func cmdServe(args []string, stdout, stderr io.Writer) int {
 	fs.StringVar(&cfg.Traces, "traces", "", "save each session's trace under `DIR`/USER/ (none kept without it)")
 	fs.IntVar(&cfg.MaxSessions, "max-sessions", sshserve.DefaultMaxSessions, "sessions open at once (`N`); more are refused")
 	fs.DurationVar(&cfg.IdleTimeout, "idle-timeout", sshserve.DefaultIdleTimeout, "close a session after this long (`D`) without input; 0 never")
+	fs.IntVar(&cfg.MaxPending, "max-pending", sshserve.DefaultMaxPending, "connections not yet authenticated at once (`N`), from all addresses")
+	fs.IntVar(&cfg.MaxPendingPerAddr, "max-pending-per-addr", sshserve.DefaultMaxPendingPerAddr, "connections not yet authenticated at once (`N`) from one remote address")
+	fs.DurationVar(&cfg.HandshakeTimeout, "handshake-timeout", sshserve.DefaultHandshakeTimeout, "time (`D`) from connecting to being authenticated")
 	fs.BoolVar(&cfg.NoAuth, "no-auth", false, "let anyone in: only on a loopback address, for trying it out")
 	pos, code := parseArgs(fs, args, stdout, stderr)
 	if code >= 0 {
@@ -66,6 +76,15 @@ func cmdServe(args []string, stdout, stderr io.Writer) int {
 	}
 	if cfg.IdleTimeout < 0 {
 		return usageError(stderr, "serve", "--idle-timeout must not be negative")
+	}
+	if cfg.MaxPending <= 0 {
+		return usageError(stderr, "serve", "--max-pending must be at least 1")
+	}
+	if cfg.MaxPendingPerAddr <= 0 {
+		return usageError(stderr, "serve", "--max-pending-per-addr must be at least 1")
+	}
+	if cfg.HandshakeTimeout <= 0 {
+		return usageError(stderr, "serve", "--handshake-timeout must be more than 0")
 	}
 	cfg.Logger = slog.New(slog.NewJSONHandler(stderr, nil))
 	srv, err := sshserve.New(cfg)

@@ -5,6 +5,7 @@ import (
 	"flag"
 	"os"
 	"path/filepath"
+	"railyard/designs"
 	"strings"
 	"testing"
 
@@ -239,7 +240,11 @@ func TestDeckStrengths(t *testing.T) {
 // X out: driven, so no .ic); the times of the sources and measures are
 // whole multiples of the 3n period.
 func TestDeckInitialConditions(t *testing.T) {
-	d, err := netfile.ReadFile("demo:dynamic_latch")
+	sw, err := designs.FS.ReadFile("dynamic_latch.sw")
+	if err != nil {
+		t.Fatal(err)
+	}
+	d, err := netfile.Read("demo:dynamic_latch", sw)
 	if err != nil {
 		t.Fatal(err)
 	}

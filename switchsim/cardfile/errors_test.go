@@ -1,8 +1,7 @@
 package cardfile_test
 
 import (
-	"os"
-	"path/filepath"
+	"errors"
 	"strings"
 	"testing"
 
@@ -65,28 +64,26 @@ func TestBadNetlists(t *testing.T) {
 	}
 }
 
-// An include outside the allowed folder is refused, by .. and by a link.
-func TestIncludeConfined(t *testing.T) {
-	dir := t.TempDir()
-	root := filepath.Join(dir, "designs")
-	os.MkdirAll(filepath.Join(root, "lib"), 0o755)
-	os.WriteFile(filepath.Join(dir, "secret.sp"), []byte(".subckt secret a\n.ends\n"), 0o644)
-	os.WriteFile(filepath.Join(root, "lib", "inv.sp"), []byte(".subckt inv a y\nmn y a 0 0 nch\n.ends\n"), 0o644)
-	os.Symlink(filepath.Join(dir, "secret.sp"), filepath.Join(root, "lib", "link.sp"))
-	open, err := cardfile.DirOpener(root, 1<<20)
-	if err != nil {
-		t.Fatal(err)
+// An include the opener refuses (the loader's: outside the folder the deck
+// came from) is an error at the file name, with the opener's reason.
+func TestIncludeRefused(t *testing.T) {
+	open := func(from, name string) (string, []byte, error) {
+		if strings.HasPrefix(name, "..") || strings.HasPrefix(name, "/") {
+			return "", nil, errors.New("leads out of the folder")
+		}
+		if name == "lib/inv.sp" {
+			return "lib/inv.sp", []byte(".subckt inv a y\nmn y a 0 0 nch\n.ends\n"), nil
+		}
+		return "", nil, errors.New("no such file")
 	}
 	ok := ".include lib/inv.sp\n.subckt top a y\nx1 a y inv\n.ends\n"
 	if _, err := cardfile.Read("top.sp", []byte(ok), cardfile.Options{Open: open}); err != nil {
 		t.Fatalf("an include inside the folder: %v", err)
 	}
 	for _, c := range []struct{ src, want string }{
-		{".include ../secret.sp\n", "top.sp:1:10: cannot include \"../secret.sp\": an include outside the allowed folder"},
-		{".include lib/../../secret.sp\n", "an include outside the allowed folder"},
-		{".include " + filepath.Join(dir, "secret.sp") + "\n", "an include outside the allowed folder (an absolute path)"},
-		{".include lib/link.sp\n", "an include outside the allowed folder"},
-		{".include lib/none.sp\n", "cannot include \"lib/none.sp\""},
+		{".include ../secret.sp\n", `top.sp:1:10: cannot include "../secret.sp": leads out of the folder`},
+		{".inc '/etc/x.sp'\n", `top.sp:1:6: cannot include "/etc/x.sp": leads out of the folder`},
+		{".include lib/none.sp\n", `cannot include "lib/none.sp": no such file`},
 	} {
 		_, err := cardfile.Read("top.sp", []byte(c.src), cardfile.Options{Open: open})
 		if err == nil || !strings.Contains(err.Error(), c.want) {

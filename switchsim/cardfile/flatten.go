@@ -11,6 +11,7 @@ import (
 	"railyard/switchsim"
 	"railyard/switchsim/diag"
 	"railyard/switchsim/internal/netbuild"
+	"railyard/switchsim/netfile"
 )
 
 // flattener expands the deck's top into a netbuild.Design.
@@ -32,10 +33,7 @@ type flattener struct {
 	use         map[*model]int // devices per model card
 	typedBy     map[string]bool
 	coupling    bool
-	scaled      bool // a size that looks scaled was seen: scaledAt, scaledName, scaledSize
-	scaledAt    diag.Pos
-	scaledName  string
-	scaledSize  float64
+	sizes       netfile.SizeNotes // implausible sizes and capacitances, said once when scaled
 }
 
 // env is one scope of parameters: the deck's (.param at the top level) or
@@ -69,6 +67,9 @@ type inst struct {
 func newFlattener(file string, d *deck, opt Options, lim Limits, errs, notes *netbuild.Sink) *flattener {
 	f := &flattener{file: file, d: d, opt: opt, lim: lim, errs: errs, notes: notes,
 		rails: netbuild.NewRails(opt.Power, opt.Ground), use: map[*model]int{}, typedBy: map[string]bool{}}
+	// Netlists from extraction write sizes in units a scale set elsewhere
+	// fixes: implausible sizes are said once for the design.
+	f.sizes.Scaled = true
 	for _, p := range opt.NMOSModels {
 		f.nPat = append(f.nPat, strings.ToLower(p))
 	}
@@ -458,6 +459,7 @@ func (f *flattener) mos(e *elem, in *inst, t []tok, modelTok tok) {
 		return
 	}
 	var w, l float64
+	var wTok, lTok *tok
 	mult, nf := 1.0, 1.0
 	good := true
 	for i := range e.params {
@@ -465,9 +467,9 @@ func (f *flattener) mos(e *elem, in *inst, t []tok, modelTok tok) {
 		var dst *float64
 		switch p.key {
 		case "w":
-			dst = &w
+			dst, wTok = &w, &p.val
 		case "l":
-			dst = &l
+			dst, lTok = &l, &p.val
 		case "m":
 			dst = &mult
 		case "nf":
@@ -499,10 +501,11 @@ func (f *flattener) mos(e *elem, in *inst, t []tok, modelTok tok) {
 	want, orig, exact := f.devName(e.name, in)
 	dv := netbuild.Device{Want: want, Orig: orig, Exact: exact, Kind: kind, Pos: e.pos,
 		Gate: f.node(t[1], in), A: f.node(t[0], in), B: f.node(t[2], in), Opts: switchsim.DeviceOpts{W: w, L: l}}
-	for _, s := range []float64{w, l} {
-		if s != 0 && !netbuild.PlausibleSize(s) && !f.scaled {
-			f.scaled, f.scaledAt, f.scaledName, f.scaledSize = true, e.pos, orig, s
-		}
+	if wTok != nil {
+		f.sizes.Size(wTok.pos, "w", wTok.text, w)
+	}
+	if lTok != nil {
+		f.sizes.Size(lTok.pos, "l", lTok.text, l)
 	}
 	f.nb.AddDevice(dv)
 }
@@ -1032,7 +1035,12 @@ func (f *flattener) summaryNotes() {
 	if f.coupling {
 		f.notes.Add(diag.Pos{File: f.file}, "coupling capacitors between two signal nodes are counted in full on each node (as if the other held still)")
 	}
-	if f.scaled {
-		f.notes.Add(f.scaledAt, "sizes look scaled (%s has a size of %g m, not a drawn size): only their ratios matter; an .option scale= would make them metres", f.scaledName, f.scaledSize)
+	for i := range f.nb.Nodes {
+		if n := &f.nb.Nodes[i]; n.Cap > 0 && n.Used {
+			f.sizes.Cap(n.Pos, "capacitance of "+n.Orig, netfile.FormatNumber(n.Cap), n.Cap)
+		}
+	}
+	for _, n := range f.sizes.Notes() {
+		f.notes.Add(n.Pos, "%s", n.Msg)
 	}
 }

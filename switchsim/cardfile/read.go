@@ -17,14 +17,7 @@
 package cardfile
 
 import (
-	"errors"
-	"io"
-	"io/fs"
-	"os"
-	"path"
-	"path/filepath"
 	"railyard/switchsim/internal/netbuild"
-	"strings"
 
 	"railyard/switchsim/diag"
 	"railyard/switchsim/netfile"
@@ -48,8 +41,8 @@ type Options struct {
 	// NMOSModels and PMOSModels type model names that no .model card
 	// defines (--nmos-models, --pmos-models): names or * patterns, any case.
 	NMOSModels, PMOSModels []string
-	// Open reads an included file. nil reads from disk relative to the
-	// including file (ReadFile) or refuses includes (Read).
+	// Open reads an included file (the loader's ReadOptions.Include); nil
+	// refuses includes. The reader never opens a file itself.
 	Open Opener
 	// Limits bound what is read; zero fields take DefaultLimits.
 	Limits Limits
@@ -58,8 +51,9 @@ type Options struct {
 // Opener reads the file a deck includes: from is the path of the
 // including file (as an earlier Opener call or the caller named it), name
 // the file name as written. It returns the path to show in positions and
-// to give as from for the file's own includes, and the file's bytes. An
-// Opener confines includes to where they may come from (DirOpener).
+// to give as from for the file's own includes, and the file's bytes. The
+// Opener confines includes to where they may come from: the loader's
+// (switchsim/load) never leaves the folder the deck was loaded from.
 type Opener func(from, name string) (path string, src []byte, err error)
 
 // Limits bound what the reader accepts, so that memory and time stay
@@ -128,73 +122,11 @@ func Read(file string, src []byte, opt Options) (*netfile.Design, error) {
 	return &netfile.Design{Name: nl.Name, Desc: nl.Desc, Netlist: nl, Source: src, File: file, Notes: notes.List()}, nil
 }
 
-// ReadFile reads a deck from disk; includes are read relative to the
-// including file, from anywhere (the command line's trust). Servers use
-// Read with DirOpener instead.
-func ReadFile(p string, opt Options) (*netfile.Design, error) {
-	lim := opt.Limits.orDefault()
-	src, err := readLimited(p, lim.FileSize, func(name string) (fs.File, error) { return os.Open(name) })
-	if err != nil {
-		return nil, diag.List{{Pos: diag.Pos{File: p}, Msg: "cannot read: " + err.Error()}}
-	}
-	if opt.Open == nil {
-		opt.Open = DiskOpener(lim.FileSize)
-	}
-	return Read(p, src, opt)
-}
-
-// DiskOpener reads includes from disk relative to the including file,
-// anywhere; max bounds a file's size.
-func DiskOpener(max int) Opener {
-	return func(from, name string) (string, []byte, error) {
-		p := name
-		if !filepath.IsAbs(p) {
-			p = filepath.Join(filepath.Dir(from), p)
-		}
-		src, err := readLimited(p, max, func(n string) (fs.File, error) { return os.Open(n) })
-		return p, src, err
-	}
-}
-
-// DirOpener reads includes inside the folder root only (railyard serve's
-// --designs): from and the returned paths are relative to root, written
-// with /; an include that leaves root, by .. or by a link, is refused.
-func DirOpener(root string, max int) (Opener, error) {
-	r, err := os.OpenRoot(root)
-	if err != nil {
-		return nil, err
-	}
-	return func(from, name string) (string, []byte, error) {
-		name = filepath.ToSlash(name)
-		if path.IsAbs(name) {
-			return "", nil, errors.New("an include outside the allowed folder (an absolute path)")
-		}
-		p := path.Clean(path.Join(path.Dir(filepath.ToSlash(from)), name))
-		if p == ".." || strings.HasPrefix(p, "../") {
-			return "", nil, errors.New("an include outside the allowed folder")
-		}
-		src, err := readLimited(p, max, func(n string) (fs.File, error) { return r.Open(n) })
-		if err != nil && strings.Contains(err.Error(), "escapes") {
-			return "", nil, errors.New("an include outside the allowed folder (through a link)")
-		}
-		return p, src, err
-	}, nil
-}
-
-// readLimited reads at most max+1 bytes (so that the size check can say
-// where the limit was passed).
-func readLimited(p string, max int, open func(string) (fs.File, error)) ([]byte, error) {
-	f, err := open(p)
-	if err != nil {
-		var pe *fs.PathError
-		if errors.As(err, &pe) {
-			err = pe.Err
-		}
-		return nil, err
-	}
-	defer f.Close()
-	if st, err := f.Stat(); err == nil && st.IsDir() {
-		return nil, errors.New("is a directory")
-	}
-	return io.ReadAll(io.LimitReader(f, int64(max)+1))
+// ReadWith is Read with the options the loader fills (the Reader of
+// switchsim/load's registry): the flags, and Include as the opener, which
+// reads relative to the including file and never outside where the deck
+// came from.
+func ReadWith(file string, src []byte, o netfile.ReadOptions) (*netfile.Design, error) {
+	return Read(file, src, Options{Top: o.Top, Power: o.Power, Ground: o.Ground, Inputs: o.Inputs,
+		NMOSModels: o.NMOSModels, PMOSModels: o.PMOSModels, Open: o.Include})
 }

@@ -8,12 +8,13 @@ import (
 	"testing"
 
 	"railyard/switchsim"
+	"railyard/switchsim/load"
 	"railyard/switchsim/netfile"
 	"railyard/switchsim/session"
 )
 
 func TestStaticCheckFindsEachSlip(t *testing.T) {
-	d, err := netfile.ReadFile("testdata/slips.sw")
+	d, err := load.Host(load.Options{}).Design("testdata/slips.sw")
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -49,7 +50,7 @@ func TestStaticCheckFindsEachSlip(t *testing.T) {
 }
 
 func TestStaticCheckCleanDesign(t *testing.T) {
-	d, err := netfile.ReadFile("testdata/opsel.sw")
+	d, err := load.Host(load.Options{}).Design("testdata/opsel.sw")
 	if err != nil {
 		t.Fatal(err)
 	}

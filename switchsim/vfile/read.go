@@ -101,3 +101,9 @@ func Read(file string, src []byte, opt Options) (*netfile.Design, error) {
 	}
 	return &netfile.Design{Name: nl.Name, Desc: nl.Desc, Netlist: nl, Source: src, File: file, Notes: notes.List()}, nil
 }
+
+// ReadWith is Read with the options the loader fills (the Reader of
+// switchsim/load's registry); a module file includes nothing.
+func ReadWith(file string, src []byte, o netfile.ReadOptions) (*netfile.Design, error) {
+	return Read(file, src, Options{Top: o.Top, Power: o.Power, Ground: o.Ground, Inputs: o.Inputs})
+}

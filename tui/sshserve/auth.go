@@ -107,9 +107,12 @@ func (a *authorizedKeys) allowed(key ssh.PublicKey) (bool, error) {
 	return false, reloadErr
 }
 
-// publicKeyAllowed is the server's only authentication method. x/crypto/ssh
-// keeps one cached key per connection, so the last key this accepted is the
-// one the client proved it holds, and ssh.Session.PublicKey reports it.
+// publicKeyAllowed is the server's only authentication method. It is also
+// asked about keys the client only offers without proving it holds them, so
+// accepting one here is not yet authentication: ssh.Session.PublicKey reports
+// the key whose signature the SSH layer verified (the SSH fork takes it from
+// the permissions of the attempt that succeeded, not from the last key this
+// was asked about).
 func (s *Server) publicKeyAllowed(ctx ssh.Context, key ssh.PublicKey) bool {
 	fp := gossh.FingerprintSHA256(key)
 	remote := ""

@@ -8,6 +8,12 @@
 // connection (a picker, an explorer on the chosen design, or a read-only
 // viewer of another session).
 //
+// The middlewares only ever see authenticated sessions. Before them, every
+// accepted connection passes a gate (pending.go) that bounds what a client
+// can hold without a key: a handshake deadline, and caps on the connections
+// not yet authenticated, per remote address and in all, with a policy that
+// keeps the door open for others while a flood fills them.
+//
 // Shared viewing publishes frames, not state: the host's root model hands
 // every frame it renders (its View string) to a hub, and a viewer's program
 // only ever draws the latest frame it got. A viewer holds no reference to the

@@ -4,6 +4,7 @@ import (
 	tea "github.com/charmbracelet/bubbletea"
 
 	"railyard/designs"
+	"railyard/switchsim/load"
 	"railyard/switchsim/session"
 	"railyard/tui"
 )
@@ -29,7 +30,11 @@ func (e explorer) SaveKeys() []string { return tui.DefaultKeyMap().Save.Keys() }
 
 // openExplorer opens a session on the resolved design and builds the explorer.
 func openExplorer(r ExplorerRequest) (tea.Model, error) {
-	s, err := session.Open(r.Design, r.Steps, session.Options{})
+	files := r.Files
+	if files == nil {
+		files = load.Host(load.Options{})
+	}
+	s, err := session.OpenFrom(files, r.Design, r.Steps, session.Options{})
 	if err != nil {
 		return nil, err
 	}

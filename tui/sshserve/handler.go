@@ -285,7 +285,7 @@ func (m *hostModel) open(name string) error {
 		return err
 	}
 	h := m.srv.registry.add(m.sess.User(), t.Name, m.act)
-	req := ExplorerRequest{Name: t.Name, Design: t.Design, Steps: t.Steps,
+	req := ExplorerRequest{Name: t.Name, Design: t.Design, Steps: t.Steps, Files: t.Files,
 		Width: m.width, Height: m.height, NoColor: m.noColor, ASCII: m.ascii,
 		Renderer: m.renderer(), Banner: "session " + h.ID}
 	m.notice = fmt.Sprintf("session %s: others watch with 'join %s'", h.ID, h.ID)

@@ -133,12 +133,33 @@ func (ts *testServer) writeDesign(t testing.TB, name, src string) string {
 
 // dial connects as user with the given auth methods.
 func (ts *testServer) dial(user string, auth ...gossh.AuthMethod) (*gossh.Client, error) {
-	return gossh.Dial("tcp", ts.addr, &gossh.ClientConfig{
+	return ts.dialFrom("", user, auth...)
+}
+
+// dialFrom connects from the local address ip (any when empty). Loopback on
+// Linux accepts the whole of 127.0.0.0/8, so tests can come from 127.0.0.2.
+func (ts *testServer) dialFrom(ip, user string, auth ...gossh.AuthMethod) (*gossh.Client, error) {
+	d := net.Dialer{Timeout: readDeadline}
+	if ip != "" {
+		d.LocalAddr = &net.TCPAddr{IP: net.ParseIP(ip)}
+	}
+	conn, err := d.Dial("tcp", ts.addr)
+	if err != nil {
+		return nil, err
+	}
+	// The handshake has the same bound a dial by address would give it.
+	conn.SetDeadline(time.Now().Add(readDeadline))
+	cc, chans, reqs, err := gossh.NewClientConn(conn, ts.addr, &gossh.ClientConfig{
 		User:            user,
 		Auth:            auth,
 		HostKeyCallback: gossh.FixedHostKey(ts.HostKey()),
-		Timeout:         readDeadline,
 	})
+	if err != nil {
+		conn.Close()
+		return nil, err
+	}
+	conn.SetDeadline(time.Time{})
+	return gossh.NewClient(cc, chans, reqs), nil
 }
 
 // term is one client session with a pty, its output collected.
@@ -274,19 +295,20 @@ type fakeModel struct {
 }
 
 func fakeExplorer(r ExplorerRequest) (tea.Model, error) {
-	if _, err := readFakeDesign(r.Design); err != nil {
+	if _, err := readFakeDesign(r); err != nil {
 		return nil, err
 	}
 	return &fakeModel{req: r, w: r.Width, h: r.Height}, nil
 }
 
-// readFakeDesign reads a design the way an explorer would, so that a refused
-// name could only be caught by the server's resolution.
-func readFakeDesign(p string) ([]byte, error) {
-	if strings.HasPrefix(p, "demo:") {
+// readFakeDesign reads a design the way an explorer would (through the
+// request's loader), so that a refused name could only be caught by the
+// server's resolution or the loader's root.
+func readFakeDesign(r ExplorerRequest) ([]byte, error) {
+	if strings.HasPrefix(r.Design, "demo:") {
 		return []byte("demo"), nil
 	}
-	return os.ReadFile(p)
+	return r.Files.ReadFile(r.Design)
 }
 
 func (m *fakeModel) Init() tea.Cmd { return nil }

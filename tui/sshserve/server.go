@@ -16,6 +16,7 @@ import (
 	"github.com/charmbracelet/ssh"
 	gossh "golang.org/x/crypto/ssh"
 
+	"railyard/switchsim/load"
 	"railyard/switchsim/netfile"
 )
 
@@ -25,6 +26,9 @@ const (
 	DefaultMaxSessions = 16
 	DefaultIdleTimeout = 15 * time.Minute
 )
+
+// The limits before authentication (MaxPending, MaxPendingPerAddr,
+// HandshakeTimeout) have their defaults in pending.go.
 
 // Config is what a server is built from.
 type Config struct {
@@ -43,7 +47,14 @@ type Config struct {
 	// reader's own file limit when 0. With the reader's device limit it
 	// bounds what one session loads.
 	MaxDesignBytes int64
-	Logger         *slog.Logger // connection log; JSON to stderr when nil
+	// Limits before authentication, each its default when 0: connections
+	// accepted but not yet authenticated, in all and from one remote
+	// address, and the time a connection has to authenticate. See
+	// pendingGate for what happens when a cap is hit.
+	MaxPending        int
+	MaxPendingPerAddr int
+	HandshakeTimeout  time.Duration
+	Logger            *slog.Logger // connection log; JSON to stderr when nil
 
 	// Explorer builds the model for a chosen design; nil uses the railyard
 	// explorer (tests give their own). A model that is a Saver has its
@@ -55,9 +66,12 @@ type Config struct {
 
 // ExplorerRequest is what the Explorer hook gets to build one connection's model.
 type ExplorerRequest struct {
-	Name          string // as the user chose it: a file name under Designs or demo:NAME
-	Design        string // what to open: a resolved path inside Designs, or demo:NAME
-	Steps         string // the design's default steps, resolved inside Designs; empty for none or a demo
+	Name   string // as the user chose it: a file name under Designs or demo:NAME
+	Design string // what to open through Files: a file name inside Designs, or demo:NAME
+	Steps  string // the design's default steps, inside Designs; empty for none
+	// Files opens Design and Steps: a loader over the served folder that no
+	// name or symbolic link can leave (nil: the command line's files).
+	Files         *load.Loader
 	Width, Height int    // the client's terminal
 	Banner        string // the session id, for the header
 	TracePath     string // where the trace is saved; empty when the server keeps none
@@ -76,6 +90,7 @@ type Server struct {
 	hostKey  gossh.Signer
 	catalog  *catalog
 	registry *registry
+	gate     *pendingGate
 }
 
 // New checks a Config, loads or creates the host key, reads the authorised
@@ -84,14 +99,30 @@ func New(cfg Config) (*Server, error) {
 	if cfg.Listen == "" {
 		cfg.Listen = DefaultListen
 	}
-	if cfg.MaxSessions == 0 {
-		cfg.MaxSessions = DefaultMaxSessions
-	}
-	if cfg.MaxSessions < 0 {
-		return nil, fmt.Errorf("--max-sessions must be positive, got %d", cfg.MaxSessions)
+	for _, c := range []struct {
+		v    *int
+		def  int
+		flag string
+	}{
+		{&cfg.MaxSessions, DefaultMaxSessions, "--max-sessions"},
+		{&cfg.MaxPending, DefaultMaxPending, "--max-pending"},
+		{&cfg.MaxPendingPerAddr, DefaultMaxPendingPerAddr, "--max-pending-per-addr"},
+	} {
+		if *c.v == 0 {
+			*c.v = c.def
+		}
+		if *c.v < 0 {
+			return nil, fmt.Errorf("%s must be positive, got %d", c.flag, *c.v)
+		}
 	}
 	if cfg.IdleTimeout < 0 {
 		return nil, fmt.Errorf("--idle-timeout must not be negative, got %s", cfg.IdleTimeout)
+	}
+	if cfg.HandshakeTimeout == 0 {
+		cfg.HandshakeTimeout = DefaultHandshakeTimeout
+	}
+	if cfg.HandshakeTimeout < 0 {
+		return nil, fmt.Errorf("--handshake-timeout must be positive, got %s", cfg.HandshakeTimeout)
 	}
 	if cfg.MaxDesignBytes == 0 {
 		cfg.MaxDesignBytes = int64(netfile.DefaultLimits().FileSize)
@@ -105,7 +136,8 @@ func New(cfg Config) (*Server, error) {
 	if cfg.Demos == nil {
 		cfg.Demos = demoNames
 	}
-	s := &Server{cfg: cfg, log: cfg.Logger, registry: newRegistry(cfg.MaxSessions)}
+	s := &Server{cfg: cfg, log: cfg.Logger, registry: newRegistry(cfg.MaxSessions),
+		gate: newPendingGate(cfg.MaxPending, cfg.MaxPendingPerAddr, cfg.HandshakeTimeout, realClock{}, cfg.Logger)}
 
 	if cfg.NoAuth {
 		if cfg.AuthorizedKeys != "" {
@@ -150,8 +182,8 @@ func New(cfg Config) (*Server, error) {
 	connIdle := time.Duration(0)
 	if cfg.IdleTimeout > 0 {
 		// The session watchdog closes idle sessions with a message; this
-		// connection deadline is the backstop for stalled handshakes and
-		// connections that never open a session.
+		// connection deadline is the backstop for authenticated connections
+		// that never open a session (the gate bounds the handshake).
 		connIdle = cfg.IdleTimeout + 30*time.Second
 	}
 	var auth ssh.PublicKeyHandler
@@ -161,11 +193,13 @@ func New(cfg Config) (*Server, error) {
 		auth = s.publicKeyAllowed
 	}
 	srv, err := newSSHServer(sshSettings{
-		addr:     cfg.Listen,
-		hostKey:  hk,
-		auth:     auth,
-		connIdle: connIdle,
-		failed:   s.connectionFailed,
+		addr:      cfg.Listen,
+		hostKey:   hk,
+		auth:      auth,
+		connIdle:  connIdle,
+		failed:    s.connectionFailed,
+		accept:    s.admit,
+		handshake: s.handshakeConfig,
 		// Listed innermost first: a session runs logging, recovery, access,
 		// the limit, the terminal check, then the handler.
 		chain: []func(ssh.Handler) ssh.Handler{
@@ -197,7 +231,9 @@ func (s *Server) Serve(ln net.Listener) error {
 	}
 	s.log.Info("serving", "addr", ln.Addr().String(), "designs", s.catalog.root,
 		"host_key", gossh.FingerprintSHA256(s.hostKey.PublicKey()), "auth", s.authName(),
-		"max_sessions", s.cfg.MaxSessions, "idle_timeout", s.cfg.IdleTimeout.String())
+		"max_sessions", s.cfg.MaxSessions, "idle_timeout", s.cfg.IdleTimeout.String(),
+		"max_pending", s.cfg.MaxPending, "max_pending_per_addr", s.cfg.MaxPendingPerAddr,
+		"handshake_timeout", s.cfg.HandshakeTimeout.String())
 	err := s.srv.Serve(ln)
 	if errors.Is(err, ssh.ErrServerClosed) {
 		return nil
@@ -234,7 +270,40 @@ func (s *Server) connectionFailed(c net.Conn, err error) {
 	if errors.Is(err, io.EOF) {
 		return // a client that gave up or only probed
 	}
-	s.log.Warn("connection refused", "remote", c.RemoteAddr().String(), "error", err.Error())
+	if errors.Is(err, errDropped) {
+		return // the gate dropped it and logged why
+	}
+	s.log.Warn("handshake failed", "event", "failed", "remote", c.RemoteAddr().String(), "reason", err.Error())
+}
+
+// pendingKey holds a connection's pendingConn in its SSH context, from
+// accept to the handshake's settings.
+type pendingKey struct{}
+
+// admit is the first thing a new connection meets: the gate takes it or
+// refuses it (nil closes it).
+func (s *Server) admit(ctx ssh.Context, c net.Conn) net.Conn {
+	pc, ok := s.gate.admit(c)
+	if !ok {
+		return nil
+	}
+	ctx.SetValue(pendingKey{}, pc)
+	return pc
+}
+
+// handshakeConfig gives the connection's handshake settings: the SSH layer
+// reports every authentication attempt to it, and the first one that succeeds
+// ends the connection's time in the gate.
+func (s *Server) handshakeConfig(ctx ssh.Context) *gossh.ServerConfig {
+	cfg := &gossh.ServerConfig{}
+	if pc, ok := ctx.Value(pendingKey{}).(*pendingConn); ok {
+		cfg.AuthLogCallback = func(_ gossh.ConnMetadata, _ string, err error) {
+			if err == nil {
+				pc.authenticated()
+			}
+		}
+	}
+	return cfg
 }
 
 // checkLoopback refuses any address that is not bound to loopback only.

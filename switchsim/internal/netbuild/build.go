@@ -2,8 +2,6 @@ package netbuild
 
 import (
 	"errors"
-	"strconv"
-	"strings"
 
 	"railyard/switchsim"
 	"railyard/switchsim/diag"
@@ -134,7 +132,8 @@ func (d *Design) Build(errs *diag.Sink) *switchsim.Netlist {
 		errs.Add(whole, "%v", err)
 		return nil
 	}
-	byName := map[string]diag.Pos{}
+	byName := map[string]diag.Pos{} // railyard name -> where it was first named, for Compile's problems
+	byDev := map[string]diag.Pos{}
 	fail := func(p diag.Pos, err error) {
 		if err != nil {
 			errs.Add(p, "%s", err)
@@ -159,6 +158,7 @@ func (d *Design) Build(errs *diag.Sink) *switchsim.Netlist {
 	for i := range d.Devices {
 		v := &d.Devices[i]
 		name := devName[i]
+		byDev[name] = v.Pos
 		var err error
 		switch v.Kind {
 		case NMOS:
@@ -188,24 +188,17 @@ func (d *Design) Build(errs *diag.Sink) *switchsim.Netlist {
 			errs.Add(whole, "%v", err)
 			return nil
 		}
-		for _, msg := range ce.Problems {
-			errs.Add(posOf(msg, byName, whole), "%s", msg)
+		for _, pr := range ce.Problems {
+			at, ok := byName[pr.Node]
+			if !ok {
+				at, ok = byDev[pr.Device]
+			}
+			if !ok {
+				at = whole
+			}
+			errs.Add(at, "%s", pr.Msg)
 		}
 		return nil
 	}
 	return nl
-}
-
-// posOf finds the node a Compile message is about by the first quoted name in it.
-func posOf(msg string, byName map[string]diag.Pos, def diag.Pos) diag.Pos {
-	if i := strings.IndexByte(msg, '"'); i >= 0 {
-		if q, err := strconv.QuotedPrefix(msg[i:]); err == nil {
-			if n, err := strconv.Unquote(q); err == nil {
-				if p, ok := byName[n]; ok {
-					return p
-				}
-			}
-		}
-	}
-	return def
 }

@@ -62,10 +62,3 @@ func RailWant(s string, power, fold bool) string {
 	}
 	return Escape(s)
 }
-
-// PlausibleSize reports whether a transistor width or length, in metres,
-// looks like a drawn size (1 nm to 1 mm). Layout extraction often writes
-// sizes that a scale option elsewhere turns into metres (w=640000u), and
-// only their ratios then mean anything. (One helper for every reader; a
-// shared one in netfile can replace it.)
-func PlausibleSize(m float64) bool { return m >= 1e-9 && m <= 1e-3 }
