@@ -126,10 +126,10 @@ func WriteDeck(w io.Writer, nl *switchsim.Netlist, st *steps.Steps, opt DeckOpti
 			if dv.Kind == switchsim.PMOS {
 				model, bulk, rsq, w0 = pm, pw, t.Rp, t.Wp
 			}
-			l := dv.L
+			l := cardNumber(dv.L) // sizes from the design are written exactly
 			if dv.Strength < switchsim.Strong && dv.W == w0 && dv.L == t.L {
-				if r := t.DefaultResistance(dv.Strength); r > rsq*l/dv.W {
-					l = r * dv.W / rsq
+				if r := t.DefaultResistance(dv.Strength); r > rsq*dv.L/dv.W {
+					l = cardRounded(r * dv.W / rsq)
 					p("* %s is %s in railyard: lengthened to its default resistance of %s ohm", dv.Name, dv.Strength, cardRounded(r))
 				}
 			}
@@ -137,7 +137,7 @@ func WriteDeck(w io.Writer, nl *switchsim.Netlist, st *steps.Steps, opt DeckOpti
 				p("* %s is resistive in railyard (IEEE 1364-2005 §7.12): a plain transistor here", dv.Name)
 			}
 			p("%s %s %s %s %s %s w=%s l=%s", devName('m', devCardName(nl, d)), cardName(nl, dv.A), cardName(nl, dv.Gate), cardName(nl, dv.B), bulk, model,
-				cardNumber(dv.W), cardRounded(l))
+				cardNumber(dv.W), l)
 		default:
 			r := dv.Ohms
 			if r == 0 {

@@ -142,7 +142,13 @@ func sameCell(a, b *sw.Netlist, deck bool) []string {
 		x := a.Device(d)
 		e, ok := b.LookupDevice(x.Name)
 		if !ok && deck {
-			e, ok = b.LookupDevice("m" + x.Name)
+			// The deck spells a device as it was shown, with the card
+			// format's M in front where it has none.
+			for _, n := range []string{"m" + x.Name, a.DeviceDisplayName(d), "m" + a.DeviceDisplayName(d)} {
+				if e, ok = b.LookupDevice(n); ok {
+					break
+				}
+			}
 		}
 		if !ok {
 			bad("device %s is missing", x.Name)

@@ -138,6 +138,10 @@ func (f *flattener) run() *switchsim.Netlist {
 		}
 	}
 	f.nb.Name = netbuild.Escape(strings.ToLower(name))
+	f.nb.At = diag.Pos{File: f.file}
+	if top != nil {
+		f.nb.At = top.pos
+	}
 	f.nb.Desc = f.d.title
 	if f.errs.Any() {
 		return nil

@@ -178,18 +178,22 @@ func deviceLine(nl *switchsim.Netlist, i int, node func(int) (string, error)) (s
 }
 
 // aliases lists (railyard name, original) for every node and device whose
-// displayed name differs from its railyard name.
+// displayed name differs from its railyard name: one line a name, since
+// an original spelling is recorded by name for a node and a device alike.
 func aliases(nl *switchsim.Netlist) [][2]string {
 	var out [][2]string
-	for n := 0; n < nl.NumNodes(); n++ {
-		if o := nl.DisplayName(n); o != nl.NodeName(n) {
-			out = append(out, [2]string{nl.NodeName(n), o})
+	seen := map[string]bool{}
+	add := func(name, orig string) {
+		if orig != name && !seen[name] {
+			seen[name] = true
+			out = append(out, [2]string{name, orig})
 		}
 	}
+	for n := 0; n < nl.NumNodes(); n++ {
+		add(nl.NodeName(n), nl.DisplayName(n))
+	}
 	for d := 0; d < nl.NumDevices(); d++ {
-		if o := nl.DeviceDisplayName(d); o != nl.Device(d).Name {
-			out = append(out, [2]string{nl.Device(d).Name, o})
-		}
+		add(nl.Device(d).Name, nl.DeviceDisplayName(d))
 	}
 	return out
 }

@@ -35,9 +35,9 @@ MP Y A VDD VDD pch W=0.8u L=0.18u
 .ends
 `
 
-// reads reports whether the .sw reader takes src; when it refuses only a
-// statement this round adds (alias, tran, rtran, rnmos, rpmos, r= on
-// pulls), the test is skipped with that said.
+// readsBack reads a converted design; when the .sw reader refuses only a
+// statement proposed for netlists' devices (tran, rtran, rnmos, rpmos, r=
+// on pulls), the test is skipped with that said.
 func readsBack(t *testing.T, src []byte) *netfile.Design {
 	t.Helper()
 	d, err := netfile.Read("conv.sw", src)
@@ -47,7 +47,7 @@ func readsBack(t *testing.T, src []byte) *netfile.Design {
 	msg := err.Error()
 	for _, kw := range []string{`"alias"`, `"tran"`, `"rtran"`, `"rnmos"`, `"rpmos"`, `"r"`} {
 		if strings.Contains(msg, "unknown statement "+kw) || strings.Contains(msg, "unknown option "+kw) {
-			t.Skipf("the .sw reader does not read %s yet (being added with the alias statement); round trip not checked:\n%v", kw, err)
+			t.Skipf("the .sw reader does not read %s yet (a statement proposed for the netlists' resistive devices and links); round trip not checked:\n%v", kw, err)
 		}
 	}
 	t.Fatalf("the converted design does not read: %v\n%s", err, src)

@@ -79,6 +79,7 @@ func (f *flattener) run() *switchsim.Netlist {
 	in := &inst{m: top}
 	f.expand(in)
 	f.nb.Name = netbuild.Escape(top.name)
+	f.nb.At = top.pos
 	if f.errs.Any() {
 		return nil
 	}

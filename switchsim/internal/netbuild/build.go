@@ -19,6 +19,7 @@ type Design struct {
 	Ground     int32
 	Inputs     []int32
 	Outputs    []int32
+	At         diag.Pos // where the design is defined: the position of problems of the whole
 	nodeIx     map[string]int32
 }
 
@@ -99,11 +100,16 @@ func (d *Design) AddDevice(dv Device) {
 }
 
 // Build names every node and device (Namer: exact names first, so a name
-// the netlist spelled validly keeps it), records the original spellings,
+// the netlist spelled validly keeps it; nodes and devices in one name
+// space), records the original spellings,
 // and compiles. Errors go to errs with the positions of what they are
 // about; the netlist is nil when there was one.
 func (d *Design) Build(errs *diag.Sink) *switchsim.Netlist {
+	// One name space for nodes and devices: an original spelling is
+	// recorded by name (Builder.Original), so a node and a device never
+	// share one.
 	nodeName := make([]string, len(d.Nodes))
+	devName := make([]string, len(d.Devices))
 	var nn Namer
 	for pass := 0; pass < 2; pass++ {
 		for i := range d.Nodes {
@@ -111,26 +117,43 @@ func (d *Design) Build(errs *diag.Sink) *switchsim.Netlist {
 				nodeName[i] = nn.Name(n.Want)
 			}
 		}
-	}
-	devName := make([]string, len(d.Devices))
-	var dn Namer
-	for pass := 0; pass < 2; pass++ {
 		for i := range d.Devices {
 			if v := &d.Devices[i]; v.Exact == (pass == 0) {
-				devName[i] = dn.Name(v.Want)
+				devName[i] = nn.Name(v.Want)
 			}
 		}
 	}
 	b := switchsim.NewBuilder()
 	b.SetName(d.Name, d.Desc)
 	b.SetTech(d.Tech)
-	whole := diag.Pos{}
-	if len(d.Nodes) > 0 {
-		whole = diag.Pos{File: d.Nodes[0].Pos.File}
+	whole := d.At
+	if len(d.Devices) == 0 {
+		errs.Add(whole, "the design has no devices: nothing to simulate")
+		return nil
 	}
 	if err := b.SetRails(nodeName[d.Power], nodeName[d.Ground]); err != nil {
 		errs.Add(whole, "%v", err)
 		return nil
+	}
+	// An original spelling is kept only where it names one thing: not a
+	// spelling another node or device already shows, nor another's railyard
+	// name (a device X beside a node X: the device is shown as its
+	// railyard name xQ2), so that either spelling finds one thing.
+	taken := map[string]bool{}
+	for _, n := range nodeName {
+		taken[n] = true
+	}
+	for _, n := range devName {
+		taken[n] = true
+	}
+	original := func(name, orig string, p diag.Pos) {
+		if orig == "" || orig == name || taken[orig] {
+			return
+		}
+		taken[orig] = true
+		if err := b.Original(name, orig); err != nil {
+			errs.Add(p, "%v", err)
+		}
 	}
 	byName := map[string]diag.Pos{} // railyard name -> where it was first named, for Compile's problems
 	byDev := map[string]diag.Pos{}
@@ -151,9 +174,7 @@ func (d *Design) Build(errs *diag.Sink) *switchsim.Netlist {
 		if (n.Cap > 0 || n.Charge != switchsim.HighZ) && n.Used {
 			fail(n.Pos, b.Node(nodeName[i], n.Cap, n.Charge))
 		}
-		if n.Orig != "" {
-			fail(n.Pos, b.Original(nodeName[i], n.Orig))
-		}
+		original(nodeName[i], n.Orig, n.Pos)
 	}
 	for i := range d.Devices {
 		v := &d.Devices[i]
@@ -171,9 +192,7 @@ func (d *Design) Build(errs *diag.Sink) *switchsim.Netlist {
 			err = b.Tran(name, nodeName[v.A], nodeName[v.B], v.Opts)
 		}
 		fail(v.Pos, err)
-		if v.Orig != "" {
-			fail(v.Pos, b.Original(name, v.Orig))
-		}
+		original(name, v.Orig, v.Pos)
 		if errs.Full() {
 			return nil
 		}
