@@ -3,6 +3,7 @@ package cardfile_test
 import (
 	"bytes"
 	"errors"
+	"railyard/switchsim/internal/simtest"
 	"strings"
 	"testing"
 
@@ -58,7 +59,7 @@ func FuzzReadCards(f *testing.F) {
 		if err != nil {
 			t.Fatalf("the conversion does not read: %v\n%s", err, buf.String())
 		}
-		if diff := sameCell(nl, sw.Netlist, false); len(diff) > 0 {
+		if diff := simtest.Diff(nl, sw.Netlist, false); len(diff) > 0 {
 			t.Fatalf("read(convert(x)) differs:\n%s\n%s", strings.Join(diff, "\n"), buf.String())
 		}
 		if len(nl.Inputs()) == 0 || nl.Name == "" || !foldedNames(nl) {
@@ -84,7 +85,7 @@ func FuzzReadCards(f *testing.F) {
 		if err != nil {
 			t.Fatalf("the deck does not read back: %v\n%s", err, buf.String())
 		}
-		if diff := sameCell(nl, back.Netlist, true); len(diff) > 0 {
+		if diff := simtest.Diff(nl, back.Netlist, true); len(diff) > 0 {
 			t.Fatalf("the deck reads back differently:\n%s\n%s", strings.Join(diff, "\n"), buf.String())
 		}
 	})
