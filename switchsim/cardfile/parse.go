@@ -69,7 +69,20 @@ type model struct {
 // first parameter are errors.
 func split(c *card, skip int, errs *netbuild.Sink) (args []tok, params []param) {
 	t := c.toks
+	// The positional words are most often the run before the first =: they
+	// are taken as a slice of the card's own words, with no copy.
+	run := len(t)
 	for i := skip; i < len(t); i++ {
+		if t[i].eq {
+			run = i - 1
+			break
+		}
+	}
+	if run < skip {
+		run = skip
+	}
+	args = t[skip:run:run]
+	for i := run; i < len(t); i++ {
 		switch {
 		case t[i].eq:
 			errs.Add(t[i].pos, "= with no parameter name before it")
@@ -82,12 +95,15 @@ func split(c *card, skip int, errs *netbuild.Sink) (args []tok, params []param) 
 				i++
 				continue
 			}
+			if params == nil {
+				params = make([]param, 0, (len(t)-i)/3)
+			}
 			params = append(params, param{key: strings.ToLower(t[i].text), val: t[i+2], pos: t[i].pos})
 			i += 2
 		case len(params) > 0 && c.head() != ".model":
 			errs.Add(t[i].pos, "unexpected %q after the parameters: positional words come first", t[i].text)
 		default:
-			args = append(args, t[i])
+			args = append(args, t[i]) // copies: args has no room past the run
 		}
 	}
 	return args, params

@@ -110,7 +110,7 @@ func (d *Design) Build(errs *diag.Sink) *switchsim.Netlist {
 	// share one.
 	nodeName := make([]string, len(d.Nodes))
 	devName := make([]string, len(d.Devices))
-	var nn Namer
+	nn := Namer{taken: make(map[string]bool, 2*(len(d.Nodes)+len(d.Devices)))} // the names, and the originals kept
 	for pass := 0; pass < 2; pass++ {
 		for i := range d.Nodes {
 			if n := &d.Nodes[i]; n.Exact == (pass == 0) {
@@ -139,13 +139,7 @@ func (d *Design) Build(errs *diag.Sink) *switchsim.Netlist {
 	// spelling another node or device already shows, nor another's railyard
 	// name (a device X beside a node X: the device is shown as its
 	// railyard name xQ2), so that either spelling finds one thing.
-	taken := map[string]bool{}
-	for _, n := range nodeName {
-		taken[n] = true
-	}
-	for _, n := range devName {
-		taken[n] = true
-	}
+	taken := nn.taken // every railyard name; the originals kept join it
 	original := func(name, orig string, p diag.Pos) {
 		if orig == "" || orig == name || taken[orig] {
 			return
@@ -155,8 +149,6 @@ func (d *Design) Build(errs *diag.Sink) *switchsim.Netlist {
 			errs.Add(p, "%v", err)
 		}
 	}
-	byName := map[string]diag.Pos{} // railyard name -> where it was first named, for Compile's problems
-	byDev := map[string]diag.Pos{}
 	fail := func(p diag.Pos, err error) {
 		if err != nil {
 			errs.Add(p, "%s", err)
@@ -170,7 +162,6 @@ func (d *Design) Build(errs *diag.Sink) *switchsim.Netlist {
 	}
 	for i := range d.Nodes {
 		n := &d.Nodes[i]
-		byName[nodeName[i]] = n.Pos
 		if (n.Cap > 0 || n.Charge != switchsim.HighZ) && n.Used {
 			fail(n.Pos, b.Node(nodeName[i], n.Cap, n.Charge))
 		}
@@ -179,7 +170,6 @@ func (d *Design) Build(errs *diag.Sink) *switchsim.Netlist {
 	for i := range d.Devices {
 		v := &d.Devices[i]
 		name := devName[i]
-		byDev[name] = v.Pos
 		var err error
 		switch v.Kind {
 		case NMOS:
@@ -206,6 +196,15 @@ func (d *Design) Build(errs *diag.Sink) *switchsim.Netlist {
 		if !errors.As(err, &ce) {
 			errs.Add(whole, "%v", err)
 			return nil
+		}
+		// Positions only now, when there is something to say.
+		byName := map[string]diag.Pos{}
+		for i := range d.Nodes {
+			byName[nodeName[i]] = d.Nodes[i].Pos
+		}
+		byDev := map[string]diag.Pos{}
+		for i := range d.Devices {
+			byDev[devName[i]] = d.Devices[i].Pos
 		}
 		for _, pr := range ce.Problems {
 			at, ok := byName[pr.Node]
