@@ -1,7 +1,7 @@
 package cardfile_test
 
 import (
-	"os"
+	"railyard/designs"
 	"railyard/switchsim/internal/simtest"
 	"testing"
 
@@ -9,15 +9,15 @@ import (
 	"railyard/switchsim/steps"
 )
 
-// The embedded netlist demo reads and its steps pass in both modes (the
+// The embedded netlist demo (designs.FS) reads and its steps pass in both modes (the
 // checks were worked out by hand from the circuit: common practice), with
 // nothing skipped and the technology from its models.
 func TestDemoOpselLatch(t *testing.T) {
-	src, err := os.ReadFile("../../designs/opsel_latch.sp")
+	src, err := designs.FS.ReadFile("opsel_latch.sp")
 	if err != nil {
 		t.Fatal(err)
 	}
-	stSrc, err := os.ReadFile("../../designs/opsel_latch.steps")
+	stSrc, err := designs.FS.ReadFile("opsel_latch.steps")
 	if err != nil {
 		t.Fatal(err)
 	}

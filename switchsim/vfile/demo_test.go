@@ -1,7 +1,7 @@
 package vfile_test
 
 import (
-	"os"
+	"railyard/designs"
 	"railyard/switchsim/internal/simtest"
 	"testing"
 
@@ -13,11 +13,11 @@ import (
 // checks were worked out by hand: a selector of transmission gates passes
 // full levels, common practice).
 func TestDemoImmSelect(t *testing.T) {
-	src, err := os.ReadFile("../../designs/imm_select.v")
+	src, err := designs.FS.ReadFile("imm_select.v")
 	if err != nil {
 		t.Fatal(err)
 	}
-	stSrc, err := os.ReadFile("../../designs/imm_select.steps")
+	stSrc, err := designs.FS.ReadFile("imm_select.steps")
 	if err != nil {
 		t.Fatal(err)
 	}
