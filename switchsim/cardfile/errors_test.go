@@ -135,3 +135,16 @@ func itoa(i int) string {
 	}
 	return itoa(i/10) + string(rune('0'+i%10))
 }
+
+// Names from the file reach messages made printable: a control character
+// shows as an escape, never reaches a terminal.
+func TestMessagesPrintable(t *testing.T) {
+	_, err := cardfile.Read("t.sp", []byte(".subckt c a\nm1 a a 0 0 \x1b[31mzz\n.ends\n"), cardfile.Options{})
+	if err == nil || strings.ContainsRune(err.Error(), 0x1b) || !strings.Contains(err.Error(), `\x1b[31mzz`) {
+		t.Errorf("error %q: want the escape written out", err)
+	}
+	d := read(t, "title\n.subckt c a\nm1 a a 0 0 n\x1b]0;x\x07ch\n.ends\n", cardfile.Options{})
+	if n := notes(d); strings.ContainsAny(n, "\x1b\x07") {
+		t.Errorf("notes %q hold control characters", n)
+	}
+}

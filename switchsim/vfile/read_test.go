@@ -146,3 +146,10 @@ func itoa(i int) string {
 	}
 	return itoa(i/10) + string(rune('0'+i%10))
 }
+
+func TestMessagesPrintable(t *testing.T) {
+	msg := readErr(t, "module m (input a, output y);\n  sub \\u\x1b[2J (a, y);\nendmodule\n")
+	if strings.ContainsRune(msg, 0x1b) || !strings.Contains(msg, `\x1b[2J`) {
+		t.Errorf("error %q: want the escape written out", msg)
+	}
+}

@@ -19,7 +19,9 @@ func NewSink(max int) *Sink { return &Sink{S: diag.NewSink(max), seen: map[diag.
 
 // Add records one entry, unless the same was recorded already.
 func (k *Sink) Add(p diag.Pos, format string, args ...any) {
-	e := diag.Error{Pos: p, Msg: fmt.Sprintf(format, args...)}
+	// Names and text from the file may hold control characters: the
+	// message is made printable before anyone shows it.
+	e := diag.Error{Pos: p, Msg: diag.Printable(fmt.Sprintf(format, args...))}
 	if k.seen[e] {
 		return
 	}
