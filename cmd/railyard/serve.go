@@ -2,6 +2,7 @@ package main
 
 import (
 	"context"
+	"errors"
 	"fmt"
 	"io"
 	"log/slog"
@@ -26,8 +27,10 @@ Serve the explorer over SSH. Designers connect with a plain SSH client and
 a key listed in --authorized-keys (public keys only: no passwords). The SSH
 command chooses the design: NAME for DIR/NAME.sw (with its .steps beside
 it), demo:NAME for an embedded demo, nothing for a picker, and
-'join SESSION-ID' to watch someone's session read-only. Traces go under
---traces/USER/. Connections are logged to stderr as JSON lines.
+'join SESSION-ID' to watch someone's session read-only. The save key
+writes the trace or a VCD under --traces/USER/ with a name the server
+chooses; each session's trace is kept there too. Connections are logged to
+stderr as JSON lines.
 
 A connection has --handshake-timeout to authenticate. Connections not yet
 authenticated are capped per remote address (an IPv6 one by its /64) and in
@@ -40,6 +43,42 @@ examples:
   ssh -t -p 2222 alice@127.0.0.1 opsel
   ssh -t -p 2222 bob@127.0.0.1 join k3m9qa
 `
+
+// serveFlags is the flag that sets each sshserve.Config field, so that the
+// server's errors, which name its fields, read in the user's terms.
+var serveFlags = map[string]string{
+	"Listen":            "--listen",
+	"AuthorizedKeys":    "--authorized-keys",
+	"HostKey":           "--host-key",
+	"Designs":           "--designs",
+	"Traces":            "--traces",
+	"MaxSessions":       "--max-sessions",
+	"IdleTimeout":       "--idle-timeout",
+	"MaxPending":        "--max-pending",
+	"MaxPendingPerAddr": "--max-pending-per-addr",
+	"HandshakeTimeout":  "--handshake-timeout",
+	"NoAuth":            "--no-auth",
+}
+
+// serveError says err in flags: a ConfigError's fields become the flags
+// that set them (a field no flag sets keeps its name).
+func serveError(err error) string {
+	var ce *sshserve.ConfigError
+	if !errors.As(err, &ce) {
+		return err.Error()
+	}
+	flag := func(field string) string {
+		if f, ok := serveFlags[field]; ok {
+			return f
+		}
+		return field
+	}
+	what := flag(ce.Field)
+	if ce.Other != "" {
+		what += " and " + flag(ce.Other)
+	}
+	return what + ": " + ce.Err.Error()
+}
 
 // defaultHostKey is where the host key lives unless --host-key says.
 func defaultHostKey() string {
@@ -57,7 +96,7 @@ func cmdServe(args []string, stdout, stderr io.Writer) int {
 	fs.StringVar(&cfg.AuthorizedKeys, "authorized-keys", "", "the public keys let in, one a line (`FILE`, as ssh-keygen writes them)")
 	fs.StringVar(&cfg.HostKey, "host-key", defaultHostKey(), "the server's private key `FILE`; an ed25519 key is made there (mode 600) if missing")
 	fs.StringVar(&cfg.Designs, "designs", "", "the `DIR` of .sw designs served")
-	fs.StringVar(&cfg.Traces, "traces", "", "save each session's trace under `DIR`/USER/ (none kept without it)")
+	fs.StringVar(&cfg.Traces, "traces", "", "keep each session's trace and what users save (trace, VCD) under `DIR`/USER/ (nothing kept without it)")
 	fs.IntVar(&cfg.MaxSessions, "max-sessions", sshserve.DefaultMaxSessions, "sessions open at once (`N`); more are refused")
 	fs.DurationVar(&cfg.IdleTimeout, "idle-timeout", sshserve.DefaultIdleTimeout, "close a session after this long (`D`) without input; 0 never")
 	fs.IntVar(&cfg.MaxPending, "max-pending", sshserve.DefaultMaxPending, "connections not yet authenticated at once (`N`), from all addresses")
@@ -89,7 +128,7 @@ func cmdServe(args []string, stdout, stderr io.Writer) int {
 	cfg.Logger = slog.New(slog.NewJSONHandler(stderr, nil))
 	srv, err := sshserve.New(cfg)
 	if err != nil {
-		fmt.Fprintf(stderr, "railyard serve: %v\n", err)
+		fmt.Fprintf(stderr, "railyard serve: %s\n", serveError(err))
 		return exitUsage
 	}
 	ln, err := net.Listen("tcp", cfg.Listen)
@@ -109,7 +148,7 @@ func cmdServe(args []string, stdout, stderr io.Writer) int {
 	select {
 	case err := <-done:
 		if err != nil {
-			fmt.Fprintf(stderr, "railyard serve: %v\n", err)
+			fmt.Fprintf(stderr, "railyard serve: %s\n", serveError(err))
 			return exitFail
 		}
 		return exitOK

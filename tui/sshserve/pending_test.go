@@ -355,18 +355,20 @@ func mustTCPAddr(t *testing.T, s string) net.Addr {
 }
 
 func TestPendingLimitsMustBePositive(t *testing.T) {
+	// The errors name the Config field (the command maps it to its flag).
 	for name, set := range map[string]func(*Config){
-		"--max-pending":          func(c *Config) { c.MaxPending = -1 },
-		"--max-pending-per-addr": func(c *Config) { c.MaxPendingPerAddr = -1 },
-		"--handshake-timeout":    func(c *Config) { c.HandshakeTimeout = -time.Second },
+		"MaxPending":        func(c *Config) { c.MaxPending = -1 },
+		"MaxPendingPerAddr": func(c *Config) { c.MaxPendingPerAddr = -1 },
+		"HandshakeTimeout":  func(c *Config) { c.HandshakeTimeout = -time.Second },
 	} {
 		dir := t.TempDir()
 		must(t, os.MkdirAll(filepath.Join(dir, "d"), 0o755))
 		cfg := Config{NoAuth: true, Listen: "127.0.0.1:0", HostKey: filepath.Join(dir, "hk"), Designs: filepath.Join(dir, "d"),
 			Explorer: fakeExplorer, Demos: func() []string { return nil }, Logger: slog.New(slog.DiscardHandler)}
 		set(&cfg)
-		if _, err := New(cfg); err == nil || !strings.Contains(err.Error(), name) {
-			t.Errorf("%s negative: error %v, want one naming the flag", name, err)
+		var ce *ConfigError
+		if _, err := New(cfg); !errors.As(err, &ce) || ce.Field != name {
+			t.Errorf("%s negative: error %v, want a ConfigError on that field", name, err)
 		}
 	}
 }

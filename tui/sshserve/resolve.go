@@ -40,22 +40,22 @@ type target struct {
 func newCatalog(dir string, demos func() []string, maxBytes int64) (*catalog, error) {
 	abs, err := filepath.Abs(dir)
 	if err != nil {
-		return nil, fmt.Errorf("--designs: %w", err)
+		return nil, err
 	}
 	root, err := filepath.EvalSymlinks(abs)
 	if err != nil {
-		return nil, fmt.Errorf("--designs: %w", err)
+		return nil, err
 	}
 	fi, err := os.Stat(root)
 	if err != nil {
-		return nil, fmt.Errorf("--designs: %w", err)
+		return nil, err
 	}
 	if !fi.IsDir() {
-		return nil, fmt.Errorf("--designs %s: not a folder", dir)
+		return nil, fmt.Errorf("%s: not a folder", dir)
 	}
 	r, err := os.OpenRoot(root)
 	if err != nil {
-		return nil, fmt.Errorf("--designs: %w", err)
+		return nil, err
 	}
 	files := load.Root(r, load.Options{MaxBytes: int(min(maxBytes, 1<<30))})
 	return &catalog{root: root, files: files, demos: demos, maxBytes: maxBytes}, nil

@@ -8,7 +8,6 @@ import (
 	"log/slog"
 	"net"
 	"os"
-	"path/filepath"
 	"time"
 
 	tea "github.com/charmbracelet/bubbletea"
@@ -16,8 +15,10 @@ import (
 	"github.com/charmbracelet/ssh"
 	gossh "golang.org/x/crypto/ssh"
 
+	"railyard/switchsim/diag"
 	"railyard/switchsim/load"
 	"railyard/switchsim/netfile"
+	"railyard/tui"
 )
 
 // Defaults for the options a Config leaves zero.
@@ -32,12 +33,16 @@ const (
 
 // Config is what a server is built from.
 type Config struct {
-	Listen         string // TCP address; DefaultListen when empty
+	// Listen is the TCP address the listener given to Serve is for (with
+	// NoAuth it must be loopback); DefaultListen when empty.
+	Listen         string
 	AuthorizedKeys string // authorized_keys file; required unless NoAuth
 	HostKey        string // private host key; generated (ed25519, mode 600) when missing
 	Designs        string // the folder of .sw designs served
-	Traces         string // traces are saved under Traces/USER/; none are saved when empty
-	MaxSessions    int    // open sessions (explorers, viewers, pickers) at once; DefaultMaxSessions when 0
+	// Traces is where files are kept: what users save, and each session's
+	// whole trace, go under Traces/USER/; nothing is kept when empty.
+	Traces      string
+	MaxSessions int // open sessions (explorers, viewers, pickers) at once; DefaultMaxSessions when 0
 	// IdleTimeout closes a session after this long without input (a viewer:
 	// without input from it or its host); 0 never does.
 	IdleTimeout time.Duration
@@ -58,7 +63,7 @@ type Config struct {
 
 	// Explorer builds the model for a chosen design; nil uses the railyard
 	// explorer (tests give their own). A model that is a Saver has its
-	// trace kept under Traces.
+	// whole trace kept under Traces when the session ends.
 	Explorer func(ExplorerRequest) (tea.Model, error)
 	// Demos lists the embedded demo names; nil uses the designs package.
 	Demos func() []string
@@ -74,11 +79,39 @@ type ExplorerRequest struct {
 	Files         *load.Loader
 	Width, Height int    // the client's terminal
 	Banner        string // the session id, for the header
-	TracePath     string // where the trace is saved; empty when the server keeps none
-	NoColor       bool   // the client asked for NO_COLOR
-	ASCII         bool   // the client's terminal is not UTF-8 capable
+	// Save keeps what the user saves (the explorer's tui.Options.Save):
+	// under Traces/USER/ with a name the server chooses, or, when the
+	// server keeps no files, an error saying so. Never nil: a served
+	// explorer must not fall back to asking for a path.
+	Save    tui.SaveFunc
+	NoColor bool // the client asked for NO_COLOR
+	ASCII   bool // the client's terminal is not UTF-8 capable
 	// Renderer renders styles for this client's terminal.
 	Renderer *lipgloss.Renderer
+}
+
+// ConfigError is a Config the server cannot take: the field at fault (as
+// named in Config), the field it clashes with when there is one, and what
+// is wrong. A command maps the field names to its own flags.
+type ConfigError struct {
+	Field string
+	Other string
+	Err   error
+}
+
+func (e *ConfigError) Error() string {
+	f := e.Field
+	if e.Other != "" {
+		f += " and " + e.Other
+	}
+	return f + ": " + e.Err.Error()
+}
+
+func (e *ConfigError) Unwrap() error { return e.Err }
+
+// configError is a ConfigError on one field.
+func configError(field, format string, args ...any) error {
+	return &ConfigError{Field: field, Err: fmt.Errorf(format, args...)}
 }
 
 // Server is a configured railyard SSH server.
@@ -94,38 +127,41 @@ type Server struct {
 }
 
 // New checks a Config, loads or creates the host key, reads the authorised
-// keys and builds the server. Nothing listens until Serve or ListenAndServe.
+// keys and builds the server. Nothing listens until Serve.
 func New(cfg Config) (*Server, error) {
 	if cfg.Listen == "" {
 		cfg.Listen = DefaultListen
 	}
 	for _, c := range []struct {
-		v    *int
-		def  int
-		flag string
+		v     *int
+		def   int
+		field string
 	}{
-		{&cfg.MaxSessions, DefaultMaxSessions, "--max-sessions"},
-		{&cfg.MaxPending, DefaultMaxPending, "--max-pending"},
-		{&cfg.MaxPendingPerAddr, DefaultMaxPendingPerAddr, "--max-pending-per-addr"},
+		{&cfg.MaxSessions, DefaultMaxSessions, "MaxSessions"},
+		{&cfg.MaxPending, DefaultMaxPending, "MaxPending"},
+		{&cfg.MaxPendingPerAddr, DefaultMaxPendingPerAddr, "MaxPendingPerAddr"},
 	} {
 		if *c.v == 0 {
 			*c.v = c.def
 		}
 		if *c.v < 0 {
-			return nil, fmt.Errorf("%s must be positive, got %d", c.flag, *c.v)
+			return nil, configError(c.field, "must be positive, got %d", *c.v)
 		}
 	}
 	if cfg.IdleTimeout < 0 {
-		return nil, fmt.Errorf("--idle-timeout must not be negative, got %s", cfg.IdleTimeout)
+		return nil, configError("IdleTimeout", "must not be negative, got %s", cfg.IdleTimeout)
 	}
 	if cfg.HandshakeTimeout == 0 {
 		cfg.HandshakeTimeout = DefaultHandshakeTimeout
 	}
 	if cfg.HandshakeTimeout < 0 {
-		return nil, fmt.Errorf("--handshake-timeout must be positive, got %s", cfg.HandshakeTimeout)
+		return nil, configError("HandshakeTimeout", "must be positive, got %s", cfg.HandshakeTimeout)
 	}
 	if cfg.MaxDesignBytes == 0 {
 		cfg.MaxDesignBytes = int64(netfile.DefaultLimits().FileSize)
+	}
+	if cfg.MaxDesignBytes < 0 {
+		return nil, configError("MaxDesignBytes", "must be positive, got %d", cfg.MaxDesignBytes)
 	}
 	if cfg.Logger == nil {
 		cfg.Logger = slog.New(slog.NewJSONHandler(os.Stderr, nil))
@@ -141,14 +177,14 @@ func New(cfg Config) (*Server, error) {
 
 	if cfg.NoAuth {
 		if cfg.AuthorizedKeys != "" {
-			return nil, errors.New("--no-auth and --authorized-keys exclude each other")
+			return nil, &ConfigError{Field: "NoAuth", Other: "AuthorizedKeys", Err: errors.New("they exclude each other")}
 		}
 		if err := checkLoopback(cfg.Listen); err != nil {
 			return nil, err
 		}
 	} else {
 		if cfg.AuthorizedKeys == "" {
-			return nil, errors.New("--authorized-keys FILE is required (public keys are the only way in)")
+			return nil, configError("AuthorizedKeys", "a file is required (public keys are the only way in)")
 		}
 		keys, err := loadAuthorizedKeys(cfg.AuthorizedKeys)
 		if err != nil {
@@ -157,25 +193,25 @@ func New(cfg Config) (*Server, error) {
 		s.keys = keys
 	}
 	if cfg.HostKey == "" {
-		return nil, errors.New("--host-key FILE is required")
+		return nil, configError("HostKey", "a file is required")
 	}
 	hk, created, err := loadOrCreateHostKey(cfg.HostKey)
 	if err != nil {
-		return nil, err
+		return nil, &ConfigError{Field: "HostKey", Err: err}
 	}
 	s.hostKey = hk
 	if created {
 		s.log.Info("host key created", "path", cfg.HostKey, "fingerprint", gossh.FingerprintSHA256(hk.PublicKey()))
 	}
 	if cfg.Designs == "" {
-		return nil, errors.New("--designs DIR is required")
+		return nil, configError("Designs", "a folder is required")
 	}
 	if s.catalog, err = newCatalog(cfg.Designs, cfg.Demos, cfg.MaxDesignBytes); err != nil {
-		return nil, err
+		return nil, &ConfigError{Field: "Designs", Err: err}
 	}
 	if cfg.Traces != "" {
 		if err := os.MkdirAll(cfg.Traces, 0o750); err != nil {
-			return nil, fmt.Errorf("--traces: %w", err)
+			return nil, &ConfigError{Field: "Traces", Err: err}
 		}
 	}
 
@@ -241,15 +277,6 @@ func (s *Server) Serve(ln net.Listener) error {
 	return err
 }
 
-// ListenAndServe listens on the configured address and serves.
-func (s *Server) ListenAndServe() error {
-	ln, err := net.Listen("tcp", s.cfg.Listen)
-	if err != nil {
-		return err
-	}
-	return s.Serve(ln)
-}
-
 // Close stops listening and closes every connection.
 func (s *Server) Close() error { return s.srv.Close() }
 
@@ -273,7 +300,8 @@ func (s *Server) connectionFailed(c net.Conn, err error) {
 	if errors.Is(err, errDropped) {
 		return // the gate dropped it and logged why
 	}
-	s.log.Warn("handshake failed", "event", "failed", "remote", c.RemoteAddr().String(), "reason", err.Error())
+	// The reason can quote what the client sent (its algorithm names).
+	s.log.Warn("handshake failed", "event", "failed", "remote", c.RemoteAddr().String(), "reason", diag.Printable(err.Error()))
 }
 
 // pendingKey holds a connection's pendingConn in its SSH context, from
@@ -310,20 +338,14 @@ func (s *Server) handshakeConfig(ctx ssh.Context) *gossh.ServerConfig {
 func checkLoopback(addr string) error {
 	host, _, err := net.SplitHostPort(addr)
 	if err != nil {
-		return fmt.Errorf("--listen %q: %v", addr, err)
+		return configError("Listen", "%q: %v", addr, err)
 	}
 	if host == "localhost" {
 		return nil // Serve checks the address actually bound
 	}
 	ip := net.ParseIP(host)
 	if ip == nil || !ip.IsLoopback() {
-		return fmt.Errorf("--no-auth is only allowed on a loopback address (such as 127.0.0.1), not %q", addr)
+		return configError("NoAuth", "only allowed on a loopback address (such as 127.0.0.1), not %q", addr)
 	}
 	return nil
-}
-
-// cleanBase is a design path's base name without its extension, for trace names.
-func cleanBase(p string) string {
-	b := filepath.Base(p)
-	return b[:len(b)-len(filepath.Ext(b))]
 }
