@@ -9,8 +9,7 @@ import (
 	"railyard/designs"
 	sw "railyard/switchsim"
 	"railyard/switchsim/gen"
-	"railyard/switchsim/netfile"
-	"railyard/switchsim/steps"
+	"railyard/switchsim/load"
 )
 
 // An independent DC reference for physical mode. It is written from the
@@ -126,8 +125,14 @@ func (r dcRef) current(dev sw.Device, beta, vg, va, vb float64) float64 {
 func (r dcRef) beta(dev sw.Device) float64 {
 	t := r.t
 	ref := math.Max(t.Rn*t.L/t.Wn, t.Rp*t.L/t.Wp)
-	factor := map[sw.Strength]float64{sw.Supply: 0.1, sw.Strong: 1, sw.Pull: 10, sw.Weak: 40}[dev.Strength]
-	if dev.Kind == sw.PullUp || dev.Kind == sw.PullDown {
+	factor, ok := map[sw.Strength]float64{sw.Supply: 0.1, sw.Pull: 10, sw.Weak: 40}[dev.Strength]
+	if !ok {
+		factor = 1
+	}
+	if dev.Kind >= sw.PullUp { // pulls and always-on links are resistors
+		if dev.Ohms > 0 {
+			return 1 / dev.Ohms
+		}
 		return 1 / (factor * ref)
 	}
 	k, rsq, w0 := t.Kn, t.Rn, t.Wn
@@ -477,22 +482,18 @@ func TestDCReferenceDemos(t *testing.T) {
 	rng := rand.New(rand.NewPCG(12, 7))
 	worst, compared, skipped := 0.0, 0, 0
 	for _, e := range designs.List() {
-		d, err := netfile.ReadFile("demo:" + e.Name)
+		ld, err := load.Host(load.Options{}).Open("demo:"+e.Name, "")
 		if err != nil {
 			t.Fatal(err)
 		}
-		nl := d.Netlist
+		nl := ld.Design.Netlist
 		s := sw.NewSim(nl, sw.Options{})
 		s.Settle()
 		check := func(what string) {
 			w, c, k := dcCompare(t, "demo:"+e.Name+" "+what, s)
 			worst, compared, skipped = math.Max(worst, w), compared+c, skipped+k
 		}
-		if path, ok := steps.Default("demo:" + e.Name); ok {
-			st, err := steps.ReadFile(path, nl)
-			if err != nil {
-				t.Fatal(err)
-			}
+		if st := ld.Steps; st != nil {
 			for _, row := range st.Rows {
 				for i, n := range st.Apply {
 					s.SetInput(n, row.Drives[i])

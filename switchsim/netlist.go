@@ -33,8 +33,10 @@ type Netlist struct {
 	devCap    []Strength
 	devW      []float64
 	devL      []float64
-	devByName []int32 // device numbers sorted by name
-	chanStart []int32 // CSR: devices whose channel touches node n are chanDev[chanStart[n]:chanStart[n+1]]
+	devByName []int32   // device numbers sorted by name
+	devResist []bool    // IEEE 1364-2005 §7.12 resistive devices; nil when there are none
+	devOhms   []float64 // resistances given in ohms (R cards); nil when none is
+	chanStart []int32   // CSR: devices whose channel touches node n are chanDev[chanStart[n]:chanStart[n+1]]
 	chanDev   []int32
 	gateStart []int32 // CSR: devices gated by node n
 	gateDev   []int32
@@ -45,16 +47,30 @@ type Netlist struct {
 }
 
 // CompileError lists every problem Compile found.
-type CompileError struct{ Problems []string }
+type CompileError struct{ Problems []Problem }
 
-func (e *CompileError) Error() string { return strings.Join(e.Problems, "\n") }
+// Problem is one thing Compile found wrong, with the node or device it
+// concerns (by name; both empty for the design as a whole), so that a
+// reader can put it at the statement that named it.
+type Problem struct {
+	Node, Device string
+	Msg          string
+}
+
+func (e *CompileError) Error() string {
+	msgs := make([]string, len(e.Problems))
+	for i, p := range e.Problems {
+		msgs[i] = p.Msg
+	}
+	return strings.Join(msgs, "\n")
+}
 
 // Compile checks the netlist and turns it into dense arrays.
 func (b *Builder) Compile() (*Netlist, error) {
-	var probs []string
-	bad := func(f string, a ...any) { probs = append(probs, fmt.Sprintf(f, a...)) }
+	var probs []Problem
+	bad := func(node, f string, a ...any) { probs = append(probs, Problem{Node: node, Msg: fmt.Sprintf(f, a...)}) }
 	if err := b.tech.Validate(); err != nil {
-		bad("%v", err)
+		bad("", "%v", err)
 	}
 	pw, _ := b.node(b.power)
 	gn, _ := b.node(b.ground)
@@ -80,7 +96,7 @@ func (b *Builder) Compile() (*Netlist, error) {
 	}
 	for _, r := range []int32{pw, gn} {
 		if b.nodes[r].input {
-			bad("rail %q cannot be an input", b.nodes[r].name)
+			bad(b.nodes[r].name, "rail %q cannot be an input", b.nodes[r].name)
 		}
 	}
 	nl.nodeKind[pw], nl.nodeKind[gn] = Power, Ground
@@ -112,24 +128,38 @@ func (b *Builder) Compile() (*Netlist, error) {
 		if d.l == 0 && d.kind < PullUp {
 			nl.devL[i] = b.tech.L
 		}
+		if d.resist {
+			if nl.devResist == nil {
+				nl.devResist = make([]bool, nd)
+			}
+			nl.devResist[i] = true
+		}
+		if d.ohms > 0 {
+			if nl.devOhms == nil {
+				nl.devOhms = make([]float64, nd)
+			}
+			nl.devOhms[i] = d.ohms
+		}
 		touched[a], touched[d.b] = true, true
 		if d.gate >= 0 {
 			touched[d.gate] = true
 		}
 	}
+	output := make([]bool, nn)
 	for _, o := range b.outputs {
+		output[o] = true
 		if !touched[o] && !b.nodes[o].input {
-			bad("output %q is not connected to any device", b.nodes[o].name)
+			bad(b.nodes[o].name, "output %q is not connected to any device", b.nodes[o].name)
 		}
 	}
 	for name := range b.declared {
 		i := b.nodeIdx[name]
-		if !touched[i] && !b.nodes[i].input && i != pw && i != gn {
-			bad("node %q is not connected to any device", name)
+		if !touched[i] && !b.nodes[i].input && !output[i] && i != pw && i != gn {
+			bad(name, "node %q is not connected to any device", name)
 		}
 	}
 	if len(probs) > 0 {
-		sortStrings(probs)
+		slices.SortFunc(probs, func(p, q Problem) int { return strings.Compare(p.Msg, q.Msg) })
 		return nil, &CompileError{probs}
 	}
 	// Sorted indices instead of maps: 4 bytes a name instead of a map entry.
@@ -180,14 +210,6 @@ func csr(nn, nd int, each func(d int, emit func(int32))) (start, list []int32) {
 		each(d, func(n int32) { list[fill[n]] = int32(d); fill[n]++ })
 	}
 	return start, list
-}
-
-func sortStrings(s []string) {
-	for i := 1; i < len(s); i++ {
-		for j := i; j > 0 && s[j] < s[j-1]; j-- {
-			s[j], s[j-1] = s[j-1], s[j]
-		}
-	}
 }
 
 // ErrUnknownNode is returned when a name is not a node of the netlist.
@@ -270,12 +292,24 @@ type Device struct {
 	A, B     int // channel terminals
 	W, L     float64
 	Strength Strength
+	// Resistive is set for devices that reduce strengths as IEEE
+	// 1364-2005 §7.12 says (rnmos, rtran, R cards); Ohms is a resistance
+	// given in ohms, 0 where the device has none of its own.
+	Resistive bool
+	Ohms      float64
 }
 
 // Device returns device d's description.
 func (nl *Netlist) Device(d int) Device {
-	return Device{nl.devName[d], nl.devKind[d], int(nl.devGate[d]), int(nl.devA[d]), int(nl.devB[d]),
-		nl.devW[d], nl.devL[d], nl.devCap[d]}
+	dv := Device{Name: nl.devName[d], Kind: nl.devKind[d], Gate: int(nl.devGate[d]), A: int(nl.devA[d]), B: int(nl.devB[d]),
+		W: nl.devW[d], L: nl.devL[d], Strength: nl.devCap[d]}
+	if nl.devResist != nil {
+		dv.Resistive = nl.devResist[d]
+	}
+	if nl.devOhms != nil {
+		dv.Ohms = nl.devOhms[d]
+	}
+	return dv
 }
 
 // ChannelDevices returns the devices whose channel touches node n.

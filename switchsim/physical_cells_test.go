@@ -63,7 +63,7 @@ func join(names []string) string {
 // reader with a position (FORMAT.md), naming the key.
 func TestTechRangesThroughReader(t *testing.T) {
 	for _, c := range []struct{ opt, key string }{
-		{"kn=1e-320", "kn"}, {"vdd=1e308", "vdd"}, {"vdd=0.8", "vdd"}, {"cnode=5", "cnode"}, {"w=0", ""},
+		{"kn=1e-320", "kn"}, {"vdd=1e308", "vdd"}, {"vdd=0.8", "vdd"}, {"cnode=5k", "cnode"}, {"w=0", ""},
 	} {
 		src := "tech generic " + c.opt + "\ninput a\noutput y\nuse inv i a y\n"
 		_, err := netfile.Read("t.sw", []byte(src))

@@ -6,16 +6,20 @@ import "math"
 // effective resistance of the delay estimate, and the gate voltage they
 // work with.
 
-// deviceResistance is R = r_sq L / W with rn for nMOS and rp for pMOS. Pulls
-// have no size and take Tech.DefaultResistance of their strength; so do pull
+// deviceResistance is R = r_sq L / W with rn for nMOS and rp for pMOS. A
+// resistor given in ohms has its own; pulls and always-on links (Tran) have
+// no size and take Tech.DefaultResistance of their strength; so do pull
 // and weak transistors left at the default size (the netlist does not say
 // whether a size was given, so the default size stands for "none"), unless
 // their sized resistance is already higher.
 func deviceResistance(nl *Netlist, d int) float64 {
 	t := nl.Tech
 	k, st := nl.devKind[d], nl.devCap[d]
+	if nl.devOhms != nil && nl.devOhms[d] > 0 {
+		return nl.devOhms[d] // a resistor's own value (resistive.go)
+	}
 	switch k {
-	case PullUp, PullDown:
+	case PullUp, PullDown, Tran:
 		return t.DefaultResistance(st)
 	}
 	rsq, w0 := t.Rn, t.Wn
@@ -56,7 +60,7 @@ func effectiveSize(nl *Netlist, d int) (w, l float64) {
 // and the conductance 1 / R of a pull (a resistor), in siemens.
 func deviceBeta(nl *Netlist, d int) float64 {
 	switch nl.devKind[d] {
-	case PullUp, PullDown:
+	case PullUp, PullDown, Tran:
 		return 1 / deviceResistance(nl, d)
 	case PMOS:
 		w, l := effectiveSize(nl, d)

@@ -105,28 +105,31 @@ type TechError struct {
 
 func (e *TechError) Error() string { return "technology: " + e.Msg }
 
-// techRanges are the physical ranges a technology value must lie in,
-// inclusive: wide enough for any CMOS process from 15 V metal-gate logic to
-// deep-submicron, narrow enough that every derived value stays finite and
-// meaningful. vtn and vtp must also lie below vdd.
+// techRanges are the ranges a technology value must lie in, inclusive:
+// wide bounds around every CMOS process (from 15 V metal-gate logic to
+// deep-submicron), narrow enough that every derived value stays finite.
+// vtn and vtp must also lie below vdd.
 var techRanges = []struct {
 	key    string
 	lo, hi float64
 	unit   string
 }{
-	{"vdd", 0.3, 20, "V"},
-	{"vtn", 0.05, 5, "V"},
-	{"vtp", 0.05, 5, "V"},
-	{"gamma", 0, 3, "V^0.5"},
-	{"phi", 0.1, 2, "V"},
-	{"kn", 1e-7, 1e-2, "A/V^2"},
-	{"kp", 1e-7, 1e-2, "A/V^2"},
-	{"rn", 1, 1e9, "ohm per square"},
-	{"rp", 1, 1e9, "ohm per square"},
-	{"wn", 1e-9, 1e-3, "m"},
-	{"wp", 1e-9, 1e-3, "m"},
-	{"l", 1e-9, 1e-3, "m"},
-	{"cnode", 1e-19, 1e-9, "F"},
+	{"vdd", 0.1, 100, "V"},
+	{"vtn", 0.01, 10, "V"},
+	{"vtp", 0.01, 10, "V"},
+	{"gamma", 0, 5, "V^0.5"},
+	{"phi", 0.05, 5, "V"},
+	{"kn", 1e-9, 1, "A/V^2"},
+	{"kp", 1e-9, 1, "A/V^2"},
+	{"rn", 1e-3, 1e12, "ohm per square"},
+	{"rp", 1e-3, 1e12, "ohm per square"},
+	// Sizes and the node capacitance only need to be positive and finite
+	// here: the estimates use their ratios and products; the design reader
+	// notes values outside a cell's plausible range (README).
+	{"wn", 1e-12, 1e3, "m"},
+	{"wp", 1e-12, 1e3, "m"},
+	{"l", 1e-12, 1e3, "m"},
+	{"cnode", 1e-21, 1, "F"},
 }
 
 // Validate reports a parameter that makes the estimates meaningless, as a
@@ -148,9 +151,9 @@ func (t *Tech) Validate() error {
 	}
 	switch {
 	case t.Vtn >= t.Vdd:
-		return &TechError{"vtn", fmt.Sprintf("vtn=%g V must be below vdd (%g V)", t.Vtn, t.Vdd)}
+		return &TechError{"vtn", fmt.Sprintf("thresholds must lie between 0 and vdd: vtn=%g V is not below vdd (%g V)", t.Vtn, t.Vdd)}
 	case t.Vtp >= t.Vdd:
-		return &TechError{"vtp", fmt.Sprintf("vtp=%g V must be below vdd (%g V)", t.Vtp, t.Vdd)}
+		return &TechError{"vtp", fmt.Sprintf("thresholds must lie between 0 and vdd: vtp=%g V is not below vdd (%g V)", t.Vtp, t.Vdd)}
 	}
 	for _, k := range []string{"vil", "vih"} {
 		if v, _ := t.Get(k); !(v >= 0 && v < t.Vdd) {

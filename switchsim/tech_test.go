@@ -218,8 +218,8 @@ func TestTechValidateRanges(t *testing.T) {
 		key string
 		v   float64
 	}{
-		{"kn", 1e-320}, {"vdd", 1e308}, {"vdd", math.NaN()}, {"kp", math.Inf(1)}, {"vtn", 0},
-		{"vdd", 0.8}, {"vtp", 1.9}, {"gamma", -0.1}, {"l", 5}, {"cnode", 1e-30}, {"rn", 0}, {"vil", 1.9},
+		{"kn", 1e-320}, {"vdd", 1e308}, {"vdd", math.NaN()}, {"kp", math.Inf(1)}, {"vtn", 0}, {"wn", 1e9},
+		{"vdd", 0.8}, {"vtp", 1.9}, {"gamma", -0.1}, {"l", 5e3}, {"cnode", 1e-30}, {"rn", 0}, {"vil", 1.9},
 	} {
 		tc := Generic()
 		if err := tc.Set(c.key, c.v); err != nil {

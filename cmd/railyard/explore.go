@@ -3,10 +3,14 @@ package main
 import (
 	"fmt"
 	"io"
+	"path/filepath"
 
 	"railyard/designs"
 	"railyard/switchsim"
+	"railyard/switchsim/load"
+	"railyard/switchsim/outfile"
 	"railyard/switchsim/session"
+	"railyard/switchsim/trace"
 	"railyard/tui"
 )
 
@@ -28,6 +32,7 @@ examples:
 type exploreOptions struct {
 	steps, trace string
 	ascii        bool
+	load         *loadFlags
 }
 
 func cmdExplore(args []string, stdout, stderr io.Writer) int {
@@ -36,11 +41,12 @@ func cmdExplore(args []string, stdout, stderr io.Writer) int {
 	fs.StringVar(&o.steps, "steps", "", "the steps `FILE` (default: DESIGN's same-named .steps file)")
 	fs.StringVar(&o.trace, "trace", "", "save the session trace to `FILE` on quitting")
 	fs.BoolVar(&o.ascii, "ascii", false, "draw with ASCII only")
+	o.load = addLoadFlags(fs)
 	pos, code := parseArgs(fs, args, stdout, stderr)
 	if code >= 0 {
 		return code
 	}
-	design := "demo:" + designs.Default
+	design := load.DemoPrefix + designs.Default
 	switch len(pos) {
 	case 0:
 	case 1:
@@ -48,10 +54,37 @@ func cmdExplore(args []string, stdout, stderr io.Writer) int {
 	default:
 		return usageError(stderr, "explore", "want at most one DESIGN, got %d arguments", len(pos))
 	}
-	s, err := session.Open(design, o.steps, session.Options{Mode: switchsim.Physical})
+	files, err := o.load.loader()
+	if err != nil {
+		return usageError(stderr, "explore", "%v", err)
+	}
+	if o.trace != "" {
+		keep := []outfile.Keep{{Path: design, What: "the design"}, {Path: o.steps, What: "the steps file"}}
+		if st, ok := files.DefaultSteps(design); ok && o.steps == "" {
+			keep[1].Path = st
+		}
+		if err := outfile.Check(o.trace, keep...); err != nil {
+			fmt.Fprintf(stderr, "railyard explore: --trace: %v\n", err)
+			return exitUsage
+		}
+	}
+	s, err := session.OpenFrom(files, design, o.steps, session.Options{Mode: switchsim.Physical})
 	if err != nil {
 		return loadError(stderr, err)
 	}
+	printNotes(stderr, s.Design())
+	// The session always records its trace, so that the save key works;
+	// it streams beside --trace when given.
+	dir := ""
+	if o.trace != "" {
+		dir = filepath.Dir(o.trace)
+	}
+	w, err := trace.Start(s, dir, trace.Options{})
+	if err != nil {
+		fmt.Fprintf(stderr, "railyard explore: %v\n", err)
+		return exitUsage
+	}
+	defer w.Close()
 	return startExplorer(s, o, stderr)
 }
 
