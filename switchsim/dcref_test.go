@@ -13,7 +13,7 @@ import (
 )
 
 // An independent DC reference for physical mode. It is written from the
-// model's text (MODEL.md §4, as the README and DEVELOPERS.md word it:
+// model's text (DEVELOPERS.md (physical mode), as the README and DEVELOPERS.md word it:
 // level-1 devices of Shichman and Hodges 1968 with the body effect, pulls as
 // resistors, the documented default sizes) and shares no code with the
 // engine: it reads a settled Sim only through the exported API, builds the
@@ -39,7 +39,7 @@ func newDCRef(t sw.Tech) dcRef {
 }
 
 // refUnityGain finds VIL and VIH as the input voltages where the square-law
-// reference inverter's transfer curve has slope -1 (MODEL.md §4), by finite
+// reference inverter's transfer curve has slope -1 (DEVELOPERS.md, physical mode), by finite
 // differences on its output found by bisection of the current balance,
 // unless the technology gives them.
 func refUnityGain(t sw.Tech) (vil, vih float64) {
@@ -284,7 +284,7 @@ func dcState(s *sw.Sim) string {
 // value is the logic value the model gives a node of part p at v: where
 // devices on bring both values to the part, by VIL/VIH; where they bring
 // one, that value while the level holds it and X where it does not (the
-// level lost, never flipped: MODEL.md §4), whatever partly-on devices do
+// level lost, never flipped: DEVELOPERS.md (physical mode)), whatever partly-on devices do
 // to the level.
 func (r dcRef) value(p refPart, v float64, x sw.NodeState) sw.Value {
 	switch {

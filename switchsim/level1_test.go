@@ -3,7 +3,7 @@ package switchsim
 import "math"
 
 // The tests' own level-1 device equations (Shichman and Hodges, IEEE JSSC
-// 1968, as MODEL.md §4 states them), written apart from the engine's so
+// 1968, as DEVELOPERS.md (physical mode) states them), written apart from the engine's so
 // that a test can check the engine against them: for an nMOS with
 // ov = Vgs - Vt > 0 and Vds >= 0, I = beta (ov Vds - Vds^2 / 2) below
 // saturation and beta ov^2 / 2 in it; Vt = Vt0 + gamma (sqrt(phi + Vsb) -

@@ -2,7 +2,7 @@ package switchsim
 
 import "math"
 
-// Physical mode (MODEL.md §4). The solver resolves every group by strength
+// Physical mode (DEVELOPERS.md, physical mode). The solver resolves every group by strength
 // first (ideal mode, solve.go); physGroup then estimates voltages and lets
 // them decide values, one part of the group at a time. A part is a set of
 // nodes joined by devices that are on:

@@ -8,7 +8,7 @@ import "math"
 
 // Watch tells the Sim which nodes the session checks, besides the outputs:
 // their levels matter even where they gate nothing, so the level warnings
-// (degraded, level-lost) are given for them (MODEL.md §4). It replaces the
+// (degraded, level-lost) are given for them (DEVELOPERS.md, physical mode). It replaces the
 // nodes watched before; it takes effect at the next Settle.
 func (s *Sim) Watch(nodes []int) {
 	p := &s.phys
@@ -26,7 +26,7 @@ func (s *Sim) Watch(nodes []int) {
 	}
 }
 
-// Margin is how far a node's level is from failing (MODEL.md §4).
+// Margin is how far a node's level is from failing (DEVELOPERS.md, physical mode).
 type Margin struct {
 	// Noise is the distance from the undefined band: V - VIH for a 1,
 	// VIL - V for a 0, negative inside the band (and for a value whose level

@@ -9,7 +9,7 @@ import (
 	"railyard/switchsim/netfile"
 )
 
-// Level warnings are given where a level matters (MODEL.md §4: nodes that
+// Level warnings are given where a level matters (DEVELOPERS.md (physical mode): nodes that
 // gate a device, outputs, checked nodes): the built-in cells, whose inner
 // nodes (a series stack's middle, a clocked inverter's) gate nothing, give
 // none in any input state reached from any other, in physical mode.

@@ -4,7 +4,7 @@ import "math"
 
 // physCharge estimates a floating part: its nodes share their charge
 // (shareCharge: charge conservation, each pass device conducting only until
-// its lower side reaches its limit, MODEL.md §4), and each node's value
+// its lower side reaches its limit, DEVELOPERS.md (physical mode)), and each node's value
 // follows the one rule of levels (physState.level): the value the
 // switch-level model gives it (the larger charge class wins) holds while
 // its level does, and is lost (X) where the level left it; where that model

@@ -1,6 +1,6 @@
 package switchsim
 
-// Corners (MODEL.md §4): the same design at other technology values.
+// Corners (DEVELOPERS.md, physical mode): the same design at other technology values.
 
 // WithTech returns the netlist with technology t, validated: a shallow
 // copy that shares the arrays of nl, so that a corner (the design's

@@ -2,7 +2,7 @@ package switchsim
 
 import "math"
 
-// Delay estimates (MODEL.md §4): the Elmore delay (Elmore 1948; Rubinstein,
+// Delay estimates (DEVELOPERS.md, physical mode): the Elmore delay (Elmore 1948; Rubinstein,
 // Penfield and Horowitz 1983) of each node change along its driving path.
 // The driving paths of a part form a tree: for a node driven to v, the path
 // of least resistance from the sources of value v through devices that are

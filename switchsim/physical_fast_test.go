@@ -14,7 +14,7 @@ import (
 
 // fastPair runs one network through two Sims in physical mode, the general
 // path alone (slow) and with the fast path (fast), and fails at the first
-// difference. The oracle is the general path itself (MODEL.md §4 as
+// difference. The oracle is the general path itself (DEVELOPERS.md (physical mode) as
 // DEVELOPERS.md words it, checked against the reference solver by
 // diff_test.go): the fast path must give exactly what it gives.
 type fastPair struct {
@@ -311,7 +311,7 @@ func TestPhysFastPathSharedPulse(t *testing.T) {
 	fp.settle("store")
 	fp.set(x, sw.Drive1)
 	fp.settle("pulse")
-	// The premise (MODEL.md §4): charges 1.8 V apart meet, so b shares.
+	// The premise (DEVELOPERS.md, physical mode): charges 1.8 V apart meet, so b shares.
 	found := false
 	for _, w := range fp.lastWarn {
 		found = found || (w.Kind == sw.WarnChargeSharing && w.Node == look("b"))

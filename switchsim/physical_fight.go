@@ -2,7 +2,7 @@ package switchsim
 
 import "math"
 
-// Fights (MODEL.md §4, contention): a part where sources of both values
+// Fights (DEVELOPERS.md, physical mode: a fight): a part where sources of both values
 // meet, or a part of one value that a partly-on device pulls on. Its DC
 // operating point is solved with the devices' own equations, the level-1
 // model of Shichman and Hodges (IEEE JSSC 1968): for an nMOS with Vgs - Vt

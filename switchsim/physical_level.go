@@ -77,7 +77,7 @@ func (s *Sim) physLevel(g *group, c int32, v Value) {
 	// whatever strength: with one value in the part, current flows until
 	// each node reaches the highest level (for a 1) some path delivers, so
 	// a weak restorer beside a pass device brings the node to its full
-	// level, as at the DC operating point (MODEL.md §4).
+	// level, as at the DC operating point (DEVELOPERS.md, physical mode).
 	cp.stree, cp.sval = true, v
 	{
 		s.levelSearch(c, v, Weak)
@@ -146,7 +146,7 @@ func (s *Sim) retained(n int32, v Value, level float64, drop int32, old physRec)
 	return prev, drop
 }
 
-// levelRange is the one rule of levels (MODEL.md §4), for a node whose
+// levelRange is the one rule of levels (DEVELOPERS.md, physical mode), for a node whose
 // estimate lies in [lo, hi] and whose value by the switch-level model is
 // want: a 1 holds at or above VIH, a 0 at or below VIL, at the end of the
 // range nearer the band; elsewhere the value is lost and the node is X,

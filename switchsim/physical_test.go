@@ -6,7 +6,7 @@ import (
 	"testing"
 )
 
-// Tests of physical mode (MODEL.md §4). Expected voltages are computed here
+// Tests of physical mode (DEVELOPERS.md, physical mode). Expected voltages are computed here
 // from their closed forms or by the test's own numerical solutions, never
 // taken from the engine.
 
@@ -75,7 +75,7 @@ func TestPhysPassDegradesOnce(t *testing.T) {
 	s := phSim(t, b, Physical)
 	tc := s.Netlist().Tech
 	r := phApply(t, s, map[string]Drive{"in": Drive1, "en": Drive1})
-	// An nMOS passes a 1 only up to V = Vg - Vt(V) (MODEL.md §4; numerical solution here).
+	// An nMOS passes a 1 only up to V = Vg - Vt(V) (DEVELOPERS.md (physical mode); numerical solution here).
 	want := passHighNumeric(tc, tc.Vdd)
 	y := node(s, "y")
 	phNear(t, "y volts", y.Volts, want, 1e-9)
@@ -116,7 +116,7 @@ func TestPhysPassWithoutBodyEffect(t *testing.T) {
 
 func TestPhysTransmissionGatePassesFull(t *testing.T) {
 	// The pMOS half passes the 1 fully and the nMOS half the 0: among the
-	// paths of the winning strength the best level counts (MODEL.md §4).
+	// paths of the winning strength the best level counts (DEVELOPERS.md, physical mode).
 	b := NewBuilder()
 	b.Input("in")
 	b.Input("en")
@@ -170,7 +170,7 @@ func TestPhysGateCascadeLosesLevel(t *testing.T) {
 }
 
 func TestPhysSeriesChainDropsOnce(t *testing.T) {
-	// Devices in series with full gates drop the level only once (MODEL.md §4).
+	// Devices in series with full gates drop the level only once (DEVELOPERS.md, physical mode).
 	b := NewBuilder()
 	b.Input("in")
 	b.Input("en")
@@ -329,8 +329,8 @@ func TestPhysContentionInBand(t *testing.T) {
 }
 
 func TestPhysResistanceBeatsStrength(t *testing.T) {
-	// Physical mode decides a fight by the devices, not by strength (MODEL.md
-	// §4): a long, narrow strong nMOS loses to a pull (resistiveLoadVOL).
+	// Physical mode decides a fight by the devices, not by strength (DEVELOPERS.md,
+	// physical mode): a long, narrow strong nMOS loses to a pull (resistiveLoadVOL).
 	b := NewBuilder()
 	tc := Generic()
 	b.Input("a")
@@ -799,7 +799,7 @@ func TestPhysChargeSharingThroughThreshold(t *testing.T) {
 
 func TestPhysLevelWarningsWhereLevelMatters(t *testing.T) {
 	// A degraded 1 on a node that gates nothing and is neither an output nor
-	// checked: its level is read by nobody, so no warning (MODEL.md §4), but
+	// checked: its level is read by nobody, so no warning (DEVELOPERS.md, physical mode), but
 	// the facts stay (state H, the device of the drop in the explanation).
 	build := func(gates bool) *Sim {
 		b := NewBuilder()
@@ -835,7 +835,7 @@ func TestPhysLevelWarningsWhereLevelMatters(t *testing.T) {
 func TestPhysLevelLostSaysWhichSide(t *testing.T) {
 	// A gate-cascaded nMOS pass: the 1 reaches y at PassHigh(PassHigh(vdd)),
 	// 0.57 V with the generic preset, below VIL (0.737 V): the next stage
-	// reads a 0, so the value would be flipped; it stays X (MODEL.md §4).
+	// reads a 0, so the value would be flipped; it stays X (DEVELOPERS.md, physical mode).
 	b := NewBuilder()
 	b.Input("in")
 	b.Input("en")
@@ -978,7 +978,7 @@ func TestPhysPartlyOnMovesTheNode(t *testing.T) {
 }
 
 func TestPhysMargins(t *testing.T) {
-	// Noise margins (MODEL.md §4): V - VIH for a 1, VIL - V for a 0.
+	// Noise margins (DEVELOPERS.md, physical mode): V - VIH for a 1, VIL - V for a 0.
 	tc := Generic()
 	vil, vih, vm := tc.Thresholds()
 	b := NewBuilder()

@@ -6,7 +6,7 @@ import (
 	"sort"
 )
 
-// Tech holds the technology parameters of physical mode (MODEL.md §4).
+// Tech holds the technology parameters of physical mode (DEVELOPERS.md, physical mode).
 // Voltages are in volts, sizes in metres, capacitances in farads,
 // resistances in ohms per square, kn and kp in A/V^2. Vtp is kept as a
 // magnitude. VIL and VIH are zero unless overridden; Derive fills them.

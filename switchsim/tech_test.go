@@ -6,7 +6,7 @@ import (
 )
 
 // vtBody is the body-effect threshold Vt = Vt0 + gamma (sqrt(phi + Vsb) -
-// sqrt(phi)) (long-channel textbook formula, MODEL.md §4).
+// sqrt(phi)) (long-channel textbook formula, DEVELOPERS.md (physical mode)).
 func vtBody(vt0, gamma, phi, vsb float64) float64 {
 	return vt0 + gamma*(math.Sqrt(phi+vsb)-math.Sqrt(phi))
 }
@@ -55,7 +55,7 @@ func TestPassLimitsWithoutBodyEffect(t *testing.T) {
 }
 
 func TestPassLimitClosedFormAgainstNumeric(t *testing.T) {
-	// The closed form of MODEL.md §4 against a numerical solution of
+	// The closed form of DEVELOPERS.md (physical mode) against a numerical solution of
 	// V = Vg - Vt(V) (and the pMOS mirror image), to 1e-9.
 	for _, tc := range []Tech{Generic(), func() Tech { x := Generic(); x.Gamma, x.Phi = 0.9, 0.55; return x }()} {
 		for vg := tc.Vtn + 0.01; vg <= tc.Vdd; vg += 0.0937 {
@@ -182,7 +182,7 @@ func TestThresholdOverrides(t *testing.T) {
 }
 
 func TestDefaultResistanceMargin(t *testing.T) {
-	// MODEL.md §4: a default strong device wins against a default pull (and a
+	// DEVELOPERS.md (physical mode): a default strong device wins against a default pull (and a
 	// pull against a weak one) by a clear margin: the divider lands in the
 	// outer half of the 0 or 1 band, never near VIL/VIH.
 	tc := Generic()
