@@ -68,16 +68,3 @@ func pseudoNMOSVOL(tc Tech, betaN, betaP float64) float64 {
 	a := tc.Vdd - tc.Vtn
 	return a - math.Sqrt(a*a-betaP/betaN*(tc.Vdd-tc.Vtp)*(tc.Vdd-tc.Vtp))
 }
-
-// bisectUp finds x in [lo, hi] where an increasing f crosses 0.
-func bisectUp(f func(float64) float64, lo, hi float64) float64 {
-	for i := 0; i < 200 && hi-lo > 1e-15; i++ {
-		mid := (lo + hi) / 2
-		if f(mid) < 0 {
-			lo = mid
-		} else {
-			hi = mid
-		}
-	}
-	return (lo + hi) / 2
-}

@@ -3,6 +3,7 @@ package switchsim
 import (
 	"fmt"
 	"math"
+	"strings"
 	"testing"
 )
 
@@ -374,7 +375,7 @@ func TestPhysWriteAgainstKeeper(t *testing.T) {
 	phApply(t, s, map[string]Drive{"d": Drive1, "wr": Drive1, "kb": Drive1})
 	bw := betaOf(tc.Kn, tc.Wn, tc.L)
 	bk := bw * (tc.Rn * tc.L / tc.Wn) / (40 * tc.RefResistance())
-	want := bisectUp(func(v float64) float64 {
+	want := rootBisect(func(v float64) float64 {
 		return idsN(tc, bk, tc.Vdd, v, 0) - idsN(tc, bw, tc.Vdd, tc.Vdd, v)
 	}, 0, tc.Vdd)
 	phNear(t, "s volts", node(s, "s").Volts, want, 1e-9)
@@ -400,14 +401,14 @@ func TestPhysNetworkLargeMatchesDense(t *testing.T) {
 	nl := mustCompile(t, b)
 	bn, bp := betaOf(tc.Kn, tc.Wn, tc.L), betaOf(tc.Kp, tc.Wp, lp)
 	up := func(i, below float64) float64 { // the node above a device carrying i
-		return bisectUp(func(v float64) float64 { return idsN(tc, bn, tc.Vdd, v, below) - i }, below, tc.Vdd)
+		return rootBisect(func(v float64) float64 { return idsN(tc, bn, tc.Vdd, v, below) - i }, below, tc.Vdd)
 	}
 	chain := func(x1 float64) (x2, y, i float64) {
 		i = idsN(tc, bn, tc.Vdd, x1, 0)
 		x2 = up(i, x1)
 		return x2, up(i, x2), i
 	}
-	x1 := bisectUp(func(x1 float64) float64 {
+	x1 := rootBisect(func(x1 float64) float64 {
 		_, y, i := chain(x1)
 		return i - idsP(tc, bp, 0, tc.Vdd, y)
 	}, 0, 0.3)
@@ -437,7 +438,7 @@ func TestPhysXSourceRange(t *testing.T) {
 	phApply(t, s, map[string]Drive{"x": DriveX, "a": Drive1})
 	bn := betaOf(tc.Kn, tc.Wn, tc.L)
 	bw := bn * (tc.Rn * tc.L / tc.Wn) / (40 * tc.RefResistance())
-	want := bisectUp(func(v float64) float64 {
+	want := rootBisect(func(v float64) float64 {
 		return idsN(tc, bn, tc.Vdd, v, 0) - idsN(tc, bw, tc.Vdd, tc.Vdd, v)
 	}, 0, tc.Vdd)
 	y := node(s, "y")
@@ -856,7 +857,7 @@ func TestPhysLevelLostSaysWhichSide(t *testing.T) {
 	}
 	msg := s.Message(w[0])
 	for _, want := range []string{"its 1 is lost", "below VIL", "reads a 0", "flipped", "m2"} {
-		if !contains(msg, want) {
+		if !strings.Contains(msg, want) {
 			t.Errorf("message %q lacks %q", msg, want)
 		}
 	}
@@ -880,22 +881,13 @@ func TestPhysLevelLostSaysWhichSide(t *testing.T) {
 	s2 := phSim(t, b2, Physical)
 	r2 := phApply(t, s2, map[string]Drive{"in": Drive1, "en": Drive1})
 	w = phWarning(s2, r2, WarnLevelLost, "y")
-	if len(w) != 1 || !contains(s2.Message(w[0]), "inside the undefined band") || contains(s2.Message(w[0]), "flipped") {
+	if len(w) != 1 || !strings.Contains(s2.Message(w[0]), "inside the undefined band") || strings.Contains(s2.Message(w[0]), "flipped") {
 		t.Errorf("in-band warnings %+v (%v)", w, r2.Warnings)
 	}
 	yn2, _ := s2.Netlist().Lookup("y")
 	if l := s2.Explain(yn2).Lost; l == nil || l.Reads != VX {
 		t.Errorf("in-band lost level %+v, want read as X", l)
 	}
-}
-
-func contains(s, sub string) bool {
-	for i := 0; i+len(sub) <= len(s); i++ {
-		if s[i:i+len(sub)] == sub {
-			return true
-		}
-	}
-	return false
 }
 
 func TestPhysSharingLosesStoredValue(t *testing.T) {
@@ -924,7 +916,7 @@ func TestPhysSharingLosesStoredValue(t *testing.T) {
 		t.Errorf("a = %+v, want Z holding X (its 1 lost)", a)
 	}
 	w := phWarning(s, r, WarnChargeSharing, "a")
-	if len(w) != 1 || !contains(s.Message(w[0]), "stored 1 is lost") || !contains(s.Message(w[0]), "reads a 0") {
+	if len(w) != 1 || !strings.Contains(s.Message(w[0]), "stored 1 is lost") || !strings.Contains(s.Message(w[0]), "reads a 0") {
 		t.Errorf("charge-sharing warnings %+v", w)
 	}
 	an, _ := s.Netlist().Lookup("a")
@@ -959,7 +951,7 @@ func TestPhysPartlyOnMovesTheNode(t *testing.T) {
 		t.Errorf("y = %+v, want a 0 off its rail (L)", y)
 	}
 	w := phWarning(s, r, WarnPartialOn, "x")
-	if len(w) != 1 || w[0].Device != phDev(t, s, "inv.p") || !contains(s.Message(w[0]), "µA of static current") {
+	if len(w) != 1 || w[0].Device != phDev(t, s, "inv.p") || !strings.Contains(s.Message(w[0]), "µA of static current") {
 		t.Errorf("partial-on warnings %+v", w)
 	}
 	bias := s.DeviceBias(phDev(t, s, "inv.p"))
