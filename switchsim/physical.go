@@ -97,11 +97,9 @@ type physState struct {
 	vil, vih, vm, vdd float64
 
 	// per device
-	res  []float64 // effective on-resistance, ohms (the delay estimate)
-	con  []float64 // 1 / res, siemens
-	beta []float64 // the fight's device equations: k' W / L of a transistor (A/V^2), 1 / R of a pull (S)
-	gv   []float64 // the gate's voltage at the start of the round it last changed
-	lim  []float64 // pass limit for gv (nMOS: PassHigh, pMOS: PassLow), kept by physGateMoved
+	res []float64 // effective on-resistance, ohms (the delay estimate)
+	con []float64 // 1 / res, siemens
+	dv  []physDev // what a fight reads of a device, together
 	// pass limits of a device gated by a source, by kind and the source's value
 	limRail [2][2]float64
 	ring    []int32 // the devices between the same two terminals, as a ring (a transmission gate's halves)
@@ -159,6 +157,13 @@ type physState struct {
 	slow bool
 }
 
+// physDev is what physical mode keeps per device and reads together.
+type physDev struct {
+	gv   float64 // the gate's voltage at the start of the round it last changed
+	lim  float64 // pass limit for gv (nMOS: PassHigh, pMOS: PassLow), kept by physGateMoved
+	beta float64 // the fight's device equations: k' W / L of a transistor (A/V^2), 1 / R of a pull (S)
+}
+
 // physComp is one part of a group: nodes joined by devices that are on.
 type physComp struct {
 	nodes []int32 // in g.nodes or cn
@@ -174,7 +179,7 @@ type physComp struct {
 }
 
 type physSnapshot struct {
-	gv     []float64
+	dv     []physDev
 	fightV []fightStart
 	info   []physRec
 }
@@ -190,8 +195,7 @@ func (s *Sim) physInit() {
 	p.vdd = t.Vdd
 	p.net.denseMax = physDenseMax
 	nn, nd := nl.NumNodes(), nl.NumDevices()
-	p.res, p.gv, p.lim = make([]float64, nd), make([]float64, nd), make([]float64, nd)
-	p.con, p.beta = make([]float64, nd), make([]float64, nd)
+	p.res, p.con, p.dv = make([]float64, nd), make([]float64, nd), make([]physDev, nd)
 	p.leak, p.leakAt = make([]bool, nd), make([]int32, nn)
 	p.net.init(t)
 	p.limRail = [2][2]float64{{t.PassHigh(0), t.PassHigh(t.Vdd)}, {t.PassLow(0), t.PassLow(t.Vdd)}}
@@ -201,9 +205,9 @@ func (s *Sim) physInit() {
 	for d := 0; d < nd; d++ {
 		p.res[d] = deviceResistance(nl, d)
 		p.con[d] = 1 / p.res[d]
-		p.beta[d] = deviceBeta(nl, d)
-		p.gv[d] = math.NaN()
-		p.lim[d] = s.limitFor(int32(d))
+		p.dv[d].beta = deviceBeta(nl, d)
+		p.dv[d].gv = math.NaN()
+		p.dv[d].lim = s.limitFor(int32(d))
 		key := [2]int32{min(nl.devA[d], nl.devB[d]), max(nl.devA[d], nl.devB[d])}
 		if o, ok := last[key]; ok { // join o's ring, just after o
 			p.ring[d], p.ring[o] = p.ring[o], int32(d)
@@ -243,22 +247,22 @@ func (s *Sim) physSave() physSnapshot {
 		return physSnapshot{}
 	}
 	p := &s.phys
-	return physSnapshot{append([]float64(nil), p.gv...), append([]fightStart(nil), p.fightV...), append([]physRec(nil), p.info...)}
+	return physSnapshot{append([]physDev(nil), p.dv...), append([]fightStart(nil), p.fightV...), append([]physRec(nil), p.info...)}
 }
 
 func (s *Sim) physRestore(sn physSnapshot) {
-	if s.mode != Physical || sn.gv == nil {
+	if s.mode != Physical || sn.dv == nil {
 		return
 	}
 	p := &s.phys
-	copy(p.gv, sn.gv)
+	copy(p.dv, sn.dv)
 	copy(p.fightV, sn.fightV)
 	copy(p.info, sn.info)
 	clear(p.leakAt)
-	for d := range p.lim {
-		p.lim[d] = s.limitFor(int32(d))
+	for d := range p.dv {
+		p.dv[d].lim = s.limitFor(int32(d))
 		p.leak[d] = false
-		s.setLeak(int32(d), s.cond[d] == Off && s.leakyGate(int32(d), p.gv[d]))
+		s.setLeak(int32(d), s.cond[d] == Off && s.leakyGate(int32(d), p.dv[d].gv))
 	}
 }
 
@@ -314,7 +318,7 @@ func (s *Sim) physGateMoved(d int32) bool {
 		return false
 	}
 	v := s.volts[gn]
-	old := p.gv[d]
+	old := p.dv[d].gv
 	off := conduction(s.nl.devKind[d], s.val[gn]) == Off
 	if v == old || (math.IsNaN(v) && math.IsNaN(old)) {
 		if p.leak[d] != (off && s.leakyGate(d, v)) { // it switched between on and partly on
@@ -323,8 +327,8 @@ func (s *Sim) physGateMoved(d int32) bool {
 		}
 		return false
 	}
-	p.gv[d] = v
-	p.lim[d] = s.limitFor(d)
+	p.dv[d].gv = v
+	p.dv[d].lim = s.limitFor(d)
 	was := p.leak[d]
 	s.setLeak(d, off && s.leakyGate(d, v))
 	return voltsMoved(old, v) && (!off || was || p.leak[d])

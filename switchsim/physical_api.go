@@ -93,7 +93,7 @@ func (s *Sim) stageVM(n int, v float64) float64 {
 			if nl.devKind[dp] != PMOS || !s.meet(dn, dp) {
 				continue
 			}
-			r := math.Sqrt(s.phys.beta[dp] / s.phys.beta[dn]) // beta = k' W / L
+			r := math.Sqrt(s.phys.dv[dp].beta / s.phys.dv[dn].beta) // beta = k' W / L
 			vm := (t.Vtn + r*(t.Vdd-t.Vtp)) / (1 + r)
 			if math.IsNaN(best) || (!math.IsNaN(v) && math.Abs(v-vm) < math.Abs(v-best)) {
 				best = vm
@@ -256,7 +256,7 @@ func (s *Sim) DeviceBias(d int) Bias {
 	case c == Off && !b.PartlyOn:
 		b.Current = 0
 	default:
-		e := physElem{kind: nl.devKind[d], beta: p.beta[d], vg: b.GateVolts}
+		e := physElem{kind: nl.devKind[d], beta: p.dv[d].beta, vg: b.GateVolts}
 		if e.kind == PMOS {
 			e.vg = p.vdd - b.GateVolts
 		}

@@ -266,7 +266,8 @@ func (s *Sim) fillElement(e *physElem, d int32, xv float64) {
 	nl := s.nl
 	p := &s.phys
 	a, b := nl.devA[d], nl.devB[d]
-	*e = physElem{a: -1, b: -1, kind: nl.devKind[d], beta: p.beta[d], dev: d}
+	pd := &p.dv[d]
+	*e = physElem{a: -1, b: -1, kind: nl.devKind[d], beta: pd.beta, dev: d}
 	if s.source[a] {
 		e.va, _ = p.sourceVolts(s.val[a], xv)
 	}

@@ -16,7 +16,7 @@ func (s *Sim) passLimit(d int32) float64 {
 		}
 		return s.phys.limRail[k][v]
 	}
-	return s.phys.lim[d]
+	return s.phys.dv[d].lim
 }
 
 // limitFor computes device d's pass limit for the gate voltage recorded in gv.
@@ -45,7 +45,7 @@ func (s *Sim) limitFor(d int32) float64 {
 // gateVoltsRecorded is gv[d], an unknown voltage taken as the full level
 // that turns the device on.
 func (s *Sim) gateVoltsRecorded(d int32) float64 {
-	v := s.phys.gv[d]
+	v := s.phys.dv[d].gv
 	if math.IsNaN(v) {
 		v = 0
 		if s.nl.devKind[d] == NMOS {
