@@ -144,7 +144,7 @@ type physState struct {
 	net    physNet
 	share  physShareScratch
 	shLo   []float64 // shareCharge's voltages with unknown charges at 0
-	shHi   []float64 // and at vdd (shLo itself where none is unknown)
+	shHi   []float64 // and at vdd
 
 	// physSingle's result for the group just solved: fast is set when it
 	// took the group, fdel is the delay of its node's change.

@@ -33,11 +33,13 @@ func (s *Sim) physCharge(g *group, c int32) {
 	// value decided afresh: a node that shares with nothing keeps what it
 	// stores, so a lost level is never read back as the other value.
 	shared := len(nodes) > 1 && (vmax-vmin > 1e-3 || (unknown > 0 && unknown < len(nodes)))
+	var lo, hi []float64
 	if shared {
 		p.shLo = s.shareCharge(nodes, cp.devs, 0, p.shLo[:0])
-		p.shHi = p.shLo
+		lo, hi = p.shLo, p.shLo
 		if unknown > 0 {
-			p.shHi = s.shareCharge(nodes, cp.devs, p.vdd, p.shHi[len(p.shHi):])
+			p.shHi = s.shareCharge(nodes, cp.devs, p.vdd, p.shHi[:0])
+			hi = p.shHi
 		}
 	}
 	for j, n := range nodes {
@@ -56,7 +58,7 @@ func (s *Sim) physCharge(g *group, c int32) {
 			continue
 		}
 		in.How = howCharge
-		val, volts, lost := p.levelRange(g.nval[i], p.shLo[j], p.shHi[j])
+		val, volts, lost := p.levelRange(g.nval[i], lo[j], hi[j])
 		in.Lost = lost
 		g.nval[i], g.nvolts[i] = val, volts
 		s.shared[n] = true
