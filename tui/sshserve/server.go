@@ -28,9 +28,10 @@ const (
 	DefaultMaxSessions = 16
 	DefaultIdleTimeout = 15 * time.Minute
 	// DefaultMaxTrace caps each served session's trace, DefaultMaxWave a
-	// VCD a served user saves. A session of a 40,000-device design that
-	// changes every node on every action reaches 64 MiB in a few hundred
-	// actions; a small cell's session takes hours of toggling.
+	// VCD a served user saves. A toggle of a six-device operand selector
+	// writes some 75 bytes of trace, so 64 MiB is some 900,000 of them; a
+	// toggle that changes every node of a 38,000-device design writes
+	// some 0.9 MB, so 64 MiB is some 70 (README, "Limits").
 	DefaultMaxTrace = 64 << 20
 	DefaultMaxWave  = 64 << 20
 	// MinFileCap is the smallest MaxTrace or MaxWave taken: room for a
