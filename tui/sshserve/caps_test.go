@@ -2,6 +2,7 @@ package sshserve
 
 import (
 	"bytes"
+	"errors"
 	"fmt"
 	"io"
 	"log/slog"
@@ -393,5 +394,23 @@ func TestVCDCapIsExact(t *testing.T) {
 	// The trace has no such cap here (its own is the trace writer's).
 	if _, err := f.save(tui.SaveTrace, write(5000)); err != nil {
 		t.Errorf("a trace larger than the VCD cap: %v", err)
+	}
+}
+
+// A spool the server cannot create refuses the session with a message that
+// names no server path; the detail is kept for the keeper's log.
+func TestSpoolThatCannotBeCreatedNamesNoServerPath(t *testing.T) {
+	missing := filepath.Join(t.TempDir(), "gone", "alice")
+	_, err := openExplorer(ExplorerRequest{Name: "demo:static_latch", Design: "demo:static_latch", Width: 80, Height: 24,
+		Save: func(tui.SaveKind, func(io.Writer) error) (string, error) { return "", nil }, TraceDir: missing})
+	if err == nil {
+		t.Fatal("an explorer opened with its spool in a missing folder")
+	}
+	if strings.Contains(err.Error(), missing) || !strings.Contains(err.Error(), "cannot keep this session's trace") {
+		t.Errorf("the user reads %q", err)
+	}
+	var ke *keeperError
+	if !errors.As(err, &ke) || !strings.Contains(ke.err.Error(), missing) {
+		t.Errorf("the keeper's detail is lost: %v", err)
 	}
 }
