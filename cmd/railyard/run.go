@@ -17,6 +17,7 @@ import (
 
 const runUsage = `
 usage: railyard run DESIGN [--steps FILE] [--json] [--ideal] [--full-swing] [--trace FILE] [--vcd FILE]
+                    [--min-margin V] [--corner NAME | --corners]
 
 Settle the design, apply each row of its steps file (FILE, or DESIGN's
 same-named .steps file), check the nodes the steps name, and print a report.
@@ -29,18 +30,33 @@ regular file; they are checked before anything runs and written whole at
 the end (a temporary file renamed into place, removed on an interrupt).
 In physical mode the VCD also holds each node's estimated voltage.
 
+In physical mode each node line and check shows its margin: V - VIH for a
+1, VIL - V for a 0 (a check's for the value it wants, so a failing check
+says by how much). --min-margin V fails a check whose margin is below V
+volts. --corner NAME runs at one of the design's technology corners
+(corner statements); --corners runs the design's own technology and every
+corner and prints one table of the checks by corner with their margins and
+the worst corner of each (exit 1 if any corner fails; --json: each
+corner's report, every line naming its corner). The figures are
+first-order estimates, not sign-off.
+
 examples:
   railyard run demo:` + designs.Default + `
   railyard run cells/opsel.sw --steps cells/opsel.steps
   railyard run cells/opsel.sw --json > run.jsonl
   railyard run cells/opsel.sw --trace opsel.trace --vcd opsel.vcd
   railyard run cells/opsel.sw --ideal --full-swing
+  railyard run demo:keeper_corner --corners
+  railyard run cells/opsel.sw --corner slow --min-margin 0.1
 `
 
 // runOptions are the flags of `run`.
 type runOptions struct {
 	steps, trace, vcd      string
 	json, ideal, fullSwing bool
+	corner                 string
+	corners                bool
+	minMargin              voltsFlag
 	load                   *loadFlags // nil: the defaults
 }
 
@@ -53,6 +69,9 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 	fs.BoolVar(&o.fullSwing, "full-swing", false, "0 and 1 checks also require the strong full-level states")
 	fs.StringVar(&o.trace, "trace", "", "save the session trace to `FILE` (for railyard replay)")
 	fs.StringVar(&o.vcd, "vcd", "", "write a VCD waveform of every node to `FILE` (with voltages in physical mode)")
+	fs.Var(&o.minMargin, "min-margin", "fail a check whose margin is below `V` volts (physical mode)")
+	fs.StringVar(&o.corner, "corner", "", "run at the design's technology corner `NAME` (nominal: its own technology)")
+	fs.BoolVar(&o.corners, "corners", false, "run the nominal technology and every corner; print one table of checks by corner")
 	o.load = addLoadFlags(fs)
 	pos, code := parseArgs(fs, args, stdout, stderr)
 	if code >= 0 {
@@ -60,6 +79,19 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 	}
 	if len(pos) != 1 {
 		return usageError(stderr, "run", "want one DESIGN, got %d arguments", len(pos))
+	}
+	switch {
+	case o.ideal && o.minMargin.set:
+		return usageError(stderr, "run", "--min-margin needs physical mode: ideal mode has no voltages")
+	case o.ideal && (o.corners || o.corner != ""):
+		return usageError(stderr, "run", "--corner and --corners need physical mode: ideal mode reads no technology")
+	case o.corners && o.corner != "":
+		return usageError(stderr, "run", "--corners runs every corner; give it or --corner NAME, not both")
+	case o.corners && (o.trace != "" || o.vcd != ""):
+		return usageError(stderr, "run", "--trace and --vcd record one run; with --corners give --corner NAME instead")
+	}
+	if o.corners {
+		return runCorners(pos[0], o, stdout, stderr)
 	}
 	return runDesign(pos[0], o, stdout, stderr)
 }
@@ -83,11 +115,7 @@ func runDesign(design string, o runOptions, stdout, stderr io.Writer) int {
 	if o.trace != "" || o.vcd != "" {
 		defer outfile.HandleSignals()()
 	}
-	opt := session.Options{Mode: switchsim.Physical, FullSwing: o.fullSwing}
-	if o.ideal {
-		opt.Mode = switchsim.Ideal
-	}
-	s, err := session.OpenFrom(files, design, o.steps, opt)
+	s, err := session.OpenFrom(files, design, o.steps, o.sessionOptions())
 	if err != nil {
 		return loadError(stderr, err)
 	}
@@ -117,14 +145,14 @@ func runDesign(design string, o runOptions, stdout, stderr io.Writer) int {
 	}
 	rep := session.NewReport(stdout, s, format)
 	if s.NumSteps() == 0 {
-		rep.Add(s.Last(), s.Node) // a design without steps: its resting state
+		rep.Add(s.Last(), s) // a design without steps: its resting state
 	}
 	for {
 		e, ok := s.Next()
 		if !ok {
 			break
 		}
-		rep.Add(e, s.Node)
+		rep.Add(e, s)
 		if vw != nil {
 			vw.Add(e, s.Node)
 		}
@@ -156,6 +184,16 @@ func runDesign(design string, o runOptions, stdout, stderr io.Writer) int {
 		return exitFail
 	}
 	return exitOK
+}
+
+// sessionOptions are the session's options from the flags.
+func (o runOptions) sessionOptions() session.Options {
+	opt := session.Options{Mode: switchsim.Physical, FullSwing: o.fullSwing, Corner: o.corner,
+		MarginCheck: o.minMargin.set, MinMargin: o.minMargin.v}
+	if o.ideal {
+		opt.Mode = switchsim.Ideal
+	}
+	return opt
 }
 
 // outputKeep are the files each output must keep clear of.

@@ -67,8 +67,14 @@ type search struct {
 	conds    []cond   // scratch: a settle's conditions
 	rep      *Report
 	expanded int32 // the state being expanded
-	t0       time.Time
-	lastP    time.Time
+	margin   struct {
+		v        float64
+		node     int
+		from, to int32
+		got      switchsim.NodeState
+	}
+	t0    time.Time
+	lastP time.Time
 }
 
 // Search explores the design's reachable states. It returns an error only
@@ -108,6 +114,7 @@ func newSearch(nl *switchsim.Netlist, opt Options) *search {
 	s.cur, s.next = make([]byte, keyLen), make([]byte, keyLen)
 	s.snapCost = int64(nn)*48 + int64(nl.NumDevices())*16 + 256
 	s.rep = &Report{Inputs: s.ins}
+	s.margin.v, s.margin.node = math.NaN(), -1
 	return s
 }
 
@@ -150,6 +157,10 @@ func (s *search) run(ctx context.Context) {
 			f.Steps = s.sequence(f.from, f.to)
 			f.Moves = len(f.Steps) - 1 - len(s.reset)
 			s.rep.Findings[i] = f.Finding
+		}
+		s.rep.Margin, s.rep.MarginNode, s.rep.MarginGot = s.margin.v, s.margin.node, s.margin.got
+		if s.margin.node >= 0 {
+			s.rep.MarginSteps = s.sequence(s.margin.from, s.margin.to)
 		}
 		if s.opt.Progress != nil {
 			s.opt.Progress(s.progress())
@@ -466,6 +477,9 @@ func (s *search) count(from, to int32, fresh bool, cc []cond) {
 	}
 	for _, o := range s.outs {
 		st := s.sim.Node(o)
+		if m := s.sim.Margin(o).Noise; !math.IsNaN(m) && (math.IsNaN(s.margin.v) || m < s.margin.v) {
+			s.margin.v, s.margin.node, s.margin.from, s.margin.to, s.margin.got = m, o, from, to, st
+		}
 		var f *finding
 		switch st.State {
 		case switchsim.StateZ:

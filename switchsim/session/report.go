@@ -75,13 +75,25 @@ type Report struct {
 	s      *Session
 	w      *bufio.Writer
 	format Format
-	shown  []int // the nodes a text report prints per step
+	shown  []int  // the nodes a text report prints per step
+	corner string // JSON: the corner every line names ("" none)
 	sum    Summary
 }
 
 // NewReport starts a report of s on w and writes its header.
 func NewReport(w io.Writer, s *Session, format Format) *Report {
+	return NewCornerReport(w, s, format, s.Corner() != "")
+}
+
+// NewCornerReport is NewReport whose JSON lines each begin with the
+// session's corner ("corner": NAME, Nominal for the design's own
+// technology) when tag is true: one of the reports of `run --corners`.
+// A session at a corner always tags its lines.
+func NewCornerReport(w io.Writer, s *Session, format Format, tag bool) *Report {
 	r := &Report{s: s, w: bufio.NewWriter(w), format: format}
+	if tag || s.Corner() != "" {
+		r.corner = s.CornerName()
+	}
 	if format == JSON {
 		r.jsonHeader()
 	} else {
@@ -93,16 +105,23 @@ func NewReport(w io.Writer, s *Session, format Format) *Report {
 	return r
 }
 
-// Add reports one event; node reads the states just after it (the
-// session's Node while the event is the last, or a Walk's reader).
-func (r *Report) Add(e *Event, node func(n int) switchsim.NodeState) {
+// Add reports one event; rd reads the state just after it (the session
+// itself while the event is its last, or a WalkStates reader).
+func (r *Report) Add(e *Event, rd Reader) {
 	r.sum.add(e)
 	if r.format == JSON {
-		r.w.WriteString(r.s.eventJSON(e, node))
+		r.w.WriteString(r.eventJSON(e, rd))
 		r.w.WriteByte('\n')
 		return
 	}
-	r.textEvent(e, node)
+	r.textEvent(e, rd)
+}
+
+// begin starts a JSON line with its corner, when the report names one.
+func (r *Report) begin(o *jsonObject) {
+	if r.corner != "" {
+		o.key("corner").str(r.corner)
+	}
 }
 
 // Close writes the summary, flushes, and returns the summary.
@@ -115,6 +134,7 @@ func (r *Report) Close() (Summary, error) {
 		sum.key("failed").num(float64(m.Failed))
 		sum.key("warnings").num(float64(m.Warnings))
 		var top jsonObject
+		r.begin(&top)
 		top.key("summary").raw(sum.close())
 		r.w.WriteString(top.close())
 		r.w.WriteByte('\n')
@@ -146,9 +166,9 @@ func (s *Session) WriteJSON(w io.Writer) error { return s.writeReport(w, JSON) }
 func (s *Session) writeReport(w io.Writer, format Format) error {
 	r := NewReport(w, s, format)
 	alone := s.Len() == 1
-	err := s.Walk(func(e *Event, node func(int) switchsim.NodeState) error {
+	err := s.WalkStates(func(e *Event, rd Reader) error {
 		if e.Action.Kind != Start || alone {
-			r.Add(e, node)
+			r.Add(e, rd)
 		}
 		return nil
 	})
@@ -168,7 +188,11 @@ func (r *Report) textHeader() {
 	}
 	p(" (%s)\n", s.designPath)
 	th := TechThresholds(nl.Tech)
-	p("mode %s, tech %s: vdd %s, vil %s, vih %s, vm %s\n", s.opts.Mode, techName(nl.Tech),
+	corner := ""
+	if s.Corner() != "" {
+		corner = " at corner " + s.Corner()
+	}
+	p("mode %s, tech %s%s: vdd %s, vil %s, vih %s, vm %s\n", s.opts.Mode, techName(nl.Tech), corner,
 		voltsText(nl.Tech.Vdd), voltsText(th.VIL), voltsText(th.VIH), voltsText(th.VM))
 	if s.steps != nil {
 		p("steps %s: %d rows\n", s.stepsPath, s.NumSteps())
@@ -178,9 +202,12 @@ func (r *Report) textHeader() {
 	if s.opts.FullSwing {
 		p("full swing: 0 and 1 checks require the strong full-level states\n")
 	}
+	if s.opts.MarginCheck {
+		p("min margin: a check whose margin is below %s fails\n", voltsText(s.opts.MinMargin))
+	}
 }
 
-func (r *Report) textEvent(e *Event, node func(int) switchsim.NodeState) {
+func (r *Report) textEvent(e *Event, rd Reader) {
 	s, nl := r.s, r.s.Netlist()
 	p := func(f string, a ...any) { fmt.Fprintf(r.w, f, a...) }
 	p("\n")
@@ -212,15 +239,23 @@ func (r *Report) textEvent(e *Event, node func(int) switchsim.NodeState) {
 			if i > 0 {
 				p(", ")
 			}
-			p("%s=%s", nl.NodeName(n), stateText(node(n)))
+			p("%s=%s%s", nl.NodeName(n), stateText(rd.Node(n)), marginText(rd.Margin(n)))
 		}
 		p("\n")
+		if g := gatesText(nl, rd); g != "" {
+			p("  gates  %s\n", g)
+		}
 	}
 	for _, c := range e.Checks {
 		if !IsCheck(c) {
 			continue
 		}
-		p("  check  %s want %s got %s  %s\n", nl.NodeName(c.Node), c.Want, stateText(c.Got), passFail(c.Pass))
+		verdict := passFail(c.Pass)
+		if c.LowMargin {
+			verdict = "FAIL (margin below " + voltsText(s.opts.MinMargin) + ")"
+		}
+		p("  check  %s want %s got %s%s  %s\n", nl.NodeName(c.Node), c.Want, stateText(c.Got),
+			checkMarginText(c, rd.Margin(c.Node)), verdict)
 	}
 	for _, wr := range e.Warnings {
 		p("  warn   %s: %s\n", wr.Kind, wr.Message)
@@ -258,6 +293,99 @@ func stateText(st switchsim.NodeState) string {
 	return t
 }
 
+// marginText words a node's margins for a node line: " margin 0.18", and
+// for a node of a fight that drives a stage its write margin against the
+// stage's VM; "" in ideal mode.
+func marginText(m switchsim.Margin) string {
+	if math.IsNaN(m.Noise) {
+		return ""
+	}
+	t := " margin " + signedVolts(m.Noise)
+	if !math.IsNaN(m.Write) {
+		t += ", write " + signedVolts(m.Write) + " from VM " + strconv.FormatFloat(m.StageVM, 'f', 2, 64)
+	}
+	return t
+}
+
+// checkMarginText words a check's margin: "  margin 0.18", with the write
+// margin against the driven stage's VM, signed for the wanted value, for a
+// node of a fight.
+func checkMarginText(c CheckResult, m switchsim.Margin) string {
+	if math.IsNaN(c.Margin) {
+		return ""
+	}
+	t := "  margin " + signedVolts(c.Margin)
+	if w := WriteMargin(c.Want, c.Got, m); !math.IsNaN(w) {
+		t += ", write " + signedVolts(w) + " from VM " + strconv.FormatFloat(m.StageVM, 'f', 2, 64)
+	}
+	return t
+}
+
+// gatesText lists the devices whose gate is not at a full level, with the
+// gate's voltage and what it makes of the device: "load: ld at 1.14 V, on,
+// passes at most 0.57 V; buf1.p: x at 1.45 V, partly on, 3.1 uA". "" when
+// every gate is at a rail's level (and in ideal mode).
+func gatesText(nl *switchsim.Netlist, rd Reader) string {
+	var parts []string
+	for d := 0; d < nl.NumDevices(); d++ {
+		dv := nl.Device(d)
+		if dv.Gate < 0 || dv.Kind >= switchsim.PullUp {
+			continue
+		}
+		b := rd.DeviceBias(d)
+		if math.IsNaN(b.GateVolts) || b.FullGate {
+			continue
+		}
+		t := fmt.Sprintf("%s: %s at %s V", dv.Name, nl.NodeName(dv.Gate), strconv.FormatFloat(b.GateVolts, 'f', 2, 64))
+		switch {
+		case b.PartlyOn:
+			t += ", partly on"
+			if !math.IsNaN(b.Current) {
+				t += ", " + Amps(b.Current)
+			}
+		case rd.Node(dv.Gate).Value == switchsim.VX:
+			t += ", of unknown state"
+		case b.Current != 0 || onByValue(dv.Kind, rd.Node(dv.Gate).Value):
+			t += ", on"
+			if !math.IsNaN(b.Limit) {
+				if dv.Kind == switchsim.NMOS {
+					t += ", passes a 1 at most to " + strconv.FormatFloat(b.Limit, 'f', 2, 64) + " V"
+				} else {
+					t += ", passes a 0 at least to " + strconv.FormatFloat(b.Limit, 'f', 2, 64) + " V"
+				}
+			}
+		default:
+			t += ", off"
+		}
+		parts = append(parts, t)
+	}
+	return strings.Join(parts, "; ")
+}
+
+// onByValue reports whether a transistor is on for its gate's logic value.
+func onByValue(k switchsim.DeviceKind, v switchsim.Value) bool {
+	return k == switchsim.NMOS && v == switchsim.V1 || k == switchsim.PMOS && v == switchsim.V0
+}
+
+// Amps prints a current with a prefix: "3.1 uA", "250 nA".
+func Amps(a float64) string {
+	x := math.Abs(a)
+	switch {
+	case math.IsNaN(a):
+		return "-"
+	case x >= 1e-3:
+		return strconv.FormatFloat(x*1e3, 'g', 3, 64) + " mA"
+	case x >= 1e-6:
+		return strconv.FormatFloat(x*1e6, 'g', 3, 64) + " uA"
+	case x >= 1e-9:
+		return strconv.FormatFloat(x*1e9, 'g', 3, 64) + " nA"
+	}
+	return strconv.FormatFloat(x*1e12, 'g', 3, 64) + " pA"
+}
+
+// signedVolts prints a margin to 10 mV: "0.18", "-0.05".
+func signedVolts(v float64) string { return strconv.FormatFloat(v, 'f', 2, 64) }
+
 // voltsText prints a voltage with its unit, or "-" where unknown.
 func voltsText(v float64) string {
 	if math.IsNaN(v) {
@@ -285,6 +413,7 @@ func plural(n int, word string) string {
 func (r *Report) jsonHeader() {
 	s, nl := r.s, r.s.Netlist()
 	var o jsonObject
+	r.begin(&o)
 	o.key("design").str(s.design.Name)
 	o.key("mode").str(s.opts.Mode.String())
 	o.key("tech").raw(techJSON(nl.Tech))
@@ -312,9 +441,12 @@ func techJSON(t switchsim.Tech) string {
 	return o.close()
 }
 
-func (s *Session) eventJSON(e *Event, node func(int) switchsim.NodeState) string {
+func (r *Report) eventJSON(e *Event, rd Reader) string {
+	s := r.s
 	nl := s.Netlist()
+	physical := s.opts.Mode == switchsim.Physical
 	var o jsonObject
+	r.begin(&o)
 	step := 0
 	if e.Action.Kind == Step {
 		step = e.Action.Step + 1
@@ -342,13 +474,21 @@ func (s *Session) eventJSON(e *Event, node func(int) switchsim.NodeState) string
 		if k == switchsim.Power || k == switchsim.Ground {
 			continue
 		}
-		st := node(n)
+		st := rd.Node(n)
 		var ns jsonObject
 		ns.key("state").str(st.State.String())
 		ns.key("value").str(st.Value.String())
 		ns.key("strength").str(st.Strength.String())
 		ns.key("volts").num(roundVolts(st.Volts))
 		ns.key("floating").boolean(st.Floating)
+		if physical {
+			m := rd.Margin(n)
+			ns.key("margin").num(roundVolts(NodeMargin(m)))
+			if !math.IsNaN(m.Write) {
+				ns.key("write_margin").num(roundVolts(m.Write))
+				ns.key("stage_vm").num(roundVolts(m.StageVM))
+			}
+		}
 		nodes.key(nl.NodeName(n)).raw(ns.close())
 	}
 	o.key("nodes").raw(nodes.close())
@@ -363,6 +503,15 @@ func (s *Session) eventJSON(e *Event, node func(int) switchsim.NodeState) string
 		co.key("want").str(c.Want.String())
 		co.key("got").str(c.Got.State.String())
 		co.key("pass").boolean(c.Pass)
+		if physical {
+			co.key("margin").num(roundVolts(c.Margin))
+			if w := WriteMargin(c.Want, c.Got, rd.Margin(c.Node)); !math.IsNaN(w) {
+				co.key("write_margin").num(roundVolts(w))
+			}
+			if c.LowMargin {
+				co.key("below_min_margin").boolean(true)
+			}
+		}
 		checks.add(co.close())
 	}
 	o.key("checks").raw(checks.close())

@@ -153,7 +153,19 @@ func checkSchema(t *testing.T, s *session.Session, lines []map[string]any) {
 		}
 		for name, v := range nodes {
 			ns, ok := v.(map[string]any)
-			if !ok || keys(ns) != "floating state strength value volts" {
+			want := "floating state strength value volts"
+			if s.Options().Mode == switchsim.Physical {
+				// FORMAT.md: in physical mode each node also has its margin;
+				// a node of a fight that drives a stage its write margin too.
+				want = "floating margin state strength value volts"
+				if _, fight := ns["write_margin"]; fight {
+					want = "floating margin stage_vm state strength value volts write_margin"
+				}
+				if (ns["margin"] == nil) != (ns["volts"] == nil) {
+					t.Errorf("node %s margin %v with volts %v: a margin is known exactly where the volts are", name, ns["margin"], ns["volts"])
+				}
+			}
+			if !ok || keys(ns) != want {
 				t.Errorf("node %s = %v", name, v)
 				continue
 			}
@@ -177,7 +189,14 @@ func checkSchema(t *testing.T, s *session.Session, lines []map[string]any) {
 		}
 		for _, c := range checks {
 			cm, ok := c.(map[string]any)
-			if !ok || keys(cm) != "got node pass want" {
+			want := "got node pass want"
+			if s.Options().Mode == switchsim.Physical {
+				want = "got margin node pass want"
+				if _, fight := cm["write_margin"]; fight {
+					want = "got margin node pass want write_margin"
+				}
+			}
+			if !ok || keys(cm) != want {
 				t.Errorf("check %v", c)
 				continue
 			}
@@ -284,7 +303,7 @@ func TestSummarizeSkipsDontCare(t *testing.T) {
 	s.RunToEnd(false)
 	r := session.NewReport(io.Discard, s, session.Text)
 	for _, e := range s.History()[1:] {
-		r.Add(e, s.Node)
+		r.Add(e, s)
 	}
 	m, _ := r.Close()
 	if m.Steps != 2 || m.Checks != 3 || m.Failed != 0 {

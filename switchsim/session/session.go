@@ -44,6 +44,17 @@ type Options struct {
 	// folded into the first entry and cannot be undone. 0 means
 	// DefaultMaxHistory.
 	MaxHistory int
+	// Corner names the technology corner to run at (one of the design's
+	// corner statements); "" or Nominal is the design's own technology.
+	Corner string
+	// MarginCheck turns on the --min-margin rule: a check whose margin
+	// (CheckMargin) is below MinMargin volts fails (physical mode).
+	MarginCheck bool
+	MinMargin   float64
+	// Watch are nodes whose levels are checked besides the outputs and the
+	// steps' check columns (Sim.Watch): a trace's replay gives the nodes
+	// the recorded session watched.
+	Watch []int
 }
 
 // Defaults for the memory bounds of a session. With them a session holds
@@ -104,6 +115,10 @@ type CheckResult struct {
 	Want steps.Want
 	Got  switchsim.NodeState
 	Pass bool
+	// Margin is the check's margin in volts (CheckMargin), NaN where
+	// unknown; LowMargin marks a check failed by Options.MinMargin alone.
+	Margin    float64
+	LowMargin bool
 }
 
 // IsCheck reports whether a check column checks anything ("-" does not).
@@ -190,8 +205,11 @@ type Session struct {
 	snapBytes   int64 // the estimate of one snapshot
 	detailLo    int   // hist[detailLo:] keep their detail
 	detailBytes int64
-	scratch     *switchsim.Sim // for rebuilding, made on first use
-	trk         *track         // the watched nodes' states, for timelines
+	scratch     *switchsim.Sim  // for rebuilding, made on first use
+	trk         *track          // the watched nodes' states, for timelines
+	watch       []int           // the nodes whose levels are checked besides the outputs (Watched)
+	th          Thresholds      // the technology's, for check margins
+	base        *netfile.Design // the design at its own technology, when design is at a corner
 }
 
 // Hash returns the hex sha256 of b.
@@ -215,6 +233,9 @@ func OpenFrom(l *load.Loader, designPath, stepsPath string, opt Options) (*Sessi
 	if err != nil {
 		return nil, err
 	}
+	if _, err := AtCorner(ld.Design, opt.Corner); err != nil {
+		return nil, err
+	}
 	s := New(ld.Design, l.Path(designPath), ld.Steps, opt)
 	if ld.StepsName != "" {
 		s.stepsPath = l.Path(ld.StepsName)
@@ -223,8 +244,27 @@ func OpenFrom(l *load.Loader, designPath, stepsPath string, opt Options) (*Sessi
 	return s, nil
 }
 
-// New starts a session on a loaded design and settles it once.
+// New starts a session on a loaded design and settles it once. A corner
+// named in opt must be one of the design's (AtCorner says which are; Open
+// and OpenFrom check it and return the error): New panics on another.
 func New(d *netfile.Design, designPath string, st *steps.Steps, opt Options) *Session {
+	if opt.Corner == Nominal {
+		opt.Corner = ""
+	}
+	if opt.Corner == "" {
+		return newAt(d, designPath, st, opt)
+	}
+	cd, err := AtCorner(d, opt.Corner)
+	if err != nil {
+		panic("session.New: " + err.Error())
+	}
+	s := newAt(cd, designPath, st, opt)
+	s.base = d
+	return s
+}
+
+// newAt starts a session on d, which is already at opt.Corner.
+func newAt(d *netfile.Design, designPath string, st *steps.Steps, opt Options) *Session {
 	if opt.SnapshotBudget <= 0 {
 		opt.SnapshotBudget = DefaultSnapshotBudget
 	}
@@ -236,8 +276,9 @@ func New(d *netfile.Design, designPath string, st *steps.Steps, opt Options) *Se
 	}
 	opt.MaxHistory = max(opt.MaxHistory, 8)
 	nl := d.Netlist
-	s := &Session{design: d, designPath: designPath, hash: Hash(d.Source), steps: st, opts: opt,
-		sim: switchsim.NewSim(nl, switchsim.Options{Mode: opt.Mode}), stride: 1}
+	s := &Session{design: d, designPath: designPath, hash: Hash(d.Source), steps: st, opts: opt, stride: 1,
+		watch: watchList(opt, st, nl.NumNodes()), th: TechThresholds(nl.Tech)}
+	s.sim = s.newSim()
 	if st != nil {
 		s.rowDrives = make([][]InputDrive, len(st.Rows))
 	}
@@ -495,7 +536,7 @@ func (s *Session) JumpTo(i int) {
 // record settles after the action's inputs were applied, keeps the event
 // in the history and gives it to the recorders.
 func (s *Session) record(a Action, cursor int) *Event {
-	e := buildEvent(s.sim, a, s.letters, s.opts.FullSwing)
+	e := s.buildEvent(s.sim, a, s.letters)
 	e.Seq = s.seq
 	s.seq++
 	s.push(e, cursor)
@@ -507,7 +548,7 @@ func (s *Session) record(a Action, cursor int) *Event {
 
 // buildEvent settles sim and words what the settle did. letters holds
 // every node's state letter before the action and is brought up to date.
-func buildEvent(sim *switchsim.Sim, a Action, letters []switchsim.State, fullSwing bool) *Event {
+func (s *Session) buildEvent(sim *switchsim.Sim, a Action, letters []switchsim.State) *Event {
 	r := sim.Settle()
 	e := &Event{Action: a, Rounds: r.Rounds, Oscillated: r.Oscillated}
 	if len(r.Changed) > 0 {
@@ -546,9 +587,10 @@ func buildEvent(sim *switchsim.Sim, a Action, letters []switchsim.State, fullSwi
 			break
 		}
 		got := sim.Node(n)
-		pass := a.Checks[c].Check(got, fullSwing)
-		e.Checks = append(e.Checks, CheckResult{Node: n, Want: a.Checks[c], Got: got, Pass: pass})
-		e.failed = e.failed || !pass
+		cr := CheckResult{Node: n, Want: a.Checks[c], Got: got, Pass: a.Checks[c].Check(got, s.opts.FullSwing)}
+		judge(&cr, sim.Margin(n), s.th, s.opts)
+		e.Checks = append(e.Checks, cr)
+		e.failed = e.failed || !cr.Pass
 	}
 	return e
 }
@@ -643,7 +685,7 @@ func (s *Session) nearestSnapshot(i int) int {
 // is not disturbed.
 func (s *Session) scratchSim() *switchsim.Sim {
 	if s.scratch == nil {
-		s.scratch = switchsim.NewSim(s.Netlist(), switchsim.Options{Mode: s.opts.Mode})
+		s.scratch = s.newSim()
 	}
 	return s.scratch
 }
@@ -709,14 +751,14 @@ func (s *Session) Detail(i int) *Event {
 	}
 	var sim *switchsim.Sim
 	if i == 0 {
-		sim = switchsim.NewSim(s.Netlist(), switchsim.Options{Mode: s.opts.Mode})
+		sim = s.newSim()
 	} else {
 		sim = s.scratchSim()
 		s.rewind(sim, i-1)
 	}
 	letters := stateLetters(sim)
 	redo(sim, e.Action)
-	full := buildEvent(sim, e.Action, letters, s.opts.FullSwing)
+	full := s.buildEvent(sim, e.Action, letters)
 	full.Seq = e.Seq
 	return full
 }
@@ -737,20 +779,24 @@ func stateLetters(sim *switchsim.Sim) []switchsim.State {
 // first event is the stored one (its detail may be dropped); the others
 // are rebuilt whole. An error from fn stops the walk.
 func (s *Session) Walk(fn func(e *Event, node func(n int) switchsim.NodeState) error) error {
-	sim := switchsim.NewSim(s.Netlist(), switchsim.Options{Mode: s.opts.Mode})
+	return s.walk(func(e *Event, rd Reader) error { return fn(e, rd.Node) })
+}
+
+func (s *Session) walk(fn func(e *Event, rd Reader) error) error {
+	sim := s.newSim()
 	var letters []switchsim.State
 	if s.folded == 0 {
 		// From the very start: the same calls as the session made, so the
 		// events come out exactly as they were first recorded.
 		letters = stateLetters(sim)
-		e := buildEvent(sim, s.hist[0].ev.Action, letters, s.opts.FullSwing)
+		e := s.buildEvent(sim, s.hist[0].ev.Action, letters)
 		e.Seq = s.hist[0].ev.Seq
-		if err := fn(e, sim.Node); err != nil {
+		if err := fn(e, sim); err != nil {
 			return err
 		}
 	} else {
 		sim.Restore(s.hist[0].snap)
-		if err := fn(s.hist[0].ev, sim.Node); err != nil {
+		if err := fn(s.hist[0].ev, sim); err != nil {
 			return err
 		}
 		letters = stateLetters(sim)
@@ -758,9 +804,9 @@ func (s *Session) Walk(fn func(e *Event, node func(n int) switchsim.NodeState) e
 	for i := 1; i < len(s.hist); i++ {
 		stored := s.hist[i].ev
 		redo(sim, stored.Action)
-		e := buildEvent(sim, stored.Action, letters, s.opts.FullSwing)
+		e := s.buildEvent(sim, stored.Action, letters)
 		e.Seq = stored.Seq
-		if err := fn(e, sim.Node); err != nil {
+		if err := fn(e, sim); err != nil {
 			return err
 		}
 	}

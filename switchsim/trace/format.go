@@ -11,6 +11,9 @@
 //	mode physical | ideal
 //	full-swing no | yes
 //	tech KEY=VALUE ...     the values in force (vil and vih as computed)
+//	corner NAME            when the session ran at a technology corner
+//	min-margin VOLTS       when checks failed below a margin (run --min-margin)
+//	watch NODE ...         the nodes whose levels were checked besides the outputs
 //	created TIME
 //
 //	action SEQ KIND [details]
@@ -27,7 +30,10 @@
 // actions" means the same thing wherever it is said. Step actions carry
 // their drives and wanted values, so a trace replays without its steps
 // file. Version 1 traces (design paths as given, tech vil/vih as set) are
-// still read.
+// still read, and so are traces without the corner, min-margin and watch
+// lines or the check lines' margin (MARGIN in volts, - where unknown),
+// which later version 2 traces added: the replay compares a margin only
+// where the trace has one.
 //
 // The session streams its trace as actions happen (Writer, a
 // session.Recorder) to a spool file, and Save writes the whole trace
@@ -74,9 +80,20 @@ func changeKey(round int, node string, st switchsim.NodeState) string {
 		st.Strength.String() + " " + session.FormatVolts(st.Volts)
 }
 
-// checkKey is a check line's content: "NODE WANT STATE VALUE pass|FAIL".
+// checkKey is a check line's content: "NODE WANT STATE VALUE pass|FAIL
+// MARGIN" (the margin to the millivolt, as FormatVolts prints it).
 func checkKey(node string, c session.CheckResult) string {
-	return node + " " + c.Want.String() + " " + c.Got.State.String() + " " + c.Got.Value.String() + " " + passFail(c.Pass)
+	return node + " " + c.Want.String() + " " + c.Got.State.String() + " " + c.Got.Value.String() + " " + passFail(c.Pass) +
+		" " + session.FormatVolts(c.Margin)
+}
+
+// withoutMargin is a check key without its margin, to compare with a
+// trace written before check lines had one.
+func withoutMargin(key string) string {
+	if i := strings.LastIndexByte(key, ' '); i >= 0 {
+		return key[:i]
+	}
+	return key
 }
 
 // warnKey is what a warn line says that is compared: "KIND NODE" (the

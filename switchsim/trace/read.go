@@ -30,6 +30,16 @@ type Header struct {
 	Created    string
 	DesignPos  diag.Pos // the design line, for errors about the design
 	StepsPos   diag.Pos
+	// Corner is the technology corner the session ran at ("" the design's
+	// own; a corner line), MinMargin the --min-margin in force when
+	// MarginCheck (a min-margin line), and Watch the nodes whose levels it
+	// checked besides the outputs (a watch line). Older traces have none.
+	Corner      string
+	CornerPos   diag.Pos
+	MarginCheck bool
+	MinMargin   float64
+	Watch       []string
+	WatchPos    diag.Pos
 }
 
 // Action is one recorded action with what it did, as written.
@@ -262,7 +272,7 @@ func (r *reader) lineText(text string) {
 	rest := strings.TrimLeft(text[len(key.s):], " \t")
 	restCol := len(text) - len(rest) + 1
 	switch key.s {
-	case "design", "design-sha256", "steps", "steps-sha256", "mode", "full-swing", "tech", "created":
+	case "design", "design-sha256", "steps", "steps-sha256", "mode", "full-swing", "tech", "created", "corner", "min-margin", "watch":
 		r.headerLine(key, rest, restCol)
 	case "action":
 		r.finishHeader()
@@ -362,6 +372,24 @@ func (r *reader) headerLine(key tok, rest string, col int) {
 		h.Tech = rest
 	case "created":
 		h.Created = rest
+	case "corner":
+		if strings.ContainsAny(rest, " \t") {
+			r.errAt(r.line, col, "a corner line names one corner, not %s", excerpt(rest))
+			return
+		}
+		h.Corner, h.CornerPos = rest, r.pos(col)
+	case "min-margin":
+		v, err := strconv.ParseFloat(rest, 64)
+		if err != nil || math.IsNaN(v) || math.IsInf(v, 0) {
+			r.errAt(r.line, col, "min-margin wants a number of volts, not %s", excerpt(rest))
+			return
+		}
+		h.MarginCheck, h.MinMargin = true, v
+	case "watch":
+		for _, t := range fields(rest) {
+			h.Watch = append(h.Watch, t.s)
+		}
+		h.WatchPos = r.pos(col)
 	}
 }
 
@@ -576,8 +604,8 @@ func (r *reader) bodyLine(toks []tok) {
 			a.Changes = append(a.Changes, strings.Join(parts, " "))
 		}
 	case "check":
-		if len(args) != 5 {
-			r.errAt(r.line, key.col, "a check line wants 5 fields (NODE WANT STATE VALUE pass|FAIL), has %d", len(args))
+		if len(args) != 5 && len(args) != 6 {
+			r.errAt(r.line, key.col, "a check line wants 6 fields (NODE WANT STATE VALUE pass|FAIL MARGIN; older traces 5), has %d", len(args))
 			return
 		}
 		_, okW := steps.ParseWant(args[1].s)
@@ -585,8 +613,15 @@ func (r *reader) bodyLine(toks []tok) {
 		ok = r.want(oneOf(args[2].s, stateLetters), args[2], "state", stateLetters) && ok
 		ok = r.want(oneOf(args[3].s, valueLetters), args[3], "value", valueLetters) && ok
 		ok = r.want(args[4].s == "pass" || args[4].s == "FAIL", args[4], "verdict", "pass or FAIL") && ok
+		if len(args) == 6 {
+			ok = r.want(isVolts(args[5].s), args[5], "margin", "a number or -") && ok
+		}
 		if ok {
-			a.Results = append(a.Results, strings.Join([]string{args[0].s, args[1].s, args[2].s, args[3].s, args[4].s}, " "))
+			parts := make([]string, len(args))
+			for i := range args {
+				parts[i] = args[i].s
+			}
+			a.Results = append(a.Results, strings.Join(parts, " "))
 		}
 	case "warn":
 		if len(args) < 2 {

@@ -9,6 +9,7 @@ import (
 	"os"
 	"path/filepath"
 	"runtime"
+	"strconv"
 	"strings"
 	"sync"
 	"time"
@@ -183,6 +184,19 @@ func (w *Writer) header(path string) string {
 	p("mode %s\n", s.Options().Mode)
 	p("full-swing %s\n", yesNo(s.Options().FullSwing))
 	p("tech %s\n", techString(s.Netlist().Tech))
+	if c := s.Corner(); c != "" {
+		p("corner %s\n", c)
+	}
+	if o := s.Options(); o.MarginCheck {
+		p("min-margin %s\n", strconv.FormatFloat(o.MinMargin, 'g', -1, 64))
+	}
+	if ws := s.Watched(); len(ws) > 0 {
+		names := make([]string, len(ws))
+		for i, n := range ws {
+			names[i] = s.Netlist().NodeName(n)
+		}
+		p("watch %s\n", strings.Join(names, " "))
+	}
 	p("created %s\n", w.opt.Created.UTC().Format(time.RFC3339))
 	return b.String()
 }
