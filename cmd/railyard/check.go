@@ -21,6 +21,7 @@ import (
 
 const checkUsage = `
 usage: railyard check PATH ... [--exhaustive [--pairs] [--reset N]] [--ideal]
+                               [--corner NAME | --corners]
                                [--json] [--junit FILE] [-j N] [--shard K/N] [--cache DIR]
 
 Check designs: each PATH is a design file, demo:NAME, or a folder searched
@@ -43,6 +44,13 @@ states and transitions where it occurs and the shortest input sequence that
 reaches it; --save-steps DIR writes that sequence as a steps file that run
 and explore open. The cost is estimated first and the search is refused
 over --budget; --max-states and --time-limit stop it (and fail the check).
+The search also finds each design's worst margin: the smallest noise
+margin of an output (V - VIH for a 1, VIL - V for a 0) over every settle.
+
+--corner NAME checks every design at its technology corner NAME (a design
+without it is bad input); --corners checks each design at its own
+technology and at every corner it names, each its own result (and its own
+JUnit testcase).
 
 Exit status: 1 when a design has a conflict, a lost level, a floating
 output, a race, a glitch on a dynamic node, a failed write or a short
@@ -54,6 +62,7 @@ examples:
   railyard check cells/opsel.sw --exhaustive --pairs --save-steps found
   railyard check cells/ --exhaustive -j 4 --junit check.xml
   railyard check cells/ --exhaustive --shard 2/4 --cache .railyard-cache --json
+  railyard check cells/ --exhaustive --corners --junit check.xml
 `
 
 // checkOptions are the flags of `check`.
@@ -67,6 +76,8 @@ type checkOptions struct {
 	saveSteps, junit, cache        string
 	jobs                           int
 	shard                          shard
+	corner                         string
+	corners                        bool
 }
 
 func cmdCheck(args []string, stdout, stderr io.Writer) int {
@@ -86,6 +97,8 @@ func cmdCheck(args []string, stdout, stderr io.Writer) int {
 	fs.IntVar(&o.jobs, "j", 0, "check `N` designs at once (default: every core)")
 	fs.Var(&o.shard, "shard", "check only shard `K/N` of the designs (split by a hash of each path)")
 	fs.StringVar(&o.cache, "cache", "", "keep results in `DIR`; an unchanged design is not checked again")
+	fs.StringVar(&o.corner, "corner", "", "check every design at its technology corner `NAME`")
+	fs.BoolVar(&o.corners, "corners", false, "check every design at its own technology and at each of its corners")
 	lf := addLoadFlags(fs)
 	pos, code := parseArgs(fs, args, stdout, stderr)
 	if code >= 0 {
@@ -109,6 +122,10 @@ func cmdCheck(args []string, stdout, stderr io.Writer) int {
 		return usageError(stderr, "check", "--pairs, --reset and --save-steps go with --exhaustive")
 	case o.steps != "" && o.reset == 0:
 		return usageError(stderr, "check", "--steps is read for --reset only")
+	case o.corners && o.corner != "":
+		return usageError(stderr, "check", "--corners checks every corner; give it or --corner NAME, not both")
+	case o.ideal && (o.corners || o.corner != ""):
+		return usageError(stderr, "check", "--corner and --corners need physical mode: ideal mode reads no technology")
 	}
 	if o.jobs == 0 {
 		o.jobs = runtime.NumCPU()
@@ -147,8 +164,12 @@ func checkDesigns(files *load.Loader, args []string, o checkOptions, stdout, std
 	// Read and plan every design first: bad input, too many inputs or a
 	// search over the budget stops the run before anything is printed.
 	t0 := time.Now()
-	jobs := make([]*checkJob, len(paths))
-	parallel(len(paths), o.jobs, func(i int) { jobs[i] = prepare(files, paths[i], o, cache) })
+	perDesign := make([][]*checkJob, len(paths))
+	parallel(len(paths), o.jobs, func(i int) { perDesign[i] = prepare(files, paths[i], o, cache) })
+	var jobs []*checkJob
+	for _, js := range perDesign {
+		jobs = append(jobs, js...)
+	}
 	bad := false
 	for _, j := range jobs {
 		if j.err != nil {
@@ -160,7 +181,9 @@ func checkDesigns(files *load.Loader, args []string, o checkOptions, stdout, std
 		return exitUsage
 	}
 	for _, j := range jobs {
-		printNotes(stderr, &netfile.Design{Notes: j.notes})
+		if j.corner == "" || !o.corners {
+			printNotes(stderr, &netfile.Design{Notes: j.notes}) // once a design
+		}
 		j.notes = nil
 	}
 
@@ -178,7 +201,7 @@ func checkDesigns(files *load.Loader, args []string, o checkOptions, stdout, std
 			prog.finish(i)
 			return
 		}
-		prog.start(i, j.path)
+		prog.start(i, j.label())
 		results[i] = runCheck(files, j, o, prog.searching(i))
 		prog.finish(i)
 		if cache != nil && results[i].err == nil && results[i].Stopped != reach.AtTimeLimit.String() {

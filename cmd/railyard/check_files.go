@@ -17,6 +17,7 @@ import (
 
 	"railyard/switchsim/diag"
 	"railyard/switchsim/outfile"
+	"railyard/switchsim/session"
 )
 
 // checkOutputPaths refuses, before anything is checked, to write a report
@@ -234,8 +235,18 @@ func junitCaseOf(r *designResult) junitCase {
 			class = "railyard"
 		}
 	}
-	c := junitCase{Name: xmlText(name), Classname: xmlText(class), Time: fmt.Sprintf("%.3f", r.Seconds)}
+	if r.Corner != "" && r.Corner != session.Nominal {
+		name += "@" + r.Corner // one testcase per design and corner; the design's own keeps its plain name
+	}
+	c := junitCase{Name: xmlText(diag.Printable(name)), Classname: xmlText(class), Time: fmt.Sprintf("%.3f", r.Seconds)}
 	var out strings.Builder
+	if r.Corner != "" {
+		out.WriteString("technology: " + diag.Printable(session.CornerLabel(r.Corner)) + "\n")
+	}
+	if r.Margin != nil {
+		fmt.Fprintf(&out, "worst margin: %.3f V on %s; shortest input sequence: %s\n", *r.Margin, diag.Printable(r.MarginNode),
+			sequenceText(findingResult{Sequence: r.MarginSequence}, r.Reset))
+	}
 	for _, f := range append(append([]findingResult(nil), r.Static...), r.Findings...) {
 		where := printableOr(f.Node, f.Device)
 		text := fmt.Sprintf("%s (%s check): %s", f.Kind, f.Check, diag.Printable(f.Message))
@@ -277,7 +288,7 @@ func xmlText(s string) string {
 }
 
 // writeJUnit writes the report atomically: one testsuite, one testcase per
-// design (and corner, once corners are checked).
+// design and corner.
 func writeJUnit(path string, results []*designResult, o checkOptions, took time.Duration) error {
 	name := "railyard check"
 	if o.shard.n > 1 {

@@ -5,10 +5,12 @@ import (
 	"encoding/json"
 	"fmt"
 	"io"
+	"math"
 	"strings"
 	"time"
 
 	"railyard/switchsim/diag"
+	"railyard/switchsim/session"
 )
 
 // designResult is one design's check, in names only, so that it prints,
@@ -16,6 +18,7 @@ import (
 type designResult struct {
 	Path        string          `json:"design"`
 	Name        string          `json:"name"`
+	Corner      string          `json:"corner"` // "" the design's own technology (Nominal with --corners)
 	Mode        string          `json:"mode"`
 	Nodes       int             `json:"nodes"`
 	Devices     int             `json:"devices"`
@@ -31,8 +34,13 @@ type designResult struct {
 	MaxStates   int             `json:"max_states"`
 	Stopped     string          `json:"stopped"` // "" when every reachable state was explored
 	Findings    []findingResult `json:"findings"`
-	Seconds     float64         `json:"seconds"`
-	Cached      bool            `json:"-"`
+	// Margin is the worst noise margin of an output over the search (nil:
+	// none known, or no search), on MarginNode, reached by MarginSequence.
+	Margin         *float64 `json:"margin"`
+	MarginNode     string   `json:"margin_node"`
+	MarginSequence []seqRow `json:"margin_sequence"`
+	Seconds        float64  `json:"seconds"`
+	Cached         bool     `json:"-"`
 
 	err      error
 	savedDir string // where --save-steps wrote this design's files
@@ -194,8 +202,12 @@ func (c *checkReport) design(r *designResult) {
 	if r.Cached {
 		cached = " (cached result)"
 	}
-	fmt.Fprintf(w, "design %s (%s): %d nodes, %d devices, %d inputs%s\n",
-		diag.Printable(r.Name), diag.Printable(r.Path), r.Nodes, r.Devices, len(r.InputNames), cached)
+	corner := ""
+	if r.Corner != "" {
+		corner = " at corner " + diag.Printable(r.Corner)
+	}
+	fmt.Fprintf(w, "design %s (%s)%s: %d nodes, %d devices, %d inputs%s\n",
+		diag.Printable(r.Name), diag.Printable(r.Path), corner, r.Nodes, r.Devices, len(r.InputNames), cached)
 	fmt.Fprintf(w, "\nstatic checks: %s\n", countFindings(len(r.Static)))
 	for _, f := range r.Static {
 		fmt.Fprintf(w, "  %-16s %s\n", f.Kind, diag.Printable(f.Message))
@@ -218,6 +230,10 @@ func (c *checkReport) design(r *designResult) {
 			if f.StepsFile != "" {
 				fmt.Fprintf(w, "  %-16s saved as %s\n", "", diag.Printable(f.StepsFile))
 			}
+		}
+		if r.Margin != nil {
+			fmt.Fprintf(w, "\nworst margin: %.3f V on %s (its noise margin, over every settle); shortest sequence: %s\n",
+				*r.Margin, diag.Printable(r.MarginNode), sequenceText(findingResult{Sequence: r.MarginSequence}, r.Reset))
 		}
 		switch r.Stopped {
 		case "cap":
@@ -282,6 +298,7 @@ type jsonDesignLine struct {
 	Findings    int      `json:"findings"`
 	Failing     int      `json:"failing"`
 	Margin      *float64 `json:"margin"`
+	MarginNode  *string  `json:"margin_node"`
 	Pass        bool     `json:"pass"`
 	Cached      bool     `json:"cached"`
 	Seconds     float64  `json:"seconds"`
@@ -304,6 +321,23 @@ type jsonFindingLine struct {
 	StepsFile   *string  `json:"steps_file"`
 }
 
+// roundMargin keeps a tenth of a millivolt, as run --json does.
+func roundMargin(m *float64) *float64 {
+	if m == nil {
+		return nil
+	}
+	v := math.Round(*m*1e4) / 1e4
+	return &v
+}
+
+// marginText is a result's worst margin for the summary table.
+func (r *designResult) marginText() string {
+	if r.Margin == nil {
+		return "-"
+	}
+	return fmt.Sprintf("%.2f V", *r.Margin)
+}
+
 func optString(s string) *string {
 	if s == "" {
 		return nil
@@ -314,16 +348,16 @@ func optString(s string) *string {
 
 func (c *checkReport) jsonDesign(r *designResult) {
 	all, failing := r.counts()
-	line := jsonDesignLine{Design: diag.Printable(r.Path), Name: diag.Printable(r.Name), Mode: r.Mode, Nodes: r.Nodes,
+	line := jsonDesignLine{Design: diag.Printable(r.Path), Name: diag.Printable(r.Name), Corner: optString(r.Corner), Mode: r.Mode, Nodes: r.Nodes,
 		Devices: r.Devices, Inputs: len(r.InputNames), Checks: []string{"static"}, Stopped: optString(r.Stopped),
-		Findings: all, Failing: failing, Pass: r.pass(), Cached: r.Cached, Seconds: r.Seconds}
+		Findings: all, Failing: failing, Margin: roundMargin(r.Margin), MarginNode: optString(r.MarginNode), Pass: r.pass(), Cached: r.Cached, Seconds: r.Seconds}
 	if r.Exhaustive {
 		line.Checks = append(line.Checks, "exhaustive")
 		line.States, line.Transitions = &r.States, &r.Transitions
 	}
 	c.emit(line)
 	for _, f := range append(append([]findingResult(nil), r.Static...), r.Findings...) {
-		fl := jsonFindingLine{Finding: f.Kind, Design: diag.Printable(r.Path), Check: f.Check, Node: optString(f.Node),
+		fl := jsonFindingLine{Finding: f.Kind, Design: diag.Printable(r.Path), Corner: optString(r.Corner), Check: f.Check, Node: optString(f.Node),
 			Device: optString(f.Device), Failing: f.Failing, Message: diag.Printable(f.Message), Want: optString(f.Want),
 			StepsFile: optString(f.StepsFile)}
 		if f.Check == "exhaustive" {
@@ -366,9 +400,24 @@ func (c *checkReport) summary(results []*designResult, took time.Duration) {
 	if c.total < 2 {
 		return
 	}
+	what := plural(designs, "design")
+	if c.o.corners {
+		paths := map[string]bool{}
+		for _, r := range results {
+			if r != nil && r.err == nil {
+				paths[r.Path] = true
+			}
+		}
+		what = fmt.Sprintf("%s at their technologies: %s", plural(len(paths), "design"), plural(designs, "result"))
+	}
 	fmt.Fprintf(c.w, "\nsummary: %s, %d failed, %d passed; %s (%d failing); %s\n",
-		plural(designs, "design"), failed, designs-failed, countFindings(findings), failing, took.Round(time.Millisecond))
-	rows := [][]string{{"design", "checks", "findings", "failing", "margin", "time", "result"}}
+		what, failed, designs-failed, countFindings(findings), failing, took.Round(time.Millisecond))
+	corners := c.o.corners || c.o.corner != ""
+	head := []string{"design", "checks", "findings", "failing", "margin", "time", "result"}
+	if corners {
+		head = append([]string{"design", "corner"}, head[1:]...)
+	}
+	rows := [][]string{head}
 	for _, r := range results {
 		if r == nil || r.err != nil {
 			continue
@@ -381,7 +430,11 @@ func (c *checkReport) summary(results []*designResult, took time.Duration) {
 		if r.Cached {
 			t = "cached"
 		}
-		rows = append(rows, []string{diag.Printable(r.Path), r.checksText(), fmt.Sprint(a), fmt.Sprint(f), "-", t, res})
+		row := []string{diag.Printable(r.Path), r.checksText(), fmt.Sprint(a), fmt.Sprint(f), r.marginText(), t, res}
+		if corners {
+			row = append([]string{row[0], diag.Printable(session.CornerLabel(r.Corner))}, row[1:]...)
+		}
+		rows = append(rows, row)
 	}
 	widths := make([]int, len(rows[0]))
 	for _, row := range rows {

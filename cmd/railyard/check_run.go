@@ -16,6 +16,7 @@ import (
 	"railyard/switchsim/load"
 	"railyard/switchsim/netfile"
 	"railyard/switchsim/reach"
+	"railyard/switchsim/session"
 )
 
 // findDesigns expands the arguments into design names, in order: a file or
@@ -59,9 +60,10 @@ func findDesigns(files *load.Loader, args []string) ([]string, error) {
 	return out, nil
 }
 
-// checkJob is one design to check, read and planned.
+// checkJob is one design to check at one technology, read and planned.
 type checkJob struct {
 	path   string
+	corner string        // the technology corner ("" the design's own)
 	key    string        // cache key, with --cache
 	cached *designResult // a result from the cache
 	notes  diag.List     // what the reader noticed, printed before the report
@@ -76,11 +78,23 @@ type loaded struct {
 	reset     [][]reach.Set
 }
 
-// loadCheck reads a design and, for --reset, its steps.
-func loadCheck(files *load.Loader, path string, o checkOptions) (*loaded, error) {
+// label names the job for the progress line: the design, and its corner.
+func (j *checkJob) label() string {
+	if j.corner == "" {
+		return j.path
+	}
+	return j.path + " at " + j.corner
+}
+
+// loadCheck reads a design at a corner ("" its own technology) and, for
+// --reset, its steps.
+func loadCheck(files *load.Loader, path, corner string, o checkOptions) (*loaded, error) {
 	d, err := files.Design(path)
 	if err != nil {
 		return nil, err
+	}
+	if d, err = session.AtCorner(d, corner); err != nil {
+		return nil, fmt.Errorf("%s: %w", diag.Printable(files.Path(path)), err)
 	}
 	l := &loaded{d: d}
 	if o.reset == 0 {
@@ -123,41 +137,59 @@ func (o checkOptions) reachOptions(l *loaded) reach.Options {
 	return opt
 }
 
-// prepare reads and plans one design, and looks it up in the cache.
-func prepare(files *load.Loader, path string, o checkOptions, cache *resultCache) *checkJob {
-	j := &checkJob{path: path}
-	l, err := loadCheck(files, path, o)
+// prepare reads and plans one design, one job for each technology it is
+// checked at (its own, --corner's, or with --corners its own and each of
+// its corners), and looks each up in the cache.
+func prepare(files *load.Loader, path string, o checkOptions, cache *resultCache) []*checkJob {
+	l, err := loadCheck(files, path, o.corner, o)
 	if err != nil {
-		j.err = err
-		return j
+		return []*checkJob{{path: path, corner: o.corner, err: err}}
 	}
-	j.notes = l.d.Notes
-	if o.exhaustive {
-		if _, err := reach.Check(l.d.Netlist, o.reachOptions(l)); err != nil {
-			j.err = fmt.Errorf("%s: %w", diag.Printable(path), err)
-			return j
+	corners := []string{o.corner}
+	if o.corners {
+		corners = append(corners, session.CornerNames(l.d)...)
+	}
+	var out []*checkJob
+	for _, c := range corners {
+		j := &checkJob{path: path, corner: c, notes: l.d.Notes}
+		out = append(out, j)
+		lc := l
+		if c != o.corner {
+			if lc, err = loadCheck(files, path, c, o); err != nil {
+				j.err = err
+				continue
+			}
+		}
+		if o.exhaustive {
+			if _, err := reach.Check(lc.d.Netlist, o.reachOptions(lc)); err != nil {
+				j.err = fmt.Errorf("%s: %w", diag.Printable(path), err)
+				continue
+			}
+		}
+		if cache != nil {
+			j.key = cacheKey(lc, c, o)
+			if r := cache.get(j.key); r != nil {
+				r.Path, r.Cached = files.Path(path), true
+				j.cached = r
+			}
 		}
 	}
-	if cache != nil {
-		j.key = cacheKey(l, o)
-		if r := cache.get(j.key); r != nil {
-			r.Path, r.Cached = files.Path(path), true
-			j.cached = r
-		}
-	}
-	return j
+	return out
 }
 
 // runCheck checks one design: the static checks, then the search.
 func runCheck(files *load.Loader, j *checkJob, o checkOptions, progress func(reach.Progress)) *designResult {
 	t0 := time.Now()
-	l, err := loadCheck(files, j.path, o) // read again: a library's designs are not all held at once
+	l, err := loadCheck(files, j.path, j.corner, o) // read again: a library's designs are not all held at once
 	if err != nil {
 		return &designResult{err: err}
 	}
 	nl := l.d.Netlist
 	r := &designResult{Path: files.Path(j.path), Name: l.d.Name, Mode: "physical", Nodes: nl.NumNodes(), Devices: nl.NumDevices(),
-		InputNames: names(nl, nl.Inputs()), Exhaustive: o.exhaustive}
+		InputNames: names(nl, nl.Inputs()), Exhaustive: o.exhaustive, Corner: j.corner}
+	if o.corners {
+		r.Corner = session.CornerLabel(j.corner)
+	}
 	if o.ideal {
 		r.Mode = "ideal"
 	}
@@ -184,6 +216,17 @@ func runCheck(files *load.Loader, j *checkJob, o checkOptions, progress func(rea
 		r.States, r.Transitions, r.Depth, r.MaxStates = rep.States, rep.Transitions, rep.Depth, o.maxStates
 		if rep.Stopped != reach.Done {
 			r.Stopped = rep.Stopped.String()
+		}
+		if rep.MarginNode >= 0 {
+			m := rep.Margin
+			r.Margin, r.MarginNode = &m, nl.NodeName(rep.MarginNode)
+			for _, row := range rep.MarginSteps {
+				var rr seqRow
+				for _, s := range row {
+					rr = append(rr, seqSet{nl.NodeName(s.Input), s.Drive.String()})
+				}
+				r.MarginSequence = append(r.MarginSequence, rr)
+			}
 		}
 		for _, f := range rep.Findings {
 			fr := findingResult{Kind: string(f.Kind), Check: "exhaustive", Failing: f.Failing(), Message: f.Message,
@@ -221,14 +264,14 @@ func names(nl *switchsim.Netlist, ns []int) []string {
 
 // cacheVersion changes whenever what a check computes changes in a way the
 // build identity would not show.
-const cacheVersion = "railyard check cache 1"
+const cacheVersion = "railyard check cache 2"
 
 // cacheKey is the key of a design's result: railyard's build, the options
 // that change a result, the design's and steps' bytes and the technology in
 // force (a preset's values come from the build).
-func cacheKey(l *loaded, o checkOptions) string {
+func cacheKey(l *loaded, corner string, o checkOptions) string {
 	h := sha256.New()
-	fmt.Fprintf(h, "%s\n%s\n", cacheVersion, buildIdentity())
+	fmt.Fprintf(h, "%s\n%s\ncorner %q labelled=%v\n", cacheVersion, buildIdentity(), corner, o.corners)
 	fmt.Fprintf(h, "exhaustive=%v pairs=%v ideal=%v reset=%d max-states=%d\n", o.exhaustive, o.pairs, o.ideal, o.reset, o.maxStates)
 	fmt.Fprintf(h, "design %d\n", len(l.d.Source))
 	h.Write(l.d.Source)

@@ -238,9 +238,10 @@ type Report struct {
 	TableBytes  int64 // memory kept for the states found: keys, index, parents, depths
 	Elapsed     time.Duration
 	Findings    []Finding // in the order first seen
-	// Margin is the worst noise margin of an output (switchsim.Margin.Noise)
-	// over every settle of the search, in volts: NaN in ideal mode and
-	// where no output has a known voltage. MarginNode is that output (-1:
+	// Margin is the worst noise margin (switchsim.Margin.Noise) of a node
+	// whose level is read, an output or an internal node that gates a
+	// device, over every settle of the search, in volts: NaN in ideal mode
+	// and where no such node has a known voltage. MarginNode is that node (-1:
 	// none), MarginSteps the shortest input sequence to the settle that
 	// showed it (as Finding.Steps) and MarginGot the output's state there.
 	Margin      float64

@@ -72,6 +72,7 @@ type search struct {
 		node     int
 		from, to int32
 		got      switchsim.NodeState
+		of       []bool // node -> its margin counts: an output, or an internal node that gates a device
 	}
 	t0    time.Time
 	lastP time.Time
@@ -115,6 +116,15 @@ func newSearch(nl *switchsim.Netlist, opt Options) *search {
 	s.snapCost = int64(nn)*48 + int64(nl.NumDevices())*16 + 256
 	s.rep = &Report{Inputs: s.ins}
 	s.margin.v, s.margin.node = math.NaN(), -1
+	s.margin.of = make([]bool, nn)
+	for _, o := range s.outs {
+		s.margin.of[o] = true
+	}
+	for n := 0; n < nn; n++ {
+		if nl.NodeKind(n) == switchsim.Internal && len(nl.GatedDevices(n)) > 0 {
+			s.margin.of[n] = true
+		}
+	}
 	return s
 }
 
@@ -198,6 +208,9 @@ func (s *search) run(ctx context.Context) {
 	s.start = s.sim.Snapshot()
 	s.queue = append(s.queue, pending{snap: s.start, conds: keep(conds)})
 	s.count(-1, 0, true, conds)
+	for n := range s.margin.of {
+		s.noteMargin(n, -1, 0)
+	}
 
 	max := s.opt.maxStates()
 	moves := make([][]Set, 0, len(s.ins)*len(s.ins))
@@ -272,6 +285,9 @@ func (s *search) run(ctx context.Context) {
 				s.queue = append(s.queue, pending{snap: sn, conds: keep(cc)})
 			}
 			s.count(p, to, !seen, cc)
+			for _, n := range r.Changed { // a node the settle left alone keeps the margin already noted
+				s.noteMargin(int(n), p, to)
+			}
 		}
 	}
 }
@@ -467,6 +483,18 @@ func isStateKind(k Kind) bool {
 	return false
 }
 
+// noteMargin keeps node n's noise margin when it counts (an output or a
+// node that gates a device) and is the worst so far, with the step from ->
+// to that showed it.
+func (s *search) noteMargin(n int, from, to int32) {
+	if !s.margin.of[n] {
+		return
+	}
+	if m := s.sim.Margin(n).Noise; !math.IsNaN(m) && (math.IsNaN(s.margin.v) || m < s.margin.v) {
+		s.margin.v, s.margin.node, s.margin.from, s.margin.to, s.margin.got = m, n, from, to, s.sim.Node(n)
+	}
+}
+
 // count records the conditions of the step from state from (-1: the start)
 // to state to, and the outputs' states there; fresh is set when to was
 // found by this step.
@@ -477,9 +505,6 @@ func (s *search) count(from, to int32, fresh bool, cc []cond) {
 	}
 	for _, o := range s.outs {
 		st := s.sim.Node(o)
-		if m := s.sim.Margin(o).Noise; !math.IsNaN(m) && (math.IsNaN(s.margin.v) || m < s.margin.v) {
-			s.margin.v, s.margin.node, s.margin.from, s.margin.to, s.margin.got = m, o, from, to, st
-		}
 		var f *finding
 		switch st.State {
 		case switchsim.StateZ:
