@@ -334,9 +334,10 @@ func TestLongNamesStayDistinct(t *testing.T) {
 	}
 	s := session.New(&netfile.Design{Name: "long", Netlist: nl}, "long.sw", nil, session.Options{})
 	m := New(s, 80, 24, Options{})
-	// the board is 32 cells at 80 columns: 11 for the name
+	// the board is 32 cells at 80 columns: 12 for the name in physical
+	// mode, where the margin column takes the strength column's place
 	v := m.View()
-	a, b2 := lineWith(v, "opera…elect "), lineWith(v, "opera…ect_b ")
+	a, b2 := lineWith(v, "operan…elect "), lineWith(v, "operan…ect_b ")
 	if a == "" || b2 == "" {
 		t.Fatalf("the two names are not cut in the middle, distinctly:\n%s", v)
 	}

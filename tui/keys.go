@@ -12,6 +12,7 @@ type KeyMap struct {
 	Filter                 key.Binding
 	Rounds, Vectors, Why   key.Binding
 	Devices, Timeline, Log key.Binding
+	Corner                 key.Binding
 }
 
 // DefaultKeyMap is the explorer's layout of keys.
@@ -38,6 +39,7 @@ func DefaultKeyMap() KeyMap {
 		Devices:   b([]string{"d"}, "d", "devices"),
 		Timeline:  b([]string{"t"}, "t", "timeline"),
 		Log:       b([]string{"l"}, "l", "warnings log"),
+		Corner:    b([]string{"c"}, "c", "next technology corner"),
 	}
 }
 
@@ -50,6 +52,6 @@ func (k KeyMap) FullHelp() [][]key.Binding {
 	return [][]key.Binding{
 		{k.Next, k.Prev, k.Jump, k.RunToFail, k.RunToEnd},
 		{k.Rounds, k.Vectors, k.Why, k.Devices, k.Timeline, k.Log},
-		{k.FocusNext, k.FocusPrev, k.Filter, k.Save, k.Help, k.Close, k.Quit},
+		{k.Corner, k.FocusNext, k.FocusPrev, k.Filter, k.Save, k.Help, k.Close, k.Quit},
 	}
 }

@@ -19,6 +19,7 @@ import (
 	"railyard/tui/rounds"
 	"railyard/tui/stepper"
 	"railyard/tui/timeline"
+	"railyard/tui/why"
 )
 
 // sync copies what the panels draw from the session, so that View never
@@ -53,16 +54,15 @@ func (m *Model) sync() {
 	m.inputs.SetWatched(m.watchSet)
 	m.nodes.SetStates(states, changed, failing)
 	m.nodes.SetWatched(m.watchSet)
+	m.nodes.SetMargins(m.margins())
 
 	cond := make([]switchsim.Conduction, nl.NumDevices())
 	for d := range cond {
 		cond[d] = s.Conduction(d)
 	}
 	m.devices.SetStates(cond, states, m.vdd(states))
-	// On-resistance per device: the Devices view has a column and a place
-	// in the selected device's line for it (devices.SetOhms). Fill it here
-	// from the physical mode's estimate once that is exposed; until then
-	// nothing is shown rather than a guess.
+	m.devices.SetOhms(m.ohms())
+	m.devices.SetBias(m.biases())
 
 	// The rounds view reads the state each changed node had before the action.
 	var before []switchsim.NodeState
@@ -125,6 +125,45 @@ func (m *Model) sync() {
 	m.explain()
 }
 
+// margins are every node's noise margins (physical mode; nil in ideal).
+func (m *Model) margins() []float64 {
+	if m.sess.Options().Mode != switchsim.Physical {
+		return nil
+	}
+	out := make([]float64, m.sess.Netlist().NumNodes())
+	for n := range out {
+		out[n] = session.NodeMargin(m.sess.Margin(n))
+	}
+	return out
+}
+
+// ohms are the devices' on-resistance estimates (physical mode's, for
+// the delay; nil in ideal mode).
+func (m *Model) ohms() []float64 {
+	if m.sess.Options().Mode != switchsim.Physical {
+		return nil
+	}
+	nl := m.sess.Netlist()
+	out := make([]float64, nl.NumDevices())
+	for d := range out {
+		out[d] = nl.OnResistance(d)
+	}
+	return out
+}
+
+// biases are, by device, what physical mode knows of it: partly on, and
+// the static current through it (nil in ideal mode).
+func (m *Model) biases() []switchsim.Bias {
+	if m.sess.Options().Mode != switchsim.Physical {
+		return nil
+	}
+	out := make([]switchsim.Bias, m.sess.Netlist().NumDevices())
+	for d := range out {
+		out[d] = m.sess.DeviceBias(d)
+	}
+	return out
+}
+
 // states are every node's states after the last action.
 func (m *Model) states() []switchsim.NodeState {
 	st := make([]switchsim.NodeState, m.sess.Netlist().NumNodes())
@@ -151,6 +190,15 @@ func (m *Model) explain() {
 	nl := m.sess.Netlist()
 	e := m.sess.Explain(m.inspect)
 	states := m.states()
+	var phys why.Physics
+	if m.sess.Options().Mode == switchsim.Physical {
+		mg := m.sess.Margin(m.inspect)
+		phys = why.Physics{Margin: &mg, Vdd: m.sess.Netlist().Tech.Vdd}
+		if f, ok := m.sess.Fight(m.inspect); ok {
+			phys.Fight = &f
+		}
+	}
+	m.why.SetPhysics(phys)
 	m.why.Set(e, states, m.vdd(states), m.nodeWarnings(m.inspect))
 	group := make([]bool, nl.NumDevices())
 	for _, d := range e.Devices {

@@ -404,6 +404,8 @@ func (m *Model) key(k tea.KeyMsg) tea.Cmd {
 		m.show(ViewTimeline)
 	case key.Matches(k, km.Log):
 		m.show(ViewLog)
+	case key.Matches(k, km.Corner):
+		m.change(m.nextCorner)
 	case m.focus != focusDetail && m.sideways(k):
 		// left and right replay the rounds (or scroll the timeline) from
 		// the lists too, which have no use for them
@@ -600,6 +602,7 @@ func runProgram(s *session.Session, opt Options, w, h int, note io.Writer, popts
 	m := New(s, w, h, opt)
 	p := tea.NewProgram(m, popts...)
 	_, err := p.Run()
+	s = m.Session() // a corner switch makes a new one
 	if opt.TracePath != "" {
 		saved, terr := trace.Save(s, opt.TracePath)
 		if terr != nil {

@@ -10,6 +10,7 @@ import (
 	"github.com/charmbracelet/lipgloss"
 	"github.com/charmbracelet/x/ansi"
 
+	"railyard/switchsim/diag"
 	"railyard/tui/prompt"
 	"railyard/tui/theme"
 )
@@ -127,7 +128,11 @@ func (m *Model) header() string {
 		left += " " + t.Dim.Render(d)
 	}
 	var right []string
-	right = append(right, t.Dim.Render(m.sess.Options().Mode.String()))
+	mode := m.sess.Options().Mode.String()
+	if c := m.sess.Corner(); c != "" {
+		mode += " @" + diag.Printable(c) // a technology corner, not the design's own
+	}
+	right = append(right, t.Dim.Render(mode))
 	if m.numSteps > 0 {
 		right = append(right, fmt.Sprintf("step %d/%d", m.nextStep, m.numSteps))
 	}
@@ -320,7 +325,7 @@ func (m *Model) helpColumns(h int) (cols [][]string, perPage, colW int) {
 		title string
 		keys  []key.Binding
 	}{
-		{"Steps and actions", []key.Binding{m.keys.Next, m.keys.Prev, m.keys.Jump, m.keys.RunToFail, m.keys.RunToEnd, m.keys.Save}},
+		{"Steps and actions", []key.Binding{m.keys.Next, m.keys.Prev, m.keys.Jump, m.keys.RunToFail, m.keys.RunToEnd, m.keys.Save, m.keys.Corner}},
 		{"Views on the right", []key.Binding{m.keys.Rounds, m.keys.Vectors, m.keys.Why, m.keys.Devices, m.keys.Timeline, m.keys.Log}},
 		{"Inputs (left, top)", []key.Binding{m.inputs.KeyMap.Toggle, m.inputs.KeyMap.Set0, m.inputs.KeyMap.Set1, m.inputs.KeyMap.SetX, m.inputs.KeyMap.SetZ, m.inputs.KeyMap.Watch, m.inputs.KeyMap.Filter}},
 		{"Nodes (left)", []key.Binding{m.nodes.KeyMap.Inspect, m.nodes.KeyMap.Filter, m.nodes.KeyMap.Watch}},

@@ -15,12 +15,14 @@ import (
 )
 
 const exploreUsage = `
-usage: railyard explore [DESIGN] [--steps FILE] [--trace FILE] [--ascii]
+usage: railyard explore [DESIGN] [--steps FILE] [--trace FILE] [--ascii] [--corner NAME]
 
 The interactive explorer: toggle inputs, step through the steps file, watch
 values settle round by round, ask why a node holds its value. DESIGN
 defaults to the embedded demo. With --trace the session's trace is saved
-to FILE when the explorer quits.
+to FILE when the explorer quits. --corner NAME starts at one of the
+design's technology corners; the c key moves to the next one (nominal,
+then each corner), re-simulating the history.
 
 examples:
   railyard explore
@@ -31,6 +33,7 @@ examples:
 // exploreOptions are the flags of `explore`.
 type exploreOptions struct {
 	steps, trace string
+	corner       string
 	ascii        bool
 	load         *loadFlags
 }
@@ -41,6 +44,7 @@ func cmdExplore(args []string, stdout, stderr io.Writer) int {
 	fs.StringVar(&o.steps, "steps", "", "the steps `FILE` (default: DESIGN's same-named .steps file)")
 	fs.StringVar(&o.trace, "trace", "", "save the session trace to `FILE` on quitting")
 	fs.BoolVar(&o.ascii, "ascii", false, "draw with ASCII only")
+	fs.StringVar(&o.corner, "corner", "", "start at the design's technology corner `NAME` (nominal: its own technology)")
 	o.load = addLoadFlags(fs)
 	pos, code := parseArgs(fs, args, stdout, stderr)
 	if code >= 0 {
@@ -68,7 +72,7 @@ func cmdExplore(args []string, stdout, stderr io.Writer) int {
 			return exitUsage
 		}
 	}
-	s, err := session.OpenFrom(files, design, o.steps, session.Options{Mode: switchsim.Physical})
+	s, err := session.OpenFrom(files, design, o.steps, session.Options{Mode: switchsim.Physical, Corner: o.corner})
 	if err != nil {
 		return loadError(stderr, err)
 	}

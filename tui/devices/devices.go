@@ -15,6 +15,7 @@ import (
 	"github.com/charmbracelet/lipgloss"
 
 	"railyard/switchsim"
+	"railyard/switchsim/session"
 	"railyard/tui/listing"
 	"railyard/tui/panel"
 	"railyard/tui/theme"
@@ -73,8 +74,9 @@ type Model struct {
 	cond      []switchsim.Conduction
 	states    []switchsim.NodeState // by node
 	vdd       float64
-	ohms      []float64 // by device: on-resistance, NaN where not known
-	group     []bool    // by device
+	ohms      []float64        // by device: on-resistance, NaN where not known
+	bias      []switchsim.Bias // by device: physical mode's bias (nil in ideal mode)
+	group     []bool           // by device
 	groupOf   string
 	groupOnly bool
 	search    []string // per device: the words a filter matches
@@ -141,6 +143,18 @@ func (m *Model) ClearFilter() bool {
 func (m *Model) SetStates(cond []switchsim.Conduction, states []switchsim.NodeState, vdd float64) {
 	m.cond, m.states, m.vdd = cond, states, vdd
 }
+
+// SetNetlist gives the netlist after a size was tried (the same devices
+// and nodes, other sizes), keeping the cursor and the filter.
+func (m *Model) SetNetlist(nl *switchsim.Netlist) { m.nl = nl }
+
+// SetBias gives each device's bias in physical mode (nil in ideal): a
+// device off by logic whose gate passes its threshold shows as partly on,
+// with its static current in the selected device's line.
+func (m *Model) SetBias(b []switchsim.Bias) { m.bias = b }
+
+// partly reports whether device d is partly on.
+func (m Model) partly(d int) bool { return d < len(m.bias) && m.bias[d].PartlyOn }
 
 // SetOhms gives each device's on-resistance estimate in ohms (NaN where
 // there is none); the table shows the column when any is known.
@@ -356,10 +370,12 @@ func (m Model) condCell(d int) string {
 	if d < len(m.cond) {
 		c = m.cond[d]
 	}
-	switch c {
-	case switchsim.On:
+	switch {
+	case c == switchsim.On:
 		return t.Mark("devices.on", st.On, "on ")
-	case switchsim.Off:
+	case c == switchsim.Off && m.partly(d):
+		return t.Mark("devices.partly", st.On, "on~") // off by logic, conducting: partly on
+	case c == switchsim.Off:
 		return t.Mark("devices.off", st.Off, "off")
 	}
 	return t.Mark("devices.unknown", st.Unknown, "X? ")
@@ -382,12 +398,16 @@ func (m Model) detail() string {
 	if d < len(m.cond) {
 		c = m.cond[d].String()
 	}
+	if m.partly(d) {
+		c = "partly on (on~): its gate passes its threshold"
+		if a := m.bias[d].Current; !math.IsNaN(a) {
+			c += ", " + session.Amps(a) + " static"
+		}
+	}
 	parts = append(parts, c)
 	if sz := size(dv); sz != "-" {
 		parts = append(parts, "W/L "+sz+" um")
 	}
-	// The on-resistance estimate goes here too once the physical mode
-	// gives it (SetOhms): until then the column and this part stay away.
 	if d < len(m.ohms) && !math.IsNaN(m.ohms[d]) {
 		parts = append(parts, "R on "+panel.Ohms(m.ohms[d]))
 	}

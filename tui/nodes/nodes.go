@@ -1,11 +1,13 @@
 // Package nodes is the explorer's node board: every node but the rails and
 // the inputs, outputs first, each with its state letter, logic value,
-// strength and volts, marked when the last settle changed it, when it is on
-// the timeline, or when a check on it failed. '/' filters by name.
+// strength, volts and (physical mode) margin, marked when the last settle
+// changed it, when it is on the timeline, or when a check on it failed. '/'
+// filters by name.
 package nodes
 
 import (
 	"fmt"
+	"math"
 	"sort"
 	"strings"
 
@@ -86,6 +88,7 @@ type Model struct {
 	changed []bool
 	failing []bool
 	watched []bool
+	margins []float64 // by node: the noise margin in volts (NaN unknown); nil in ideal mode
 	rows    []row
 	cur     listing.Cursor
 	filter  listing.Filter
@@ -143,10 +146,30 @@ func (m *Model) SetSize(w, h int) {
 
 // nameWidth is the name column: what the longest name needs, within what
 // the other columns leave.
-func (m Model) nameWidth() int { return min(max(m.w-4-2-2-7-6, 6), max(m.nameMax, 4)) }
+func (m Model) nameWidth() int {
+	return min(max(m.w-4-2-2-m.strengthW()-6-m.marginW(), 6), max(m.nameMax, 4))
+}
 
 // Want is the width the board needs to show its longest name whole.
-func (m Model) Want() int { return 4 + m.nameMax + 1 + 2 + 2 + 7 + 5 + 2 }
+func (m Model) Want() int { return 4 + m.nameMax + 1 + 2 + 2 + 7 + 5 + 2 + m.marginW() }
+
+// marginW is the margin column's width with its space (0 without margins).
+func (m Model) marginW() int {
+	if m.margins == nil {
+		return 0
+	}
+	return 6
+}
+
+// strengthW is the strength column's width with its space: 0 when the
+// board is too narrow for it beside the margins (the state letter still
+// tells a weak level from a strong one).
+func (m Model) strengthW() int {
+	if m.margins != nil && m.w-4-2-2-7-6-m.marginW() < min(m.nameMax, 12) {
+		return 0
+	}
+	return 7
+}
 
 // Focus and Blur tell the board whether keys go to it.
 func (m *Model) Focus()         { m.focused = true }
@@ -158,6 +181,17 @@ func (m Model) Filtering() bool { return m.filter.Typing() }
 // changed, and which failed a check (both indexed by node, may be nil).
 func (m *Model) SetStates(states []switchsim.NodeState, changed, failing []bool) {
 	m.states, m.changed, m.failing = states, changed, failing
+}
+
+// SetMargins gives every node's noise margin in volts (NaN where unknown),
+// or nil (ideal mode) for no margin column.
+func (m *Model) SetMargins(margins []float64) {
+	had := m.margins != nil
+	m.margins = margins
+	if had != (margins != nil) {
+		m.labels = nil // the name column's width changes
+		m.SetSize(m.w, m.h)
+	}
 }
 
 // SetWatched marks the nodes on the timeline (indexed by node).
@@ -277,8 +311,16 @@ func (m Model) View() string {
 		info += "  " + m.names.Node[n] // the cut name, whole
 	}
 	lines = append(lines, t.TitleBar("Nodes", info, m.focused, m.w))
-	// columns: marks(3) name state value strength volts
-	lines = append(lines, st.Header.Render(fmt.Sprintf("    %-*s %s %s %-6s %5s", nameW, "name", "s", "v", "str", "volts")))
+	// columns: marks(3) name state value strength volts margin
+	head := fmt.Sprintf("    %-*s %s %s ", nameW, "name", "s", "v")
+	if m.strengthW() > 0 {
+		head += fmt.Sprintf("%-6s ", "str")
+	}
+	head += fmt.Sprintf("%5s", "volts")
+	if m.margins != nil {
+		head += fmt.Sprintf(" %5s", "mrgn")
+	}
+	lines = append(lines, st.Header.Render(head))
 	if len(m.rows) == 0 {
 		msg := "no nodes"
 		if m.filter.Active() {
@@ -339,7 +381,17 @@ func (m Model) line(n int, sel bool, nameW int) string {
 		b.WriteByte(' ')
 		b.WriteString(ns.Value.String())
 		b.WriteByte(' ')
-		fmt.Fprintf(&b, "%-6s %5s", ns.Strength, panel.Volts(ns.Volts))
+		if m.strengthW() > 0 {
+			fmt.Fprintf(&b, "%-6s ", ns.Strength)
+		}
+		fmt.Fprintf(&b, "%5s", panel.Volts(ns.Volts))
+		if m.margins != nil {
+			mg := "-"
+			if n < len(m.margins) && !math.IsNaN(m.margins[n]) {
+				mg = fmt.Sprintf("%.2f", m.margins[n])
+			}
+			fmt.Fprintf(&b, " %5s", mg)
+		}
 	} else {
 		b.WriteString(name)
 	}

@@ -15,6 +15,7 @@ import (
 	"github.com/charmbracelet/lipgloss"
 
 	"railyard/switchsim"
+	"railyard/tui/fightplot"
 	"railyard/tui/listing"
 	"railyard/tui/panel"
 	"railyard/tui/theme"
@@ -56,6 +57,8 @@ type Model struct {
 	names   *panel.Names
 	node    int
 	raw     []string // as worded
+	phys    Physics
+	plotAt  int      // the raw line the fight's picture goes before (-1: none)
 	lines   []string // wrapped to the width
 	offset  int      // the first line shown
 	focused bool
@@ -75,7 +78,10 @@ func (m *Model) SetSize(w, h int) {
 
 func (m *Model) wrap() {
 	m.lines = m.lines[:0]
-	for _, l := range m.raw {
+	for i, l := range m.raw {
+		if i == m.plotAt {
+			m.lines = append(m.lines, m.plotLines()...)
+		}
 		m.lines = append(m.lines, theme.Wrap(l, m.w)...)
 	}
 	m.offset = min(m.offset, max(len(m.lines)-max(m.h, 1), 0))
@@ -85,6 +91,57 @@ func (m *Model) wrap() {
 func (m *Model) Focus()       { m.focused = true }
 func (m *Model) Blur()        { m.focused = false }
 func (m Model) Focused() bool { return m.focused }
+
+// SetNetlist gives the netlist after a size was tried (the same devices
+// and nodes, other sizes).
+func (m *Model) SetNetlist(nl *switchsim.Netlist) { m.nl = nl }
+
+// Physics is what physical mode adds to an explanation: the node's margins
+// and, for a node of a fight, its picture. The zero value (ideal mode)
+// adds nothing.
+type Physics struct {
+	Margin *switchsim.Margin
+	Fight  *switchsim.FightPicture
+	Vdd    float64
+}
+
+// SetPhysics gives the margins and the fight of the node the next Set
+// explains.
+func (m *Model) SetPhysics(p Physics) { m.phys = p }
+
+// plotRows is the height of the fight's picture: a third of the view, 4 to
+// 10 rows, so that at 80x24 it shows with the node's head above it.
+func (m Model) plotRows() int { return min(max(m.h/3, 4), 10) }
+
+// plotLines draws the fight of the node explained for the view's width.
+func (m Model) plotLines() []string {
+	f := m.phys.Fight
+	if f == nil {
+		return nil
+	}
+	t := m.Styles.Theme
+	by := func(ds []int) string {
+		var ns []string
+		for i, d := range ds {
+			if i == 3 {
+				ns = append(ns, fmt.Sprintf("+%d", len(ds)-3))
+				break
+			}
+			ns = append(ns, m.names.Device[d])
+		}
+		return strings.Join(ns, " ")
+	}
+	p := fightplot.Picture{Currents: f.Currents, Vdd: m.phys.Vdd, Volts: f.Volts, VIL: f.VIL, VIH: f.VIH, VM: f.StageVM,
+		Node: m.names.Node[f.Node], UpBy: by(f.Up), DownBy: by(f.Down)}
+	st := fightplot.Styles{Up: t.State[switchsim.State1], Down: t.State[switchsim.State0], Cross: t.Bold,
+		Axis: t.Dim, Marker: t.Accent, ASCII: t.ASCII}
+	lines := fightplot.Lines(p, m.w, m.plotRows(), st)
+	if len(lines) == 0 {
+		return nil
+	}
+	head := m.Styles.Heading.Render("The fight:") + " " + m.Styles.Dim.Render(t.Clip("each side's current against volts", max(m.w-11, 1)))
+	return append(append([]string{head}, lines...), "")
+}
 
 // Node is the node explained, or -1.
 func (m Model) Node() int { return m.node }
@@ -96,7 +153,12 @@ func (m Model) Node() int { return m.node }
 func (m *Model) Set(e switchsim.Explanation, states []switchsim.NodeState, vdd float64, extra []string) {
 	same := e.Node == m.node
 	m.node = e.Node
-	m.raw = append(Lines(m.nl, m.names, e, Levels{states, vdd}, m.Styles), extra...)
+	lv := Levels{States: states, Vdd: vdd, Margin: m.phys.Margin}
+	m.raw = append(Lines(m.nl, m.names, e, lv, m.Styles), extra...)
+	m.plotAt = -1
+	if m.phys.Fight != nil && m.phys.Fight.Node == e.Node {
+		m.plotAt = 2 + len(marginLines(e, lv, m.Styles)) // under the head and the margins
+	}
 	if !same {
 		m.offset = 0
 	}
@@ -151,6 +213,7 @@ func (m Model) View() string {
 type Levels struct {
 	States []switchsim.NodeState
 	Vdd    float64
+	Margin *switchsim.Margin // the node's margins (physical mode), nil: none
 }
 
 // gate words a gate node and its value, with its volts when they are not
@@ -177,6 +240,7 @@ func Lines(nl *switchsim.Netlist, names *panel.Names, e switchsim.Explanation, l
 	}
 	out = append(out, head)
 	out = append(out, st.Dim.Render(stateMeaning(e)))
+	out = append(out, marginLines(e, lv, st)...)
 
 	if e.Source {
 		switch nl.NodeKind(e.Node) {
@@ -255,6 +319,37 @@ func Lines(nl *switchsim.Netlist, names *panel.Names, e switchsim.Explanation, l
 			add("Nothing drives it and no other floating node joins it: it keeps its own charge (%s, %s).",
 				farads(nl.NodeCap(e.Node)), nl.NodeCharge(e.Node))
 		}
+	}
+	return out
+}
+
+// marginLines words the node's margins: how far its level is from the
+// undefined band, and for a node of a fight that drives a stage, how far it
+// is from that stage's switching threshold and which way the stage reads it.
+func marginLines(e switchsim.Explanation, lv Levels, st Styles) []string {
+	m := lv.Margin
+	if m == nil || math.IsNaN(m.Noise) || e.Source {
+		return nil
+	}
+	var out []string
+	v := e.Volts
+	switch {
+	case m.Noise < 0:
+		out = append(out, fmt.Sprintf("Margin %.2f V: inside the band between VIL and VIH, by %.2f V.", m.Noise, -m.Noise))
+	case e.Value == switchsim.V1:
+		out = append(out, fmt.Sprintf("Margin %.2f V: %.2f V is that far above VIH.", m.Noise, v))
+	case e.Value == switchsim.V0:
+		out = append(out, fmt.Sprintf("Margin %.2f V: %.2f V is that far below VIL.", m.Noise, v))
+	default:
+		out = append(out, fmt.Sprintf("Margin %.2f V from the band between VIL and VIH.", m.Noise))
+	}
+	if !math.IsNaN(m.Write) {
+		reads := "1"
+		if v < m.StageVM {
+			reads = "0"
+		}
+		out = append(out, fmt.Sprintf("Write margin %.2f V from the driven stage's VM %.2f V: it reads a %s.",
+			m.Write, m.StageVM, reads))
 	}
 	return out
 }

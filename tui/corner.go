@@ -1,0 +1,94 @@
+package tui
+
+// The corner key: the same history re-simulated at the design's next
+// technology corner (nominal, then each corner statement in order, then
+// nominal again). The root swaps the session it explores for the new one,
+// which records a trace of its own from its start (with a corner line, so
+// that it replays at that corner).
+
+import (
+	"fmt"
+	"slices"
+
+	"railyard/switchsim"
+	"railyard/switchsim/diag"
+	"railyard/switchsim/session"
+	"railyard/switchsim/trace"
+)
+
+// nextCorner moves the session to the next corner of the cycle.
+func (m *Model) nextCorner() {
+	names := session.CornerNames(m.sess.Design())
+	switch {
+	case len(names) == 0:
+		m.note("this design names no technology corners (corner NAME KEY=VALUE ... statements in its .sw)")
+		return
+	case m.sess.Options().Mode != switchsim.Physical:
+		m.note("corners are technology values: they need physical mode")
+		return
+	}
+	next := names[0]
+	if i := slices.Index(names, m.sess.Corner()); i >= 0 {
+		next = ""
+		if i+1 < len(names) {
+			next = names[i+1]
+		}
+	}
+	opt := trace.Options{}
+	if w := trace.Of(m.sess); w != nil {
+		opt = w.Options()
+	}
+	var made *trace.Writer
+	ns, err := session.Recorner(m.sess, next, func(ns *session.Session) error {
+		w, err := trace.Start(ns, "", opt)
+		made = w
+		return err
+	})
+	if err != nil {
+		if made != nil {
+			made.Close()
+		}
+		m.fail(fmt.Sprintf("could not switch to corner %s: %v", diag.Printable(session.CornerLabel(next)), diag.Printable(err.Error())))
+		return
+	}
+	wasFailed := m.failedChecks()
+	m.swapSession(ns)
+	tech := ns.Netlist().Tech
+	m.say(fmt.Sprintf("corner %s (vdd %.2f V, vtn %.3f V, vtp %.3f V): %s re-simulated; %s",
+		diag.Printable(ns.CornerName()), tech.Vdd, tech.Vtn, tech.Vtp, plural(ns.Len()-1, "action"),
+		failedWords(m.failedChecks(), wasFailed)))
+}
+
+// swapSession makes ns the session explored and releases the old one's
+// trace (the new one records the history again from its start).
+func (m *Model) swapSession(ns *session.Session) {
+	if w := trace.Of(m.sess); w != nil {
+		w.Close()
+	}
+	m.sess = ns
+	m.why.SetNetlist(ns.Netlist())
+	m.devices.SetNetlist(ns.Netlist())
+}
+
+// failedChecks counts the failed checks of the history in force.
+func (m *Model) failedChecks() int {
+	k := 0
+	for _, e := range m.sess.History() {
+		for _, c := range e.Checks {
+			if session.IsCheck(c) && !c.Pass {
+				k++
+			}
+		}
+	}
+	return k
+}
+
+func failedWords(now, before int) string {
+	switch {
+	case now == before:
+		return fmt.Sprintf("%s failed, as before", plural(now, "check"))
+	case now > before:
+		return fmt.Sprintf("%s failed, %d more than before", plural(now, "check"), now-before)
+	}
+	return fmt.Sprintf("%s failed, %d fewer than before", plural(now, "check"), before-now)
+}
