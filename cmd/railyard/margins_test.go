@@ -7,6 +7,10 @@ import (
 	"regexp"
 	"strings"
 	"testing"
+
+	"railyard/designs"
+	"railyard/switchsim/load"
+	"railyard/switchsim/netfile"
 )
 
 // The body-effect pass level of testdata/passlevel.sw, worked by hand
@@ -262,5 +266,47 @@ func TestCheckCornersJUnit(t *testing.T) {
 	}
 	if code, _, _ := call("check", "demo:mux2_tgate", "--corner", "slow"); code != exitUsage {
 		t.Errorf("a design without the corner: exit %d, want %d", code, exitUsage)
+	}
+}
+
+// A netlist has no corner statement: its corners are named in the .sw its
+// conversion writes (the README, "Corners"). The converted opsel_latch
+// with a slow and a fast corner added under its tech line runs --corners,
+// and the corners' values (from the netlist's level-1 model cards, with
+// the corner's keys replaced) are those in force.
+func TestCornersOnAConvertedNetlist(t *testing.T) {
+	d, err := load.Host(load.Options{}).Design("demo:opsel_latch")
+	if err != nil {
+		t.Fatal(err)
+	}
+	var b strings.Builder
+	if err := netfile.WriteConverted(&b, d); err != nil {
+		t.Fatal(err)
+	}
+	src := b.String()
+	i := strings.Index(src, "\ntech ")
+	if i < 0 {
+		t.Fatalf("no tech line in the conversion:\n%s", src)
+	}
+	j := i + 1 + strings.IndexByte(src[i+1:], '\n')
+	src = src[:j+1] + "corner slow vdd=1.62 vtn=0.495 vtp=0.495 kn=153u kp=54u\ncorner fast vdd=1.98 vtn=0.405 vtp=0.405 kn=187u kp=66u\n" + src[j+1:]
+	dir := t.TempDir()
+	sw := filepath.Join(dir, "opsel_latch.sw")
+	steps, _ := designs.FS.ReadFile("opsel_latch.steps")
+	if os.WriteFile(sw, []byte(src), 0o644) != nil || os.WriteFile(filepath.Join(dir, "opsel_latch.steps"), steps, 0o644) != nil {
+		t.Fatal("cannot write the fixture")
+	}
+	code, out, errOut := call("run", sw, "--corners")
+	if code != exitOK {
+		t.Fatalf("exit %d\n%s%s\n%s", code, out, errOut, src)
+	}
+	for _, want := range []string{"  slow        vdd 1.620 V, vtn 0.495 V", "  fast        vdd 1.980 V, vtn 0.405 V", ": PASS at every corner\n"} {
+		if !strings.Contains(out, want) {
+			t.Errorf("no %q in\n%s", want, out)
+		}
+	}
+	// The model cards' kp (170u for nch) is the nominal kn.
+	if !strings.Contains(out, "  nominal     vdd 1.800 V, vtn 0.450 V, vtp 0.450 V, kn 0.00017, kp 6e-05") {
+		t.Errorf("nominal from the model cards:\n%s", out)
 	}
 }

@@ -145,7 +145,7 @@ func TestReportGatesLine(t *testing.T) {
 		t.Fatal(err)
 	}
 	tech := s.Netlist().Tech
-	want := "  gates  load: ld at 1.14 V, on, passes a 1 at most to 0.57 V"
+	want := "  gates  load: ld at 1.14 V, on, passes a 1 up to 0.57 V at most"
 	if lim := tech.PassHigh(1.1418); math.Abs(lim-0.5748) > 0.001 {
 		t.Fatalf("PassHigh(1.1418) = %.4f", lim)
 	}

@@ -321,22 +321,25 @@ func checkMarginText(c CheckResult, m switchsim.Margin) string {
 	return t
 }
 
-// gatesText lists the devices whose gate is not at a full level, with the
-// gate's voltage and what it makes of the device: "load: ld at 1.14 V, on,
-// passes at most 0.57 V; buf1.p: x at 1.45 V, partly on, 3.1 uA". "" when
-// every gate is at a rail's level (and in ideal mode).
+// gatesText lists the devices whose gate is not at a full level (more
+// than 10 mV from either rail) and that conduct or may, with the gate's
+// voltage and what it makes of the device: "load: ld at 1.14 V, on, passes
+// a 1 up to 0.57 V at most; buf1.p: opnd at 1.14 V, partly on, 5.2 uA".
+// "" when there are none (and in ideal mode).
 func gatesText(nl *switchsim.Netlist, rd Reader) string {
 	var parts []string
+	vdd := nl.Tech.Vdd
 	for d := 0; d < nl.NumDevices(); d++ {
 		dv := nl.Device(d)
 		if dv.Gate < 0 || dv.Kind >= switchsim.PullUp {
 			continue
 		}
 		b := rd.DeviceBias(d)
-		if math.IsNaN(b.GateVolts) || b.FullGate {
+		if g := b.GateVolts; math.IsNaN(g) || b.FullGate || math.Abs(g) < 0.01 || math.Abs(g-vdd) < 0.01 {
 			continue
 		}
 		t := fmt.Sprintf("%s: %s at %s V", dv.Name, nl.NodeName(dv.Gate), strconv.FormatFloat(b.GateVolts, 'f', 2, 64))
+		limit := strconv.FormatFloat(b.Limit, 'f', 2, 64)
 		switch {
 		case b.PartlyOn:
 			t += ", partly on"
@@ -345,17 +348,14 @@ func gatesText(nl *switchsim.Netlist, rd Reader) string {
 			}
 		case rd.Node(dv.Gate).Value == switchsim.VX:
 			t += ", of unknown state"
-		case b.Current != 0 || onByValue(dv.Kind, rd.Node(dv.Gate).Value):
+		case !onByValue(dv.Kind, rd.Node(dv.Gate).Value):
+			continue // off, and not conducting: its gate changes nothing
+		case math.IsNaN(b.Limit):
 			t += ", on"
-			if !math.IsNaN(b.Limit) {
-				if dv.Kind == switchsim.NMOS {
-					t += ", passes a 1 at most to " + strconv.FormatFloat(b.Limit, 'f', 2, 64) + " V"
-				} else {
-					t += ", passes a 0 at least to " + strconv.FormatFloat(b.Limit, 'f', 2, 64) + " V"
-				}
-			}
+		case dv.Kind == switchsim.NMOS:
+			t += ", on, passes a 1 up to " + limit + " V at most"
 		default:
-			t += ", off"
+			t += ", on, passes a 0 down to " + limit + " V at best"
 		}
 		parts = append(parts, t)
 	}

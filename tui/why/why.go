@@ -140,7 +140,7 @@ func (m Model) plotLines() []string {
 		return nil
 	}
 	head := m.Styles.Heading.Render("The fight:") + " " + m.Styles.Dim.Render(t.Clip("each side's current against volts", max(m.w-11, 1)))
-	return append(append([]string{head}, lines...), "")
+	return append([]string{head}, lines...)
 }
 
 // Node is the node explained, or -1.
