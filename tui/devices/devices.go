@@ -399,9 +399,9 @@ func (m Model) detail() string {
 		c = m.cond[d].String()
 	}
 	if m.partly(d) {
-		c = "partly on (on~): its gate passes its threshold"
+		c = "partly on" // off by logic, its gate past its threshold
 		if a := m.bias[d].Current; !math.IsNaN(a) {
-			c += ", " + session.Amps(a) + " static"
+			c += " " + session.Amps(a) + " static"
 		}
 	}
 	parts = append(parts, c)
