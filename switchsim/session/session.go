@@ -192,6 +192,11 @@ type Session struct {
 	detailBytes int64
 	scratch     *switchsim.Sim // for rebuilding, made on first use
 	trk         *track         // the watched nodes' states, for timelines
+
+	// sizes tried (Resize): the design as loaded, and the edits that made
+	// design from it; both nil for the design as loaded
+	orig  *netfile.Design
+	edits []Edit
 }
 
 // Hash returns the hex sha256 of b.
