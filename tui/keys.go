@@ -12,6 +12,8 @@ type KeyMap struct {
 	Filter                 key.Binding
 	Rounds, Vectors, Why   key.Binding
 	Devices, Timeline, Log key.Binding
+	Audit                  key.Binding
+	Mode                   key.Binding
 }
 
 // DefaultKeyMap is the explorer's layout of keys.
@@ -38,6 +40,8 @@ func DefaultKeyMap() KeyMap {
 		Devices:   b([]string{"d"}, "d", "devices"),
 		Timeline:  b([]string{"t"}, "t", "timeline"),
 		Log:       b([]string{"l"}, "l", "warnings log"),
+		Audit:     b([]string{"a"}, "a", "audit: every reachable state"),
+		Mode:      b([]string{"i"}, "i", "ideal / physical mode"),
 	}
 }
 
@@ -49,7 +53,7 @@ func (k KeyMap) ShortHelp() []key.Binding {
 func (k KeyMap) FullHelp() [][]key.Binding {
 	return [][]key.Binding{
 		{k.Next, k.Prev, k.Jump, k.RunToFail, k.RunToEnd},
-		{k.Rounds, k.Vectors, k.Why, k.Devices, k.Timeline, k.Log},
-		{k.FocusNext, k.FocusPrev, k.Filter, k.Save, k.Help, k.Close, k.Quit},
+		{k.Rounds, k.Vectors, k.Why, k.Devices, k.Timeline, k.Log, k.Audit},
+		{k.Mode, k.FocusNext, k.FocusPrev, k.Filter, k.Save, k.Help, k.Close, k.Quit},
 	}
 }

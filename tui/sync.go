@@ -59,6 +59,11 @@ func (m *Model) sync() {
 		cond[d] = s.Conduction(d)
 	}
 	m.devices.SetStates(cond, states, m.vdd(states))
+	tried := map[int]switchsim.Device{}
+	for _, e := range s.Edits() {
+		tried[e.Device] = s.Original().Netlist.Device(e.Device)
+	}
+	m.devices.SetTried(tried)
 	// On-resistance per device: the Devices view has a column and a place
 	// in the selected device's line for it (devices.SetOhms). Fill it here
 	// from the physical mode's estimate once that is exposed; until then

@@ -15,24 +15,27 @@ import (
 )
 
 const exploreUsage = `
-usage: railyard explore [DESIGN] [--steps FILE] [--trace FILE] [--ascii]
+usage: railyard explore [DESIGN] [--steps FILE] [--trace FILE] [--ideal] [--full-swing] [--ascii]
 
 The interactive explorer: toggle inputs, step through the steps file, watch
-values settle round by round, ask why a node holds its value. DESIGN
-defaults to the embedded demo. With --trace the session's trace is saved
-to FILE when the explorer quits.
+values settle round by round, ask why a node holds its value, search every
+reachable state (a), switch ideal and physical mode on the live session
+(i), try another size on a transistor (W in Devices). DESIGN defaults to
+the embedded demo. With --trace the session's trace is saved to FILE when
+the explorer quits. --ideal and --full-swing are those of run.
 
 examples:
   railyard explore
   railyard explore cells/opsel.sw --steps cells/opsel.steps --trace opsel.trace
+  railyard explore demo:strong_keeper --ideal
   railyard explore demo:` + designs.Default + ` --ascii
 `
 
 // exploreOptions are the flags of `explore`.
 type exploreOptions struct {
-	steps, trace string
-	ascii        bool
-	load         *loadFlags
+	steps, trace            string
+	ascii, ideal, fullSwing bool
+	load                    *loadFlags
 }
 
 func cmdExplore(args []string, stdout, stderr io.Writer) int {
@@ -41,6 +44,8 @@ func cmdExplore(args []string, stdout, stderr io.Writer) int {
 	fs.StringVar(&o.steps, "steps", "", "the steps `FILE` (default: DESIGN's same-named .steps file)")
 	fs.StringVar(&o.trace, "trace", "", "save the session trace to `FILE` on quitting")
 	fs.BoolVar(&o.ascii, "ascii", false, "draw with ASCII only")
+	fs.BoolVar(&o.ideal, "ideal", false, "start in ideal mode: strengths only, no voltage estimates (i switches)")
+	fs.BoolVar(&o.fullSwing, "full-swing", false, "0 and 1 checks also require the strong full-level states")
 	o.load = addLoadFlags(fs)
 	pos, code := parseArgs(fs, args, stdout, stderr)
 	if code >= 0 {
@@ -68,7 +73,11 @@ func cmdExplore(args []string, stdout, stderr io.Writer) int {
 			return exitUsage
 		}
 	}
-	s, err := session.OpenFrom(files, design, o.steps, session.Options{Mode: switchsim.Physical})
+	opt := session.Options{Mode: switchsim.Physical, FullSwing: o.fullSwing}
+	if o.ideal {
+		opt.Mode = switchsim.Ideal
+	}
+	s, err := session.OpenFrom(files, design, o.steps, opt)
 	if err != nil {
 		return loadError(stderr, err)
 	}

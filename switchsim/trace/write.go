@@ -216,6 +216,11 @@ func relName(tracePath, file string) string {
 	return filepath.ToSlash(absFile)
 }
 
+// Options are the options the Writer was started with (defaults filled
+// in): what a session rebuilt from this one (session.Remode) starts its
+// own trace with, so that it names the design the same way.
+func (w *Writer) Options() Options { return w.opt }
+
 // Actions is the number of actions written: the start, sets, steps and
 // backs, as the trace's end line says and replay counts.
 func (w *Writer) Actions() int {

@@ -2,7 +2,7 @@
 // pull with its gate's value (and volts, where they are not a full level),
 // whether it is on, off or of unknown state, and its size, filterable by
 // name, with the devices of the inspected node's group marked. Enter on a
-// row asks why its gate holds its value.
+// row asks why its gate holds its value; W asks for another size to try.
 package devices
 
 import (
@@ -26,6 +26,7 @@ type KeyMap struct {
 	Filter    key.Binding
 	GroupOnly key.Binding
 	Inspect   key.Binding
+	Size      key.Binding
 }
 
 // DefaultKeyMap: arrows, '/' to filter, o to show only the marked group,
@@ -36,13 +37,14 @@ func DefaultKeyMap() KeyMap {
 		Filter:    key.NewBinding(key.WithKeys("/"), key.WithHelp("/", "filter devices")),
 		GroupOnly: key.NewBinding(key.WithKeys("o"), key.WithHelp("o", "only the node's group")),
 		Inspect:   key.NewBinding(key.WithKeys("enter"), key.WithHelp("enter", "why: its gate")),
+		Size:      key.NewBinding(key.WithKeys("W"), key.WithHelp("W", "try another W or L")),
 	}
 }
 
 // ShortHelp and FullHelp feed the help view.
-func (k KeyMap) ShortHelp() []key.Binding { return []key.Binding{k.Inspect, k.Filter, k.GroupOnly} }
+func (k KeyMap) ShortHelp() []key.Binding { return []key.Binding{k.Inspect, k.Size, k.Filter, k.GroupOnly} }
 func (k KeyMap) FullHelp() [][]key.Binding {
-	return [][]key.Binding{{k.Up, k.Down, k.PageUp, k.PageDown, k.Home, k.End}, {k.Inspect, k.Filter, k.GroupOnly}}
+	return [][]key.Binding{{k.Up, k.Down, k.PageUp, k.PageDown, k.Home, k.End}, {k.Inspect, k.Size, k.Filter, k.GroupOnly}}
 }
 
 // Styles draw the table.
@@ -74,6 +76,7 @@ type Model struct {
 	states    []switchsim.NodeState // by node
 	vdd       float64
 	ohms      []float64 // by device: on-resistance, NaN where not known
+	loaded    map[int]string // devices with a size tried: their W/L as loaded
 	group     []bool    // by device
 	groupOf   string
 	groupOnly bool
@@ -133,6 +136,19 @@ func (m *Model) ClearFilter() bool {
 	m.groupOnly = false
 	m.rebuild()
 	return had
+}
+
+// SetNetlist gives the netlist after a size was tried (the same devices
+// and nodes, other sizes), keeping the cursor and the filter.
+func (m *Model) SetNetlist(nl *switchsim.Netlist) { m.nl = nl }
+
+// SetTried gives the devices whose size was tried, with their W/L as
+// loaded (size words it), shown beside the size in force.
+func (m *Model) SetTried(loaded map[int]switchsim.Device) {
+	m.loaded = map[int]string{}
+	for d, dv := range loaded {
+		m.loaded[d] = size(dv)
+	}
 }
 
 // SetStates gives each device's conduction, every node's state and the
@@ -219,6 +235,19 @@ func (m Model) Update(msg tea.Msg) (Model, tea.Cmd) {
 			}
 		}
 		return m, panel.Send(panel.Inspect{Node: n})
+	case key.Matches(k, m.KeyMap.Size):
+		d := m.Selected()
+		if d < 0 {
+			return m, panel.Send(panel.Note{Text: "no device selected"})
+		}
+		dv := m.nl.Device(d)
+		switch {
+		case dv.Kind != switchsim.NMOS && dv.Kind != switchsim.PMOS:
+			return m, panel.Send(panel.Note{Text: m.names.Device[d] + " is a " + dv.Kind.String() + ": it has no W/L to try (only transistors have)"})
+		case dv.Ohms > 0:
+			return m, panel.Send(panel.Note{Text: m.names.Device[d] + " has a resistance of its own: its W/L would change nothing"})
+		}
+		return m, panel.Send(panel.AskSize{Device: d})
 	}
 	return m, nil
 }
@@ -384,6 +413,9 @@ func (m Model) detail() string {
 	}
 	parts = append(parts, c)
 	if sz := size(dv); sz != "-" {
+		if was, ok := m.loaded[d]; ok {
+			sz += " (tried; loaded " + was + ")"
+		}
 		parts = append(parts, "W/L "+sz+" um")
 	}
 	// The on-resistance estimate goes here too once the physical mode

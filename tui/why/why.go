@@ -86,6 +86,10 @@ func (m *Model) Focus()       { m.focused = true }
 func (m *Model) Blur()        { m.focused = false }
 func (m Model) Focused() bool { return m.focused }
 
+// SetNetlist gives the netlist after a size was tried (the same devices
+// and nodes, other sizes).
+func (m *Model) SetNetlist(nl *switchsim.Netlist) { m.nl = nl }
+
 // Node is the node explained, or -1.
 func (m Model) Node() int { return m.node }
 
