@@ -237,7 +237,7 @@ func (m *Model) save(s panel.Save) {
 		}
 		src := m.sess.Design().Source
 		write = func(w io.Writer) error { _, err := w.Write(src); return err }
-		what = fmt.Sprintf("the design with %s", plural(len(m.sess.Edits()), "size") + " tried")
+		what = fmt.Sprintf("the design with %s", plural(len(m.sess.Edits()), "size")+" tried")
 		if !strings.EqualFold(filepath.Ext(s.Path), ".sw") && m.opt.Save == nil {
 			m.fail(s.Path + ": a design is saved as .sw: give a name that ends in .sw; nothing written")
 			return

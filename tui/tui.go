@@ -170,11 +170,11 @@ type Model struct {
 	lastFail string
 	written  map[string]bool // files this model saved: replacing them needs no question
 
-	ctx      context.Context // the explorer's life: background work stops with it
-	cancel   context.CancelFunc
-	search   *searchRun     // the reachable-state search under way, or nil
-	found    *reach.Report  // the last search's report, while it describes the session
-	foundOf  searchKey      // the netlist and mode it was of
+	ctx     context.Context // the explorer's life: background work stops with it
+	cancel  context.CancelFunc
+	search  *searchRun    // the reachable-state search under way, or nil
+	found   *reach.Report // the last search's report, while it describes the session
+	foundOf searchKey     // the netlist and mode it was of
 	// auditOrder maps the Audit view's rows to the report's findings
 	auditOrder []int
 	// findingSteps names the steps when they are a finding's sequence

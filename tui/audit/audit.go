@@ -90,7 +90,7 @@ type Model struct {
 // New makes the view before any search.
 func New(st Styles) Model {
 	return Model{KeyMap: DefaultKeyMap(), Styles: st,
-		head: []string{"Every reachable state of the design, checked as `railyard check --exhaustive` does."},
+		head:  []string{"Every reachable state of the design, checked as `railyard check --exhaustive` does."},
 		empty: "a starts the search"}
 }
 

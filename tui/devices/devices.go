@@ -42,7 +42,9 @@ func DefaultKeyMap() KeyMap {
 }
 
 // ShortHelp and FullHelp feed the help view.
-func (k KeyMap) ShortHelp() []key.Binding { return []key.Binding{k.Inspect, k.Size, k.Filter, k.GroupOnly} }
+func (k KeyMap) ShortHelp() []key.Binding {
+	return []key.Binding{k.Inspect, k.Size, k.Filter, k.GroupOnly}
+}
 func (k KeyMap) FullHelp() [][]key.Binding {
 	return [][]key.Binding{{k.Up, k.Down, k.PageUp, k.PageDown, k.Home, k.End}, {k.Inspect, k.Size, k.Filter, k.GroupOnly}}
 }
@@ -75,9 +77,9 @@ type Model struct {
 	cond      []switchsim.Conduction
 	states    []switchsim.NodeState // by node
 	vdd       float64
-	ohms      []float64 // by device: on-resistance, NaN where not known
+	ohms      []float64      // by device: on-resistance, NaN where not known
 	loaded    map[int]string // devices with a size tried: their W/L as loaded
-	group     []bool    // by device
+	group     []bool         // by device
 	groupOf   string
 	groupOnly bool
 	search    []string // per device: the words a filter matches

@@ -28,14 +28,14 @@ import (
 type Kind uint8
 
 const (
-	None      Kind = iota // no prompt is open
-	SaveTrace             // a file name for the session trace
-	SaveVCD               // a file name for a VCD of the history in force
-	Choose                // trace or VCD, to a place the explorer's owner chose
-	Confirm               // replace a file that is there?
-	Jump                  // a step number
-	SaveDesign            // a file name for the design with the sizes tried (.sw)
-	Size                  // a width or length to try on a transistor
+	None       Kind = iota // no prompt is open
+	SaveTrace              // a file name for the session trace
+	SaveVCD                // a file name for a VCD of the history in force
+	Choose                 // trace or VCD, to a place the explorer's owner chose
+	Confirm                // replace a file that is there?
+	Jump                   // a step number
+	SaveDesign             // a file name for the design with the sizes tried (.sw)
+	Size                   // a width or length to try on a transistor
 )
 
 // KeyMap are the prompt's keys.
