@@ -173,3 +173,24 @@ func TestGolden(t *testing.T) {
 		})
 	}
 }
+
+// W on a transistor asks for a size to try; on a pull it says why not.
+// A device with a size tried shows its size as loaded in its line.
+func TestTrySize(t *testing.T) {
+	s := paneltest.Selector(t, switchsim.Ideal)
+	m := table(s, 100, 16)
+	if _, msg := keys(m, "W"); msg != (panel.AskSize{Device: m.Selected()}) {
+		t.Errorf("W on %s: %#v", s.Netlist().Device(m.Selected()).Name, msg)
+	}
+	d := m.Selected()
+	loaded := s.Netlist().Device(d)
+	m.SetTried(map[int]switchsim.Device{d: loaded})
+	if v := m.View(); !strings.Contains(v, "(tried; loaded "+size(loaded)+")") {
+		t.Errorf("the tried size's line:\n%s", v)
+	}
+	p := table(paneltest.Session(paneltest.OneNode(t), switchsim.Ideal), 80, 10)
+	_, msg := keys(p, "W")
+	if n, ok := msg.(panel.Note); !ok || !strings.Contains(n.Text, "up is a pullup: it has no W/L to try") {
+		t.Errorf("W on a pull: %#v", msg)
+	}
+}

@@ -78,6 +78,12 @@ type Settle struct {
 	Changes    []Change              // round after round
 	Before     []switchsim.NodeState // every node before the action (nil: unknown)
 	Oscillated bool
+	// Waiting for the engine (race analysis, issue 11): when the unit-delay
+	// rounds did not settle and the engine's race analysis decided the
+	// settle instead, switchsim.Result will say so (a field of its own);
+	// the root copies it here and View says, above the grid, that the
+	// rounds show the propagation and the analysis decided the values. Not
+	// built until the engine gives the field.
 	// Slowest is the settle's slowest chain of changes (indices into
 	// Changes, the first change first) and Arrival its summed delay
 	// estimate; nil and NaN where there are no delays (ideal mode).
