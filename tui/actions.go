@@ -292,10 +292,15 @@ func (m *Model) save(s panel.Save) {
 	switch s.Kind {
 	case panel.SaveTrace:
 		msg += "; railyard replay " + path + " repeats it"
-		if m.sess.Edited() {
-			msg += " (with --designs naming the folder of the edited .sw)"
+		if m.sess.Edited() && !m.designSaved {
+			msg += " once the edited design is saved (s, tab to the design) and the trace saved again"
 		}
 	case panel.SaveDesign:
+		// the session now names its design by the file, so that a trace
+		// saved from here on replays on it
+		if err := m.sess.SavedAs(path, m.sess.Design().Source); err == nil {
+			m.designSaved = true
+		}
 		msg += "; railyard explore " + path + " opens it"
 	}
 	m.say(msg)

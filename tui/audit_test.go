@@ -277,7 +277,20 @@ func TestModeSwitch(t *testing.T) {
 		t.Errorf("i again: %s", m.sess.Options().Mode)
 	}
 	if w := trace.Of(m.sess); w == nil || w.Actions() != 4 {
-		t.Error("the re-simulated session records no trace of its own")
+		t.Fatal("the re-simulated session records no trace of its own")
+	}
+	// that trace is the re-simulated history's: it replays and matches
+	tr := filepath.Join(t.TempDir(), "keeper.trace")
+	if _, err := trace.Save(m.sess, tr); err != nil {
+		t.Fatal(err)
+	}
+	f, err := os.Open(tr)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	if rep, err := trace.Replay(tr, f, trace.ReplayOptions{}); err != nil || !rep.Match() || rep.Actions != 4 {
+		t.Errorf("replay after two switches: %v %+v", err, rep)
 	}
 }
 
@@ -337,6 +350,23 @@ func TestTrySizeAndSave(t *testing.T) {
 	}
 	if k, _ := d.Netlist.LookupDevice("keep.n"); d.Netlist.Device(k).W != 0.2e-6 {
 		t.Errorf("the saved design has keep.n at %g", d.Netlist.Device(k).W)
+	}
+	if m.sess.DesignPath() != path {
+		t.Errorf("after the save the session names its design %s, not the file", m.sess.DesignPath())
+	}
+	// a trace saved now replays on the saved design and matches
+	tr := filepath.Join(dir, "keeper.trace")
+	press(m, "s", "ctrl+u")
+	typeText(m, tr)
+	press(m, "enter")
+	f, err := os.Open(tr)
+	if err != nil {
+		t.Fatalf("no trace: %q", m.Status())
+	}
+	rep, err := trace.Replay(tr, f, trace.ReplayOptions{})
+	f.Close()
+	if err != nil || !rep.Match() || rep.Design != path {
+		t.Fatalf("replay of the edited session: %v, design %s, differences %v", err, rep.Design, rep.Differences)
 	}
 	// another file that is there: asked first, and n keeps it
 	other := filepath.Join(dir, "other.sw")

@@ -122,3 +122,39 @@ func TestRunWritesTraceOnQuit(t *testing.T) {
 		t.Errorf("quit note %q lacks %q", note.String(), want)
 	}
 }
+
+// --trace after a mode switch: what is written on quit is the session in
+// force, the history re-simulated in the other mode (its header says so),
+// not the session the explorer was started on.
+func TestRunWritesTheSwitchedSession(t *testing.T) {
+	s := openFixture(t) // ideal
+	trace := filepath.Join(t.TempDir(), "switched.trace")
+	in, feed := io.Pipe()
+	var note bytes.Buffer
+	done := make(chan error, 1)
+	go func() {
+		done <- runProgram(s, Options{TracePath: trace}, 80, 24, &note, tea.WithInput(in), tea.WithOutput(io.Discard), tea.WithoutSignals())
+	}()
+	for _, k := range []string{"n", "i", "q"} {
+		time.Sleep(30 * time.Millisecond)
+		if _, err := feed.Write([]byte(k)); err != nil {
+			t.Fatal(err)
+		}
+	}
+	select {
+	case err := <-done:
+		if err != nil {
+			t.Fatalf("run: %v", err)
+		}
+	case <-time.After(10 * time.Second):
+		t.Fatal("q did not quit")
+	}
+	feed.Close()
+	b, err := os.ReadFile(trace)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !bytes.Contains(b, []byte("\nmode physical\n")) || bytes.Count(b, []byte("\naction ")) != 2 {
+		t.Errorf("the trace is not the physical session of 2 actions:\n%s", b)
+	}
+}

@@ -164,6 +164,7 @@ func (m *Model) resize(d int, w, l float64) {
 	}
 	old := m.sess
 	m.setSession(ns)
+	m.designSaved = false
 	now := ns.Netlist().Device(d)
 	change := sizeChange(was, now)
 	differ := m.markDiffers(old, "vs "+sizeBefore(was, now))

@@ -181,6 +181,7 @@ type Model struct {
 	findingSteps string
 	auditStale   bool // the search shown was dropped: search again when Audit is shown
 	quietSearch  bool // a search started on its own: the status line keeps what it says
+	designSaved  bool // the design with the sizes tried in force was saved as .sw (SavedAs)
 	// copied from the session, printable, for View
 	designName, designDesc string
 	numSteps, nextStep     int

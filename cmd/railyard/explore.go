@@ -73,11 +73,7 @@ func cmdExplore(args []string, stdout, stderr io.Writer) int {
 			return exitUsage
 		}
 	}
-	opt := session.Options{Mode: switchsim.Physical, FullSwing: o.fullSwing}
-	if o.ideal {
-		opt.Mode = switchsim.Ideal
-	}
-	s, err := session.OpenFrom(files, design, o.steps, opt)
+	s, err := session.OpenFrom(files, design, o.steps, o.sessionOptions())
 	if err != nil {
 		return loadError(stderr, err)
 	}
@@ -95,6 +91,16 @@ func cmdExplore(args []string, stdout, stderr io.Writer) int {
 	}
 	defer w.Close()
 	return startExplorer(s, o, stderr)
+}
+
+// sessionOptions are the session's options from the flags: physical mode
+// unless --ideal, as run.
+func (o exploreOptions) sessionOptions() session.Options {
+	opt := session.Options{Mode: switchsim.Physical, FullSwing: o.fullSwing}
+	if o.ideal {
+		opt.Mode = switchsim.Ideal
+	}
+	return opt
 }
 
 // startExplorer hands the session to the explorer, which saves the trace

@@ -6,6 +6,7 @@ package session
 // that a caller can compare the two and keep either.
 
 import (
+	"errors"
 	"fmt"
 
 	"railyard/switchsim"
@@ -112,6 +113,22 @@ func (s *Session) rebuild(d *netfile.Design, edits []Edit, opt Options, attach A
 		}
 	}
 	return ns, nil
+}
+
+// SavedAs records that the edited design was saved to path, whose content
+// is src: from then on the session names its design by that file (traces
+// name it, and replay finds it there by its content hash), as a session
+// opened on the file would. src must be the design's Source (its hash is
+// checked), so that the name never points at other text.
+func (s *Session) SavedAs(path string, src []byte) error {
+	if !s.Edited() {
+		return errors.New("the design has no size tried: it is the file it was loaded from")
+	}
+	if Hash(src) != s.hash {
+		return fmt.Errorf("%s does not hold the edited design", path)
+	}
+	s.designPath = path
+	return nil
 }
 
 // Edits are the sizes tried on the design, one per device changed, in

@@ -367,3 +367,26 @@ func TestRestart(t *testing.T) {
 		t.Errorf("restart: %d actions, %d steps, edited %v", r.Len(), r.NumSteps(), r.Edited())
 	}
 }
+
+// Once the edited design is saved, the session names it by that file, and
+// only when the file holds the design's text.
+func TestSavedAs(t *testing.T) {
+	s := openKeeper(t, switchsim.Physical)
+	if err := s.SavedAs("x.sw", s.Design().Source); err == nil {
+		t.Error("an unedited design took another name")
+	}
+	ns, err := session.Resize(s, deviceOf(t, s, "keep.n"), 0.2e-6, 0.18e-6, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := ns.SavedAs("k.sw", []byte("other text")); err == nil || ns.DesignPath() != "demo:strong_keeper" {
+		t.Errorf("other text: %v, path %s", err, ns.DesignPath())
+	}
+	if err := ns.SavedAs("k.sw", ns.Design().Source); err != nil || ns.DesignPath() != "k.sw" {
+		t.Errorf("its own text: %v, path %s", err, ns.DesignPath())
+	}
+	// a rebuild keeps the name: the other mode of the saved design
+	if r, err := session.Remode(ns, switchsim.Ideal, nil); err != nil || r.DesignPath() != "k.sw" {
+		t.Errorf("remode after the save: %v, path %s", err, r.DesignPath())
+	}
+}
