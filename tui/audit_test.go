@@ -104,7 +104,7 @@ func TestAuditFindsAndOpens(t *testing.T) {
 				t.Fatalf("enter: steps %d, actions %d, view %s; want the 2-row sequence from the start in Vectors",
 					m.sess.NumSteps(), m.sess.Len(), m.view)
 			}
-			if !strings.Contains(m.Status(), "shortest sequence to conflict on y, 2 rows") || !strings.Contains(m.View(), "the sequence to conflict on y") {
+			if !strings.Contains(m.Status(), "shortest sequence to conflict on y, 2 rows, the last checks y is X") || !strings.Contains(m.View(), "the sequence to conflict on y") {
 				t.Errorf("status %q; Vectors:\n%s", m.Status(), m.View())
 			}
 			y := node(t, m.sess, "y")
@@ -424,5 +424,22 @@ func TestTrySizeNeedsATransistor(t *testing.T) {
 	}
 	if !strings.Contains(m.Status(), "as kept-1.sw") {
 		t.Errorf("status %q", m.Status())
+	}
+}
+
+// At 80 columns the key line of every view keeps "? keys" and "q quit" in
+// sight, dropping first the keys that work everywhere (tab, esc, n, p),
+// and keeps what the view itself adds (W in Devices, enter in Audit).
+func TestHintsKeepHelpInSight(t *testing.T) {
+	m := New(openDemo(t, "strong_keeper", switchsim.Physical), 80, 24, Options{})
+	press(m, "n", "tab", "tab")
+	for _, c := range []struct{ key, own string }{{"r", "replay"}, {"v", "go to step"}, {"w", "scroll"}, {"d", "W size"}, {"t", "unwatch"}, {"l", "scroll"}} {
+		press(m, c.key)
+		m.focus = focusDetail
+		m.applyFocus()
+		h := m.hints()
+		if !strings.Contains(h, "? keys") || !strings.Contains(h, "q quit") || !strings.Contains(h, c.own) {
+			t.Errorf("view %s: %q", m.view, h)
+		}
 	}
 }

@@ -32,7 +32,7 @@ func DefaultKeyMap() KeyMap {
 		Jump:      b([]string{"g"}, "g", "go to step…"),
 		RunToFail: b([]string{"f"}, "f", "run to first failing check"),
 		RunToEnd:  b([]string{"e"}, "e", "run to the end"),
-		Save:      b([]string{"s"}, "s", "save trace / VCD"),
+		Save:      b([]string{"s"}, "s", "save trace / VCD / design"),
 		Filter:    b([]string{"/"}, "/", "filter"),
 		Rounds:    b([]string{"r"}, "r", "rounds of the last settle"),
 		Vectors:   b([]string{"v"}, "v", "vectors: the steps file"),

@@ -237,10 +237,11 @@ func (m *Model) openFinding(i int) {
 	m.findingSteps = "the sequence to " + what
 	m.setSession(ns)
 	m.view = ViewVectors
-	msg := fmt.Sprintf("steps: the shortest sequence to %s, %s from the start; n walks it, the last reaches it", what, plural(len(st.Rows), "row"))
+	msg := fmt.Sprintf("steps: the shortest sequence to %s, %s", what, plural(len(st.Rows), "row"))
 	if len(st.Check) > 0 {
-		msg += fmt.Sprintf(" (its check wants %s %s, as the search saw it)", m.names.Node[f.Node], f.Got.State)
+		msg += fmt.Sprintf(", the last checks %s is %s as the search saw it", m.names.Node[f.Node], f.Got.State)
 	}
+	msg += "; n walks it"
 	m.say(msg)
 	m.layout()
 }

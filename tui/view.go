@@ -325,6 +325,21 @@ func (m *Model) hints() string {
 		h("?", "keys")
 		h("q", "quit")
 	}
+	// where the line does not fit, the keys that work everywhere and are
+	// in the help go first, so that "? keys" and "q quit" stay in sight
+	whole := m.help
+	whole.Width = 0 // measured uncut
+	for _, drop := range []string{"esc", "tab", "p", "n"} {
+		if lipgloss.Width(whole.ShortHelpView(bs)) <= m.w || len(bs) < 4 {
+			break
+		}
+		for i, b := range bs {
+			if b.Help().Key == drop && i < len(bs)-2 {
+				bs = append(bs[:i:i], bs[i+1:]...)
+				break
+			}
+		}
+	}
 	return theme.Fit(m.help.ShortHelpView(bs), m.w)
 }
 

@@ -347,7 +347,7 @@ func (m Model) View() string {
 			hint = "  enter save · tab the design instead · esc cancel"
 		}
 	case SaveDesign:
-		q, hint = "save design as ", "  enter save · tab trace instead · esc cancel"
+		q, hint = "save design as ", "  enter save · tab trace · esc cancel"
 	case Choose:
 		field = ""
 		switch m.save.Kind {

@@ -321,10 +321,15 @@ func (m *hostModel) build(req ExplorerRequest) (model tea.Model, err error) {
 	return m.srv.cfg.Explorer(req)
 }
 
-// end unregisters the joinable session, which tells viewers it has ended.
+// end unregisters the joinable session, which tells viewers it has ended,
+// and stops what the explorer still runs in the background (its
+// reachable-state search): the user has left.
 func (m *hostModel) end() {
 	if m.host != nil {
 		m.srv.registry.remove(m.host)
+	}
+	if c, ok := m.inner.(interface{ Close() }); ok {
+		c.Close()
 	}
 }
 
