@@ -221,6 +221,7 @@ func (m *Model) searchHead(p reach.Progress, rep *reach.Report) []string {
 	found := plural(all, "finding")
 	switch {
 	case all == 0:
+		found = "no finding"
 	case failing == 0:
 		found += ", none fails check"
 	case failing == all && all == 1:
