@@ -81,7 +81,7 @@ type item struct {
 	w, l      float64
 	wn, wp    float64
 	cap       float64
-	ohms      float64 // r=: a resistance in ohms for physical mode; 0 none given
+	ohms      float64            // r=: a resistance in ohms for physical mode; 0 none given
 	strength  switchsim.Strength // HighZ: the device's default
 	charge    switchsim.Strength // HighZ: the default
 	cell      *cellDef
