@@ -94,7 +94,7 @@ func loadCheck(files *load.Loader, path string, o checkOptions) (*loaded, error)
 		}
 		sp = p
 	}
-	st, src, err := files.Steps(sp, d.Netlist)
+	st, src, err := files.Steps(sp, d)
 	if err != nil {
 		return nil, err
 	}

@@ -34,6 +34,16 @@ type Design struct {
 	// skipped, delays ignored, sizes that look scaled), with positions; the
 	// commands print them to stderr.
 	Notes diag.List
+	// Format is the format the loader read it in (sw, netlist, verilog:
+	// switchsim/load's names), "" when it was read directly; Options are the
+	// reader options it was read with (Include cleared). A trace records
+	// both for a netlist, so that a replay reads it the same way.
+	Format  string
+	Options ReadOptions
+	// FoldCase says the design's names match whatever their case, as a
+	// netlist's cards do: a steps file's names are looked up so. A .sw
+	// design's names are exact.
+	FoldCase bool
 }
 
 // Corner is one named technology corner of a design.
