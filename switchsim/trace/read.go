@@ -33,11 +33,11 @@ type Header struct {
 	// Format and Read are the reader and its options that read a netlist
 	// (format, read and inputs lines; Read.Inputs its inputs); "" and
 	// zero for a .sw design and for traces written before these lines.
-	Format     string
-	Read       netfile.ReadOptions
-	Created    string
-	DesignPos  diag.Pos // the design line, for errors about the design
-	StepsPos   diag.Pos
+	Format    string
+	Read      netfile.ReadOptions
+	Created   string
+	DesignPos diag.Pos // the design line, for errors about the design
+	StepsPos  diag.Pos
 }
 
 // Action is one recorded action with what it did, as written.
