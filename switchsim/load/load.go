@@ -311,7 +311,7 @@ func (l *Loader) Stat(name string) (fs.FileInfo, error) {
 
 func demoNames() []string {
 	var names []string
-	for _, e := range designs.List() {
+	for _, e := range designs.All() {
 		names = append(names, e.Name)
 	}
 	return names
@@ -379,12 +379,20 @@ func (l *Loader) design(name string, inputs []string) (*netfile.Design, error) {
 	if opt.Inputs == nil {
 		opt.Inputs = inputs
 	}
-	opt.Include = l.includer(label, name)
+	inc := l.includer(label, name)
+	var included []string
+	opt.Include = func(file, name string) (string, []byte, error) {
+		tl, src, err := inc(file, name)
+		if err == nil {
+			included = append(included, tl)
+		}
+		return tl, src, err
+	}
 	d, err := f.Read(label, src, opt)
 	if err != nil {
 		return nil, err
 	}
-	d.File, d.Format = label, f.Name
+	d.File, d.Format, d.Includes = label, f.Name, included
 	d.Options, d.Options.Include = opt, nil
 	return d, nil
 }

@@ -40,6 +40,9 @@ type Design struct {
 	// both for a netlist, so that a replay reads it the same way.
 	Format  string
 	Options ReadOptions
+	// Includes are the files a netlist included, as the loader names them
+	// (so that an output is never written over one).
+	Includes []string
 	// FoldCase says the design's names match whatever their case, as a
 	// netlist's cards do: a steps file's names are looked up so. A .sw
 	// design's names are exact.
