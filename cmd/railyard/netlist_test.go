@@ -357,3 +357,34 @@ func TestExportRefuses(t *testing.T) {
 		t.Errorf("named models: exit %d:\n%s", code, deck)
 	}
 }
+
+// A run of a netlist read with flags and a steps file of another name
+// records what the reading needs: `replay` with no flags repeats it and
+// matches; a flag given to replay replaces the trace's (here one that
+// breaks the reading, so the replay does not match).
+func TestReplayNetlistWithItsReading(t *testing.T) {
+	dir := t.TempDir()
+	src := strings.NewReplacer("VDD", "VP", "VSS", "VN").Replace(string(netlistCells(t)[2].src))
+	p := filepath.Join(dir, "lat.sp")
+	check(t, os.WriteFile(p, []byte(src), 0o644))
+	models, _ := os.ReadFile(filepath.Join("testdata", "netlist", "oplat_models.inc"))
+	check(t, os.WriteFile(filepath.Join(dir, "oplat_models.inc"), models, 0o644))
+	steps := filepath.Join(dir, "write-then-hold.steps")
+	check(t, os.WriteFile(steps, netlistCells(t)[2].steps, 0o644))
+	tr := filepath.Join(dir, "lat.trace")
+	if code, _, errs := call("run", p, "--steps", steps, "--power", "vp", "--ground", "vn", "--trace", tr); code != 0 {
+		t.Fatalf("run: exit %d: %s", code, errs)
+	}
+	b, _ := os.ReadFile(tr)
+	for _, want := range []string{"\nformat netlist\n", "\nread power=vp ground=vn\n", "\ninputs D CLK\n"} {
+		if !strings.Contains(string(b), want) {
+			t.Errorf("the trace lacks %q", want)
+		}
+	}
+	if code, out, errs := call("replay", tr); code != 0 || !strings.Contains(out, "everything matches") {
+		t.Errorf("replay: exit %d\n%s%s", code, out, errs)
+	}
+	if code, out, _ := call("replay", tr, "--inputs", "D"); code == 0 {
+		t.Errorf("replay --inputs D (CLK no longer an input) still matches:\n%s", out)
+	}
+}
