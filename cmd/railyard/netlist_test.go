@@ -388,3 +388,32 @@ func TestReplayNetlistWithItsReading(t *testing.T) {
 		t.Errorf("replay --inputs D (CLK no longer an input) still matches:\n%s", out)
 	}
 }
+
+// The check's cache knows a netlist by what it reads as: a change to a
+// file it includes, or to the reader's options, checks it again.
+func TestCheckCacheSeesIncludesAndOptions(t *testing.T) {
+	dir := t.TempDir()
+	c := netlistCells(t)[2] // oplat.sp, its models in oplat_models.inc
+	p := c.put(t, dir)
+	cache := filepath.Join(t.TempDir(), "cache")
+	cached := func(args ...string) bool {
+		t.Helper()
+		code, out, errs := call(append([]string{"check", p, "--exhaustive", "--cache", cache}, args...)...)
+		if code == 2 {
+			t.Fatalf("check: %s", errs)
+		}
+		return strings.Contains(out, "(cached result)")
+	}
+	if cached() || !cached() {
+		t.Fatal("the second run of an unchanged netlist is not the cached one")
+	}
+	inc := filepath.Join(dir, "oplat_models.inc")
+	models, _ := os.ReadFile(inc)
+	check(t, os.WriteFile(inc, bytes.Replace(models, []byte("vto=0.42"), []byte("vto=0.47"), 1), 0o644))
+	if cached() {
+		t.Error("a changed include gave the cached result")
+	}
+	if cached("--inputs", "D") {
+		t.Error("other inputs gave the cached result")
+	}
+}
