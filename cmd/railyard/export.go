@@ -13,7 +13,8 @@ import (
 
 const exportUsage = `
 usage: railyard export DESIGN [--steps FILE] [--period T] [--edge T] [--ideal]
-       [--nmos-models NAMES] [--pmos-models NAMES] [-o FILE] [netlist flags]
+       [--corner NAME] [--nmos-models NAMES] [--pmos-models NAMES] [-o FILE]
+       [netlist flags]
 
 Write a testbench in the transistor-netlist card format, to confirm in a
 circuit simulator what railyard found: the cell as a subcircuit with its
@@ -26,7 +27,8 @@ is cut off by a voltage-controlled switch for the steps it floats);
 initial conditions for the nodes that float from the start; a transient
 analysis over every step; and a measure line per check at the end of its
 step, with what railyard expects beside it. The cell's initial conditions
-follow physical mode, or ideal mode with --ideal.
+follow physical mode, or ideal mode with --ideal. --corner NAME writes the
+deck at one of the design's corners (a .sw design's corner statement).
 
 T is a time in seconds with an SI prefix, a trailing s allowed: 5n, 5ns,
 100ps. The steps are FILE, else DESIGN's same-named .steps file; a
@@ -38,20 +40,19 @@ examples:
   railyard export demo:opsel_latch -o opsel_tb.sp
   railyard export opsel_latch.sp --steps found/level-lost-s.steps --period 5n --edge 50p -o confirm.sp
   railyard export cells/latch.sw --nmos-models nch --pmos-models pch -o latch_tb.sp
+  railyard export cells/latch.sw --corner slow -o latch_slow_tb.sp
 `
 
 func cmdExport(args []string, stdout, stderr io.Writer) int {
 	fs := newFlags("export", exportUsage)
-	var stepsName, out, period, edge string
+	var stepsName, out, period, edge, corner string
 	var ideal bool
 	fs.StringVar(&stepsName, "steps", "", "the steps `FILE` the sources follow (default: DESIGN's same-named .steps file)")
 	fs.StringVar(&period, "period", "10n", "the time `T` each step lasts")
 	fs.StringVar(&edge, "edge", "100p", "the rise and fall time `T` of the inputs")
 	fs.BoolVar(&ideal, "ideal", false, "initial conditions from ideal mode (default: physical mode)")
 	fs.StringVar(&out, "o", "", "write the deck to `FILE` (default: stdout)")
-	// --corner NAME belongs here once the engine runs a design at a corner
-	// (Netlist.WithTech, from the physical-mode work): the deck's models and
-	// supply would then come from that corner's technology.
+	fs.StringVar(&corner, "corner", "", "the deck at the design's corner `NAME` (its corner statement): models, supply and sizes from that technology")
 	lf := addLoadFlags(fs)
 	pos, code := parseArgs(fs, args, stdout, stderr)
 	if code >= 0 {
@@ -91,13 +92,40 @@ func cmdExport(args []string, stdout, stderr io.Writer) int {
 		return exitUsage
 	}
 	printNotes(stderr, ld.Design)
+	nl, err := atCorner(ld.Design, corner)
+	if err != nil {
+		fmt.Fprintf(stderr, "railyard export: %s: --corner: %v\n", files.Path(design), err)
+		return exitUsage
+	}
 	opt.Source = files.Path(design) + " with " + files.Path(ld.StepsName)
+	if corner != "" {
+		opt.Source += " at corner " + corner
+	}
 	var buf bytes.Buffer
-	if err := cardfile.WriteDeck(&buf, ld.Design.Netlist, ld.Steps, opt); err != nil {
+	if err := cardfile.WriteDeck(&buf, nl, ld.Steps, opt); err != nil {
 		fmt.Fprintf(stderr, "railyard export: %s: %v\n", files.Path(design), err)
 		return exitUsage
 	}
 	return writeOutput("export", out, inputKeeps(design, ld), buf.Bytes(), stdout, stderr)
+}
+
+// atCorner is the design's netlist at its corner name ("": the nominal
+// technology).
+func atCorner(d *netfile.Design, name string) (*switchsim.Netlist, error) {
+	if name == "" {
+		return d.Netlist, nil
+	}
+	var names []string
+	for _, c := range d.Corners {
+		if c.Name == name {
+			return d.Netlist.WithTech(c.Tech)
+		}
+		names = append(names, c.Name)
+	}
+	if len(names) == 0 {
+		return nil, fmt.Errorf("the design names no corners (a .sw design's corner statements do)")
+	}
+	return nil, fmt.Errorf("no corner %q (the design's: %s)", name, strings.Join(names, ", "))
 }
 
 // seconds reads a time: a number with an SI prefix (netfile's numbers),

@@ -417,3 +417,36 @@ func TestCheckCacheSeesIncludesAndOptions(t *testing.T) {
 		t.Error("other inputs gave the cached result")
 	}
 }
+
+// export --corner writes the deck at one of the design's corners: the
+// supply and the level-1 models from that corner's technology (the
+// design's tech with the corner's keys replaced), the rest as nominal. An
+// unknown corner is refused, naming the design's.
+func TestExportAtACorner(t *testing.T) {
+	dir := t.TempDir()
+	src, _ := os.ReadFile(filepath.Join("testdata", "plat.sw"))
+	p := filepath.Join(dir, "plat.sw")
+	check(t, os.WriteFile(p, append(src, []byte("corner slow vdd=1.62 vtn=0.5 kn=150u\n")...), 0o644))
+	steps, _ := os.ReadFile(filepath.Join("testdata", "plat.steps"))
+	check(t, os.WriteFile(filepath.Join(dir, "plat.steps"), steps, 0o644))
+	_, nominal, _ := call("export", p)
+	code, slow, errs := call("export", p, "--corner", "slow")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	for _, want := range []string{"vvdd vdd 0 dc 1.62\n", ".model nfet_l1 nmos (level=1 vto=500m kp=150u ", "at corner slow"} {
+		if !strings.Contains(slow, want) {
+			t.Errorf("the slow deck lacks %q:\n%s", want, slow)
+		}
+	}
+	if !strings.Contains(nominal, "vvdd vdd 0 dc 1.8\n") || !strings.Contains(nominal, "vto=450m kp=170u") {
+		t.Errorf("the nominal deck is not at the nominal tech:\n%s", nominal)
+	}
+	if pm := ".model pfet_l1 pmos (level=1 vto=-450m kp=60u"; !strings.Contains(slow, pm) || !strings.Contains(nominal, pm) {
+		t.Errorf("the pMOS model should be the same at both:\n%s", slow)
+	}
+	code, _, errs = call("export", p, "--corner", "fast")
+	if code != 2 || !strings.Contains(errs, `no corner "fast" (the design's: slow)`) {
+		t.Errorf("unknown corner: exit %d, %s", code, errs)
+	}
+}
