@@ -450,3 +450,22 @@ func TestExportAtACorner(t *testing.T) {
 		t.Errorf("unknown corner: exit %d, %s", code, errs)
 	}
 }
+
+// convert says when the steps a netlist was read with spell a node in a
+// case only the netlist takes (its names match in any case, the .sw
+// conversion's exactly), and says nothing when they are spelt as the
+// conversion spells them.
+func TestConvertNotesStepsCase(t *testing.T) {
+	dir := t.TempDir()
+	c := netlistCells(t)[2]
+	p := c.put(t, dir)
+	odd := filepath.Join(dir, "odd.steps")
+	check(t, os.WriteFile(odd, []byte("apply Clk D\ncheck q<0>\n1 1 | 1\n"), 0o644))
+	const note = "names nodes in a case the .sw design does not"
+	if code, _, errs := call("convert", p, "--steps", odd); code != 0 || !strings.Contains(errs, odd+" "+note) {
+		t.Errorf("odd case: exit %d, stderr %q", code, errs)
+	}
+	if code, _, errs := call("convert", p); code != 0 || strings.Contains(errs, note) {
+		t.Errorf("the fixture's own steps: exit %d, stderr %q", code, errs)
+	}
+}
