@@ -11,9 +11,9 @@
 //	mode physical | ideal
 //	full-swing no | yes
 //	tech KEY=VALUE ...     the values in force (vil and vih as computed)
-//	format netlist|verilog a design read from a netlist: the reader that read it,
-//	read KEY=VALUE ...       the reader options given (top power ground nmos-models pmos-models),
-//	inputs NAME ...          and the design's inputs as the netlist spells them
+//	format netlist|verilog  a design read from a netlist: the reader that read it,
+//	read KEY=VALUE ...      the reader options given (top power ground nmos-models pmos-models),
+//	inputs NAME ...         and the design's inputs as the netlist spells them
 //	created TIME
 //
 //	action SEQ KIND [details]
