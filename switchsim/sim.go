@@ -326,11 +326,8 @@ func (s *Sim) Settle() *Result {
 		}
 		if wasSource[i] || s.source[n] {
 			for _, d := range nl.chanDev[nl.chanStart[n]:nl.chanStart[n+1]] {
-				if s.cond[d] != Off {
-					o := nl.devA[d]
-					if o == n {
-						o = nl.devB[d]
-					}
+				if s.cond[d] != Off || s.physLeak(d) {
+					o := nl.other(d, n)
 					if !s.source[o] {
 						s.seed(o)
 					}

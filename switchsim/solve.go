@@ -34,10 +34,7 @@ func (s *Sim) solveGroup(seed int32, round int32) {
 					g.hasUnknown = true
 				}
 			}
-			o := nl.devA[d]
-			if o == n {
-				o = nl.devB[d]
-			}
+			o := nl.other(d, n)
 			if s.source[o] {
 				if s.smark[o] != gid {
 					s.smark[o] = gid
@@ -113,10 +110,7 @@ func (s *Sim) resolve(g *group) {
 					if s.cond[d] != On || nl.pass(d, lvl) < lvl {
 						continue
 					}
-					o := nl.devA[d]
-					if o == m {
-						o = nl.devB[d]
-					}
+					o := nl.other(d, m)
 					if s.source[o] || s.done[o] == stamp {
 						continue
 					}
@@ -145,10 +139,7 @@ func (s *Sim) resolve(g *group) {
 					if s.cond[d] != On || nl.pass(d, lvl) >= lvl {
 						continue
 					}
-					o := nl.devA[d]
-					if o == m {
-						o = nl.devB[d]
-					}
+					o := nl.other(d, m)
 					if !s.source[o] && s.done[o] != stamp {
 						s.relax(o, nl.pass(d, lvl), cv, stamp)
 					}
@@ -205,10 +196,7 @@ func (s *Sim) resolveSingle(g *group) {
 		if s.cond[d] != On {
 			continue
 		}
-		src := nl.devA[d]
-		if src == n {
-			src = nl.devB[d]
-		}
+		src := nl.other(d, n)
 		if !s.source[src] {
 			continue // a device from the node to itself
 		}
@@ -301,10 +289,7 @@ func (s *Sim) potential(g *group, v Value) {
 				if s.cond[d] == Off {
 					continue
 				}
-				o := nl.devA[d]
-				if o == t {
-					o = nl.devB[d]
-				}
+				o := nl.other(d, t)
 				if !s.source[o] && pdone[o] != stamp {
 					push(o, nl.pass(d, lvl))
 				}

@@ -21,7 +21,7 @@ import (
 )
 
 // testdata/fight.sw: a strong pull-up (pMOS up, on while b=0) and a
-// strong pull-down (nMOS dn, on while a=1) on y, and a pull resistor pz
+// strong pull-down (nMOS dn, on while a=1) of equal transconductance on y, and a pull resistor pz
 // that nz overpowers on z while a=1. From every input 0: a=1 makes up and
 // dn fight on y (a conflict: two driven transistors meeting, common
 // practice), a=0 b=1 leaves y floating (a floating output): both fail
@@ -295,7 +295,7 @@ func TestModeSwitch(t *testing.T) {
 }
 
 // W on a device row asks for a size in the design format and tries it:
-// on strong_keeper, keep.n at 200n (below the width where the write flips,
+// on strong_keeper, keep.n at 100n (below the width where the write flips,
 // worked out in switchsim/session's TestResizeKeeperFlipsTheWrite) lets
 // step 2's write through; the header says the design is edited, Devices
 // shows the size as loaded, and s saves the edited design as .sw, through
@@ -313,18 +313,18 @@ func TestTrySizeAndSave(t *testing.T) {
 	if !strings.Contains(m.View(), "keep.n: try W (now 1.44u)") {
 		t.Fatalf("W opens no size prompt:\n%s", m.View())
 	}
-	typeText(m, "0.2")
+	typeText(m, "0.1")
 	press(m, "enter")
-	if !m.prompt.Active() || !strings.Contains(m.View(), "0.2u?") {
-		t.Fatalf("0.2 (metres) was taken: %q", m.Status())
+	if !m.prompt.Active() || !strings.Contains(m.View(), "0.1u?") {
+		t.Fatalf("0.1 (metres) was taken: %q", m.Status())
 	}
 	press(m, "backspace", "backspace", "backspace")
-	typeText(m, "0.2u")
+	typeText(m, "0.1u")
 	press(m, "enter")
-	if !m.sess.Edited() || m.sess.Last().Failed() || m.sess.Netlist().Device(kn).W != 0.2e-6 {
-		t.Fatalf("after 0.2u: edited %v, failed %v", m.sess.Edited(), m.sess.Last().Failed())
+	if !m.sess.Edited() || m.sess.Last().Failed() || m.sess.Netlist().Device(kn).W != 0.1e-6 {
+		t.Fatalf("after 0.1u: edited %v, failed %v", m.sess.Edited(), m.sess.Last().Failed())
 	}
-	if !strings.Contains(m.Status(), "keep.n W 1.44u -> 200n: step 2 passes") || !strings.Contains(m.header(), "edited (1 size)") {
+	if !strings.Contains(m.Status(), "keep.n W 1.44u -> 100n: step 2 passes") || !strings.Contains(m.header(), "edited (1 size)") {
 		t.Errorf("status %q, header %q", m.Status(), m.header())
 	}
 	if !strings.Contains(m.View(), "(tried; loaded 1.44/0.18)") {
@@ -348,7 +348,7 @@ func TestTrySizeAndSave(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if k, _ := d.Netlist.LookupDevice("keep.n"); d.Netlist.Device(k).W != 0.2e-6 {
+	if k, _ := d.Netlist.LookupDevice("keep.n"); d.Netlist.Device(k).W != 0.1e-6 {
 		t.Errorf("the saved design has keep.n at %g", d.Netlist.Device(k).W)
 	}
 	if m.sess.DesignPath() != path {

@@ -19,16 +19,16 @@ import (
 )
 
 // rebuild makes a session with build, giving it a trace as the session
-// explored had (the same options); a trace begun for a rebuild that then
-// failed is released.
+// explored had (the same options, its spool in the same folder); a trace
+// begun for a rebuild that then failed is released.
 func (m *Model) rebuild(build func(session.Attach) (*session.Session, error)) (*session.Session, error) {
-	opt := trace.Options{}
+	opt, dir := trace.Options{}, ""
 	if w := trace.Of(m.sess); w != nil {
-		opt = w.Options()
+		opt, dir = w.Options(), w.SpoolDir()
 	}
 	var made *trace.Writer
 	ns, err := build(func(ns *session.Session) error {
-		w, err := trace.Start(ns, "", opt)
+		w, err := trace.Start(ns, dir, opt)
 		made = w
 		return err
 	})

@@ -59,6 +59,13 @@ const (
 // not see), or an error to show.
 type SaveFunc func(kind SaveKind, write func(io.Writer) error) (shown string, err error)
 
+// Notice is a message the explorer's owner sends to tell the user what the
+// explorer cannot see for itself (a server: the session's trace reached
+// the server's cap). Text goes on the status line as a note; Mark, when
+// set, stays in the header from then on, so that it is seen after the
+// status line has moved on.
+type Notice struct{ Text, Mark string }
+
 // Options configure the explorer.
 type Options struct {
 	// TracePath, when set, is where Run writes the trace on quit (the
@@ -163,6 +170,7 @@ type Model struct {
 	helpPage int
 	status   string
 	statusAs int
+	mark     string // the owner's mark in the header (Notice)
 
 	watched  []int // timeline order
 	watchSet []bool
@@ -343,6 +351,11 @@ func (m *Model) Update(msg tea.Msg) (tea.Model, tea.Cmd) {
 		m.change(func() { m.jump(msg.Row) })
 	case panel.Save:
 		m.save(msg)
+	case Notice:
+		m.note(msg.Text)
+		if msg.Mark != "" {
+			m.mark = diag.Printable(msg.Mark)
+		}
 	case panel.Canceled:
 		m.say(msg.What)
 	case panel.Note:

@@ -455,3 +455,29 @@ func TestNoColor(t *testing.T) {
 		t.Error("with colour on, nothing is coloured")
 	}
 }
+
+// An owner's Notice (a server saying the session's trace is full) goes on
+// the status line and its mark stays in the header after the status line
+// has moved on; without one the header has no mark.
+func TestNoticeFromTheOwner(t *testing.T) {
+	s := openFixture(t)
+	m := New(s, 100, 24, Options{Banner: "session abc234"})
+	header := func() string { return strings.SplitN(m.View(), "\n", 2)[0] }
+	if strings.Contains(header(), "trace full") {
+		t.Fatalf("a mark before any notice: %q", header())
+	}
+	send(m, Notice{Text: "trace full at 16 KiB: later actions are not recorded", Mark: "trace full\x1b[2J"})
+	if m.Status() != "trace full at 16 KiB: later actions are not recorded" {
+		t.Errorf("status %q, want the notice", m.Status())
+	}
+	press(m, "space")
+	if !strings.Contains(m.Status(), "set sel=0") {
+		t.Errorf("status %q after a toggle, want the set", m.Status())
+	}
+	h := header()
+	// The mark is printable (an owner's text is shown as the rest is).
+	if !strings.Contains(h, `trace full\x1b[2J`) || !strings.Contains(h, "session abc234") {
+		t.Errorf("header %q lacks the mark (made printable) or the banner", h)
+	}
+	checkScreen(t, m.View(), 100, 24)
+}

@@ -140,6 +140,9 @@ func (m *Model) header() string {
 	} else if m.failed > 0 {
 		right = append(right, t.Fail.Render(fmt.Sprintf("%s %d failed", t.G.Fail, m.failed)))
 	}
+	if m.mark != "" {
+		right = append(right, t.Warn.Render(m.mark))
+	}
 	if m.opt.Banner != "" {
 		right = append(right, t.Accent.Render(m.opt.Banner))
 	}

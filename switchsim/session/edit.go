@@ -43,7 +43,10 @@ func editedDesign(orig *netfile.Design, edits []Edit) (*netfile.Design, error) {
 	for _, e := range edits {
 		fmt.Fprintf(&head, "#   %s\n", EditString(orig.Netlist, e))
 	}
-	d := &netfile.Design{Name: orig.Name, Desc: orig.Desc, Netlist: nl, File: orig.File, Notes: orig.Notes}
+	// The edited design is .sw text whatever it was read from; it keeps
+	// the files it included, so that no output is written over one.
+	d := &netfile.Design{Name: orig.Name, Desc: orig.Desc, Netlist: nl, File: orig.File, Notes: orig.Notes,
+		Format: "sw", Includes: orig.Includes}
 	if tree := editTree(orig, edits); tree != nil {
 		var body bytes.Buffer
 		if netfile.Write(&body, &netfile.Design{Tree: tree}) == nil {

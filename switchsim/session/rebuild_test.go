@@ -57,8 +57,8 @@ func differing(a, b *session.Session) []string {
 // strong_keeper after its second step (clk=1 d=1, the write of a 1 over a
 // stored 0): ideal mode decides the fight on s by strength alone, and the
 // pass gate (strong) beats the keeper (weak), so s is 1; physical mode
-// weighs the sizes, and the keeper's nMOS (1.44u/0.18u, a fifth of the
-// gate's resistance) holds s at a 0. What follows s follows the fight: s_b
+// weighs the sizes, and the keeper's nMOS (1.44u/0.18u, W/L 8 against the
+// gate's 1) holds s at a 0. What follows s follows the fight: s_b
 // (the inverter fwd) and q (the inverter out from s_b). clk_b depends on
 // clk alone and is the same in both. So exactly s, s_b and q differ.
 func TestRemodeStrongKeeperDiffers(t *testing.T) {
@@ -151,39 +151,103 @@ func TestRemodeFoldedHistory(t *testing.T) {
 	}
 }
 
+// level1 is the drain current of the level-1 (square-law) model of
+// Shichman and Hodges, IEEE JSSC 1968, for an nMOS-like device with
+// overdrive vgs - vt and drain-source voltage vds >= 0: beta (ov vds -
+// vds^2/2) below saturation, beta ov^2 / 2 in it, none below threshold.
+func level1(beta, vt, vgs, vds float64) float64 {
+	ov := vgs - vt
+	switch {
+	case ov <= 0 || vds <= 0:
+		return 0
+	case vds >= ov:
+		return beta / 2 * ov * ov
+	}
+	return beta * (ov*vds - vds*vds/2)
+}
+
+// bisect finds x in [lo, hi] where f changes sign (f(lo) < 0 < f(hi) or
+// the reverse).
+func bisect(lo, hi float64, f func(float64) float64) float64 {
+	neg := f(lo) < 0
+	for i := 0; i < 80; i++ {
+		mid := (lo + hi) / 2
+		if (f(mid) < 0) == neg {
+			lo = mid
+		} else {
+			hi = mid
+		}
+	}
+	return (lo + hi) / 2
+}
+
 // Keeper sizing on strong_keeper. The write of step 2 (clk=1 d=1 over a
 // stored 0) drives s through the transmission gate pass (pass.n and pass.p,
-// both 0.36u/0.36u) against the keeper's nMOS keep.n (1.44u/0.18u, on while
-// s_b = 1). Physical mode's estimate of a fight is a resistive divider
-// (README, "Physical mode"; R = r_sq L / W, r_sq the technology's rn or rp):
-// here keep.n, alone on the 0 side, is Rk = rn Lk / Wk, and the 1 side is
-// pass.p, a resistor Rp = rp L/W that passes a 1 fully, in parallel with
-// pass.n, which passes a 1 only up to its limit Vlim (vdd - vtn less the
-// body effect, common practice): I_up(V) = (Vlim - V)/Rn + (vdd - V)/Rp.
-// Vlim is read from the engine's own figures at the fight (the divider's
-// up-side resistance and the node's volts). Physical mode decides a value
-// by the input thresholds VIL and VIH (README, "Physical mode"): the keeper
-// holds its 0 while s stays at or below VIL; once the divider lifts s above
-// it, s is no longer a 0, the loop's feedback (fwd, then the keeper's
-// gates) turns unknown, and the strong write wins. So the write flips where
-// Rk* = VIL / I_up(VIL), and the widest keeper that lets it through is
-// W* = rn Lk / Rk*. At 0.9 W* the write must succeed; at 1.1 W* fail, with
-// s where the divider puts it.
+// both 0.36u/0.36u) against the keeper (keep.n and keep.p, 1.44u/0.18u,
+// gated by s_b, which the inverter fwd makes from s). Physical mode solves
+// a fight at its DC point with the level-1 equations (README, "Two modes";
+// beta = k' W/L, Vt with the body effect for a source above its body, the
+// lower terminal the source), and a device whose gate sits between the
+// rails conducts as those equations say. With s at V and s_b at U:
+//
+//	pass.n  gate vdd, source s:     In(V) = b/2 (vdd - V - Vt(V))^2 (saturated),
+//	                                Vt(V) = vtn + gamma (sqrt(phi+V) - sqrt(phi))
+//	pass.p  gate gnd, source d=vdd: Ip(V) = level1(bp, vtp, vdd, vdd - V)
+//	keep.n  gate U, source gnd:     Ik(V, U) = level1(bk, vtn, U, V)
+//	keep.p  gate U, source vdd:     Ikp(V, U) = level1(bkp, vtp, vdd - U, vdd - V)
+//	fwd     U = VTC(V), where its nMOS and pMOS currents are equal
+//
+// The test checks In + Ip and Ik against the engine's own figures at the
+// fight (the divider's currents: Up = (vdd-V)/I, Down = V/I). The keeper
+// holds s low at a V where Ik(V, VTC(V)) = In + Ip + Ikp; the width that
+// takes is r(V) = (In + Ip + Ikp)(V) / (Ik(V, VTC(V)) per metre of width).
+// The rounds settle the loop from U = vdd towards the first such V, and a
+// keeper narrower than every r(V) up to VIL has none: s rises past VIL,
+// where physical mode no longer reads it as a 0, and the write wins. So
+// the widest keeper that lets the write through is W* = min r(V) over V up
+// to VIL. At 0.95 W* the write must succeed; at 1.05 W* fail, with s at the
+// first V where the keeper's width holds it.
 func TestResizeKeeperFlipsTheWrite(t *testing.T) {
 	s := openKeeper(t, switchsim.Physical)
 	s.Next()
 	s.Next()
-	tech := s.Netlist().Tech
-	vdd := tech.Vdd
+	nl, tech := s.Netlist(), s.Netlist().Tech
+	vdd, vtn, vtp := tech.Vdd, tech.Vtn, tech.Vtp
 	vil, _, _ := tech.Thresholds()
 	sn := nodeOf(t, s, "s")
 	kn := deviceOf(t, s, "keep.n")
-	keeper := s.Netlist().Device(kn)
+	keeper := nl.Device(kn)
 	if keeper.W != 1.44e-6 || keeper.L != 0.18e-6 {
 		t.Fatalf("keep.n is %g/%g, the demo draws it 1.44u/0.18u", keeper.W, keeper.L)
 	}
-	pn, pp := s.Netlist().Device(deviceOf(t, s, "pass.n")), s.Netlist().Device(deviceOf(t, s, "pass.p"))
-	rn, rp, rk := tech.Rn*pn.L/pn.W, tech.Rp*pp.L/pp.W, tech.Rn*keeper.L/keeper.W
+	beta := func(name string) float64 {
+		d := nl.Device(deviceOf(t, s, name))
+		if d.Kind == switchsim.PMOS {
+			return tech.Kp * d.W / d.L
+		}
+		return tech.Kn * d.W / d.L
+	}
+	bn, bp, bkp, bfn, bfp := beta("pass.n"), beta("pass.p"), beta("keep.p"), beta("fwd.n"), beta("fwd.p")
+	iWrite := func(v float64) float64 {
+		vt := vtn + tech.Gamma*(math.Sqrt(tech.Phi+v)-math.Sqrt(tech.Phi))
+		return level1(bn, vt, vdd-v, vdd-v) + level1(bp, vtp, vdd, vdd-v)
+	}
+	vtc := func(v float64) float64 {
+		return bisect(0, vdd, func(u float64) float64 { return level1(bfn, vtn, v, u) - level1(bfp, vtp, vdd-v, vdd-u) })
+	}
+	iUp := func(v float64) float64 { return iWrite(v) + level1(bkp, vtp, vdd-vtc(v), vdd-v) }
+	perWidth := func(v float64) float64 { return level1(tech.Kn/keeper.L, vtn, vtc(v), v) } // Ik per metre of W
+	r := func(v float64) float64 { return iUp(v) / perWidth(v) }
+	// where a keeper of width w holds s: the first V with w >= r(V)
+	holds := func(w float64) (float64, bool) {
+		const n = 4000
+		for i := 1; i <= n; i++ {
+			if v := vil * float64(i) / n; w >= r(v) {
+				return bisect(vil*float64(i-1)/n, v, func(x float64) float64 { return w*perWidth(x) - iUp(x) }), true
+			}
+		}
+		return 0, false
+	}
 
 	if st := s.Node(sn); st.Value != switchsim.V0 {
 		t.Fatalf("at the demo's size s is %s: the keeper should win", st.State)
@@ -192,47 +256,49 @@ func TestResizeKeeperFlipsTheWrite(t *testing.T) {
 	if e.Divider == nil {
 		t.Fatal("no divider for the contested node s")
 	}
-	if rel(e.Divider.Down, rk) > 0.01 {
-		t.Fatalf("down side %.0f ohm, want keep.n's rn L/W = %.0f ohm", e.Divider.Down, rk)
-	}
 	v0 := e.Divider.Volts
-	i0 := (vdd - v0) / e.Divider.Up
-	vlim := v0 + rn*(i0-(vdd-v0)/rp)
-	if vlim <= vdd-tech.Vtn-0.6 || vlim >= vdd-tech.Vtn {
-		t.Fatalf("pass.n's limit worked out as %.3f V: not just below vdd - vtn = %.3f V", vlim, vdd-tech.Vtn)
+	if got, want := v0/e.Divider.Down, keeper.W*perWidth(v0); rel(got, want) > 0.01 {
+		t.Fatalf("keeper current at %.3f V: the engine's %.4g A, the level-1 equation's %.4g A", v0, got, want)
 	}
-	iUp := func(v float64) float64 { return (vlim-v)/rn + (vdd-v)/rp }
-	wStar := tech.Rn * keeper.L / (vil / iUp(vil))
-	t.Logf("Vlim %.3f V, VIL %.3f V: the write flips below W* = %.4g m", vlim, vil, wStar)
+	if got, want := (vdd-v0)/e.Divider.Up, iWrite(v0); rel(got, want) > 0.01 {
+		t.Fatalf("write current at %.3f V: the engine's %.4g A, the level-1 equations' %.4g A", v0, got, want)
+	}
+	if v, ok := holds(keeper.W); !ok || math.Abs(v-v0) > 0.005 {
+		t.Fatalf("at 1.44u the equations hold s at %.3f V, the engine at %.3f V", v, v0)
+	}
+	wStar := math.Inf(1)
+	for i := 1; i <= 4000; i++ {
+		wStar = min(wStar, r(vil*float64(i)/4000))
+	}
+	t.Logf("s at %.3f V with the keeper at 1.44u; VIL %.3f V: the write flips below W* = %.4g m", v0, vil, wStar)
 
 	// narrower than W*: the write goes through, both checks pass
-	ok, err := session.Resize(s, kn, 0.9*wStar, keeper.L, nil)
+	ok, err := session.Resize(s, kn, 0.95*wStar, keeper.L, nil)
 	if err != nil {
 		t.Fatal(err)
 	}
 	if !ok.Edited() || ok.Last().Failed() {
-		t.Errorf("keep.n at 0.9 W*: edited %v, step 2 failed %v; want the write to succeed", ok.Edited(), ok.Last().Failed())
+		t.Errorf("keep.n at 0.95 W*: edited %v, step 2 failed %v; want the write to succeed", ok.Edited(), ok.Last().Failed())
 	}
 	if v := ok.Node(sn).Value; v != switchsim.V1 {
-		t.Errorf("keep.n at 0.9 W*: s is %s, want 1", ok.Node(sn).State)
+		t.Errorf("keep.n at 0.95 W*: s is %s, want 1", ok.Node(sn).State)
 	}
 	if s.Edited() || s.Netlist().Device(kn).W != 1.44e-6 {
 		t.Error("Resize changed the session it was given")
 	}
 
-	// wider than W*: the keeper still wins, and s sits on the divider:
-	// V = (Vlim/Rn + vdd/Rp) / (1/Rn + 1/Rp + 1/Rk)
-	bad, err := session.Resize(s, kn, 1.1*wStar, keeper.L, nil)
+	// wider than W*: the keeper still wins, and s sits where it holds it
+	bad, err := session.Resize(s, kn, 1.05*wStar, keeper.L, nil)
 	if err != nil {
 		t.Fatal(err)
 	}
 	if !bad.Last().Failed() || bad.Node(sn).Value == switchsim.V1 {
-		t.Errorf("keep.n at 1.1 W*: s is %s, step 2 failed %v; want the keeper to win still", bad.Node(sn).State, bad.Last().Failed())
+		t.Errorf("keep.n at 1.05 W*: s is %s, step 2 failed %v; want the keeper to win still", bad.Node(sn).State, bad.Last().Failed())
 	}
-	rk1 := tech.Rn * keeper.L / (1.1 * wStar)
-	want := (vlim/rn + vdd/rp) / (1/rn + 1/rp + 1/rk1)
-	if got := bad.Node(sn).Volts; math.Abs(got-want) > 0.01 {
-		t.Errorf("keep.n at 1.1 W*: s at %.3f V, the divider puts it at %.3f V", got, want)
+	if want, held := holds(1.05 * wStar); !held {
+		t.Error("the equations hold nothing at 1.05 W*")
+	} else if got := bad.Node(sn).Volts; math.Abs(got-want) > 0.01 {
+		t.Errorf("keep.n at 1.05 W*: s at %.3f V, the equations put it at %.3f V", got, want)
 	}
 }
 

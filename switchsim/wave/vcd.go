@@ -177,15 +177,33 @@ func (v *Writer) Close() error {
 
 // Write writes the history in force of s as a VCD, re-simulating it (the
 // session does not keep every state; session.Walk).
+// A failed output (a full disk, a caller's size cap) ends the walk, so that
+// the rest of the history is not re-simulated for nothing.
 func Write(w io.Writer, s *session.Session, opt Options) error {
-	v := NewWriter(w, s, opt)
+	out := &stickyWriter{w: w}
+	v := NewWriter(out, s, opt)
 	if err := s.Walk(func(e *session.Event, node func(int) switchsim.NodeState) error {
 		v.Add(e, node)
-		return nil
+		return out.err
 	}); err != nil {
 		return err
 	}
 	return v.Close()
+}
+
+// stickyWriter keeps the first error its writer returned.
+type stickyWriter struct {
+	w   io.Writer
+	err error
+}
+
+func (s *stickyWriter) Write(p []byte) (int, error) {
+	if s.err != nil {
+		return 0, s.err
+	}
+	n, err := s.w.Write(p)
+	s.err = err
+	return n, err
 }
 
 // Save writes the VCD of s to path atomically, with the output checks:

@@ -35,10 +35,10 @@ func keys(m Model, ks ...string) (Model, tea.Msg) {
 // The findings of testdata/fight.sw in tui (see tui's audit_test.go for
 // why each is there), as the root words them: failing first.
 var fight = []Finding{
-	{Failing: true, Kind: "conflict", Where: "y", Message: "y is X at 0.82 V: up and dn fight to the undefined band", States: 1, Transitions: 2, Moves: 1, Rows: 2},
+	{Failing: true, Kind: "conflict", Where: "y", Message: "y is X at 0.90 V: up and dn fight to the undefined band", States: 1, Transitions: 2, Moves: 1, Rows: 2},
 	{Failing: true, Kind: "floating-output", Where: "y", Message: "output y floats, holding 1 by charge", States: 2, Transitions: 2, Moves: 1, Rows: 2},
 	{Kind: "degraded-output", Where: "z", Message: "output z is H at 1.800 V, not a strong full level", States: 5, Transitions: 10, Moves: 0, Rows: 1},
-	{Kind: "contention", Where: "z", Message: "z is L at 0.14 V: nz wins over pz", States: 2, Transitions: 5, Moves: 1, Rows: 2},
+	{Kind: "contention", Where: "z", Message: "z is L at 0.05 V: nz wins over pz", States: 2, Transitions: 5, Moves: 1, Rows: 2},
 }
 
 var head = []string{"physical: 5 states, 10 transitions, done", "4 findings, 2 failing check"}

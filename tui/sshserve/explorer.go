@@ -15,7 +15,9 @@ import (
 )
 
 // explorer is the railyard explorer as served: the tui model, a Saver so
-// that the whole session's trace is kept when it ends.
+// that the whole session's trace is kept when it ends, a traceWatcher so
+// that the server learns when the trace reaches its cap, and a Closer that
+// releases the trace's spool when the session is over.
 type explorer struct{ *tui.Model }
 
 func (e explorer) Update(msg tea.Msg) (tea.Model, tea.Cmd) {
@@ -33,6 +35,30 @@ func (e explorer) Update(msg tea.Msg) (tea.Model, tea.Cmd) {
 func (e explorer) WriteTrace(w io.Writer) error {
 	_, err := trace.Write(e.Session(), w, "")
 	return err
+}
+
+// TraceFull reports whether the session's trace has stopped recording
+// (traceWatcher): capped is true once an action was left out, and why says
+// what stopped it (the size cap, or an action with a line too long for a
+// trace).
+func (e explorer) TraceFull() (capped bool, why string) {
+	w := trace.Of(e.Session())
+	if w == nil {
+		return false, ""
+	}
+	capped, _, why = w.Capped()
+	return capped, why
+}
+
+// Close stops what the explorer runs in the background (its
+// reachable-state search: the user has left) and releases the trace's
+// spool; the explorer records nothing after.
+func (e explorer) Close() error {
+	e.Model.Close()
+	if w := trace.Of(e.Session()); w != nil {
+		return w.Close()
+	}
+	return nil
 }
 
 // openExplorer opens a session on the resolved design and builds the explorer.
@@ -53,12 +79,14 @@ func openExplorer(r ExplorerRequest) (tea.Model, error) {
 	// keeps the trace at the end itself. The trace names the design as the
 	// designs folder holds it, so that it replays elsewhere with replay
 	// --designs.
-	opt := trace.Options{DesignName: servedName(r.Design)}
+	opt := trace.Options{DesignName: servedName(r.Design), MaxBytes: r.MaxTrace}
 	if r.Steps != "" {
 		opt.StepsName = servedName(r.Steps)
 	}
-	if _, err := trace.Start(s, "", opt); err != nil {
-		return nil, err
+	// The spool takes the disk the saves take (TraceDir), and the server's
+	// own paths stay out of what the user reads.
+	if _, err := trace.Start(s, r.TraceDir, opt); err != nil {
+		return nil, &keeperError{shown: "the server cannot keep this session's trace; ask the server's keeper", err: err}
 	}
 	m := tui.New(s, r.Width, r.Height, tui.Options{
 		Save:     r.Save,
@@ -69,6 +97,16 @@ func openExplorer(r ExplorerRequest) (tea.Model, error) {
 	})
 	return explorer{m}, nil
 }
+
+// keeperError is an error whose detail is for the server's keeper (its
+// log), not for the user, who reads shown.
+type keeperError struct {
+	shown string
+	err   error
+}
+
+func (e *keeperError) Error() string { return e.shown }
+func (e *keeperError) Unwrap() error { return e.err }
 
 // servedName is a served file's name relative to the designs folder (the
 // folder is flat: a name is a file in it), or demo:NAME as it is.
@@ -82,7 +120,7 @@ func servedName(p string) string {
 // demoNames lists the embedded demos (served as demo:NAME).
 func demoNames() []string {
 	var names []string
-	for _, e := range designs.List() {
+	for _, e := range designs.All() {
 		names = append(names, e.Name)
 	}
 	return names
