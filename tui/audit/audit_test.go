@@ -20,17 +20,7 @@ func view(w, h int, ascii bool) Model {
 	return m
 }
 
-func keys(m Model, ks ...string) (Model, tea.Msg) {
-	var last tea.Msg
-	for _, k := range ks {
-		var cmd tea.Cmd
-		m, cmd = m.Update(paneltest.Key(k))
-		if msg := paneltest.Intent(cmd); msg != nil {
-			last = msg
-		}
-	}
-	return m, last
-}
+func keys(m Model, ks ...string) (Model, tea.Msg) { return paneltest.Feed(m, Model.Update, ks...) }
 
 // The findings of testdata/fight.sw in tui (see tui's audit_test.go for
 // why each is there), as the root words them: failing first.

@@ -29,17 +29,7 @@ func table(s *session.Session, w, h int) Model {
 	return m
 }
 
-func keys(m Model, ks ...string) (Model, tea.Msg) {
-	var last tea.Msg
-	for _, k := range ks {
-		var cmd tea.Cmd
-		m, cmd = m.Update(paneltest.Key(k))
-		if msg := paneltest.Intent(cmd); msg != nil {
-			last = msg
-		}
-	}
-	return m, last
-}
+func keys(m Model, ks ...string) (Model, tea.Msg) { return paneltest.Feed(m, Model.Update, ks...) }
 
 func row(v, name string) string {
 	for _, l := range strings.Split(v, "\n") {

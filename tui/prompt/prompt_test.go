@@ -16,17 +16,7 @@ var st = DefaultStyles(paneltest.Theme(false))
 
 // feed sends keys (single runes are typed) and returns the model and the
 // intent of the last key that sent one.
-func feed(m Model, keys ...string) (Model, tea.Msg) {
-	var last tea.Msg
-	for _, k := range keys {
-		var cmd tea.Cmd
-		m, cmd = m.Update(paneltest.Key(k))
-		if msg := paneltest.Intent(cmd); msg != nil {
-			last = msg
-		}
-	}
-	return m, last
-}
+func feed(m Model, keys ...string) (Model, tea.Msg) { return paneltest.Feed(m, Model.Update, keys...) }
 
 func typed(s string) []string {
 	var ks []string
