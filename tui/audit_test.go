@@ -126,6 +126,12 @@ func TestAuditFindsAndOpens(t *testing.T) {
 			if w := trace.Of(m.sess); w == nil || w.Actions() != 3 {
 				t.Error("the session of the sequence records no trace of its own from its start")
 			}
+			// another mode drops the findings; shown again, Audit searches
+			// again in that mode, keeping the status line's news of the switch
+			press(m, "a", "i")
+			if m.foundOf.mode != m.sess.Options().Mode || m.found == nil || !strings.Contains(m.Status(), " mode: ") {
+				t.Errorf("after i in Audit: findings of %s in a %s session; status %q", m.foundOf.mode, m.sess.Options().Mode, m.Status())
+			}
 		})
 	}
 }

@@ -35,6 +35,8 @@ type searchRun struct {
 	cancel context.CancelFunc
 	notify chan struct{}
 
+	quiet bool // started on its own: its end leaves the status line alone
+
 	mu   sync.Mutex
 	prog reach.Progress
 	rep  *reach.Report // set when the search has ended
@@ -95,7 +97,7 @@ func (m *Model) beginSearch() tea.Cmd {
 		return nil
 	}
 	ctx, cancel := context.WithCancel(m.ctx)
-	r := &searchRun{nl: nl, mode: mode, cancel: cancel, notify: make(chan struct{}, 1)}
+	r := &searchRun{nl: nl, mode: mode, cancel: cancel, notify: make(chan struct{}, 1), quiet: m.quietSearch}
 	opt.Progress = func(p reach.Progress) {
 		r.mu.Lock()
 		r.prog = p
@@ -140,6 +142,7 @@ func (m *Model) dropSearch() {
 	}
 	m.found = nil
 	m.foundOf = searchKey{}
+	m.auditStale = true
 	m.audit.Set([]string{"The design or the mode changed since the last search."}, false, nil, "a searches again")
 }
 
@@ -169,6 +172,9 @@ func (m *Model) searchNews(r *searchRun) tea.Cmd {
 		empty = "no finding in the states explored"
 	}
 	m.audit.Set(m.searchHead(prog, rep), false, fs, empty)
+	if r.quiet {
+		return nil // the view's head says it; the status line keeps what it said
+	}
 	all, failing := m.audit.Findings()
 	msg := fmt.Sprintf("search %s: %s", stopWords(rep.Stopped), plural(rep.States, "state"))
 	if all > 0 {
