@@ -39,6 +39,10 @@ type Netlist struct {
 	gateStart []int32 // CSR: devices gated by node n
 	gateDev   []int32
 
+	// structure (structure.go)
+	nodeFlag []uint8
+	devFlag  []uint8
+
 	// original spellings (Builder.Original), nil when every name is its own
 	nodeOrig, devOrig     []string
 	nodeByOrig, devByOrig []int32
@@ -129,7 +133,7 @@ func (b *Builder) Compile() (*Netlist, error) {
 		}
 	}
 	if len(probs) > 0 {
-		sortStrings(probs)
+		slices.Sort(probs)
 		return nil, &CompileError{probs}
 	}
 	// Sorted indices instead of maps: 4 bytes a name instead of a map entry.
@@ -149,6 +153,7 @@ func (b *Builder) Compile() (*Netlist, error) {
 			emit(nl.devGate[d])
 		}
 	})
+	nl.structure()
 	return nl, nil
 }
 
@@ -180,14 +185,6 @@ func csr(nn, nd int, each func(d int, emit func(int32))) (start, list []int32) {
 		each(d, func(n int32) { list[fill[n]] = int32(d); fill[n]++ })
 	}
 	return start, list
-}
-
-func sortStrings(s []string) {
-	for i := 1; i < len(s); i++ {
-		for j := i; j > 0 && s[j] < s[j-1]; j-- {
-			s[j], s[j-1] = s[j-1], s[j]
-		}
-	}
 }
 
 // ErrUnknownNode is returned when a name is not a node of the netlist.

@@ -804,7 +804,7 @@ func (s *Sim) physSourceVolts(v Value) float64 {
 }
 
 // physWarnings adds physical-mode warnings for node n after a settle.
-func (s *Sim) physWarnings(n int, add func(kind string, n, d, o int)) {
+func (s *Sim) physWarnings(n int, add func(kind WarnKind, n, d, o int)) {
 	if s.mode != Physical {
 		return
 	}
@@ -836,7 +836,7 @@ func (s *Sim) physWarnings(n int, add func(kind string, n, d, o int)) {
 // their gate voltage still exceeds the threshold (with the body effect) from
 // the channel terminal acting as source: the lower one for an nMOS, the
 // higher for a pMOS. They leak static current (common practice).
-func (s *Sim) partialOn(n int, add func(kind string, n, d, o int)) {
+func (s *Sim) partialOn(n int, add func(kind WarnKind, n, d, o int)) {
 	nl := s.nl
 	vg := s.volts[n]
 	if math.IsNaN(vg) {

@@ -3,9 +3,9 @@ package switchsim
 import "math"
 
 // solveGroup collects the group of seed (nodes joined by devices that are
-// not off, bounded by sources), resolves it (MODEL.md §3) and writes the
-// results, recording changes for round.
-func (s *Sim) solveGroup(seed int32, round int32) {
+// not off, bounded by sources), resolves it (DEVELOPERS.md "Resolving a
+// group") and writes the results, recording the changes.
+func (s *Sim) solveGroup(seed int32) {
 	nl := s.nl
 	g := &s.g
 	s.gid++
@@ -50,9 +50,26 @@ func (s *Sim) solveGroup(seed int32, round int32) {
 			}
 		}
 	}
+	s.ana.visits += len(g.nodes)
+	for _, n := range g.nodes {
+		s.touch(n)
+	}
 	s.resolve(g)
 	s.physGroup(g)
-	s.commit(g, round)
+	s.commit(g)
+}
+
+// touch logs node n before the group solve that may change it, and marks it
+// solved in this settle (outside case-analysis branches, which are undone).
+func (s *Sim) touch(n int32) {
+	s.logNode(n)
+	if s.rec == nil || s.touchMark[n] == s.settleID {
+		return
+	}
+	s.touchMark[n] = s.settleID
+	s.touched = append(s.touched, n)
+	s.lastChange[n] = 0
+	s.note[n] = nodeNote{}
 }
 
 // resolve computes the ideal-mode result of g into g.nval, g.nstr, g.nstate.
@@ -77,8 +94,8 @@ func (s *Sim) resolve(g *group) {
 		s.buckets[i] = s.buckets[i][:0]
 	}
 	for _, n := range g.nodes {
-		s.best[n], s.inj[n] = nl.nodeCharge[n], s.val[n]
-		s.fight[n], s.shared[n] = false, false
+		s.best[n], s.inj[n], s.arr[n] = nl.nodeCharge[n], s.val[n], 1<<s.val[n]
+		s.shared[n] = false
 		s.done[n] = 0
 		s.buckets[s.best[n]] = append(s.buckets[s.best[n]], n)
 	}
@@ -106,7 +123,7 @@ func (s *Sim) resolve(g *group) {
 			s.comp = append(s.comp[:0], t)
 			s.done[t] = stamp
 			cv := s.inj[t]
-			mixed := s.fight[t] // a 0 and a 1 arrived at this level: a fight, not an unknown
+			arrived := s.arr[t] // the values that arrived at this level; a 0 and a 1 are a fight, not an unknown
 			for ci := 0; ci < len(s.comp); ci++ {
 				m := s.comp[ci]
 				for _, d := range nl.chanDev[nl.chanStart[m]:nl.chanStart[m+1]] {
@@ -122,9 +139,7 @@ func (s *Sim) resolve(g *group) {
 					}
 					s.done[o] = stamp
 					if s.best[o] == lvl {
-						if s.fight[o] || (cv != s.inj[o] && cv != VX && s.inj[o] != VX) {
-							mixed = true
-						}
+						arrived |= s.arr[o]
 						cv = lub(cv, s.inj[o])
 					}
 					s.comp = append(s.comp, o)
@@ -136,6 +151,7 @@ func (s *Sim) resolve(g *group) {
 					shared = shared || s.val[m] != cv
 				}
 			}
+			mixed := arrived&3 == 3
 			for _, m := range s.comp {
 				s.best[m], s.inj[m] = lvl, cv
 				s.fight[m], s.shared[m] = mixed, shared
@@ -200,7 +216,7 @@ func (s *Sim) resolve(g *group) {
 func (s *Sim) resolveSingle(g *group) {
 	nl := s.nl
 	n := g.nodes[0]
-	best, v, fight := nl.nodeCharge[n], s.val[n], false
+	best, v, arrived := nl.nodeCharge[n], s.val[n], uint8(1)<<s.val[n]
 	for _, d := range g.devs {
 		if s.cond[d] != On {
 			continue
@@ -215,13 +231,13 @@ func (s *Sim) resolveSingle(g *group) {
 		sv := s.val[src]
 		switch st := min(Supply, nl.devCap[d]); {
 		case st > best:
-			best, v, fight = st, sv, false
+			best, v, arrived = st, sv, 1<<sv
 		case st == best:
-			fight = fight || (v != sv && v != VX && sv != VX)
+			arrived |= 1 << sv
 			v = lub(v, sv)
 		}
 	}
-	s.fight[n], s.shared[n] = fight && v == VX, false
+	s.fight[n], s.shared[n] = arrived&3 == 3, false
 	contested := (v == V0 && (g.srcHas[V1] || g.srcHas[VX])) || (v == V1 && (g.srcHas[V0] || g.srcHas[VX]))
 	g.nval[0], g.nstr[0], g.nvolts[0], g.contested[0] = v, best, math.NaN(), contested
 	s.contest[n] = contested
@@ -240,12 +256,10 @@ func (s *Sim) resolveSingle(g *group) {
 func (s *Sim) relax(o int32, st Strength, v Value, stamp uint32) {
 	switch {
 	case st > s.best[o]:
-		s.best[o], s.inj[o], s.fight[o] = st, v, false
+		s.best[o], s.inj[o], s.arr[o] = st, v, 1<<v
 		s.buckets[st] = append(s.buckets[st], o)
 	case st == s.best[o]:
-		if s.inj[o] != v && s.inj[o] != VX && v != VX {
-			s.fight[o] = true
-		}
+		s.arr[o] |= 1 << v
 		s.inj[o] = lub(s.inj[o], v)
 	}
 }
@@ -314,22 +328,20 @@ func (s *Sim) potential(g *group, v Value) {
 }
 
 // commit writes g's results and records the nodes that changed.
-func (s *Sim) commit(g *group, round int32) {
-	r := &s.res
+func (s *Sim) commit(g *group) {
+	rec := s.rec
 	for i, n := range g.nodes {
-		if s.touchMark[n] != s.settleID {
-			s.touchMark[n] = s.settleID
-			s.touched = append(s.touched, n)
-			s.lastChange[n] = 0 // rounds count from 1 in each settle
-		}
 		v, st, state, vo := g.nval[i], g.nstr[i], g.nstate[i], g.nvolts[i]
 		moved := s.val[n] != v || s.str[n] != st || s.state[n] != state || voltsMoved(s.volts[n], vo)
 		s.val[n], s.str[n], s.state[n], s.volts[n] = v, st, state, vo
 		if moved {
-			s.lastChange[n] = round
-			r.Changed = append(r.Changed, n)
-			r.Delay = append(r.Delay, s.physDelay(g, i))
-			r.After = append(r.After, NodeState{v, st, state, vo, st.IsCharge()})
+			delay := s.physDelay(g, i)
+			if rec != nil {
+				s.lastChange[n] = s.roundNo
+				rec.changed = append(rec.changed, n)
+				rec.delay = append(rec.delay, delay)
+				rec.after = append(rec.after, NodeState{v, st, state, vo, st.IsCharge()})
+			}
 			s.gates = append(s.gates, n)
 		}
 	}

@@ -105,7 +105,7 @@ func (m *Model) sync() {
 		cols = append(cols, col)
 		en := logpanel.Entry{Title: m.title(e)}
 		for _, w := range e.Warnings {
-			en.Warnings = append(en.Warnings, logpanel.Warning{Kind: w.Kind, Message: w.Message})
+			en.Warnings = append(en.Warnings, logpanel.Warning{Kind: string(w.Kind), Message: w.Message})
 		}
 		entries = append(entries, en)
 	}
@@ -150,7 +150,7 @@ func (m *Model) nodeWarnings(n int) []string {
 		var ws []string
 		for _, w := range e.Warnings {
 			if w.Node == n {
-				ws = append(ws, m.th.Warn.Render(m.th.G.Warn+" "+w.Kind)+" "+w.Message)
+				ws = append(ws, m.th.Warn.Render(m.th.G.Warn+" "+string(w.Kind))+" "+w.Message)
 			}
 		}
 		touched := len(ws) > 0

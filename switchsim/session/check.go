@@ -41,7 +41,7 @@ type Finding struct {
 // conflict, a lost level or a floating output).
 func (f Finding) Failing() bool {
 	switch f.Kind {
-	case switchsim.WarnConflict, switchsim.WarnLevelLost, FindFloatingOutput:
+	case string(switchsim.WarnConflict), string(switchsim.WarnLevelLost), FindFloatingOutput:
 		return true
 	}
 	return false
@@ -279,7 +279,7 @@ func (s *Session) Exhaustive(opt ExhaustiveOptions) (*ExhaustiveReport, error) {
 			switch w.Kind {
 			case switchsim.WarnConflict, switchsim.WarnLevelLost, switchsim.WarnContention, switchsim.WarnOscillation:
 				w := w
-				note(k, w.Kind, w.Node, func() string { return sim.Message(w) })
+				note(k, string(w.Kind), w.Node, func() string { return sim.Message(w) })
 			}
 		}
 		for _, o := range outs {

@@ -481,7 +481,7 @@ func compareEvent(s *Session, a TraceAction, e *Event, differ func(TraceAction, 
 	}
 	var warns []string
 	for _, w := range e.Warnings {
-		warns = append(warns, w.Kind+" "+nl.NodeName(w.Node))
+		warns = append(warns, string(w.Kind)+" "+nl.NodeName(w.Node))
 	}
 	if d := firstDiff(warns, a.Warnings); d != "" {
 		differ(a, "warnings differ: %s", d)

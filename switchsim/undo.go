@@ -1,0 +1,153 @@
+package switchsim
+
+// The undo log: the first change of every node and device since a mark,
+// so that the race and case analyses can go back to an earlier state at
+// the cost of what changed since, not of the whole design. A settle opens
+// segment 0 at its start (the state before the step); case analysis opens a
+// segment per branch on top of it. Within a segment each node and device is
+// logged once, before its first change.
+
+// nodeSave is a node's state as the log keeps it.
+type nodeSave struct {
+	n     int32
+	val   Value
+	str   Strength
+	state State
+	flags uint8 // saveFight, saveContest, saveShared, saveSource
+	drive Drive
+	volts float64
+	phys  physRec // physical mode's record of the node
+	share uint32  // physical mode's charge-sharing stamp
+}
+
+const (
+	saveFight uint8 = 1 << iota
+	saveContest
+	saveShared
+	saveSource
+)
+
+// devSave is a device's state as the log keeps it.
+type devSave struct {
+	d       int32
+	cond    Conduction
+	gv, lim float64 // physical mode: the gate voltage recorded and the pass limit for it
+}
+
+type undoLog struct {
+	id    uint32   // the open segment's stamp
+	nmark []uint32 // node -> stamp of the segment that logged it
+	dmark []uint32
+	nodes []nodeSave
+	devs  []devSave
+}
+
+// undoMark is a position in the log: going back to it restores everything
+// logged after it.
+type undoMark struct{ nodes, devs int }
+
+func (u *undoLog) init(nn, nd int) {
+	u.nmark, u.dmark = make([]uint32, nn), make([]uint32, nd)
+}
+
+// open starts a segment: from here on every node and device is logged
+// again before its first change. It returns the segment's start.
+func (u *undoLog) open() undoMark {
+	u.id++
+	if u.id == 0 { // wrapped: clear the stamps
+		clear(u.nmark)
+		clear(u.dmark)
+		u.id = 1
+	}
+	return undoMark{len(u.nodes), len(u.devs)}
+}
+
+// reset empties the log and opens segment 0.
+func (u *undoLog) reset() {
+	u.nodes, u.devs = u.nodes[:0], u.devs[:0]
+	u.open()
+}
+
+// logNode saves node n before its first change in the open segment and
+// reports whether it did (false: already logged).
+func (s *Sim) logNode(n int32) bool {
+	u := &s.undo
+	if u.nmark[n] == u.id {
+		return false
+	}
+	u.nmark[n] = u.id
+	var f uint8
+	if s.fight[n] {
+		f |= saveFight
+	}
+	if s.contest[n] {
+		f |= saveContest
+	}
+	if s.shared[n] {
+		f |= saveShared
+	}
+	if s.source[n] {
+		f |= saveSource
+	}
+	e := nodeSave{n: n, val: s.val[n], str: s.str[n], state: s.state[n], flags: f, drive: s.drive[n], volts: s.volts[n]}
+	if s.mode == Physical {
+		e.phys, e.share = s.phys.info[n], s.phys.shareMark[n]
+	}
+	u.nodes = append(u.nodes, e)
+	return true
+}
+
+// logDevice saves device d before its first change in the open segment.
+func (s *Sim) logDevice(d int32) {
+	u := &s.undo
+	if u.dmark[d] == u.id {
+		return
+	}
+	u.dmark[d] = u.id
+	e := devSave{d: d, cond: s.cond[d]}
+	if s.mode == Physical {
+		e.gv, e.lim = s.phys.gv[d], s.phys.lim[d]
+	}
+	u.devs = append(u.devs, e)
+}
+
+// restoreNode puts back a logged node state.
+func (s *Sim) restoreNode(e *nodeSave) {
+	n := e.n
+	s.val[n], s.str[n], s.state[n], s.volts[n], s.drive[n] = e.val, e.str, e.state, e.volts, e.drive
+	s.fight[n], s.contest[n] = e.flags&saveFight != 0, e.flags&saveContest != 0
+	s.shared[n], s.source[n] = e.flags&saveShared != 0, e.flags&saveSource != 0
+	if s.mode == Physical {
+		s.phys.info[n], s.phys.shareMark[n] = e.phys, e.share
+	}
+}
+
+// undoTo restores every node and device logged since m. With drop the
+// entries are removed and a new segment is opened (the state is as at m,
+// and the log starts afresh from there); without, they stay: the log still
+// says what each node was at m, which is where the state now is.
+func (s *Sim) undoTo(m undoMark, drop bool) {
+	u := &s.undo
+	for i := len(u.nodes) - 1; i >= m.nodes; i-- {
+		s.restoreNode(&u.nodes[i])
+	}
+	for i := len(u.devs) - 1; i >= m.devs; i-- {
+		e := &u.devs[i]
+		s.cond[e.d] = e.cond
+		if s.mode == Physical {
+			s.phys.gv[e.d], s.phys.lim[e.d] = e.gv, e.lim
+		}
+	}
+	if drop {
+		u.nodes, u.devs = u.nodes[:m.nodes], u.devs[:m.devs]
+		u.open()
+	}
+	// Work queued for the state just left does not apply to this one.
+	s.gates, s.seeds = s.gates[:0], s.seeds[:0]
+	s.nextEpoch()
+}
+
+// saved returns node n's state from a log entry.
+func (e *nodeSave) saved() NodeState {
+	return NodeState{e.val, e.str, e.state, e.volts, e.str.IsCharge()}
+}
