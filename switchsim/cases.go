@@ -178,10 +178,14 @@ func (s *Sim) split(c int32) {
 	id0 := a.branchID
 	m := s.branchStart(c, V0)
 	ok0 := s.rounds(true)
-	a.b0Nodes = a.b0Nodes[:0]
+	bad0 := s.contradicts(c, V0)
+	a.b0Nodes, a.b0All = a.b0Nodes[:0], a.b0All[:0]
 	for i := m.nodes; i < len(u.nodes); i++ {
 		e := &u.nodes[i]
 		a.b0[e.n], a.b0Mark[e.n] = s.caseStateOf(e.n), id0
+		if e.val == VX {
+			a.b0All = append(a.b0All, e.n) // X before the split
+		}
 		if !sameNode(e.saved(), s.Node(int(e.n))) {
 			a.b0Nodes = append(a.b0Nodes, e.n) // changed in branch 0
 		}
@@ -189,8 +193,9 @@ func (s *Sim) split(c int32) {
 	s.undoTo(m, true)
 	m = s.branchStart(c, V1)
 	ok1 := s.rounds(true)
+	bad1 := s.contradicts(c, V1)
 	switch {
-	case ok0 && ok1:
+	case ok0 && ok1 && !bad0 && !bad1:
 		for i := m.nodes; i < len(u.nodes); i++ {
 			e := &u.nodes[i]
 			n := e.n
@@ -198,6 +203,18 @@ func (s *Sim) split(c int32) {
 				continue
 			}
 			s.record(n, weaker(a.b0[n], s.caseStateOf(n)), c)
+		}
+	case ok1 && !bad1 && bad0: // c is 1 in every real state: branch 1 alone decides
+		for i := m.nodes; i < len(u.nodes); i++ {
+			if e := &u.nodes[i]; e.val == VX && s.val[e.n] != VX {
+				s.record(e.n, s.caseStateOf(e.n), c)
+			}
+		}
+	case ok0 && !bad0 && bad1: // c is 0 in every real state: branch 0 alone decides
+		for _, n := range a.b0All {
+			if a.b0[n].st.Value != VX {
+				s.record(n, a.b0[n], c)
+			}
 		}
 	case !ok0 && !ok1:
 		for _, n := range a.b0Nodes {
@@ -212,12 +229,23 @@ func (s *Sim) split(c int32) {
 	s.undoTo(m, true)
 }
 
+// contradicts reports whether the branch that stored v in c and just ran
+// cannot be a real state: it ended with c at the other value, or it had a
+// fight at the strongest strength a device passes, which no signal can
+// override (DEVELOPERS.md "Case analysis").
+func (s *Sim) contradicts(c int32, v Value) bool {
+	bad := s.ana.contradicted || s.val[c] == 1-v
+	s.ana.contradicted = false
+	return bad
+}
+
 // branchStart opens a log segment and stores v in c, with c's fan-out
 // queued: the devices it gates take their new state in round 1. c's own
 // group is solved only when a device in it changes.
 func (s *Sim) branchStart(c int32, v Value) undoMark {
 	m := s.undo.open()
 	s.rec = nil
+	s.ana.contradicted = false
 	s.logNode(c)
 	s.val[c] = v
 	switch st := s.str[c]; {

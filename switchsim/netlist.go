@@ -42,6 +42,7 @@ type Netlist struct {
 	// structure (structure.go)
 	nodeFlag []uint8
 	devFlag  []uint8
+	top      Strength // the strongest signal a device passes: min(supply, cap) at most
 
 	// original spellings (Builder.Original), nil when every name is its own
 	nodeOrig, devOrig     []string

@@ -107,20 +107,22 @@ type analysis struct {
 	lastSettle    uint32
 
 	// case analysis (cases.go)
-	taint     []uint8  // per node: taintUnknown, taintX, taintClean
-	taintMark []uint32 // node -> taintID when taint was found
-	taintID   uint32
-	stack     []int32
-	explored  []int32
-	cands     []int32
-	b0        []caseState
-	b0Mark    []uint32
-	b0Nodes   []int32
-	res       []caseState
-	resMark   []uint32
-	resNodes  []int32
-	adopted   []int32
-	held      []int32 // fan-out left queued when case analysis began
+	taint        []uint8  // per node: taintUnknown, taintX, taintClean
+	taintMark    []uint32 // node -> taintID when taint was found
+	taintID      uint32
+	stack        []int32
+	explored     []int32
+	cands        []int32
+	b0           []caseState
+	b0Mark       []uint32
+	b0Nodes      []int32 // changed in branch 0
+	b0All        []int32 // X before the split and solved in branch 0
+	res          []caseState
+	resMark      []uint32
+	resNodes     []int32
+	adopted      []int32
+	held         []int32 // fan-out left queued when case analysis began
+	contradicted bool    // the branch running has a fight at the strongest strength
 
 	// conserveCharge, made on first use (physical mode)
 	devAt, nodeAt []int32 // device or node -> its entry in the log

@@ -38,13 +38,14 @@ type refSim struct {
 	oscillated bool
 	idle       []refIdleFinding // unseeded groups whose fresh solve differs (see Settle)
 
-	races    sw.RaceMode
-	splitMax int // CaseSplits; < 0: case analysis off
-	settleNo int
-	solvedAt []int // node -> the settle that last solved it (outside case-analysis branches)
-	oscAt    []int // node -> the settle that found it oscillating (0: never)
-	branch   bool  // running a case-analysis branch
-	adopted  bool  // case analysis gave nodes states the groups' solves do not (idle findings off)
+	races        sw.RaceMode
+	splitMax     int // CaseSplits; < 0: case analysis off
+	settleNo     int
+	solvedAt     []int // node -> the settle that last solved it (outside case-analysis branches)
+	oscAt        []int // node -> the settle that found it oscillating (0: never)
+	branch       bool  // running a case-analysis branch
+	contradicted bool  // the branch had a fight at the strongest strength
+	adopted      bool  // case analysis gave nodes states the groups' solves do not (idle findings off)
 }
 
 // refIdleFinding records a group the rules did not re-solve but whose
@@ -591,6 +592,9 @@ func (r *refSim) run(seeds map[int]bool, stop bool) refRun {
 				if !r.branch {
 					r.solvedAt[n] = r.settleNo
 				}
+				if r.branch && ns.fight && ns.Strength >= r.top() {
+					r.contradicted = true
+				}
 				r.val[n], r.str[n], r.state[n], r.fight[n] = ns.Value, ns.Strength, ns.State, ns.fight
 				if moved {
 					ch = append(ch, n)
@@ -866,7 +870,7 @@ func (r *refSim) cases(res *refResult, solved map[int]bool) map[int]bool {
 			res.Splits++
 			present := r.save()
 			var ends [2]refState
-			var settled [2]bool
+			var settled, bad [2]bool
 			var moved [2]map[int]bool
 			for v := sw.V0; v <= sw.V1; v++ {
 				// "c's value becomes v (its strength stays; state Z for a charge
@@ -881,9 +885,13 @@ func (r *refSim) cases(res *refResult, solved map[int]bool) map[int]bool {
 				default:
 					r.state[c] = sw.State0 + sw.State(v)
 				}
-				r.branch = true
+				r.branch, r.contradicted = true, false
 				run := r.run(map[int]bool{}, true)
 				r.branch = false
+				// "A branch is contradicted when it ends with c at the other value,
+				// or when a node in it got X from a fight at the strongest strength
+				// a device passes"
+				bad[v] = r.contradicted || r.val[c] == 1-v
 				visits += run.visits
 				settled[v], ends[v] = run.settled, r.save()
 				moved[v] = map[int]bool{}
@@ -894,20 +902,39 @@ func (r *refSim) cases(res *refResult, solved map[int]bool) map[int]bool {
 				}
 				r.load(present) // "After each branch the state goes back to the present one."
 			}
+			record := func(n int, st sw.NodeState) {
+				if g, ok := got[n]; !ok {
+					got[n] = &resolved{st: st}
+				} else if g.st.Value != st.Value {
+					g.conflict = true
+				} else {
+					g.st = weakerRef(g.st, st)
+				}
+			}
 			switch {
-			case settled[0] && settled[1]:
+			case settled[0] && settled[1] && !bad[0] && !bad[1]:
 				for n := 0; n < nn; n++ {
 					v0, v1 := ends[0].val[n], ends[1].val[n]
 					if present.val[n] != sw.VX || r.isSource(n) || v0 == sw.VX || v0 != v1 {
 						continue
 					}
-					st := weakerRef(ends[0].stateOf(n), ends[1].stateOf(n))
-					if g, ok := got[n]; !ok {
-						got[n] = &resolved{st: st}
-					} else if g.st.Value != st.Value {
-						g.conflict = true
-					} else {
-						g.st = weakerRef(g.st, st)
+					record(n, weakerRef(ends[0].stateOf(n), ends[1].stateOf(n)))
+				}
+			case settled[0] != settled[1] || bad[0] != bad[1]:
+				// "If exactly one branch is contradicted and the other settled, c
+				// has the other branch's value in every real state, and every node
+				// X in the present state that is 0 or 1 at the end of that branch is
+				// resolved by c with the state it has there."
+				w := 0
+				if bad[0] {
+					w = 1
+				}
+				if !settled[w] || bad[w] || !bad[1-w] {
+					break
+				}
+				for n := 0; n < nn; n++ {
+					if v := ends[w].val[n]; present.val[n] == sw.VX && !r.isSource(n) && v != sw.VX {
+						record(n, ends[w].stateOf(n))
 					}
 				}
 			case !settled[0] && !settled[1]:
@@ -942,6 +969,15 @@ func (r *refSim) cases(res *refResult, solved map[int]bool) map[int]bool {
 		}
 	}
 	return fail
+}
+
+// top: "the strongest strength a device passes": min(supply, cap) over devices.
+func (r *refSim) top() sw.Strength {
+	t := sw.HighZ
+	for _, d := range r.devs {
+		t = max(t, min(sw.Supply, d.Strength))
+	}
+	return t
 }
 
 func (st refState) stateOf(n int) sw.NodeState {

@@ -334,6 +334,9 @@ func (s *Sim) commit(g *group) {
 		v, st, state, vo := g.nval[i], g.nstr[i], g.nstate[i], g.nvolts[i]
 		moved := s.val[n] != v || s.str[n] != st || s.state[n] != state || voltsMoved(s.volts[n], vo)
 		s.val[n], s.str[n], s.state[n], s.volts[n] = v, st, state, vo
+		if rec == nil && s.fight[n] && st >= s.nl.top {
+			s.ana.contradicted = true // a fight no stronger signal can override: not a real state
+		}
 		if moved {
 			delay := s.physDelay(g, i)
 			if rec != nil {

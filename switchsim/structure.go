@@ -27,6 +27,9 @@ func (nl *Netlist) structure() {
 	for _, o := range nl.outputs {
 		nl.nodeFlag[o] |= nodeOutput
 	}
+	for d := 0; d < nd; d++ {
+		nl.top = max(nl.top, min(Supply, nl.devCap[d]))
+	}
 	boundary := func(n int32) bool { return nl.nodeKind[n] != Internal }
 
 	// Static channel-connected components: internal nodes joined by any
