@@ -125,13 +125,13 @@ type analysis struct {
 	contradicted bool    // the branch running has a fight at the strongest strength
 
 	// conserveCharge, made on first use (physical mode)
-	devAt, nodeAt []int32 // device or node -> its entry in the log
-	partMark      []uint32
-	partID        uint32
-	part          []int32
-	failMark      []uint32 // node -> settle stamp: changed in a split whose branches both did not settle
-	branchID      uint32
-	iterID        uint32
+	devAt    []int32 // device -> its entry in the log
+	partMark []uint32
+	partID   uint32
+	part     []int32
+	failMark []uint32 // node -> settle stamp: changed in a split whose branches both did not settle
+	branchID uint32
+	iterID   uint32
 }
 
 func (a *analysis) init(nn int) {
@@ -238,7 +238,7 @@ func (s *Sim) classify() {
 	a.newTaint()
 	keep := a.race[:0]
 	for _, n := range a.race {
-		if s.val[n] == VX && s.warnMark[n] != s.settleID && !s.tainted(n) {
+		if s.val[n] == VX && s.warnMark[n] != s.settleID && s.seen(n) && !s.tainted(n) {
 			keep = append(keep, n)
 		}
 	}
@@ -260,7 +260,7 @@ func (s *Sim) classify() {
 			continue
 		}
 		dynamic := e.str.IsCharge() || s.str[n].IsCharge()
-		if !dynamic && nl.nodeFlag[n]&(nodeOutput|nodeGatePass) == 0 {
+		if !s.seen(n) || !dynamic && nl.nodeFlag[n]&(nodeOutput|nodeGatePass) == 0 && !s.gatesDynamic(n) {
 			continue // a pulse on a static internal node matters only where it arrives
 		}
 		if s.note[n].kind == noteNone || s.note[n].settle != s.settleID {
@@ -269,6 +269,36 @@ func (s *Sim) classify() {
 		r.Warnings = append(r.Warnings, Warning{Kind: WarnGlitch, Node: int(n), Device: -1, Other: -1,
 			Volts: math.NaN(), Margin: math.NaN(), Stage: InPhaseA})
 	}
+}
+
+// seen reports whether anything sees node n: it gates a device or is an
+// output. A race or a pulse on a node nothing sees is reported where it
+// arrives, if anywhere.
+func (s *Sim) seen(n int32) bool {
+	nl := s.nl
+	return nl.gateStart[n+1] > nl.gateStart[n] || nl.nodeFlag[n]&nodeOutput != 0
+}
+
+// gatesDynamic reports whether node n gates a device whose channel touches
+// a node held by charge before the step or after it (one that something
+// sees): a pulse there can take the charge away.
+func (s *Sim) gatesDynamic(n int32) bool {
+	nl := s.nl
+	for _, d := range nl.gateDev[nl.gateStart[n]:nl.gateStart[n+1]] {
+		for _, m := range [2]int32{nl.devA[d], nl.devB[d]} {
+			if s.source[m] || !s.seen(m) {
+				continue
+			}
+			was := s.str[m]
+			if i := s.undo.before(m); i >= 0 {
+				was = s.undo.nodes[i].str
+			}
+			if was.IsCharge() || s.str[m].IsCharge() {
+				return true
+			}
+		}
+	}
+	return false
 }
 
 // decide records the decision round: the nodes whose final state differs
@@ -357,13 +387,10 @@ func (s *Sim) conserveCharge() {
 	a := &s.ana
 	u := &s.undo
 	if a.devAt == nil {
-		a.devAt, a.nodeAt, a.partMark = make([]int32, len(nl.devName)), make([]int32, len(s.val)), make([]uint32, len(s.val))
+		a.devAt, a.partMark = make([]int32, len(nl.devName)), make([]uint32, len(s.val))
 	}
 	for i := range u.devs {
 		a.devAt[u.devs[i].d] = int32(i)
-	}
-	for i := range u.nodes {
-		a.nodeAt[u.nodes[i].n] = int32(i)
 	}
 	condBefore := func(d int32) Conduction {
 		if i := a.devAt[d]; int(i) < len(u.devs) && u.devs[i].d == d {
@@ -372,10 +399,10 @@ func (s *Sim) conserveCharge() {
 		return s.cond[d]
 	}
 	aOf := func(n int32) Value { // a node's value at the end of phase A
-		if i := a.logAt(s, n); i >= 0 && i < a.aN {
+		if i := u.before(n); i >= 0 && i < a.aN {
 			return a.aVal[i]
 		}
-		if i := a.logAt(s, n); i >= 0 {
+		if i := u.before(n); i >= 0 {
 			return u.nodes[i].val
 		}
 		return s.val[n]
@@ -423,7 +450,7 @@ func (s *Sim) conserveCharge() {
 		var sumC, sumQ, lo, hi float64
 		lo, hi = math.Inf(1), math.Inf(-1)
 		for _, m := range a.part {
-			j := a.logAt(s, m)
+			j := u.before(m)
 			if j < 0 || !s.str[m].IsCharge() {
 				ok = false
 				break
@@ -450,7 +477,7 @@ func (s *Sim) conserveCharge() {
 		}
 		shared := hi-lo > 1e-3
 		for _, m := range a.part {
-			before := u.nodes[a.logAt(s, m)].volts
+			before := u.nodes[u.before(m)].volts
 			s.val[m], s.volts[m], s.state[m] = val, v, StateZ
 			in := &s.phys.info[m]
 			*in = noPhysRec()
@@ -462,14 +489,4 @@ func (s *Sim) conserveCharge() {
 			s.shared[m], s.fight[m] = shared, false
 		}
 	}
-}
-
-// logAt returns the index of node n's entry in segment 0 of the log, -1
-// where it has none. It is kept in nodeAt, which an entry of n validates.
-func (a *analysis) logAt(s *Sim, n int32) int {
-	u := &s.undo
-	if i := int(a.nodeAt[n]); i < len(u.nodes) && u.nodes[i].n == n {
-		return i
-	}
-	return -1
 }

@@ -716,7 +716,10 @@ func (r *refSim) Settle() refResult {
 				continue
 			}
 			final := r.val[n]
+			// "A node nothing sees (it gates no device and is no output) is not reported"
+			seen := len(r.nl.GatedDevices(n)) > 0 || slices.Contains(r.nl.Outputs(), n)
 			switch {
+			case !seen:
 			case final == sw.VX && !r.tainted(n) && (!unit.settled || unitEnd.val[n] != sw.VX):
 				kind := sw.WarnRace
 				if fail[n] {
@@ -726,7 +729,18 @@ func (r *refSim) Settle() refResult {
 				res.Warnings = append(res.Warnings, refWarning{kind, n})
 			case aVal[n] == sw.VX && final == s0.val[n]:
 				dynamic := s0.state[n] == sw.StateZ || r.state[n] == sw.StateZ
-				if dynamic || r.passGate(n) || slices.Contains(r.nl.Outputs(), n) {
+				// "or gates a device whose channel touches a node that is dynamic
+				// (state Z in S0 or at the end)"
+				gatesDynamic := false
+				for _, di := range r.nl.GatedDevices(n) {
+					for _, m := range []int{r.devs[di].A, r.devs[di].B} {
+						seenM := len(r.nl.GatedDevices(m)) > 0 || slices.Contains(r.nl.Outputs(), m)
+						if !r.isSource(m) && seenM && (s0.state[m] == sw.StateZ || r.state[m] == sw.StateZ) {
+							gatesDynamic = true
+						}
+					}
+				}
+				if dynamic || gatesDynamic || r.passGate(n) || slices.Contains(r.nl.Outputs(), n) {
 					res.Warnings = append(res.Warnings, refWarning{sw.WarnGlitch, n})
 				}
 			}

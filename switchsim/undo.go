@@ -36,6 +36,8 @@ type devSave struct {
 
 type undoLog struct {
 	id    uint32   // the open segment's stamp
+	seg0  bool     // the open segment is segment 0
+	at    []int32  // node -> its entry in segment 0 (valid where that entry names it)
 	nmark []uint32 // node -> stamp of the segment that logged it
 	dmark []uint32
 	nodes []nodeSave
@@ -47,12 +49,13 @@ type undoLog struct {
 type undoMark struct{ nodes, devs int }
 
 func (u *undoLog) init(nn, nd int) {
-	u.nmark, u.dmark = make([]uint32, nn), make([]uint32, nd)
+	u.nmark, u.dmark, u.at = make([]uint32, nn), make([]uint32, nd), make([]int32, nn)
 }
 
 // open starts a segment: from here on every node and device is logged
 // again before its first change. It returns the segment's start.
 func (u *undoLog) open() undoMark {
+	u.seg0 = false
 	u.id++
 	if u.id == 0 { // wrapped: clear the stamps
 		clear(u.nmark)
@@ -66,6 +69,16 @@ func (u *undoLog) open() undoMark {
 func (u *undoLog) reset() {
 	u.nodes, u.devs = u.nodes[:0], u.devs[:0]
 	u.open()
+	u.seg0 = true
+}
+
+// before returns the index of node n's entry in segment 0, -1 where it has
+// none (it did not change since the settle began).
+func (u *undoLog) before(n int32) int {
+	if i := int(u.at[n]); i < len(u.nodes) && u.nodes[i].n == n {
+		return i
+	}
+	return -1
 }
 
 // logNode saves node n before its first change in the open segment and
@@ -92,6 +105,9 @@ func (s *Sim) logNode(n int32) bool {
 	e := nodeSave{n: n, val: s.val[n], str: s.str[n], state: s.state[n], flags: f, drive: s.drive[n], volts: s.volts[n]}
 	if s.mode == Physical {
 		e.phys, e.share = s.phys.info[n], s.phys.shareMark[n]
+	}
+	if u.seg0 {
+		u.at[n] = int32(len(u.nodes))
 	}
 	u.nodes = append(u.nodes, e)
 	return true

@@ -270,7 +270,7 @@ func (s *Sim) Message(w Warning) string {
 			node, s.inputsText())
 	case WarnGlitch:
 		return fmt.Sprintf("%s may glitch: with %s changing it went X in phase A and came back to %s in phase B; a pulse here %s",
-			node, s.inputsText(), s.val[w.Node], glitchWhy(nl, w.Node, s.str[w.Node].IsCharge()))
+			node, s.inputsText(), s.val[w.Node], s.glitchWhy(w.Node))
 	case WarnWriteFail:
 		return s.writeFailText(w, node, dev, volts)
 	case WarnShort:
@@ -301,12 +301,14 @@ func (s *Sim) inputsText() string {
 }
 
 // glitchWhy says why a pulse on node n matters.
-func glitchWhy(nl *Netlist, n int, charge bool) string {
-	switch f := nl.nodeFlag[n]; {
-	case charge:
-		return "can discharge a node held by charge for good"
+func (s *Sim) glitchWhy(n int) string {
+	switch f := s.nl.nodeFlag[n]; {
+	case s.str[n].IsCharge():
+		return "can change a node held by charge for good"
 	case f&nodeGatePass != 0:
 		return "opens or closes a pass device for its length"
+	case s.gatesDynamic(int32(n)):
+		return "can open a path that takes the charge of a dynamic node"
 	case f&nodeOutput != 0:
 		return "reaches the next stage through the output"
 	}
