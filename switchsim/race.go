@@ -243,15 +243,15 @@ func (s *Sim) classify() {
 		}
 	}
 	for _, n := range keep {
-		kind, note := WarnRace, noteRace
+		kind, note, stage := WarnRace, noteRace, InPhaseB
 		if a.failMark[n] == s.settleID {
-			kind, note = WarnOscillation, noteOscillation
+			kind, note, stage = WarnOscillation, noteOscillation, InCases
 			r.Oscillated = true
 		}
 		s.warnMark[n] = s.settleID
 		s.note[n] = nodeNote{kind: note, settle: s.settleID}
 		r.Warnings = append(r.Warnings, Warning{Kind: kind, Node: int(n), Device: -1, Other: -1,
-			Volts: math.NaN(), Margin: math.NaN(), Stage: InPhaseB})
+			Volts: math.NaN(), Margin: math.NaN(), Stage: stage})
 	}
 	for _, i := range a.glitch {
 		e := &u.nodes[i] // segment 0: the case analysis's branches only add entries they remove

@@ -630,3 +630,30 @@ func TestRaceAllocFree(t *testing.T) {
 		}
 	}
 }
+
+// The structure found at compile time: a latch's storage node and its
+// keeper close a loop, its output does not; a transmission gate is a pass
+// device, a series stack's devices are not (common practice for what these
+// circuits are).
+func TestStructure(t *testing.T) {
+	nl := demoNet(t, "static_latch")
+	for name, want := range map[string]bool{"s": true, "s_b": true, "q": false, "clk_b": false} {
+		n, _ := nl.Lookup(name)
+		if nl.InFeedbackLoop(n) != want {
+			t.Errorf("%s in a feedback loop: %v, want %v", name, !want, want)
+		}
+	}
+	for name, want := range map[string]bool{"keep.n": true, "keep.p": true, "fwd.n": true, "out.n": false, "pass.n": false} {
+		d, _ := nl.LookupDevice(name)
+		if nl.ClosesLoop(d) != want {
+			t.Errorf("%s closes the loop: %v, want %v", name, !want, want)
+		}
+	}
+	nand := swNet(t, "input a b\noutput y\nuse nand2 g a b y\ntgate t a ab y z\nuse inv i a ab\n")
+	for name, want := range map[string]bool{"t.n": true, "t.p": true, "g.na": false, "g.nb": false, "g.pa": false} {
+		d, _ := nand.LookupDevice(name)
+		if nand.PassDevice(d) != want {
+			t.Errorf("%s a pass device: %v, want %v", name, !want, want)
+		}
+	}
+}

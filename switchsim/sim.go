@@ -342,14 +342,6 @@ func (s *Sim) inForce(n int32, d Drive) bool {
 	return s.source[n] && s.val[n] == d.Value()
 }
 
-// drivenAs is the drive input n is under now: z when released.
-func (s *Sim) drivenAs(n int32) Drive {
-	if !s.source[n] {
-		return DriveZ
-	}
-	return [...]Drive{Drive0, Drive1, DriveX}[s.val[n]]
-}
-
 // Settle advances unit-delay rounds until no node changes (DEVELOPERS.md
 // "Rounds"); where the step changed more than one input, the rounds did
 // not settle, or it is asked for, race analysis decides the result (race.go),

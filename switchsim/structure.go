@@ -225,3 +225,16 @@ func sccs(n int32, start, edge []int32) []int32 {
 	}
 	return comp
 }
+
+// InFeedbackLoop reports whether node n lies inside a feedback loop (its
+// channel-connected component feeds back to itself through gates): a
+// keeper's node, a latch's storage node, a ring.
+func (nl *Netlist) InFeedbackLoop(n int) bool { return nl.nodeFlag[n]&nodeLoop != 0 }
+
+// ClosesLoop reports whether device d closes a feedback loop: its gate and
+// its channel are in the same loop.
+func (nl *Netlist) ClosesLoop(d int) bool { return nl.devFlag[d]&devFeedback != 0 }
+
+// PassDevice reports whether device d passes a signal rather than pulling
+// a stage to a rail (DEVELOPERS.md "Structure").
+func (nl *Netlist) PassDevice(d int) bool { return nl.devFlag[d]&devPass != 0 }
