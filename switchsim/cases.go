@@ -124,10 +124,7 @@ func (s *Sim) tainted(n int32) bool {
 			if c == Off {
 				continue
 			}
-			o := nl.devA[d]
-			if o == m {
-				o = nl.devB[d]
-			}
+			o := nl.other(d, m)
 			switch {
 			case s.source[o]:
 				found = found || s.val[o] == VX

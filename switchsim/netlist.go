@@ -286,6 +286,14 @@ func (nl *Netlist) GatedDevices(n int) []int {
 	return ints(nl.gateDev[nl.gateStart[n]:nl.gateStart[n+1]])
 }
 
+// other is Other on the compiled arrays' types, for the solver's loops.
+func (nl *Netlist) other(d, n int32) int32 {
+	if nl.devA[d] == n {
+		return nl.devB[d]
+	}
+	return nl.devA[d]
+}
+
 // Other returns the channel terminal of device d opposite node n.
 func (nl *Netlist) Other(d, n int) int {
 	if int(nl.devA[d]) == n {

@@ -430,10 +430,7 @@ func (s *Sim) conserveCharge() {
 				if !ever(d) {
 					continue
 				}
-				o := nl.devA[d]
-				if o == m {
-					o = nl.devB[d]
-				}
+				o := nl.other(d, m)
 				if s.source[o] || s.cond[d] != On {
 					ok = false // a source could reach it, or a connection made during the step is broken at its end
 					break

@@ -34,10 +34,7 @@ func (s *Sim) solveGroup(seed int32) {
 					g.hasUnknown = true
 				}
 			}
-			o := nl.devA[d]
-			if o == n {
-				o = nl.devB[d]
-			}
+			o := nl.other(d, n)
 			if s.source[o] {
 				if s.smark[o] != gid {
 					s.smark[o] = gid
@@ -130,10 +127,7 @@ func (s *Sim) resolve(g *group) {
 					if s.cond[d] != On || nl.devCap[d] < lvl {
 						continue
 					}
-					o := nl.devA[d]
-					if o == m {
-						o = nl.devB[d]
-					}
+					o := nl.other(d, m)
 					if s.source[o] || s.done[o] == stamp {
 						continue
 					}
@@ -161,10 +155,7 @@ func (s *Sim) resolve(g *group) {
 					if s.cond[d] != On || nl.devCap[d] >= lvl {
 						continue
 					}
-					o := nl.devA[d]
-					if o == m {
-						o = nl.devB[d]
-					}
+					o := nl.other(d, m)
 					if !s.source[o] && s.done[o] != stamp {
 						s.relax(o, nl.devCap[d], cv, stamp)
 					}
@@ -315,10 +306,7 @@ func (s *Sim) potential(g *group, v Value) {
 				if s.cond[d] == Off {
 					continue
 				}
-				o := nl.devA[d]
-				if o == t {
-					o = nl.devB[d]
-				}
+				o := nl.other(d, t)
 				if !s.source[o] && pdone[o] != stamp {
 					push(o, min(lvl, nl.devCap[d]))
 				}

@@ -16,10 +16,7 @@ func (nl *Netlist) BreadthFirst(seeds []int32, seen []bool, queue []int32) int {
 	for i := 0; i < len(queue); i++ {
 		n := queue[i]
 		for _, d := range nl.chanDev[nl.chanStart[n]:nl.chanStart[n+1]] {
-			o := nl.devA[d]
-			if o == n {
-				o = nl.devB[d]
-			}
+			o := nl.other(d, n)
 			if !seen[o] {
 				seen[o] = true
 				queue = append(queue, o)

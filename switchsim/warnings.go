@@ -161,10 +161,7 @@ func (s *Sim) pathSides(n int32, side func(src, first, feedback int32, switched 
 			if s.cond[d] != On {
 				continue
 			}
-			o := nl.devA[d]
-			if o == m {
-				o = nl.devB[d]
-			}
+			o := nl.other(d, m)
 			if s.source[o] {
 				first, feedback, switched := d, int32(-1), false
 				for at, dev := m, d; ; at, dev = s.wpar[at], s.wdev[at] {
