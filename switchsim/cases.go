@@ -40,8 +40,8 @@ func caseVisits(nodes int) int { return 64*nodes + 4096 }
 func (s *Sim) caseAnalysis() {
 	a := &s.ana
 	a.adopted = a.adopted[:0]
-	if s.splits < 0 {
-		return
+	if s.splits < 0 || !a.sawX {
+		return // no node solved in this settle is X
 	}
 	an := &s.res.Analysis
 	nl := s.nl

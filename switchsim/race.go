@@ -123,6 +123,7 @@ type analysis struct {
 	adopted      []int32
 	held         []int32 // fan-out left queued when case analysis began
 	contradicted bool    // the branch running has a fight at the strongest strength
+	sawX         bool    // a group solve in this settle left a node X
 
 	// conserveCharge, made on first use (physical mode)
 	devAt    []int32 // device -> its entry in the log
@@ -168,6 +169,7 @@ func (s *Sim) raceAnalysis(settled bool) {
 		a.unitEnd[i] = s.Node(int(u.nodes[i].n))
 	}
 	s.undoTo(undoMark{}, false) // back to the state before the step
+	a.sawX = true               // (nodes the rounds solved may be X again: case analysis looks)
 	s.gates = append(s.gates, a.pending...)
 
 	a.toA = a.toA[:0]

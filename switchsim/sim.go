@@ -358,6 +358,7 @@ func (s *Sim) Settle() *Result {
 	s.undo.reset()
 	s.rec = &s.unit
 	s.unit.reset()
+	s.ana.sawX = false
 
 	first := s.initial
 	if first {
@@ -466,10 +467,14 @@ func (s *Sim) rounds(stop bool) bool {
 		// Devices whose gate changed in the round before switch now.
 		for _, gn := range s.gates {
 			for _, d := range nl.gateDev[nl.gateStart[gn]:nl.gateStart[gn+1]] {
-				s.logDevice(d)
 				c := s.condOf(int(d))
-				moved := s.physGateMoved(d) // always called: it records the gate's voltage for this round
+				moved := false
+				if s.mode == Physical {
+					s.logDevice(d)             // physGateMoved records the gate's voltage
+					moved = s.physGateMoved(d) // always called: it records the gate's voltage for this round
+				}
 				if c != s.cond[d] || moved {
+					s.logDevice(d)
 					s.cond[d] = c
 					if a := nl.devA[d]; !s.source[a] {
 						s.seed(a)

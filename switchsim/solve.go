@@ -48,25 +48,26 @@ func (s *Sim) solveGroup(seed int32) {
 		}
 	}
 	s.ana.visits += len(g.nodes)
-	for _, n := range g.nodes {
-		s.touch(n)
+	for _, n := range g.nodes { // log before the solve that may change them; mark solved in this settle
+		s.logNode(n)
+		if s.rec != nil && s.touchMark[n] != s.settleID {
+			s.touch(n)
+		}
 	}
 	s.resolve(g)
 	s.physGroup(g)
 	s.commit(g)
 }
 
-// touch logs node n before the group solve that may change it, and marks it
-// solved in this settle (outside case-analysis branches, which are undone).
+// touch marks node n solved in this settle (outside case-analysis branches,
+// which are undone): its last change and its analysis note start afresh.
 func (s *Sim) touch(n int32) {
-	s.logNode(n)
-	if s.rec == nil || s.touchMark[n] == s.settleID {
-		return
-	}
 	s.touchMark[n] = s.settleID
 	s.touched = append(s.touched, n)
 	s.lastChange[n] = 0
-	s.note[n] = nodeNote{}
+	if s.note[n].kind != noteNone {
+		s.note[n] = nodeNote{}
+	}
 }
 
 // resolve computes the ideal-mode result of g into g.nval, g.nstr, g.nstate.
@@ -320,6 +321,9 @@ func (s *Sim) commit(g *group) {
 	rec := s.rec
 	for i, n := range g.nodes {
 		v, st, state, vo := g.nval[i], g.nstr[i], g.nstate[i], g.nvolts[i]
+		if v == VX {
+			s.ana.sawX = true
+		}
 		moved := s.val[n] != v || s.str[n] != st || s.state[n] != state || voltsMoved(s.volts[n], vo)
 		s.val[n], s.str[n], s.state[n], s.volts[n] = v, st, state, vo
 		if rec == nil && s.fight[n] && st >= s.nl.top {

@@ -7,25 +7,22 @@ package switchsim
 // segment per branch on top of it. Within a segment each node and device is
 // logged once, before its first change.
 
-// nodeSave is a node's state as the log keeps it.
+// nodeSave is a node's state as the log keeps it; physical mode's part is
+// in the parallel physSave, kept in physical mode only.
 type nodeSave struct {
-	n     int32
-	val   Value
-	str   Strength
-	state State
-	flags uint8 // saveFight, saveContest, saveShared, saveSource
-	drive Drive
-	volts float64
+	n                              int32
+	val                            Value
+	str                            Strength
+	state                          State
+	drive                          Drive
+	fight, contest, shared, source bool
+	volts                          float64
+}
+
+type physSave struct {
 	phys  physRec // physical mode's record of the node
 	share uint32  // physical mode's charge-sharing stamp
 }
-
-const (
-	saveFight uint8 = 1 << iota
-	saveContest
-	saveShared
-	saveSource
-)
 
 // devSave is a device's state as the log keeps it.
 type devSave struct {
@@ -41,6 +38,7 @@ type undoLog struct {
 	nmark []uint32 // node -> stamp of the segment that logged it
 	dmark []uint32
 	nodes []nodeSave
+	phys  []physSave // parallel to nodes in physical mode
 	devs  []devSave
 }
 
@@ -67,7 +65,7 @@ func (u *undoLog) open() undoMark {
 
 // reset empties the log and opens segment 0.
 func (u *undoLog) reset() {
-	u.nodes, u.devs = u.nodes[:0], u.devs[:0]
+	u.nodes, u.phys, u.devs = u.nodes[:0], u.phys[:0], u.devs[:0]
 	u.open()
 	u.seg0 = true
 }
@@ -89,27 +87,14 @@ func (s *Sim) logNode(n int32) bool {
 		return false
 	}
 	u.nmark[n] = u.id
-	var f uint8
-	if s.fight[n] {
-		f |= saveFight
-	}
-	if s.contest[n] {
-		f |= saveContest
-	}
-	if s.shared[n] {
-		f |= saveShared
-	}
-	if s.source[n] {
-		f |= saveSource
-	}
-	e := nodeSave{n: n, val: s.val[n], str: s.str[n], state: s.state[n], flags: f, drive: s.drive[n], volts: s.volts[n]}
-	if s.mode == Physical {
-		e.phys, e.share = s.phys.info[n], s.phys.shareMark[n]
-	}
 	if u.seg0 {
 		u.at[n] = int32(len(u.nodes))
 	}
-	u.nodes = append(u.nodes, e)
+	u.nodes = append(u.nodes, nodeSave{n, s.val[n], s.str[n], s.state[n], s.drive[n],
+		s.fight[n], s.contest[n], s.shared[n], s.source[n], s.volts[n]})
+	if s.mode == Physical {
+		u.phys = append(u.phys, physSave{s.phys.info[n], s.phys.shareMark[n]})
+	}
 	return true
 }
 
@@ -127,14 +112,15 @@ func (s *Sim) logDevice(d int32) {
 	u.devs = append(u.devs, e)
 }
 
-// restoreNode puts back a logged node state.
-func (s *Sim) restoreNode(e *nodeSave) {
+// restoreNode puts back log entry i.
+func (s *Sim) restoreNode(i int) {
+	e := &s.undo.nodes[i]
 	n := e.n
 	s.val[n], s.str[n], s.state[n], s.volts[n], s.drive[n] = e.val, e.str, e.state, e.volts, e.drive
-	s.fight[n], s.contest[n] = e.flags&saveFight != 0, e.flags&saveContest != 0
-	s.shared[n], s.source[n] = e.flags&saveShared != 0, e.flags&saveSource != 0
+	s.fight[n], s.contest[n], s.shared[n], s.source[n] = e.fight, e.contest, e.shared, e.source
 	if s.mode == Physical {
-		s.phys.info[n], s.phys.shareMark[n] = e.phys, e.share
+		p := &s.undo.phys[i]
+		s.phys.info[n], s.phys.shareMark[n] = p.phys, p.share
 	}
 }
 
@@ -145,7 +131,7 @@ func (s *Sim) restoreNode(e *nodeSave) {
 func (s *Sim) undoTo(m undoMark, drop bool) {
 	u := &s.undo
 	for i := len(u.nodes) - 1; i >= m.nodes; i-- {
-		s.restoreNode(&u.nodes[i])
+		s.restoreNode(i)
 	}
 	for i := len(u.devs) - 1; i >= m.devs; i-- {
 		e := &u.devs[i]
@@ -156,6 +142,9 @@ func (s *Sim) undoTo(m undoMark, drop bool) {
 	}
 	if drop {
 		u.nodes, u.devs = u.nodes[:m.nodes], u.devs[:m.devs]
+		if s.mode == Physical {
+			u.phys = u.phys[:m.nodes]
+		}
 		u.open()
 	}
 	// Work queued for the state just left does not apply to this one.
