@@ -15,8 +15,7 @@ import (
 
 	"railyard/designs"
 	"railyard/switchsim"
-	"railyard/switchsim/netfile"
-	"railyard/switchsim/steps"
+	"railyard/switchsim/load"
 )
 
 // verdicts are "step kind node" for the kinds below, step counted from 1.
@@ -54,17 +53,13 @@ var demoVerdicts = map[string]map[switchsim.Mode][]string{
 
 func demoWarnings(t *testing.T, name string, mode switchsim.Mode) []string {
 	t.Helper()
-	d, err := netfile.ReadFile("demo:" + name)
+	ld, err := load.Host(load.Options{}).Open("demo:"+name, "")
 	if err != nil {
 		t.Fatal(err)
 	}
-	path, ok := steps.Default("demo:" + name)
-	if !ok {
+	d, st := ld.Design, ld.Steps
+	if st == nil {
 		t.Fatalf("%s has no steps", name)
-	}
-	st, err := steps.ReadFile(path, d.Netlist)
-	if err != nil {
-		t.Fatal(err)
 	}
 	s := switchsim.NewSim(d.Netlist, switchsim.Options{Mode: mode})
 	s.Settle()
@@ -93,8 +88,12 @@ func TestDemoVerdicts(t *testing.T) {
 			}
 		}
 	}
-	for _, name := range []string{"opsel_dynamic", "sr_flag"} {
-		if _, _, ok := designs.Source(name); !ok {
+	listed := map[string]bool{}
+	for _, e := range designs.List() {
+		listed[e.Name] = true
+	}
+	for name := range demoVerdicts {
+		if !listed[name] {
 			t.Errorf("no demo %s", name)
 		}
 	}

@@ -1,18 +1,21 @@
 // Package designs holds railyard's embedded demo designs: small pieces of
 // a datapath block (operand selectors, pipeline latches, a flip-flop) built
 // from pass devices and transmission gates, each a .sw design with a .steps
-// file beside it. Callers name them demo:NAME; the readers resolve that.
+// file beside it. Callers name them demo:NAME; the loader (switchsim/load)
+// resolves that name in FS, the one place demos are read from.
 package designs
 
 import (
 	"embed"
-	"sort"
+	"slices"
 	"strconv"
 	"strings"
 )
 
+// FS holds the demos at its root: NAME.sw and NAME.steps for each.
+//
 //go:embed *.sw *.steps
-var files embed.FS
+var FS embed.FS
 
 // Default is the demo railyard opens when it is given none: the static latch.
 const Default = "static_latch"
@@ -23,35 +26,18 @@ type Entry struct{ Name, Desc string }
 
 // List returns every demo, sorted by name.
 func List() []Entry {
-	ents, _ := files.ReadDir(".")
+	ents, _ := FS.ReadDir(".")
 	var out []Entry
 	for _, e := range ents {
 		name, ok := strings.CutSuffix(e.Name(), ".sw")
 		if !ok {
 			continue
 		}
-		sw, _ := files.ReadFile(e.Name())
+		sw, _ := FS.ReadFile(e.Name())
 		out = append(out, Entry{name, description(sw)})
 	}
-	sort.Slice(out, func(i, j int) bool { return out[i].Name < out[j].Name })
+	slices.SortFunc(out, func(a, b Entry) int { return strings.Compare(a.Name, b.Name) })
 	return out
-}
-
-// Source returns a demo's design and steps text (steps nil when it has
-// none); ok is false when there is no such demo.
-func Source(name string) (sw []byte, steps []byte, ok bool) {
-	if name == "" || strings.ContainsAny(name, "/\\") {
-		return nil, nil, false
-	}
-	sw, err := files.ReadFile(name + ".sw")
-	if err != nil {
-		return nil, nil, false
-	}
-	steps, err = files.ReadFile(name + ".steps")
-	if err != nil {
-		steps = nil
-	}
-	return sw, steps, true
 }
 
 // description finds the quoted string of the first design statement. It

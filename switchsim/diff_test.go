@@ -17,7 +17,7 @@ import (
 	"railyard/designs"
 	sw "railyard/switchsim"
 	"railyard/switchsim/gen"
-	"railyard/switchsim/netfile"
+	"railyard/switchsim/load"
 	"railyard/switchsim/steps"
 )
 
@@ -496,16 +496,11 @@ func TestDiffDemos(t *testing.T) {
 	rng := rand.New(rand.NewPCG(7, 7))
 	for _, e := range designs.List() {
 		t.Run(e.Name, func(t *testing.T) {
-			d, err := netfile.ReadFile("demo:" + e.Name)
+			ld, err := load.Host(load.Options{}).Open("demo:"+e.Name, "")
 			if err != nil {
 				t.Fatal(err)
 			}
-			var st *steps.Steps
-			if path, ok := steps.Default("demo:" + e.Name); ok {
-				if st, err = steps.ReadFile(path, d.Netlist); err != nil {
-					t.Fatal(err)
-				}
-			}
+			d, st := ld.Design, ld.Steps
 			for i, seq := range demoSequences(rng, d.Netlist, st) {
 				if m := diffRun(d.Netlist, seq, diffCfg{}); m != nil {
 					t.Errorf("sequence %d (%s): %s", i, m.kind, m.msg)

@@ -16,6 +16,14 @@ type Explanation struct {
 	Unknown   []int  // devices of unknown state in the node's group
 	Sharing   []int  // for a floating node: the floating nodes it shares charge with (itself included)
 	Contested bool
+	// The node's group as the engine resolved it, so that a viewer need not
+	// walk it again: Group its member nodes (the node first; rails and
+	// driven inputs are not members) joined through devices that are on or
+	// unknown, Devices those devices, each once, including the ones that
+	// join a member to a source. For a source, Group is nil and Devices are
+	// the devices it feeds directly.
+	Group   []int
+	Devices []int
 
 	// Physical mode (NaN, -1 or nil where they do not apply).
 	Degrader int           // the device that caused the last threshold drop
@@ -85,15 +93,27 @@ type PathStep struct {
 // group afresh and allocates; it is meant for people, not for the hot path.
 func (s *Sim) Explain(n int) Explanation {
 	e := Explanation{Node: n, NodeState: s.Node(n), Source: s.source[n], Degrader: -1, Delay: math.NaN()}
+	nl := s.nl
 	if e.Source {
+		for _, d := range nl.chanDev[nl.chanStart[n]:nl.chanStart[n+1]] {
+			if s.cond[d] != Off && !slices.Contains(e.Devices, int(d)) {
+				e.Devices = append(e.Devices, int(d))
+			}
+		}
 		return e
 	}
-	nl := s.nl
 	e.Analysis = s.analysisNote(n)
 	members := s.joined(n, true)
+	e.Group = members
+	seen := map[int32]bool{}
 	for _, m := range members {
 		for _, d := range nl.chanDev[nl.chanStart[m]:nl.chanStart[m+1]] {
-			if s.cond[d] == Unknown && !slices.Contains(e.Unknown, int(d)) {
+			if s.cond[d] == Off || seen[d] {
+				continue
+			}
+			seen[d] = true
+			e.Devices = append(e.Devices, int(d))
+			if s.cond[d] == Unknown {
 				e.Unknown = append(e.Unknown, int(d))
 			}
 		}

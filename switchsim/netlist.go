@@ -50,16 +50,30 @@ type Netlist struct {
 }
 
 // CompileError lists every problem Compile found.
-type CompileError struct{ Problems []string }
+type CompileError struct{ Problems []Problem }
 
-func (e *CompileError) Error() string { return strings.Join(e.Problems, "\n") }
+// Problem is one thing Compile found wrong, with the node or device it
+// concerns (by name; both empty for the design as a whole), so that a
+// reader can put it at the statement that named it.
+type Problem struct {
+	Node, Device string
+	Msg          string
+}
+
+func (e *CompileError) Error() string {
+	msgs := make([]string, len(e.Problems))
+	for i, p := range e.Problems {
+		msgs[i] = p.Msg
+	}
+	return strings.Join(msgs, "\n")
+}
 
 // Compile checks the netlist and turns it into dense arrays.
 func (b *Builder) Compile() (*Netlist, error) {
-	var probs []string
-	bad := func(f string, a ...any) { probs = append(probs, fmt.Sprintf(f, a...)) }
+	var probs []Problem
+	bad := func(node, f string, a ...any) { probs = append(probs, Problem{Node: node, Msg: fmt.Sprintf(f, a...)}) }
 	if err := b.tech.Validate(); err != nil {
-		bad("%v", err)
+		bad("", "%v", err)
 	}
 	pw, _ := b.node(b.power)
 	gn, _ := b.node(b.ground)
@@ -85,7 +99,7 @@ func (b *Builder) Compile() (*Netlist, error) {
 	}
 	for _, r := range []int32{pw, gn} {
 		if b.nodes[r].input {
-			bad("rail %q cannot be an input", b.nodes[r].name)
+			bad(b.nodes[r].name, "rail %q cannot be an input", b.nodes[r].name)
 		}
 	}
 	nl.nodeKind[pw], nl.nodeKind[gn] = Power, Ground
@@ -122,19 +136,21 @@ func (b *Builder) Compile() (*Netlist, error) {
 			touched[d.gate] = true
 		}
 	}
+	output := make([]bool, nn)
 	for _, o := range b.outputs {
+		output[o] = true
 		if !touched[o] && !b.nodes[o].input {
-			bad("output %q is not connected to any device", b.nodes[o].name)
+			bad(b.nodes[o].name, "output %q is not connected to any device", b.nodes[o].name)
 		}
 	}
 	for name := range b.declared {
 		i := b.nodeIdx[name]
-		if !touched[i] && !b.nodes[i].input && i != pw && i != gn {
-			bad("node %q is not connected to any device", name)
+		if !touched[i] && !b.nodes[i].input && !output[i] && i != pw && i != gn {
+			bad(name, "node %q is not connected to any device", name)
 		}
 	}
 	if len(probs) > 0 {
-		slices.Sort(probs)
+		slices.SortFunc(probs, func(p, q Problem) int { return strings.Compare(p.Msg, q.Msg) })
 		return nil, &CompileError{probs}
 	}
 	// Sorted indices instead of maps: 4 bytes a name instead of a map entry.

@@ -9,8 +9,7 @@ import (
 	"railyard/designs"
 	sw "railyard/switchsim"
 	"railyard/switchsim/gen"
-	"railyard/switchsim/netfile"
-	"railyard/switchsim/steps"
+	"railyard/switchsim/load"
 )
 
 // fastPair runs one network through two Sims in physical mode, the general
@@ -234,18 +233,14 @@ func TestPhysFastPathDemos(t *testing.T) {
 		t.Fatal("no demo designs")
 	}
 	for _, e := range list {
-		d, err := netfile.ReadFile("demo:" + e.Name)
+		ld, err := load.Host(load.Options{}).Open("demo:"+e.Name, "")
 		if err != nil {
 			t.Fatalf("demo %s: %v", e.Name, err)
 		}
-		nl := d.Netlist
+		nl := ld.Design.Netlist
 		fp := newFastPair(t, "demo:"+e.Name, nl)
 		fp.settle("initial")
-		if path, ok := steps.Default("demo:" + e.Name); ok {
-			st, err := steps.ReadFile(path, nl)
-			if err != nil {
-				t.Fatalf("demo %s steps: %v", e.Name, err)
-			}
+		if st := ld.Steps; st != nil {
 			for _, row := range st.Rows {
 				for i, n := range st.Apply {
 					fp.set(n, row.Drives[i])

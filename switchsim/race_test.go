@@ -10,8 +10,8 @@ import (
 	"testing"
 
 	sw "railyard/switchsim"
+	"railyard/switchsim/load"
 	"railyard/switchsim/netfile"
-	"railyard/switchsim/steps"
 )
 
 // swNet compiles a design written in the .sw format.
@@ -26,7 +26,7 @@ func swNet(t testing.TB, src string) *sw.Netlist {
 
 func demoNet(t testing.TB, name string) *sw.Netlist {
 	t.Helper()
-	d, err := netfile.ReadFile("demo:" + name)
+	d, err := load.Host(load.Options{}).Design("demo:" + name)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -574,15 +574,11 @@ func TestRaceDemoSteps(t *testing.T) {
 		{"static_latch", []sw.WarnKind{sw.WarnRace, sw.WarnOscillation, sw.WarnWriteFail}},
 		{"flipflop", []sw.WarnKind{sw.WarnRace, sw.WarnOscillation}},
 	} {
-		d, err := netfile.ReadFile("demo:" + c.demo)
+		ld, err := load.Host(load.Options{}).Open("demo:"+c.demo, "")
 		if err != nil {
 			t.Fatal(err)
 		}
-		path, _ := steps.Default("demo:" + c.demo)
-		st, err := steps.ReadFile(path, d.Netlist)
-		if err != nil {
-			t.Fatal(err)
-		}
+		d, st := ld.Design, ld.Steps
 		for _, mode := range bothModes {
 			s := sw.NewSim(d.Netlist, sw.Options{Mode: mode})
 			s.Settle()

@@ -1,30 +1,29 @@
 package tui
 
-// The actions: what a key does to the session, and how it is reported.
+// The actions: what an intent does to the session, and how it is reported.
 
 import (
+	"errors"
 	"fmt"
+	"io"
+	"io/fs"
+	"os"
 	"path/filepath"
 	"strings"
 
 	"railyard/switchsim"
+	"railyard/switchsim/diag"
+	"railyard/switchsim/load"
 	"railyard/switchsim/session"
+	"railyard/tui/panel"
 	"railyard/tui/prompt"
 )
 
-// change runs an action that changes the session, unless read-only.
+// change runs an action that changes the session, then copies the
+// session into the panels again.
 func (m *Model) change(fn func()) {
-	if m.opt.ReadOnly {
-		m.fail("read-only viewer: only the session's owner can change it")
-		return
-	}
-	m.lock()
 	fn()
 	m.sync()
-	m.unlock()
-	if m.opt.OnChange != nil {
-		m.opt.OnChange()
-	}
 	m.layout()
 }
 
@@ -46,12 +45,12 @@ func (m *Model) setInput(n, d int) {
 
 func (m *Model) next() {
 	if m.sess.NumSteps() == 0 {
-		m.fail("this design has no steps file: set the inputs by hand")
+		m.note("this design has no steps file: set the inputs by hand")
 		return
 	}
 	e, ok := m.sess.Next()
 	if !ok {
-		m.fail(fmt.Sprintf("no more steps: all %d applied (p goes back)", m.sess.NumSteps()))
+		m.note(fmt.Sprintf("no more steps: all %d applied (p goes back)", m.sess.NumSteps()))
 		return
 	}
 	m.report(e)
@@ -60,7 +59,7 @@ func (m *Model) next() {
 func (m *Model) back() {
 	last := m.sess.Last()
 	if !m.sess.GoBack() {
-		m.fail("already at the start: nothing to undo")
+		m.note("already at the start: nothing to undo")
 		return
 	}
 	m.say("back: undid " + m.title(last))
@@ -68,11 +67,11 @@ func (m *Model) back() {
 
 func (m *Model) run(stopOnFail bool) {
 	if m.sess.NumSteps() == 0 {
-		m.fail("this design has no steps file")
+		m.note("this design has no steps file")
 		return
 	}
 	if m.sess.NextStep() >= m.sess.NumSteps() {
-		m.fail("no more steps to run (p goes back, g goes to a step)")
+		m.note("no more steps to run (p goes back, g goes to a step)")
 		return
 	}
 	evs := m.sess.RunToEnd(stopOnFail)
@@ -123,11 +122,10 @@ func (m *Model) report(e *session.Event) {
 		msg += ", OSCILLATED"
 	}
 	if e.Failed() {
-		nl := m.sess.Netlist()
 		var bad []string
 		for _, c := range e.Checks {
 			if !c.Pass {
-				bad = append(bad, fmt.Sprintf("%s want %s got %s", nl.NodeName(c.Node), c.Want, c.Got.State))
+				bad = append(bad, fmt.Sprintf("%s want %s got %s", m.names.Node[c.Node], c.Want, c.Got.State))
 			}
 		}
 		// the failure first: a long label must not push it off the line
@@ -158,9 +156,12 @@ func countChecks(e *session.Event) int {
 	return n
 }
 
-func (m *Model) say(s string) { m.status, m.statusBad = s, false }
-
-func (m *Model) fail(s string) { m.status, m.statusBad = s, true }
+// The status line: say for what was done, note for a key that did nothing
+// and why (information, not a failure), fail for a failed check or an
+// error. Everything shown is printable: an error may quote a file.
+func (m *Model) say(s string)  { m.status, m.statusAs = diag.Printable(s), statusOK }
+func (m *Model) note(s string) { m.status, m.statusAs = diag.Printable(s), statusNote }
+func (m *Model) fail(s string) { m.status, m.statusAs = diag.Printable(s), statusFail }
 
 // title words an action briefly.
 func (m *Model) title(e *session.Event) string {
@@ -169,70 +170,97 @@ func (m *Model) title(e *session.Event) string {
 	case session.Start:
 		return "start"
 	case session.Set:
-		return "set " + m.sess.Netlist().NodeName(a.Node) + "=" + a.Drive.String()
+		return "set " + m.names.Node[a.Node] + "=" + a.Drive.String()
 	case session.Step:
 		t := fmt.Sprintf("step %d", a.Step+1)
 		if a.Label != "" {
-			t += " " + a.Label
+			t += " " + diag.Printable(a.Label)
 		}
 		return t
 	}
 	return a.Kind.String()
 }
 
+// openSave asks what to save: with Options.Save, only the trace or a VCD
+// (the owner chose the place); else a file name, the trace's by default.
 func (m *Model) openSave() {
-	if m.opt.ReadOnly {
-		m.fail("read-only viewer: saving is the owner's")
-		return
+	st := prompt.DefaultStyles(m.th)
+	if m.opt.Save != nil {
+		m.prompt = prompt.NewChoose(st)
+	} else {
+		base := m.sess.Design.Name
+		if base == "" {
+			base = load.BaseName(m.sess.DesignPath)
+		}
+		tr, vcd := base+".trace", base+".vcd"
+		if m.opt.TracePath != "" {
+			tr = m.opt.TracePath
+		}
+		m.prompt = prompt.NewSave(st, diag.Printable(tr), diag.Printable(vcd))
 	}
-	base := m.sess.Design.Name
-	if base == "" {
-		base = strings.TrimSuffix(filepath.Base(strings.TrimPrefix(m.sess.DesignPath, "demo:")), ".sw")
-	}
-	tr, vcd := base+".trace", base+".vcd"
-	if m.opt.TracePath != "" {
-		tr = m.opt.TracePath
-	}
-	m.prompt = prompt.NewSave(prompt.DefaultStyles(m.th), tr, vcd)
+	m.prompt.SetSize(m.w, 1)
 }
 
 func (m *Model) openJump() {
-	if m.opt.ReadOnly {
-		m.fail("read-only viewer: only the session's owner can change it")
-		return
-	}
 	if m.sess.NumSteps() == 0 {
-		m.fail("this design has no steps file")
+		m.note("this design has no steps file: g needs one")
 		return
 	}
-	m.prompt = prompt.NewJump(prompt.DefaultStyles(m.th), m.sess.NumSteps(), min(m.sess.NextStep()+1, m.sess.NumSteps()))
+	m.prompt = prompt.NewJump(prompt.DefaultStyles(m.th), m.sess.NumSteps())
+	m.prompt.SetSize(m.w, 1)
 }
 
-func (m *Model) answer(a *prompt.Answer) {
-	if a.Canceled {
-		m.say("canceled")
+// save writes what a save intent asks for: through Options.Save, or to
+// the path typed, asking first before it replaces a file this explorer
+// did not write itself.
+func (m *Model) save(s panel.Save) {
+	write := func(w io.Writer) error { return m.sess.WriteTrace(w) }
+	if s.Kind == panel.SaveVCD {
+		write = func(w io.Writer) error { return m.sess.WriteVCD(w, session.VCDOptions{}) }
+	}
+	what := fmt.Sprintf("the trace (%s)", plural(len(m.sess.Trace()), "action"))
+	if s.Kind == panel.SaveVCD {
+		what = fmt.Sprintf("a VCD of %s", plural(len(m.sess.History()), "action"))
+	}
+	if m.opt.Save != nil {
+		shown, err := m.opt.Save(s.Kind, write)
+		if err != nil {
+			m.fail("could not save " + what + ": " + err.Error())
+			return
+		}
+		m.say("saved " + what + " as " + shown)
 		return
 	}
-	switch a.Kind {
-	case prompt.Jump:
-		m.change(func() { m.jump(a.Step) })
-	case prompt.SaveTrace:
-		m.lock()
-		err := m.sess.SaveTrace(a.Text)
-		m.unlock()
-		if err != nil {
-			m.fail("could not save the trace: " + err.Error())
+	path := filepath.Clean(s.Path)
+	if !s.Overwrite && !m.written[path] {
+		fi, err := os.Lstat(path)
+		switch {
+		case err == nil && !fi.Mode().IsRegular():
+			m.fail(s.Path + " is not a regular file: nothing written; choose another name")
+			return
+		case err == nil:
+			m.prompt = prompt.NewConfirm(prompt.DefaultStyles(m.th), s)
+			m.prompt.SetSize(m.w, 1)
+			return
+		case !errors.Is(err, fs.ErrNotExist):
+			m.fail("could not save " + what + ": " + err.Error())
 			return
 		}
-		m.say(fmt.Sprintf("saved the trace (%s) to %s; railyard replay %s repeats it", plural(len(m.sess.Trace()), "action"), a.Text, a.Text))
-	case prompt.SaveVCD:
-		m.lock()
-		err := m.sess.SaveVCD(a.Text, session.VCDOptions{})
-		m.unlock()
-		if err != nil {
-			m.fail("could not export the VCD: " + err.Error())
-			return
-		}
-		m.say(fmt.Sprintf("exported a VCD of %s to %s", plural(len(m.sess.History()), "action"), a.Text))
 	}
+	var err error
+	if s.Kind == panel.SaveVCD {
+		err = m.sess.SaveVCD(path, session.VCDOptions{})
+	} else {
+		err = m.sess.SaveTrace(path)
+	}
+	if err != nil {
+		m.fail("could not save " + what + ": " + err.Error())
+		return
+	}
+	m.written[path] = true
+	msg := "saved " + what + " to " + path
+	if s.Kind == panel.SaveTrace {
+		msg += "; railyard replay " + path + " repeats it"
+	}
+	m.say(msg)
 }

@@ -5,6 +5,7 @@ import (
 	"io"
 	"os"
 	"path/filepath"
+	"strings"
 	"testing"
 	"time"
 
@@ -88,9 +89,10 @@ func TestRunWritesTraceOnQuit(t *testing.T) {
 	s := openFixture(t)
 	trace := filepath.Join(t.TempDir(), "quit.trace")
 	in, feed := io.Pipe()
+	var note bytes.Buffer
 	done := make(chan error, 1)
 	go func() {
-		done <- run(s, Options{TracePath: trace}, 80, 24, tea.WithInput(in), tea.WithOutput(io.Discard), tea.WithoutSignals())
+		done <- runProgram(s, Options{TracePath: trace}, 80, 24, &note, tea.WithInput(in), tea.WithOutput(io.Discard), tea.WithoutSignals())
 	}()
 	for _, k := range []string{"n", "n", "p", "q"} {
 		time.Sleep(30 * time.Millisecond)
@@ -114,5 +116,9 @@ func TestRunWritesTraceOnQuit(t *testing.T) {
 	// start, two steps and a back: four actions (session/trace.go writes each as "action N ...")
 	if n := bytes.Count(b, []byte("\naction ")); n != 4 {
 		t.Errorf("trace holds %d actions, want 4:\n%s", n, b)
+	}
+	// quitting says where the trace went (issue 18 item 14)
+	if want := "trace of 4 actions saved to " + trace; !strings.Contains(note.String(), want) {
+		t.Errorf("quit note %q lacks %q", note.String(), want)
 	}
 }

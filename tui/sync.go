@@ -1,35 +1,35 @@
 package tui
 
 // Reading the session into the panels, so that View never touches it.
+// This is also where every string that comes from a file (step labels,
+// warning messages, file names) is made printable, once: names were in
+// New (panel.Names).
 
 import (
 	"fmt"
+	"math"
 	"path/filepath"
 	"strings"
 
 	"railyard/switchsim"
+	"railyard/switchsim/diag"
 	"railyard/switchsim/session"
 	"railyard/tui/logpanel"
+	"railyard/tui/panel"
 	"railyard/tui/rounds"
 	"railyard/tui/stepper"
 	"railyard/tui/timeline"
 )
 
-// sync copies what the panels draw from the session (under the lock), so
-// that View never touches the session.
+// sync copies what the panels draw from the session, so that View never
+// touches the session.
 func (m *Model) sync() {
 	s := m.sess
 	nl := s.Netlist()
 	hist := s.History()
 	last := hist[len(hist)-1]
 	nn := nl.NumNodes()
-	states := last.States
-	if states == nil {
-		states = make([]switchsim.NodeState, nn)
-		for n := range states {
-			states[n] = s.Sim.Node(n)
-		}
-	}
+	states := m.states()
 	changed := make([]bool, nn)
 	for _, c := range last.Changes {
 		changed[c.Node] = true
@@ -40,7 +40,7 @@ func (m *Model) sync() {
 		if !c.Pass {
 			failing[c.Node] = true
 			if m.lastFail == "" {
-				m.lastFail = nl.NodeName(c.Node)
+				m.lastFail = m.names.Node[c.Node]
 			}
 		}
 	}
@@ -58,11 +58,11 @@ func (m *Model) sync() {
 	for d := range cond {
 		cond[d] = s.Sim.Conduction(d)
 	}
-	vals := make([]switchsim.Value, nn)
-	for n := range vals {
-		vals[n] = states[n].Value
-	}
-	m.devices.SetStates(cond, vals)
+	m.devices.SetStates(cond, states, m.vdd(states))
+	// On-resistance per device: the Devices view has a column and a place
+	// in the selected device's line for it (devices.SetOhms). Fill it here
+	// from the physical mode's estimate once that is exposed; until then
+	// nothing is shown rather than a guess.
 
 	var before []switchsim.NodeState
 	if len(hist) > 1 {
@@ -74,8 +74,9 @@ func (m *Model) sync() {
 		st.Before = nil
 	}
 	for _, c := range last.Changes {
-		st.Changes = append(st.Changes, rounds.Change{Round: c.Round, Node: c.Node, State: c.State})
+		st.Changes = append(st.Changes, rounds.Change{Round: c.Round, Node: c.Node, State: c.State, Volts: c.Volts, Delay: c.Delay})
 	}
+	st.Slowest, st.Arrival = rounds.SlowestChain(nl, cond, st.Changes)
 	m.rounds.Set(st)
 
 	outcomes := make([]stepper.Outcome, s.NumSteps())
@@ -86,7 +87,7 @@ func (m *Model) sync() {
 		if e.Action.Kind == session.Step && e.Failed() {
 			m.failed++
 		}
-		col := timeline.Column{Mark: "+", States: e.States, Failed: e.Failed()}
+		col := timeline.Column{Mark: m.th.G.Set, States: e.States, Failed: e.Failed()}
 		switch e.Action.Kind {
 		case session.Start:
 			col.Mark = "0"
@@ -96,7 +97,7 @@ func (m *Model) sync() {
 				o := stepper.Outcome{Taken: true}
 				for _, c := range e.Checks {
 					if session.IsCheck(c) {
-						o.Checks = append(o.Checks, stepper.Check{Node: nl.NodeName(c.Node), Want: c.Want.String(), Got: c.Got, Pass: c.Pass})
+						o.Checks = append(o.Checks, stepper.Check{Node: m.names.Node[c.Node], Want: c.Want.String(), Got: c.Got, Pass: c.Pass})
 					}
 				}
 				outcomes[i] = o
@@ -105,7 +106,7 @@ func (m *Model) sync() {
 		cols = append(cols, col)
 		en := logpanel.Entry{Title: m.title(e)}
 		for _, w := range e.Warnings {
-			en.Warnings = append(en.Warnings, logpanel.Warning{Kind: string(w.Kind), Message: w.Message})
+			en.Warnings = append(en.Warnings, logpanel.Warning{Kind: string(w.Kind), Message: diag.Printable(w.Message)})
 		}
 		entries = append(entries, en)
 	}
@@ -116,25 +117,46 @@ func (m *Model) sync() {
 	m.explain()
 }
 
-// explain re-reads the inspected node's explanation and group (lock held).
+// states are every node's states after the last action.
+func (m *Model) states() []switchsim.NodeState {
+	if st := m.sess.Last().States; st != nil {
+		return st
+	}
+	// a design too large to keep states per event: read the simulator
+	st := make([]switchsim.NodeState, m.sess.Netlist().NumNodes())
+	for n := range st {
+		st[n] = m.sess.Sim.Node(n)
+	}
+	return st
+}
+
+// vdd is the supply's volts (NaN in ideal mode): what a full 1 is.
+func (m *Model) vdd(states []switchsim.NodeState) float64 {
+	if p := m.sess.Netlist().Power(); p >= 0 && p < len(states) {
+		return states[p].Volts
+	}
+	return math.NaN()
+}
+
+// explain re-reads the inspected node's explanation; its group (which the
+// engine gives with it) marks the devices.
 func (m *Model) explain() {
 	if m.inspect < 0 {
 		return
 	}
-	s := m.sess
-	nl := s.Netlist()
-	e := s.Sim.Explain(m.inspect)
-	m.why.Set(nl, e, m.nodeWarnings(m.inspect))
+	nl := m.sess.Netlist()
+	e := m.sess.Sim.Explain(m.inspect)
+	states := m.states()
+	m.why.Set(e, states, m.vdd(states), m.nodeWarnings(m.inspect))
 	group := make([]bool, nl.NumDevices())
-	devs := groupDevices(s, m.inspect)
-	for _, d := range devs {
+	for _, d := range e.Devices {
 		group[d] = true
 	}
-	label := nl.NodeName(m.inspect)
-	if len(devs) == 0 {
+	label := m.names.Node[m.inspect]
+	if len(e.Devices) == 0 {
 		label += " (none: nothing conducts to it)"
 		if e.Source {
-			label = nl.NodeName(m.inspect) + " (none: it only gates)"
+			label = m.names.Node[m.inspect] + " (none: it only gates)"
 		}
 	}
 	m.devices.SetGroup(label, group)
@@ -150,7 +172,7 @@ func (m *Model) nodeWarnings(n int) []string {
 		var ws []string
 		for _, w := range e.Warnings {
 			if w.Node == n {
-				ws = append(ws, m.th.Warn.Render(m.th.G.Warn+" "+string(w.Kind))+" "+w.Message)
+				ws = append(ws, m.th.Warn.Render(m.th.G.Warn+" "+string(w.Kind))+" "+diag.Printable(w.Message))
 			}
 		}
 		touched := len(ws) > 0
@@ -171,73 +193,25 @@ func (m *Model) nodeWarnings(n int) []string {
 	return nil
 }
 
-// groupDevices lists the devices that are not off and join the node's group
-// (the node and the non-source nodes reached through them), for marking.
-func groupDevices(s *session.Session, n int) []int {
-	nl := s.Netlist()
-	isSource := func(x int) bool {
-		switch nl.NodeKind(x) {
-		case switchsim.Power, switchsim.Ground:
-			return true
-		case switchsim.Input:
-			return s.Sim.InputDrive(x) != switchsim.DriveZ
-		}
-		return false
-	}
-	seen := map[int]bool{n: true}
-	devSeen := map[int]bool{}
-	var devs []int
-	queue := []int{n}
-	if isSource(n) {
-		// an input or rail: its group is what it drives directly
-		for _, d := range nl.ChannelDevices(n) {
-			if s.Sim.Conduction(d) != switchsim.Off && !devSeen[d] {
-				devSeen[d] = true
-				devs = append(devs, d)
-			}
-		}
-		return devs
-	}
-	for i := 0; i < len(queue); i++ {
-		x := queue[i]
-		for _, d := range nl.ChannelDevices(x) {
-			if s.Sim.Conduction(d) == switchsim.Off {
-				continue
-			}
-			if !devSeen[d] {
-				devSeen[d] = true
-				devs = append(devs, d)
-			}
-			o := nl.Other(d, x)
-			if !seen[o] && !isSource(o) {
-				seen[o] = true
-				queue = append(queue, o)
-			}
-		}
-	}
-	return devs
-}
-
-// stepRows words the steps file's rows for the vectors view.
-func stepRows(s *session.Session) []stepper.Step {
+// stepRows words the steps file's rows for the vectors view, printable.
+func stepRows(s *session.Session, names *panel.Names) []stepper.Step {
 	if s.Steps == nil {
 		return nil
 	}
-	nl := s.Netlist()
 	out := make([]stepper.Step, len(s.Steps.Rows))
 	for i, r := range s.Steps.Rows {
 		var ap, wa []string
 		for c, n := range s.Steps.Apply {
 			if c < len(r.Drives) {
-				ap = append(ap, nl.NodeName(n)+"="+r.Drives[c].String())
+				ap = append(ap, names.Node[n]+"="+r.Drives[c].String())
 			}
 		}
 		for c, n := range s.Steps.Check {
 			if c < len(r.Wants) && r.Wants[c].String() != "-" {
-				wa = append(wa, nl.NodeName(n)+"="+r.Wants[c].String())
+				wa = append(wa, names.Node[n]+"="+r.Wants[c].String())
 			}
 		}
-		out[i] = stepper.Step{Label: r.Label, Apply: strings.Join(ap, " "), Want: strings.Join(wa, " ")}
+		out[i] = stepper.Step{Label: diag.Printable(r.Label), Apply: strings.Join(ap, " "), Want: strings.Join(wa, " ")}
 	}
 	return out
 }

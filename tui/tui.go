@@ -12,20 +12,23 @@ package tui
 import (
 	"errors"
 	"fmt"
+	"io"
 	"os"
+	"path/filepath"
 	"strings"
-	"sync"
 
 	"github.com/charmbracelet/bubbles/help"
 	"github.com/charmbracelet/bubbles/key"
 	tea "github.com/charmbracelet/bubbletea"
 	"github.com/charmbracelet/lipgloss"
 
+	"railyard/switchsim/diag"
 	"railyard/switchsim/session"
 	"railyard/tui/devices"
 	"railyard/tui/inputs"
 	"railyard/tui/logpanel"
 	"railyard/tui/nodes"
+	"railyard/tui/panel"
 	"railyard/tui/prompt"
 	"railyard/tui/rounds"
 	"railyard/tui/stepper"
@@ -34,6 +37,21 @@ import (
 	"railyard/tui/why"
 )
 
+// SaveKind is what the save key writes: the trace or a VCD.
+type SaveKind = panel.SaveKind
+
+const (
+	SaveTrace = panel.SaveTrace
+	SaveVCD   = panel.SaveVCD
+)
+
+// SaveFunc keeps a file for the explorer's owner: it is given what to save
+// and a function that writes the file's content, puts it where the owner
+// chooses under a name the owner chooses, and returns that name as the
+// user should read it (never a path of the owner's own that the user must
+// not see), or an error to show.
+type SaveFunc func(kind SaveKind, write func(io.Writer) error) (shown string, err error)
+
 // Options configure the explorer.
 type Options struct {
 	// TracePath, when set, is where Run writes the trace on quit (the
@@ -41,26 +59,33 @@ type Options struct {
 	TracePath string
 	ASCII     bool // no glyph outside ASCII, for poor remote terminals
 	NoColor   bool // no colour (NO_COLOR); glyphs and letters carry every meaning
-	// ReadOnly makes a viewer: every key that would change the session
-	// (inputs, steps, back) or write a file is refused.
-	ReadOnly bool
-	Banner   string // shown at the right of the header (a server's name, a viewer's note)
+	Banner    string
 	// Renderer is the terminal's lipgloss renderer (a server passes one per
 	// connection so that each gets its own colour profile); nil: the default.
 	Renderer *lipgloss.Renderer
-	// Lock, when set, is held while the model reads or changes the session,
-	// so several models (an owner and its viewers) may share one session.
-	Lock sync.Locker
-	// OnChange is called after the model changed the session (Lock
-	// released), for a server to tell the viewers: send them Refresh{}.
-	OnChange func()
+	// Save, when set, is where the save key's files go (a server's folder:
+	// see SaveInDir). The key then offers the trace or a VCD, with no path
+	// prompt: the user chooses what to save, never where.
+	Save SaveFunc
 	// MinWidth and MinHeight are the smallest size drawn (0: 80 x 24).
 	MinWidth, MinHeight int
 }
 
-// Refresh tells a model that its session changed under it (a viewer of a
-// shared session): it re-reads the session and redraws.
-type Refresh struct{}
+// SaveInDir is a SaveFunc that writes into the folder dir, atomically,
+// under the file name name gives for the kind (a plain name: no path
+// separator, not . or ..), and shows the user that name.
+func SaveInDir(dir string, name func(SaveKind) string) SaveFunc {
+	return func(kind SaveKind, write func(io.Writer) error) (string, error) {
+		n := name(kind)
+		if n == "" || n == "." || n == ".." || strings.ContainsAny(n, `/\`) || filepath.Base(n) != n {
+			return "", fmt.Errorf("%q is not a plain file name", n)
+		}
+		if err := session.WriteFileAtomic(filepath.Join(dir, n), write); err != nil {
+			return "", fmt.Errorf("could not write %s", n) // the folder is the owner's, not the user's
+		}
+		return n, nil
+	}
+}
 
 // Focus areas, in tab order.
 const (
@@ -87,7 +112,15 @@ var viewNames = [numViews]string{"Rounds", "Vectors", "Why", "Devices", "Timelin
 
 func (v View) String() string { return viewNames[v] }
 
-// Model is the explorer's root model.
+// status kinds: what the status line shows the last key did.
+const (
+	statusOK   = iota // done
+	statusNote        // nothing done, and why (information, no failure mark)
+	statusFail        // a failed check or an error
+)
+
+// Model is the explorer's root model: it routes messages to the panels,
+// acts on their intents (package panel) and lays them out.
 type Model struct {
 	sess *session.Session
 	opt  Options
@@ -95,38 +128,43 @@ type Model struct {
 	keys KeyMap
 	help help.Model
 
-	inputs   *inputs.Model
-	nodes    *nodes.Model
-	rounds   *rounds.Model
-	vectors  *stepper.Model
-	why      *why.Model
-	devices  *devices.Model
-	timeline *timeline.Model
-	log      *logpanel.Model
-	prompt   *prompt.Model
+	names    *panel.Names
+	inputs   inputs.Model
+	nodes    nodes.Model
+	rounds   rounds.Model
+	vectors  stepper.Model
+	why      why.Model
+	devices  devices.Model
+	timeline timeline.Model
+	log      logpanel.Model
+	prompt   prompt.Model
 
-	w, h      int
-	focus     int
-	view      View
-	showHelp  bool
-	helpPage  int
-	status    string
-	statusBad bool
+	w, h     int
+	focus    int
+	view     View
+	showHelp bool
+	helpPage int
+	status   string
+	statusAs int
 
 	watched  []int // timeline order
 	watchSet []bool
 	inspect  int // the node the why view and the device marks follow
 	lastFail string
-	// copied from the session by sync, for View
-	numSteps, nextStep, failed int
-	ascii                      *strings.Replacer
+	written  map[string]bool // files this model saved: replacing them needs no question
+	// copied from the session, printable, for View
+	designName, designDesc string
+	numSteps, nextStep     int
+	failed                 int
+	ascii                  *strings.Replacer
 }
 
 // New builds the explorer on a session for a terminal of width x height.
 func New(s *session.Session, width, height int, opt Options) *Model {
 	th := theme.New(opt.Renderer, opt.NoColor, opt.ASCII)
 	nl := s.Netlist()
-	m := &Model{sess: s, opt: opt, th: th, keys: DefaultKeyMap(), w: width, h: height, inspect: -1}
+	m := &Model{sess: s, opt: opt, th: th, keys: DefaultKeyMap(), w: width, h: height, inspect: -1,
+		written: map[string]bool{}}
 	if opt.MinWidth == 0 {
 		m.opt.MinWidth = 80
 	}
@@ -146,34 +184,62 @@ func New(s *session.Session, width, height int, opt Options) *Model {
 		m.help.Ellipsis = "~"
 		m.ascii = asciiReplacer()
 	}
+	// every string from a file is made printable here or in sync, once
+	m.names = panel.NewNames(nl)
+	m.designName = diag.Printable(s.Design.Name)
+	if m.designName == "" {
+		m.designName = diag.Printable(s.DesignPath)
+	}
+	m.designDesc = diag.Printable(s.Design.Desc)
 
-	m.inputs = inputs.New(nl, inputs.DefaultStyles(th))
-	m.nodes = nodes.New(nl, nodes.DefaultStyles(th))
-	m.rounds = rounds.New(nl, rounds.DefaultStyles(th))
-	m.vectors = stepper.New(stepsFile(s), stepRows(s), stepper.DefaultStyles(th))
-	m.why = why.New(why.DefaultStyles(th))
-	m.devices = devices.New(nl, devices.DefaultStyles(th))
-	m.timeline = timeline.New(nl, timeline.DefaultStyles(th))
+	m.inputs = inputs.New(nl.Inputs(), m.names, inputs.DefaultStyles(th))
+	m.nodes = nodes.New(nl, m.names, nodes.DefaultStyles(th))
+	m.rounds = rounds.New(m.names, rounds.DefaultStyles(th))
+	m.vectors = stepper.New(diag.Printable(stepsFile(s)), stepRows(s, m.names), stepper.DefaultStyles(th))
+	m.why = why.New(nl, m.names, why.DefaultStyles(th))
+	m.devices = devices.New(nl, m.names, devices.DefaultStyles(th))
+	m.timeline = timeline.New(m.names, timeline.DefaultStyles(th))
 	m.log = logpanel.New(logpanel.DefaultStyles(th))
 
-	// watch the inputs and outputs from the start: the timeline is never empty
 	m.watchSet = make([]bool, nl.NumNodes())
-	for _, n := range append(nl.Inputs(), nl.Outputs()...) {
-		if len(m.watched) < 12 && !m.watchSet[n] {
-			m.watchSet[n] = true
-			m.watched = append(m.watched, n)
-		}
+	for _, n := range firstWatched(s) {
+		m.watchSet[n] = true
+		m.watched = append(m.watched, n)
 	}
 	if len(nl.Inputs()) == 0 {
 		m.focus = focusNodes
 	}
 	m.applyFocus()
-	m.lock()
 	m.sync()
-	m.unlock()
 	m.status = m.welcome()
 	m.layout()
 	return m
+}
+
+// firstWatched is what the timeline watches from the start, so that it is
+// never empty and shows what matters first: the outputs, the nodes the
+// steps file checks, then the inputs, twelve at most.
+func firstWatched(s *session.Session) []int {
+	nl := s.Netlist()
+	var cands []int
+	cands = append(cands, nl.Outputs()...)
+	if s.Steps != nil {
+		cands = append(cands, s.Steps.Check...)
+		cands = append(cands, s.Steps.Apply...)
+	}
+	cands = append(cands, nl.Inputs()...)
+	seen := map[int]bool{}
+	var out []int
+	for _, n := range cands {
+		if len(out) == 12 {
+			break
+		}
+		if !seen[n] {
+			seen[n] = true
+			out = append(out, n)
+		}
+	}
+	return out
 }
 
 // Session returns the session the model explores.
@@ -188,45 +254,47 @@ func (m *Model) ShownView() View { return m.view }
 // Status is the message on the status line.
 func (m *Model) Status() string { return m.status }
 
-func (m *Model) lock() {
-	if m.opt.Lock != nil {
-		m.opt.Lock.Lock()
-	}
-}
-
-func (m *Model) unlock() {
-	if m.opt.Lock != nil {
-		m.opt.Lock.Unlock()
-	}
-}
-
 func (m *Model) welcome() string {
-	if m.opt.ReadOnly {
-		return "read-only viewer: you see the session as it changes; ? lists the keys, q leaves"
-	}
+	msg := "n applies the next step; ? lists every key"
 	if len(m.sess.Netlist().Inputs()) > 0 {
-		return "space toggles the selected input; n applies the next step; ? lists every key"
+		msg = "space toggles the selected input; n applies the next step; ? lists every key"
 	}
-	return "n applies the next step; ? lists every key"
+	if m.opt.TracePath != "" && m.opt.Save == nil {
+		msg += "; q saves the trace to " + diag.Printable(m.opt.TracePath)
+	}
+	return msg
 }
 
 // Init starts nothing: the model is ready as built.
 func (m *Model) Init() tea.Cmd { return nil }
 
-// Update routes a message.
+// Update routes a message: keys to the focused panel (or the prompt, the
+// help, a filter being typed), and the panels' intents to the actions.
 func (m *Model) Update(msg tea.Msg) (tea.Model, tea.Cmd) {
 	switch msg := msg.(type) {
 	case tea.WindowSizeMsg:
 		m.w, m.h = msg.Width, msg.Height
 		m.layout()
-		return m, nil
-	case Refresh:
-		m.lock()
-		m.sync()
-		m.unlock()
-		return m, nil
 	case tea.KeyMsg:
 		return m, m.key(msg)
+	case panel.SetInput:
+		d := int(msg.Drive)
+		if msg.Toggle {
+			d = -1
+		}
+		m.change(func() { m.setInput(msg.Node, d) })
+	case panel.Watch:
+		m.toggleWatch(msg.Node)
+	case panel.Inspect:
+		m.inspectNode(msg.Node)
+	case panel.JumpTo:
+		m.change(func() { m.jump(msg.Row) })
+	case panel.Save:
+		m.save(msg)
+	case panel.Canceled:
+		m.say(msg.What)
+	case panel.Note:
+		m.note(msg.Text)
 	}
 	return m, nil
 }
@@ -244,12 +312,10 @@ func (m *Model) key(k tea.KeyMsg) tea.Cmd {
 		}
 		return nil
 	}
-	if m.prompt != nil {
-		if a := m.prompt.Update(k); a != nil {
-			m.prompt = nil
-			m.answer(a)
-		}
-		return nil
+	var cmd tea.Cmd
+	if m.prompt.Active() {
+		m.prompt, cmd = m.prompt.Update(k)
+		return cmd
 	}
 	if m.showHelp {
 		switch {
@@ -265,14 +331,18 @@ func (m *Model) key(k tea.KeyMsg) tea.Cmd {
 		return nil
 	}
 	// a filter being typed takes every key
-	if m.nodes.Filtering() {
-		m.nodes.Update(k)
+	switch {
+	case m.inputs.Filtering():
+		m.inputs, cmd = m.inputs.Update(k)
 		m.followSelection()
-		return nil
-	}
-	if m.devices.Filtering() {
-		m.devices.Update(k)
-		return nil
+		return cmd
+	case m.nodes.Filtering():
+		m.nodes, cmd = m.nodes.Update(k)
+		m.followSelection()
+		return cmd
+	case m.devices.Filtering():
+		m.devices, cmd = m.devices.Update(k)
+		return cmd
 	}
 
 	switch {
@@ -280,129 +350,95 @@ func (m *Model) key(k tea.KeyMsg) tea.Cmd {
 		return tea.Quit
 	case key.Matches(k, km.Help):
 		m.showHelp, m.helpPage = true, 0
-		return nil
 	case key.Matches(k, km.Close):
 		m.escape()
-		return nil
 	case key.Matches(k, km.FocusNext):
 		m.focus = (m.focus + 1) % numFocus
 		m.applyFocus()
-		return nil
 	case key.Matches(k, km.FocusPrev):
 		m.focus = (m.focus + numFocus - 1) % numFocus
 		m.applyFocus()
-		return nil
 	case key.Matches(k, km.Next):
 		m.change(m.next)
-		return nil
 	case key.Matches(k, km.Prev):
 		m.change(m.back)
-		return nil
 	case key.Matches(k, km.Jump):
 		m.openJump()
-		return nil
 	case key.Matches(k, km.RunToFail):
 		m.change(func() { m.run(true) })
-		return nil
 	case key.Matches(k, km.RunToEnd):
 		m.change(func() { m.run(false) })
-		return nil
 	case key.Matches(k, km.Save):
 		m.openSave()
-		return nil
 	case key.Matches(k, km.Filter):
 		m.startFilter()
-		return nil
 	case key.Matches(k, km.Rounds):
 		m.show(ViewRounds)
-		return nil
 	case key.Matches(k, km.Vectors):
 		m.show(ViewVectors)
-		return nil
 	case key.Matches(k, km.Why) && m.focus != focusNodes:
 		m.inspectSelected()
-		return nil
 	case key.Matches(k, km.Devices):
 		m.show(ViewDevices)
-		return nil
 	case key.Matches(k, km.Timeline):
 		m.show(ViewTimeline)
-		return nil
 	case key.Matches(k, km.Log):
 		m.show(ViewLog)
-		return nil
-	}
-
-	switch m.focus {
-	case focusInputs:
-		if m.inputKey(k) {
-			return nil
-		}
-	case focusNodes:
-		req, _ := m.nodes.Update(k)
-		switch req {
-		case nodes.Inspect:
-			m.inspectSelected()
-		case nodes.Watch:
-			m.toggleWatch(m.nodes.Selected())
-		}
-		m.followSelection()
-		return nil
-	case focusDetail:
-		m.detailKey(k)
-		return nil
-	}
-	// left and right replay the rounds (or scroll the timeline) from anywhere
-	switch m.view {
-	case ViewRounds:
-		m.rounds.Update(k)
-	case ViewTimeline:
-		if n := m.timeline.Update(k); n >= 0 {
-			m.toggleWatch(n)
-		}
+	case m.focus != focusDetail && m.sideways(k):
+		// left and right replay the rounds (or scroll the timeline) from
+		// the lists too, which have no use for them
+		return m.detailKey(k)
+	default:
+		return m.panelKey(k)
 	}
 	return nil
 }
 
-func (m *Model) inputKey(k tea.KeyMsg) bool {
-	before := m.inputs.Selected()
-	req := m.inputs.Update(k)
-	switch req.Kind {
-	case inputs.None:
-		if m.inputs.Selected() != before {
-			m.followSelection()
-			return true
-		}
-		return false
-	case inputs.Toggle:
-		m.change(func() { m.setInput(req.Node, -1) })
-	case inputs.Set:
-		m.change(func() { m.setInput(req.Node, int(req.Drive)) })
-	case inputs.Watch:
-		m.toggleWatch(req.Node)
-	}
-	return true
-}
-
-func (m *Model) detailKey(k tea.KeyMsg) {
+// sideways reports whether k is a left or right key of the shown view.
+func (m *Model) sideways(k tea.KeyMsg) bool {
 	switch m.view {
 	case ViewRounds:
-		m.rounds.Update(k)
-	case ViewVectors:
-		if row := m.vectors.Update(k); row >= 0 {
-			m.change(func() { m.jump(row) })
-		}
-	case ViewWhy:
-		m.why.Update(k)
-	case ViewDevices:
-		m.devices.Update(k)
+		return key.Matches(k, m.rounds.KeyMap.Prev, m.rounds.KeyMap.Next)
 	case ViewTimeline:
-		if n := m.timeline.Update(k); n >= 0 {
-			m.toggleWatch(n)
-		}
-	case ViewLog:
-		m.log.Update(k)
+		return key.Matches(k, m.timeline.KeyMap.Left, m.timeline.KeyMap.Right)
 	}
+	return false
+}
+
+// panelKey gives a key to the focused panel.
+func (m *Model) panelKey(k tea.KeyMsg) tea.Cmd {
+	var cmd tea.Cmd
+	switch m.focus {
+	case focusInputs:
+		m.inputs, cmd = m.inputs.Update(k)
+		m.followSelection()
+	case focusNodes:
+		m.nodes, cmd = m.nodes.Update(k)
+		m.followSelection()
+	default:
+		cmd = m.detailKey(k)
+	}
+	return cmd
+}
+
+// detailKey gives a key to the shown detail view.
+func (m *Model) detailKey(k tea.KeyMsg) tea.Cmd {
+	var cmd tea.Cmd
+	switch m.view {
+	case ViewRounds:
+		m.rounds, cmd = m.rounds.Update(k)
+	case ViewVectors:
+		m.vectors, cmd = m.vectors.Update(k)
+	case ViewWhy:
+		m.why, cmd = m.why.Update(k)
+	case ViewDevices:
+		m.devices, cmd = m.devices.Update(k)
+	case ViewTimeline:
+		m.timeline, cmd = m.timeline.Update(k)
+	case ViewLog:
+		m.log, cmd = m.log.Update(k)
+	}
+	return cmd
 }
 
 // escape closes the innermost thing open: a filter, then the detail focus.
@@ -410,6 +446,9 @@ func (m *Model) escape() {
 	switch {
 	case m.view == ViewDevices && m.devices.ClearFilter():
 		m.say("device filter cleared")
+	case m.focus == focusInputs && m.inputs.ClearFilter():
+		m.say("input filter cleared")
+		m.followSelection()
 	case m.nodes.ClearFilter():
 		m.say("node filter cleared")
 		m.followSelection()
@@ -419,8 +458,14 @@ func (m *Model) escape() {
 	}
 }
 
+// startFilter filters the focused list: the inputs, the devices (when
+// their view has the focus), else the nodes.
 func (m *Model) startFilter() {
-	if m.view == ViewDevices && m.focus == focusDetail {
+	switch {
+	case m.focus == focusInputs:
+		m.inputs, _ = m.inputs.Update(tea.KeyMsg{Type: tea.KeyRunes, Runes: []rune{'/'}})
+		return
+	case m.view == ViewDevices && m.focus == focusDetail:
 		m.devices.StartFilter()
 		return
 	}
@@ -437,22 +482,14 @@ func (m *Model) show(v View) {
 	m.layout()
 }
 
+// panels lists every panel by its focus part, the lists first.
+func (m *Model) panels() []panel.Focuser {
+	return []panel.Focuser{&m.inputs, &m.nodes, &m.rounds, &m.vectors, &m.why, &m.devices, &m.timeline, &m.log}
+}
+
 func (m *Model) applyFocus() {
-	for i, p := range []interface {
-		Focus()
-		Blur()
-	}{m.inputs, m.nodes} {
-		if i == m.focus {
-			p.Focus()
-		} else {
-			p.Blur()
-		}
-	}
-	for _, p := range []interface {
-		Focus()
-		Blur()
-	}{m.rounds, m.vectors, m.why, m.devices, m.timeline, m.log} {
-		if m.focus == focusDetail {
+	for i, p := range m.panels() {
+		if i == m.focus || (i >= focusDetail && m.focus == focusDetail) {
 			p.Focus()
 		} else {
 			p.Blur()
@@ -474,14 +511,19 @@ func (m *Model) selectedNode() int {
 func (m *Model) inspectSelected() {
 	n := m.selectedNode()
 	if n < 0 {
-		m.fail("no node selected")
+		m.note("no node selected: move to one on the board first")
+		return
+	}
+	m.inspectNode(n)
+}
+
+func (m *Model) inspectNode(n int) {
+	if n < 0 || n >= m.sess.Netlist().NumNodes() {
 		return
 	}
 	m.inspect = n
 	m.view = ViewWhy
-	m.lock()
 	m.explain()
-	m.unlock()
 	m.layout()
 }
 
@@ -495,16 +537,14 @@ func (m *Model) followSelection() {
 		return
 	}
 	m.inspect = n
-	m.lock()
 	m.explain()
-	m.unlock()
 }
 
 func (m *Model) toggleWatch(n int) {
-	if n < 0 {
+	if n < 0 || n >= len(m.watchSet) {
 		return
 	}
-	name := m.sess.Netlist().NodeName(n)
+	name := m.names.Node[n]
 	if m.watchSet[n] {
 		m.watchSet[n] = false
 		for i, w := range m.watched {
@@ -526,26 +566,27 @@ func (m *Model) toggleWatch(n int) {
 
 // Run runs the explorer on the process's terminal (alternate screen) until
 // the user quits. With opt.TracePath set, the trace of the whole session is
-// written there on quit, atomically.
+// written there on quit, atomically, and a line on the terminal says where.
 func Run(s *session.Session, opt Options) error {
 	if os.Getenv("NO_COLOR") != "" {
 		opt.NoColor = true
 	}
-	return run(s, opt, 0, 0, tea.WithAltScreen()) // the terminal reports its size at start
+	return runProgram(s, opt, 0, 0, os.Stdout, tea.WithAltScreen()) // the terminal reports its size at start
 }
 
-// run is Run on any input and output (tests give it pipes and a size).
-func run(s *session.Session, opt Options, w, h int, popts ...tea.ProgramOption) error {
+// runProgram is Run on any input and output (tests give it pipes and a size);
+// note is where the line about the trace goes.
+func runProgram(s *session.Session, opt Options, w, h int, note io.Writer, popts ...tea.ProgramOption) error {
 	m := New(s, w, h, opt)
 	p := tea.NewProgram(m, popts...)
 	_, err := p.Run()
 	if opt.TracePath != "" {
-		m.lock()
-		terr := s.SaveTrace(opt.TracePath)
-		m.unlock()
-		if terr != nil {
+		if terr := s.SaveTrace(opt.TracePath); terr != nil {
 			return errors.Join(err, fmt.Errorf("writing the trace: %w", terr))
 		}
+		shown := diag.Printable(opt.TracePath)
+		fmt.Fprintf(note, "railyard: trace of %s saved to %s; railyard replay %s repeats it\n",
+			plural(len(s.Trace()), "action"), shown, shown)
 	}
 	return err
 }

@@ -32,6 +32,7 @@ func (m *Model) layout() {
 	m.devices.SetSize(rw, dh)
 	m.timeline.SetSize(rw, dh)
 	m.log.SetSize(rw, dh)
+	m.prompt.SetSize(m.w, 1)
 	m.help.Width = m.w
 }
 
@@ -121,17 +122,12 @@ func (m *Model) fullView() string {
 
 func (m *Model) header() string {
 	t := m.th
-	s := m.sess
-	name := s.Design.Name
-	if name == "" {
-		name = s.DesignPath
-	}
-	left := t.Header.Render("railyard") + " " + t.Dim.Render(t.G.Bar) + " " + t.Bold.Render(name)
-	if d := s.Design.Desc; d != "" {
+	left := t.Header.Render("railyard") + " " + t.Dim.Render(t.G.Bar) + " " + t.Bold.Render(m.designName)
+	if d := m.designDesc; d != "" {
 		left += " " + t.Dim.Render(d)
 	}
 	var right []string
-	right = append(right, t.Dim.Render(s.Opts.Mode.String()))
+	right = append(right, t.Dim.Render(m.sess.Opts.Mode.String()))
 	if m.numSteps > 0 {
 		right = append(right, fmt.Sprintf("step %d/%d", m.nextStep, m.numSteps))
 	}
@@ -139,9 +135,6 @@ func (m *Model) header() string {
 		right = append(right, t.FailBadge.Render(fmt.Sprintf(" %s FAIL %s ", t.G.Fail, m.lastFail)))
 	} else if m.failed > 0 {
 		right = append(right, t.Fail.Render(fmt.Sprintf("%s %d failed", t.G.Fail, m.failed)))
-	}
-	if m.opt.ReadOnly {
-		right = append(right, t.Warn.Render("read-only"))
 	}
 	if m.opt.Banner != "" {
 		right = append(right, t.Accent.Render(m.opt.Banner))
@@ -202,11 +195,13 @@ func (m *Model) detailView() string {
 }
 
 func (m *Model) statusLine() string {
-	if m.prompt != nil {
-		return m.prompt.View(m.w)
-	}
-	if m.statusBad {
+	switch {
+	case m.prompt.Active():
+		return m.prompt.View()
+	case m.statusAs == statusFail:
 		return theme.Fit(m.th.Error.Render(m.th.G.Fail+" "+m.status), m.w)
+	case m.statusAs == statusNote:
+		return theme.Fit(m.th.Accent.Render(m.status), m.w)
 	}
 	return theme.Fit(m.th.Status.Render(m.status), m.w)
 }
@@ -217,25 +212,30 @@ func (m *Model) hints() string {
 	var bs []key.Binding
 	h := func(k, desc string) { bs = append(bs, key.NewBinding(key.WithKeys(k), key.WithHelp(k, desc))) }
 	switch {
-	case m.prompt != nil:
-		bs = m.prompt.KeyMap.ShortHelp()
-		if m.prompt.Kind() == prompt.Jump {
-			bs = bs[:2]
+	case m.prompt.Active():
+		pk := m.prompt.KeyMap
+		switch m.prompt.Kind() {
+		case prompt.Jump:
+			bs = []key.Binding{pk.Accept, pk.Cancel}
+		case prompt.Confirm:
+			bs = []key.Binding{pk.Yes, pk.No}
+		default:
+			bs = pk.ShortHelp()
 		}
 	case m.showHelp:
 		h("esc", "close")
-		h("← →", "pages")
+		if m.helpPages() > 1 {
+			h("← →", "pages")
+		}
 		h("q", "quit")
-	case m.nodes.Filtering() || m.devices.Filtering():
+	case m.inputs.Filtering() || m.nodes.Filtering() || m.devices.Filtering():
 		h("enter", "keep filter")
 		h("esc", "clear filter")
 	default:
 		switch m.focus {
 		case focusInputs:
-			if !m.opt.ReadOnly {
-				h("space", "toggle")
-				h("0 1 x z", "set")
-			}
+			h("space", "toggle")
+			h("0 1 x z", "set")
 		case focusNodes:
 			h("enter", "why")
 			h("/", "filter")
@@ -247,9 +247,11 @@ func (m *Model) hints() string {
 			case ViewVectors:
 				h("↑↓", "select")
 				h("enter", "go to step")
+				h("← →", "scroll")
 			case ViewWhy, ViewLog:
 				h("↑↓", "scroll")
 			case ViewDevices:
+				h("enter", "why gate")
 				h("/", "filter")
 				h("o", "group only")
 			case ViewTimeline:
@@ -261,10 +263,8 @@ func (m *Model) hints() string {
 		if m.focus != focusDetail && m.view == ViewRounds {
 			h("← →", "replay")
 		}
-		if !m.opt.ReadOnly {
-			h("n", "next")
-			h("p", "back")
-		}
+		h("n", "next")
+		h("p", "back")
 		h("tab", "panel")
 		h("?", "keys")
 		h("q", "quit")
@@ -272,71 +272,22 @@ func (m *Model) hints() string {
 	return theme.Fit(m.help.ShortHelpView(bs), m.w)
 }
 
+// helpPages is the number of pages the help takes on this screen.
+func (m *Model) helpPages() int {
+	cols, perPage, _ := m.helpColumns(m.h - 3)
+	return (len(cols) + perPage - 1) / perPage
+}
+
 // helpView lists every key, section by section, each drawn by bubbles
 // help as one column; the columns flow across the screen and page with the
 // arrows when they do not all fit.
 func (m *Model) helpView(h int) string {
 	t := m.th
-	nav := m.nodes.KeyMap.Nav
-	sections := []struct {
-		title string
-		keys  []key.Binding
-	}{
-		{"Steps and actions", []key.Binding{m.keys.Next, m.keys.Prev, m.keys.Jump, m.keys.RunToFail, m.keys.RunToEnd, m.keys.Save}},
-		{"Views on the right", []key.Binding{m.keys.Rounds, m.keys.Vectors, m.keys.Why, m.keys.Devices, m.keys.Timeline, m.keys.Log}},
-		{"Inputs (left, top)", []key.Binding{m.inputs.KeyMap.Toggle, m.inputs.KeyMap.Set0, m.inputs.KeyMap.Set1, m.inputs.KeyMap.SetX, m.inputs.KeyMap.SetZ, m.inputs.KeyMap.Watch}},
-		{"Nodes (left)", []key.Binding{m.nodes.KeyMap.Inspect, m.nodes.KeyMap.Filter, m.nodes.KeyMap.Watch}},
-		{"Rounds: replay the settle", []key.Binding{m.rounds.KeyMap.Prev, m.rounds.KeyMap.Next, m.rounds.KeyMap.First, m.rounds.KeyMap.Last}},
-		{"Vectors", []key.Binding{m.vectors.KeyMap.Jump}},
-		{"Devices", []key.Binding{m.devices.KeyMap.Filter, m.devices.KeyMap.GroupOnly}},
-		{"Timeline", []key.Binding{m.timeline.KeyMap.Left, m.timeline.KeyMap.Right, m.timeline.KeyMap.Unwatch}},
-		{"Save prompt", prompt.DefaultKeyMap().ShortHelp()},
-		{"Lists", []key.Binding{nav.Up, nav.Down, nav.PageUp, nav.PageDown, nav.Home, nav.End}},
-		{"Everywhere", []key.Binding{m.keys.FocusNext, m.keys.FocusPrev, m.keys.Filter, m.keys.Help, m.keys.Close, m.keys.Quit}},
-	}
-	var lines []string
-	for i, s := range sections {
-		if i > 0 {
-			lines = append(lines, "")
-		}
-		lines = append(lines, t.TitleFocus.Render(s.title))
-		for _, l := range strings.Split(m.help.FullHelpView([][]key.Binding{s.keys}), "\n") {
-			lines = append(lines, " "+l)
-		}
-	}
-	lines = append(lines, "", t.TitleFocus.Render("Reading the screen"),
-		" 0 1  driven strong at full level",
-		" L H  weak, degraded or contested",
-		" Z    floating: keeps its stored value",
-		" X    unknown, or a fight of equals",
-		" "+t.G.Changed+" changed by the last settle",
-		" "+t.G.Watched+" on the timeline",
-		" "+t.G.Fail+" failed check  "+t.G.Pass+" passed",
-		" "+t.G.Group+" device in the inspected node's group",
-		" Waveforms: "+t.Legend())
-	// flow into columns of ch lines, as many side by side as fit
-	ch := h - 1
-	colW := 40
-	if m.w >= 120 {
-		colW = m.w / 3
-	}
-	perPage := max(m.w/colW, 1)
-	var cols [][]string
-	for len(lines) > 0 {
-		n := min(ch, len(lines))
-		// do not leave a section title alone at the foot of a column
-		if n < len(lines) && n > 1 && lines[n-1] != "" && !strings.HasPrefix(lines[n-1], " ") {
-			n--
-		}
-		cols = append(cols, lines[:n])
-		lines = lines[n:]
-		for len(lines) > 0 && lines[0] == "" {
-			lines = lines[1:]
-		}
-	}
+	cols, perPage, colW := m.helpColumns(h)
 	pages := (len(cols) + perPage - 1) / perPage
 	m.helpPage = min(max(m.helpPage, 0), pages-1)
 	first := m.helpPage * perPage
+	ch := h - 1
 	out := make([]string, h)
 	for i := 0; i < ch; i++ {
 		var b strings.Builder
@@ -357,6 +308,74 @@ func (m *Model) helpView(h int) string {
 	return theme.Block(out, m.w, h)
 }
 
+// helpColumns flows the help's lines into columns of h-1 lines, and says
+// how many fit side by side and how wide each is.
+func (m *Model) helpColumns(h int) (cols [][]string, perPage, colW int) {
+	t := m.th
+	nav := m.nodes.KeyMap.Nav
+	sections := []struct {
+		title string
+		keys  []key.Binding
+	}{
+		{"Steps and actions", []key.Binding{m.keys.Next, m.keys.Prev, m.keys.Jump, m.keys.RunToFail, m.keys.RunToEnd, m.keys.Save}},
+		{"Views on the right", []key.Binding{m.keys.Rounds, m.keys.Vectors, m.keys.Why, m.keys.Devices, m.keys.Timeline, m.keys.Log}},
+		{"Inputs (left, top)", []key.Binding{m.inputs.KeyMap.Toggle, m.inputs.KeyMap.Set0, m.inputs.KeyMap.Set1, m.inputs.KeyMap.SetX, m.inputs.KeyMap.SetZ, m.inputs.KeyMap.Watch, m.inputs.KeyMap.Filter}},
+		{"Nodes (left)", []key.Binding{m.nodes.KeyMap.Inspect, m.nodes.KeyMap.Filter, m.nodes.KeyMap.Watch}},
+		{"Rounds: replay the settle", []key.Binding{m.rounds.KeyMap.Prev, m.rounds.KeyMap.Next, m.rounds.KeyMap.First, m.rounds.KeyMap.Last}},
+		{"Vectors", []key.Binding{m.vectors.KeyMap.Jump, pair(m.vectors.KeyMap.Left, m.vectors.KeyMap.Right, "scroll the values")}},
+		{"Devices", []key.Binding{m.devices.KeyMap.Inspect, m.devices.KeyMap.Filter, m.devices.KeyMap.GroupOnly}},
+		{"Timeline", []key.Binding{pair(m.timeline.KeyMap.Left, m.timeline.KeyMap.Right, "earlier / later"), m.timeline.KeyMap.Unwatch}},
+		{"Save prompt", prompt.DefaultKeyMap().ShortHelp()},
+		{"Lists", []key.Binding{nav.Up, nav.Down, nav.PageUp, nav.PageDown, nav.Home, nav.End}},
+		{"Everywhere", []key.Binding{m.keys.FocusNext, m.keys.FocusPrev, m.keys.Filter, m.keys.Help, m.keys.Close, m.keys.Quit}},
+	}
+	var lines []string
+	for i, s := range sections {
+		if i > 0 {
+			lines = append(lines, "")
+		}
+		lines = append(lines, t.TitleFocus.Render(s.title))
+		for _, l := range strings.Split(m.help.FullHelpView([][]key.Binding{s.keys}), "\n") {
+			lines = append(lines, " "+l)
+		}
+	}
+	lines = append(lines, "", t.TitleFocus.Render("Reading the screen"),
+		" 0 1  driven strong at full level",
+		" L H  weak, degraded or contested",
+		" Z    floating: keeps its stored value",
+		" X    unknown, or a fight of equals",
+		" "+t.G.Changed+" changed by the last settle",
+		" "+t.G.Watched+" on the timeline  "+t.G.Group+" of the group",
+		" "+t.G.Fail+" failed check  "+t.G.Pass+" passed",
+		" "+t.G.Warn+" warning  "+t.G.Set+" input set by hand",
+		" Waveforms: "+t.Legend())
+	// flow into columns of ch lines, as many side by side as fit
+	ch := h - 1
+	colW = 40
+	if m.w >= 120 {
+		colW = m.w / 3
+	}
+	perPage = max(m.w/colW, 1)
+	for len(lines) > 0 {
+		n := min(ch, len(lines))
+		// do not leave a section title alone at the foot of a column
+		if n < len(lines) && n > 1 && lines[n-1] != "" && !strings.HasPrefix(lines[n-1], " ") {
+			n--
+		}
+		cols = append(cols, lines[:n])
+		lines = lines[n:]
+		for len(lines) > 0 && lines[0] == "" {
+			lines = lines[1:]
+		}
+	}
+	return cols, perPage, colW
+}
+
+// pair is one help line for two keys that go together (left and right).
+func pair(a, b key.Binding, desc string) key.Binding {
+	return key.NewBinding(key.WithKeys(append(a.Keys(), b.Keys()...)...), key.WithHelp(a.Help().Key+" "+b.Help().Key, desc))
+}
+
 func plural(n int, w string) string {
 	if n == 1 {
 		return "1 " + w
@@ -371,7 +390,7 @@ func asciiReplacer() *strings.Replacer {
 	// one cell for one cell, so that the widths the layout computed still hold
 	return strings.NewReplacer(
 		"↑", "^", "↓", "v", "←", "<", "→", ">", "…", "~", "•", "*", "·", ".",
-		"─", "-", "│", "|", "▸", ">", "▶", ">", "✓", "+", "✗", "!", "◆", "@", "◇", "#", "▏", "_",
+		"─", "-", "│", "|", "▸", ">", "▶", ">", "✓", "+", "✗", "F", "◆", "@", "◇", "&", "▏", "_",
 	)
 }
 

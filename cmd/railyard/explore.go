@@ -6,6 +6,7 @@ import (
 
 	"railyard/designs"
 	"railyard/switchsim"
+	"railyard/switchsim/load"
 	"railyard/switchsim/session"
 	"railyard/tui"
 )
@@ -28,6 +29,7 @@ examples:
 type exploreOptions struct {
 	steps, trace string
 	ascii        bool
+	load         *loadFlags
 }
 
 func cmdExplore(args []string, stdout, stderr io.Writer) int {
@@ -36,11 +38,12 @@ func cmdExplore(args []string, stdout, stderr io.Writer) int {
 	fs.StringVar(&o.steps, "steps", "", "the steps `FILE` (default: DESIGN's same-named .steps file)")
 	fs.StringVar(&o.trace, "trace", "", "save the session trace to `FILE` on quitting")
 	fs.BoolVar(&o.ascii, "ascii", false, "draw with ASCII only")
+	o.load = addLoadFlags(fs)
 	pos, code := parseArgs(fs, args, stdout, stderr)
 	if code >= 0 {
 		return code
 	}
-	design := "demo:" + designs.Default
+	design := load.DemoPrefix + designs.Default
 	switch len(pos) {
 	case 0:
 	case 1:
@@ -48,10 +51,15 @@ func cmdExplore(args []string, stdout, stderr io.Writer) int {
 	default:
 		return usageError(stderr, "explore", "want at most one DESIGN, got %d arguments", len(pos))
 	}
-	s, err := session.Open(design, o.steps, session.Options{Mode: switchsim.Physical})
+	files, err := o.load.loader()
+	if err != nil {
+		return usageError(stderr, "explore", "%v", err)
+	}
+	s, err := session.OpenFrom(files, design, o.steps, session.Options{Mode: switchsim.Physical})
 	if err != nil {
 		return loadError(stderr, err)
 	}
+	printNotes(stderr, s.Design)
 	return startExplorer(s, o, stderr)
 }
 

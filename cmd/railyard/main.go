@@ -29,7 +29,7 @@ type command struct {
 // a command by defining its function and naming it here.
 var commands = []command{
 	{"run", "settle each step of a design and report its checks", cmdRun},
-	{"check", "static checks, and every input combination with --exhaustive", cmdCheck},
+	{"check", "static checks, and every reachable state with --exhaustive; many designs at once", cmdCheck},
 	{"replay", "re-run a saved trace and compare every result", cmdReplay},
 	{"designs", "list the embedded demo designs", cmdDesigns},
 	{"explore", "the interactive explorer", cmdExplore},

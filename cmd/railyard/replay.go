@@ -3,9 +3,9 @@ package main
 import (
 	"fmt"
 	"io"
-	"os"
 
 	"railyard/designs"
+	"railyard/switchsim/load"
 	"railyard/switchsim/session"
 )
 
@@ -26,6 +26,10 @@ examples:
   railyard replay session.trace
 `
 
+// maxTraceBytes bounds the trace replay reads (a long session's trace is
+// far larger than a design).
+const maxTraceBytes = 1 << 30
+
 func cmdReplay(args []string, stdout, stderr io.Writer) int {
 	fs := newFlags("replay", replayUsage)
 	pos, code := parseArgs(fs, args, stdout, stderr)
@@ -36,7 +40,9 @@ func cmdReplay(args []string, stdout, stderr io.Writer) int {
 		return usageError(stderr, "replay", "want one TRACE, got %d arguments", len(pos))
 	}
 	path := pos[0]
-	f, err := os.Open(path)
+	// Opened through the loader: a missing file or a folder is reported as
+	// PATH: cannot read: why, and the stream is bounded in size.
+	f, err := load.Host(load.Options{}).Reader(path, maxTraceBytes)
 	if err != nil {
 		return loadError(stderr, err)
 	}

@@ -7,6 +7,7 @@ import (
 
 	"railyard/designs"
 	"railyard/switchsim"
+	"railyard/switchsim/load"
 	"railyard/switchsim/session"
 )
 
@@ -32,6 +33,7 @@ examples:
 type runOptions struct {
 	steps, trace, vcd      string
 	json, ideal, fullSwing bool
+	load                   *loadFlags // nil: the defaults
 }
 
 func cmdRun(args []string, stdout, stderr io.Writer) int {
@@ -43,6 +45,7 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 	fs.BoolVar(&o.fullSwing, "full-swing", false, "0 and 1 checks also require the strong full-level states")
 	fs.StringVar(&o.trace, "trace", "", "save the session trace to `FILE` (for railyard replay)")
 	fs.StringVar(&o.vcd, "vcd", "", "write a VCD waveform of every node to `FILE`")
+	o.load = addLoadFlags(fs)
 	pos, code := parseArgs(fs, args, stdout, stderr)
 	if code >= 0 {
 		return code
@@ -63,10 +66,18 @@ func runDesign(design string, o runOptions, stdout, stderr io.Writer) int {
 	if o.vcd != "" {
 		opt.KeepStates = math.MaxInt // a waveform needs every state, whatever the size
 	}
-	s, err := session.Open(design, o.steps, opt)
+	if o.load == nil {
+		o.load = &loadFlags{}
+	}
+	files, err := o.load.loader()
+	if err != nil {
+		return usageError(stderr, "run", "%v", err)
+	}
+	s, err := session.OpenFrom(files, design, o.steps, opt)
 	if err != nil {
 		return loadError(stderr, err)
 	}
+	printNotes(stderr, s.Design)
 	s.RunToEnd(false)
 	if o.trace != "" {
 		if err := s.SaveTrace(o.trace); err != nil {
@@ -98,7 +109,7 @@ func runDesign(design string, o runOptions, stdout, stderr io.Writer) int {
 // batchDefault is bare `railyard` off a terminal: the demo's batch report,
 // exit 0 whatever its checks say (FORMAT.md).
 func batchDefault(stdout, stderr io.Writer) int {
-	if code := runDesign("demo:"+designs.Default, runOptions{}, stdout, stderr); code == exitUsage {
+	if code := runDesign(load.DemoPrefix+designs.Default, runOptions{}, stdout, stderr); code == exitUsage {
 		return code
 	}
 	return exitOK

@@ -2,6 +2,7 @@ package main
 
 import (
 	"context"
+	"errors"
 	"fmt"
 	"io"
 	"log/slog"
@@ -20,19 +21,64 @@ import (
 const serveUsage = `
 usage: railyard serve --authorized-keys FILE --designs DIR [--listen ADDR]
        [--host-key FILE] [--traces DIR] [--max-sessions N] [--idle-timeout D]
+       [--max-pending N] [--max-pending-per-addr N] [--handshake-timeout D]
 
 Serve the explorer over SSH. Designers connect with a plain SSH client and
 a key listed in --authorized-keys (public keys only: no passwords). The SSH
 command chooses the design: NAME for DIR/NAME.sw (with its .steps beside
 it), demo:NAME for an embedded demo, nothing for a picker, and
-'join SESSION-ID' to watch someone's session read-only. Traces go under
---traces/USER/. Connections are logged to stderr as JSON lines.
+'join SESSION-ID' to watch someone's session read-only. The save key
+writes the trace or a VCD under --traces/USER/ with a name the server
+chooses; each session's trace is kept there too. Connections are logged to
+stderr as JSON lines.
+
+A connection has --handshake-timeout to authenticate. Connections not yet
+authenticated are capped per remote address (an IPv6 one by its /64) and in
+all: over its address's cap a new connection is refused; over the cap in
+all the oldest pending handshake of the address holding the most is dropped
+to let the new one in, so a flood from one address cannot keep others out.
 
 examples:
   railyard serve --authorized-keys team_keys --designs cells --traces traces
   ssh -t -p 2222 alice@127.0.0.1 opsel
   ssh -t -p 2222 bob@127.0.0.1 join k3m9qa
 `
+
+// serveFlags is the flag that sets each sshserve.Config field, so that the
+// server's errors, which name its fields, read in the user's terms.
+var serveFlags = map[string]string{
+	"Listen":            "--listen",
+	"AuthorizedKeys":    "--authorized-keys",
+	"HostKey":           "--host-key",
+	"Designs":           "--designs",
+	"Traces":            "--traces",
+	"MaxSessions":       "--max-sessions",
+	"IdleTimeout":       "--idle-timeout",
+	"MaxPending":        "--max-pending",
+	"MaxPendingPerAddr": "--max-pending-per-addr",
+	"HandshakeTimeout":  "--handshake-timeout",
+	"NoAuth":            "--no-auth",
+}
+
+// serveError says err in flags: a ConfigError's fields become the flags
+// that set them (a field no flag sets keeps its name).
+func serveError(err error) string {
+	var ce *sshserve.ConfigError
+	if !errors.As(err, &ce) {
+		return err.Error()
+	}
+	flag := func(field string) string {
+		if f, ok := serveFlags[field]; ok {
+			return f
+		}
+		return field
+	}
+	what := flag(ce.Field)
+	if ce.Other != "" {
+		what += " and " + flag(ce.Other)
+	}
+	return what + ": " + ce.Err.Error()
+}
 
 // defaultHostKey is where the host key lives unless --host-key says.
 func defaultHostKey() string {
@@ -50,9 +96,12 @@ func cmdServe(args []string, stdout, stderr io.Writer) int {
 	fs.StringVar(&cfg.AuthorizedKeys, "authorized-keys", "", "the public keys let in, one a line (`FILE`, as ssh-keygen writes them)")
 	fs.StringVar(&cfg.HostKey, "host-key", defaultHostKey(), "the server's private key `FILE`; an ed25519 key is made there (mode 600) if missing")
 	fs.StringVar(&cfg.Designs, "designs", "", "the `DIR` of .sw designs served")
-	fs.StringVar(&cfg.Traces, "traces", "", "save each session's trace under `DIR`/USER/ (none kept without it)")
+	fs.StringVar(&cfg.Traces, "traces", "", "keep each session's trace and what users save (trace, VCD) under `DIR`/USER/ (nothing kept without it)")
 	fs.IntVar(&cfg.MaxSessions, "max-sessions", sshserve.DefaultMaxSessions, "sessions open at once (`N`); more are refused")
 	fs.DurationVar(&cfg.IdleTimeout, "idle-timeout", sshserve.DefaultIdleTimeout, "close a session after this long (`D`) without input; 0 never")
+	fs.IntVar(&cfg.MaxPending, "max-pending", sshserve.DefaultMaxPending, "connections not yet authenticated at once (`N`), from all addresses")
+	fs.IntVar(&cfg.MaxPendingPerAddr, "max-pending-per-addr", sshserve.DefaultMaxPendingPerAddr, "connections not yet authenticated at once (`N`) from one remote address")
+	fs.DurationVar(&cfg.HandshakeTimeout, "handshake-timeout", sshserve.DefaultHandshakeTimeout, "time (`D`) from connecting to being authenticated")
 	fs.BoolVar(&cfg.NoAuth, "no-auth", false, "let anyone in: only on a loopback address, for trying it out")
 	pos, code := parseArgs(fs, args, stdout, stderr)
 	if code >= 0 {
@@ -67,10 +116,19 @@ func cmdServe(args []string, stdout, stderr io.Writer) int {
 	if cfg.IdleTimeout < 0 {
 		return usageError(stderr, "serve", "--idle-timeout must not be negative")
 	}
+	if cfg.MaxPending <= 0 {
+		return usageError(stderr, "serve", "--max-pending must be at least 1")
+	}
+	if cfg.MaxPendingPerAddr <= 0 {
+		return usageError(stderr, "serve", "--max-pending-per-addr must be at least 1")
+	}
+	if cfg.HandshakeTimeout <= 0 {
+		return usageError(stderr, "serve", "--handshake-timeout must be more than 0")
+	}
 	cfg.Logger = slog.New(slog.NewJSONHandler(stderr, nil))
 	srv, err := sshserve.New(cfg)
 	if err != nil {
-		fmt.Fprintf(stderr, "railyard serve: %v\n", err)
+		fmt.Fprintf(stderr, "railyard serve: %s\n", serveError(err))
 		return exitUsage
 	}
 	ln, err := net.Listen("tcp", cfg.Listen)
@@ -90,7 +148,7 @@ func cmdServe(args []string, stdout, stderr io.Writer) int {
 	select {
 	case err := <-done:
 		if err != nil {
-			fmt.Fprintf(stderr, "railyard serve: %v\n", err)
+			fmt.Fprintf(stderr, "railyard serve: %s\n", serveError(err))
 			return exitFail
 		}
 		return exitOK

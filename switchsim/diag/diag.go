@@ -8,6 +8,7 @@ package diag
 
 import (
 	"fmt"
+	"slices"
 	"sort"
 	"strconv"
 	"strings"
@@ -245,4 +246,82 @@ func isControl(r rune) bool {
 		return true
 	}
 	return false
+}
+
+// Count words a number of things: "1 step", "3 steps", "0 steps". The
+// plural is the word with an s, which serves every word the readers count.
+func Count(n int, word string) string {
+	if n == 1 {
+		return "1 " + word
+	}
+	return strconv.Itoa(n) + " " + word + "s"
+}
+
+// Suggest returns the candidate closest to word by edit distance
+// (Levenshtein: insertions, deletions and substitutions of bytes), when it
+// is close enough to be what was meant: at most one edit for a word of up
+// to four bytes, two up to eight, three beyond. "" when none is. Ties go to
+// the candidate listed first, so callers list the likelier ones first. A
+// word that is itself a candidate needs no suggestion.
+func Suggest(word string, candidates []string) string {
+	if slices.Contains(candidates, word) {
+		return ""
+	}
+	limit := 1
+	switch {
+	case len(word) > 8:
+		limit = 3
+	case len(word) > 4:
+		limit = 2
+	}
+	best, bestD := "", limit+1
+	for _, c := range candidates {
+		// A suggestion keeps at least one byte of the word: x is not a typo of w.
+		if d := distance(word, c, bestD); d < bestD && d < len(word) {
+			best, bestD = c, d
+		}
+	}
+	return best
+}
+
+// DidYouMean is Suggest worded to follow what was not understood:
+// ": did you mean inv?", or "" when nothing is close.
+func DidYouMean(word string, candidates []string) string {
+	if s := Suggest(word, candidates); s != "" {
+		return ": did you mean " + s + "?"
+	}
+	return ""
+}
+
+// distance is the edit distance between a and b, or any value >= bound
+// once it is known to reach bound (so long names cost little).
+func distance(a, b string, bound int) int {
+	if d := len(a) - len(b); d >= bound || -d >= bound {
+		return bound
+	}
+	if len(a) > 64 || len(b) > 64 {
+		return bound // names that long are not typos of keywords
+	}
+	prev := make([]int, len(b)+1)
+	cur := make([]int, len(b)+1)
+	for j := range prev {
+		prev[j] = j
+	}
+	for i := 1; i <= len(a); i++ {
+		cur[0] = i
+		low := cur[0]
+		for j := 1; j <= len(b); j++ {
+			sub := prev[j-1]
+			if a[i-1] != b[j-1] {
+				sub++
+			}
+			cur[j] = min(sub, prev[j]+1, cur[j-1]+1)
+			low = min(low, cur[j])
+		}
+		if low >= bound {
+			return bound
+		}
+		prev, cur = cur, prev
+	}
+	return prev[len(b)]
 }

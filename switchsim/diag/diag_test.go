@@ -67,3 +67,45 @@ func TestPrintable(t *testing.T) {
 		}
 	}
 }
+
+func TestCount(t *testing.T) {
+	for n, want := range map[int]string{0: "0 steps", 1: "1 step", 2: "2 steps"} {
+		if got := Count(n, "step"); got != want {
+			t.Errorf("Count(%d) = %q, want %q", n, got, want)
+		}
+	}
+}
+
+// TestSuggest: edit distances worked by hand (Levenshtein 1966): invv ->
+// inv is one deletion, nmoss -> nmos one, nand3 -> nand2 one substitution,
+// pulldwn -> pulldown one insertion; xyz is three edits from every cell.
+func TestSuggest(t *testing.T) {
+	cells := []string{"inv", "nand2", "nor2", "tinv"}
+	for _, c := range []struct{ word, want string }{
+		{"invv", "inv"}, {"nand3", "nand2"}, {"nor", "nor2"}, {"xyz", ""}, {"inv", ""},
+		{"Inv", "inv"}, {"tinvv", "tinv"},
+	} {
+		if got := Suggest(c.word, cells); got != c.want {
+			t.Errorf("Suggest(%q) = %q, want %q", c.word, got, c.want)
+		}
+	}
+	kinds := []string{"nmos", "pmos", "pulldown", "pullup"}
+	if got := Suggest("nmoss", kinds); got != "nmos" {
+		t.Errorf("nmoss: %q", got)
+	}
+	if got := Suggest("pulldwn", kinds); got != "pulldown" {
+		t.Errorf("pulldwn: %q", got)
+	}
+	if got := Suggest("x", []string{"w", "l"}); got != "" {
+		t.Errorf("x: %q (a one-byte word is no typo of another)", got)
+	}
+	if got := DidYouMean("invv", cells); got != ": did you mean inv?" {
+		t.Errorf("DidYouMean: %q", got)
+	}
+	if got := DidYouMean("zzzzzzzz", cells); got != "" {
+		t.Errorf("DidYouMean far: %q", got)
+	}
+	if d := distance("kitten", "sitting", 10); d != 3 {
+		t.Errorf("kitten/sitting: %d, want 3 (the textbook example)", d)
+	}
+}

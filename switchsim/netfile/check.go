@@ -2,30 +2,37 @@ package netfile
 
 import (
 	"fmt"
-	"sort"
+	"slices"
 	"strings"
 	"unicode"
 
 	"railyard/switchsim"
+	"railyard/switchsim/diag"
 )
 
 // Limits bound what the reader accepts, so that memory stays bounded on
 // any input, however large or deeply nested.
 type Limits struct {
-	FileSize int // bytes in one file
-	LineLen  int // bytes in one line
-	Depth    int // instances nested inside instances
-	Devices  int // devices once every cell is expanded
-	Errors   int // errors reported before the rest are only counted
+	FileSize  int // bytes in one file
+	LineLen   int // bytes in one line
+	Depth     int // instances nested inside instances
+	Devices   int // devices once every cell is expanded
+	NameLen   int // bytes in one name as written
+	NameBytes int // bytes of every node and device name once every cell is expanded
+	Errors    int // errors reported before the rest are only counted
 }
 
 // DefaultLimits are the limits Read uses.
 func DefaultLimits() Limits {
-	return Limits{FileSize: 4 << 20, LineLen: 64 << 10, Depth: 64, Devices: 2_000_000, Errors: 100}
+	return Limits{FileSize: 4 << 20, LineLen: 64 << 10, Depth: 64, Devices: 2_000_000,
+		NameLen: 1 << 10, NameBytes: 256 << 20, Errors: 100}
 }
 
+// MaxCorners bounds the corner statements of one design.
+const MaxCorners = 16
+
 var (
-	topKinds  = []string{"design", "tech", "power", "ground", "input", "output", "node", "nmos", "pmos", "tgate", "pullup", "pulldown", "cell", "use"}
+	topKinds  = []string{"design", "tech", "corner", "power", "ground", "input", "output", "node", "nmos", "pmos", "tgate", "pullup", "pulldown", "cell", "use", "alias"}
 	cellKinds = []string{"node", "nmos", "pmos", "tgate", "pullup", "pulldown", "use"}
 )
 
@@ -35,14 +42,22 @@ type cellDef struct {
 	file          string
 	line, col     int
 	ports         []string
-	portIx        map[string]int
+	portIx        map[string]int // by name, for cells of many ports; nil for few
 	items         []item
 	lib           bool
 	power, ground string // the rail names of the file that defines it
+	incomplete    bool   // a statement of its body had an error and was left out
+	used          bool   // another cell uses it
 
-	visit uint8 // 0 unvisited, 1 on the walk's stack, 2 measured
-	devs  int   // devices once expanded, saturated just past the limit
-	bad   bool  // on a cycle or nested too deep: never expanded
+	// Filled in by measure.
+	visit  uint8 // 0 unvisited, 1 on the walk's stack, 2 measured
+	stack  int   // its index on the walk's stack while visit is 1
+	cycle  bool  // on a cycle, or uses a cell that is: never expanded
+	height int   // levels of instances it makes, itself included, saturated past the depth limit
+	deep   int   // the item whose cell is the tallest (-1: none), to name the chain
+	devs   int64 // devices once expanded, saturated
+	names  int64 // nodes and devices an instance names, saturated
+	bytes  int64 // bytes of those names without the instance's own prefix, saturated
 }
 
 // item is one checked statement of a scope.
@@ -60,7 +75,36 @@ type item struct {
 	cell      *cellDef
 }
 
-func (cd *cellDef) hasPort(n string) bool { _, ok := cd.portIx[n]; return ok }
+func (cd *cellDef) hasPort(n string) bool { _, ok := cd.portIndex(n); return ok }
+
+// portIndex finds a port by name: a scan for a few ports (most cells),
+// a map beyond, so that a file of many small cells costs no map each.
+func (cd *cellDef) portIndex(n string) (int, bool) {
+	if cd.portIx != nil {
+		i, ok := cd.portIx[n]
+		return i, ok
+	}
+	for i, p := range cd.ports {
+		if p == n {
+			return i, true
+		}
+	}
+	return 0, false
+}
+
+func (cd *cellDef) addPort(n string) {
+	cd.ports = append(cd.ports, n)
+	if cd.portIx == nil && len(cd.ports) > 8 {
+		cd.portIx = make(map[string]int, 16)
+		for i, p := range cd.ports {
+			cd.portIx[p] = i
+		}
+	} else if cd.portIx != nil {
+		cd.portIx[n] = len(cd.ports) - 1
+	}
+}
+
+func (cd *cellDef) bad(lim Limits) bool { return cd.cycle || cd.height > lim.Depth }
 
 func (it *item) devices() int {
 	switch it.kind {
@@ -72,29 +116,44 @@ func (it *item) devices() int {
 	return 0
 }
 
+// alias is a checked alias statement.
+type alias struct {
+	name, original string
+	at             Word
+}
+
 // program is a checked design: what the flattener needs.
 type program struct {
 	name, desc    string
 	named         bool
 	tech          switchsim.Tech
 	power, ground string
+	railsBad      bool // power and ground share a name (reported)
 	top           []item
 	cells         map[string]*cellDef
+	corners       []Corner
+	aliases       []alias
+	tooBig        bool            // past the device or name limit (reported): never expanded
+	suspect       map[string]bool // top-level nodes named by a statement left out for an error
+	dropped       bool            // some statement was left out for an error
+	notes         diag.List
+	lim           Limits
 }
 
 type checker struct {
 	file     string
 	lim      Limits
-	errs     *sink
+	errs     *diag.Sink
 	lib      bool
 	cells    map[string]*cellDef
 	libCells map[string]*cellDef
 	prog     *program
+	sizes    SizeNotes
 	hint     string // cellHint's text, made once
 }
 
 func (c *checker) errAt(line, col int, format string, args ...any) {
-	c.errs.add(Pos{c.file, line, col}, format, args...)
+	c.errs.Add(at(c.file, line, col), format, args...)
 }
 
 func (c *checker) where(line, col int) string {
@@ -119,6 +178,10 @@ func isName(s string) bool {
 }
 
 func (c *checker) name(w Word, what string) (string, bool) {
+	if len(w.Text) > c.lim.NameLen {
+		c.errAt(w.Line, w.Col, "%s is longer than the limit of %d bytes", what[strings.IndexByte(what, ' ')+1:], c.lim.NameLen)
+		return "", false
+	}
 	if isName(w.Text) {
 		return w.Text, true
 	}
@@ -131,21 +194,14 @@ func (c *checker) arity(s *Stmt, min, max int, form string) bool {
 	n := len(s.Args)
 	switch {
 	case n < min:
-		c.errAt(s.Line, s.Col, "wrong number of terminals: %s takes %s, found %d word%s after %s", s.Kind, form, n, plural(n), s.Kind)
+		c.errAt(s.Line, s.Col, "wrong number of terminals: %s takes %s, found %s after %s", s.Kind, form, diag.Count(n, "word"), s.Kind)
 		return false
 	case max >= 0 && n > max:
 		w := s.Args[max]
-		c.errAt(w.Line, w.Col, "wrong number of terminals: %s takes %s, found %d words after %s", s.Kind, form, n, s.Kind)
+		c.errAt(w.Line, w.Col, "wrong number of terminals: %s takes %s, found %s after %s", s.Kind, form, diag.Count(n, "word"), s.Kind)
 		return false
 	}
 	return true
-}
-
-func plural(n int) string {
-	if n == 1 {
-		return ""
-	}
-	return "s"
 }
 
 // opts checks a statement's KEY=VALUE words against the keys it takes and
@@ -157,11 +213,11 @@ func (c *checker) opts(s *Stmt, allowed ...string) map[string]Opt {
 		case o.Key == "":
 			c.errAt(o.Line, o.Col, "missing option name before =")
 			continue
-		case !contains(allowed, o.Key):
+		case !slices.Contains(allowed, o.Key):
 			if len(allowed) == 0 {
 				c.errAt(o.Line, o.Col, "unknown option %q: %s takes no options", o.Key, s.Kind)
 			} else {
-				c.errAt(o.Line, o.Col, "unknown option %q for %s (want %s)", o.Key, s.Kind, strings.Join(allowed, ", "))
+				c.errAt(o.Line, o.Col, "unknown option %q for %s%s (want %s)", o.Key, s.Kind, diag.DidYouMean(o.Key, allowed), strings.Join(allowed, ", "))
 			}
 			continue
 		case o.Val == "":
@@ -174,21 +230,12 @@ func (c *checker) opts(s *Stmt, allowed ...string) map[string]Opt {
 		}
 		got[o.Key] = o
 	}
-	if s.Kind != "design" {
+	if s.Kind != "design" && s.Kind != "alias" {
 		for _, w := range s.Strs {
-			c.errAt(w.Line, w.Col, "unexpected string: only design takes a quoted description")
+			c.errAt(w.Line, w.Col, "unexpected string: only design and alias take a quoted string")
 		}
 	}
 	return got
-}
-
-func contains(list []string, s string) bool {
-	for _, x := range list {
-		if x == s {
-			return true
-		}
-	}
-	return false
 }
 
 // number reads an option's value as a number; positive demands > 0.
@@ -205,10 +252,23 @@ func (c *checker) number(o Opt, positive bool) (float64, bool) {
 	return v, true
 }
 
+// plausible notes a size or capacitance outside the plausible range.
+func (c *checker) plausible(o Opt, v float64) {
+	p := at(c.file, o.Line, o.ValCol)
+	switch o.Key {
+	case "w", "l", "wn", "wp":
+		c.sizes.Size(p, o.Key, o.Val, v)
+	case "cap", "cnode":
+		c.sizes.Cap(p, o.Key, o.Val, v)
+	}
+}
+
+var strengthNames = []string{"supply", "strong", "pull", "weak"}
+
 func (c *checker) strength(o Opt) (switchsim.Strength, bool) {
 	s, ok := switchsim.ParseStrength(o.Val)
 	if !ok || s < switchsim.Weak {
-		c.errAt(o.Line, o.ValCol, "unknown strength %q (want supply, strong, pull or weak)", o.Val)
+		c.errAt(o.Line, o.ValCol, "unknown strength %q%s (want supply, strong, pull or weak)", o.Val, diag.DidYouMean(strings.ToLower(o.Val), strengthNames))
 		return switchsim.HighZ, false
 	}
 	return s, true
@@ -217,7 +277,7 @@ func (c *checker) strength(o Opt) (switchsim.Strength, bool) {
 func (c *checker) charge(o Opt) (switchsim.Strength, bool) {
 	s, ok := switchsim.ParseStrength(o.Val)
 	if !ok || !s.IsCharge() {
-		c.errAt(o.Line, o.ValCol, "unknown charge %q (want small, medium or large)", o.Val)
+		c.errAt(o.Line, o.ValCol, "unknown charge %q%s (want small, medium or large)", o.Val, diag.DidYouMean(strings.ToLower(o.Val), []string{"small", "medium", "large"}))
 		return switchsim.HighZ, false
 	}
 	return s, true
@@ -225,7 +285,7 @@ func (c *checker) charge(o Opt) (switchsim.Strength, bool) {
 
 // check turns a parsed tree into a program, reporting every problem.
 func (c *checker) check(t *Tree) *program {
-	p := &program{tech: switchsim.Generic(), power: "vdd", ground: "gnd", cells: map[string]*cellDef{}}
+	p := &program{tech: switchsim.Generic(), power: "vdd", ground: "gnd", cells: map[string]*cellDef{}, suspect: map[string]bool{}, lim: c.lim}
 	c.prog, c.cells = p, p.cells
 
 	// Pass 1: the statements that set up the whole file (design, tech,
@@ -293,14 +353,33 @@ func (c *checker) check(t *Tree) *program {
 			}
 		}
 	}
-	if powerAt != nil && groundAt != nil && p.power == p.ground {
-		c.errAt(groundAt.Args[0].Line, groundAt.Args[0].Col, "power and ground are both named %s", p.power)
+	if p.power == p.ground {
+		// Reported at the statement that made them meet: ground if given
+		// (it names the second rail), else power naming the default ground.
+		p.railsBad = true
+		switch {
+		case groundAt != nil && len(groundAt.Args) > 0:
+			w := groundAt.Args[0]
+			c.errAt(w.Line, w.Col, "power and ground are both named %s", p.power)
+		case powerAt != nil && len(powerAt.Args) > 0:
+			w := powerAt.Args[0]
+			c.errAt(w.Line, w.Col, "power and ground are both named %s (the ground is gnd unless a ground statement renames it)", p.power)
+		}
+	}
+	// Pass 1b: corners, each the tech of pass 1 with keys replaced.
+	for _, s := range t.Stmts {
+		if s.Kind == "corner" {
+			c.corner(s, p)
+		}
 	}
 
 	// Pass 2: cell headers, so that a cell may be used before it is defined.
+	var order []*cellDef // the file's cells in the order written
 	for _, s := range t.Stmts {
 		if s.Kind == "cell" {
-			c.cellHeader(s, p)
+			if cd := c.cellHeader(s, p); cd != nil {
+				order = append(order, cd)
+			}
 		}
 	}
 	// Pass 3: cell bodies and the top level.
@@ -309,36 +388,22 @@ func (c *checker) check(t *Tree) *program {
 			if cd := c.cells[firstArg(s)]; cd != nil && cd.line == s.Line {
 				cd.items = c.body(s.Body, cd)
 			} else {
-				c.body(s.Body, &cellDef{name: firstArg(s), power: p.power, ground: p.ground, portIx: map[string]int{}})
+				c.body(s.Body, &cellDef{name: firstArg(s), power: p.power, ground: p.ground})
 			}
 		}
 	}
 	p.top = c.body(t.Stmts, nil)
+	for _, s := range t.Stmts {
+		if s.Kind == "alias" {
+			c.alias(s, p)
+		}
+	}
 
 	// Cycles, nesting depth and the expanded size.
-	names := make([]string, 0, len(c.cells))
-	for n := range c.cells {
-		names = append(names, n)
-	}
-	sort.Slice(names, func(i, j int) bool { return c.cells[names[i]].line < c.cells[names[j]].line })
-	var stack []*cellDef
-	for _, n := range names {
-		c.walk(c.cells[n], &stack, 0, 0)
-	}
-	total := 0
-	for i := range p.top {
-		it := &p.top[i]
-		if it.kind == "use" && it.cell != nil {
-			c.walk(it.cell, &stack, it.line, it.col)
-			total += it.cell.devs
-		} else {
-			total += it.devices()
-		}
-		if total > c.lim.Devices {
-			c.errAt(it.line, it.col, "the design expands to more than the limit of %d devices", c.lim.Devices)
-			break
-		}
-	}
+	c.measure(order)
+	c.reportDepth(order, p.top)
+	c.total(p)
+	p.notes = c.sizes.Notes()
 	return p
 }
 
@@ -350,19 +415,28 @@ func (c *checker) tech(s *Stmt, p *program) {
 		w := s.Args[0]
 		t, ok := switchsim.Preset(w.Text)
 		if !ok {
-			c.errAt(w.Line, w.Col, "unknown technology preset %q (want one of %s)", w.Text, strings.Join(switchsim.Presets(), ", "))
+			c.errAt(w.Line, w.Col, "unknown technology preset %q%s (want one of %s)", w.Text, diag.DidYouMean(w.Text, switchsim.Presets()), strings.Join(switchsim.Presets(), ", "))
 			return
 		}
 		p.tech = t
 	}
+	if c.techKeys(s, &p.tech) {
+		if err := p.tech.Validate(); err != nil {
+			c.errAt(s.Line, s.Col, "%v", err)
+		}
+	}
+}
+
+// techKeys applies a statement's KEY=VALUE words to t; false when one is bad.
+func (c *checker) techKeys(s *Stmt, t *switchsim.Tech) bool {
 	for _, w := range s.Strs {
-		c.errAt(w.Line, w.Col, "unexpected string: only design takes a quoted description")
+		c.errAt(w.Line, w.Col, "unexpected string: only design and alias take a quoted string")
 	}
 	seen := map[string]Opt{}
 	good := true
 	for _, o := range s.Opts {
-		if _, ok := p.tech.Get(o.Key); !ok {
-			c.errAt(o.Line, o.Col, "unknown technology key %q (want one of %s)", o.Key, strings.Join(switchsim.TechKeys(), " "))
+		if _, ok := t.Get(o.Key); !ok {
+			c.errAt(o.Line, o.Col, "unknown technology key %q%s (want one of %s)", o.Key, diag.DidYouMean(o.Key, switchsim.TechKeys()), strings.Join(switchsim.TechKeys(), " "))
 			good = false
 			continue
 		}
@@ -382,29 +456,100 @@ func (c *checker) tech(s *Stmt, p *program) {
 			good = false
 			continue
 		}
-		p.tech.Set(o.Key, v)
-	}
-	if good {
-		if err := p.tech.Validate(); err != nil {
-			c.errAt(s.Line, s.Col, "%v", err)
+		if v > 0 {
+			c.plausible(o, v)
 		}
+		t.Set(o.Key, v)
 	}
+	return good
 }
 
-func (c *checker) cellHeader(s *Stmt, p *program) {
-	c.opts(s)
-	if !c.arity(s, 1, -1, "NAME PORT ...") {
+// corner checks `corner NAME KEY=VALUE ...`: the design's tech with the
+// keys replaced.
+func (c *checker) corner(s *Stmt, p *program) {
+	if !c.arity(s, 1, 1, "NAME KEY=VALUE ...") {
 		return
 	}
-	name, ok := c.name(s.Args[0], "a cell name")
+	name, ok := c.name(s.Args[0], "a corner name")
 	if !ok {
 		return
 	}
-	if prev := c.cells[name]; prev != nil {
-		c.errAt(s.Args[0].Line, s.Args[0].Col, "cell %s defined twice (first at %s)", name, c.where(prev.line, prev.col))
+	for _, k := range p.corners {
+		if k.Name == name {
+			c.errAt(s.Args[0].Line, s.Args[0].Col, "corner %s given twice (first at %s)", name, c.where(k.Pos.Line, k.Pos.Col))
+			return
+		}
+	}
+	if len(p.corners) >= MaxCorners {
+		c.errAt(s.Line, s.Col, "more than the limit of %d corners", MaxCorners)
 		return
 	}
-	cd := &cellDef{name: name, file: c.file, line: s.Line, col: s.Col, portIx: map[string]int{}, lib: c.lib, power: p.power, ground: p.ground}
+	if len(s.Opts) == 0 {
+		c.errAt(s.Line, s.Col, "corner %s changes nothing: give the technology keys it replaces (KEY=VALUE)", name)
+		return
+	}
+	t := p.tech
+	if !c.techKeys(s, &t) {
+		return
+	}
+	if err := t.Validate(); err != nil {
+		c.errAt(s.Line, s.Col, "corner %s: %v", name, err)
+		return
+	}
+	p.corners = append(p.corners, Corner{Name: name, Tech: t, Pos: at(c.file, s.Line, s.Col)})
+}
+
+// alias checks `alias NAME "ORIGINAL"`; whether NAME names a node or a
+// device is known only once the cells are expanded (flatten).
+func (c *checker) alias(s *Stmt, p *program) {
+	c.opts(s)
+	if !c.arity(s, 1, 1, `NAME "ORIGINAL"`) {
+		return
+	}
+	if len(s.Strs) != 1 {
+		c.errAt(s.Line, s.Col, `alias takes one quoted ORIGINAL spelling after the name, found %s`, diag.Count(len(s.Strs), "string"))
+		return
+	}
+	w, q := s.Args[0], s.Strs[0]
+	name, ok := c.name(w, "a node or device name")
+	if !ok {
+		return
+	}
+	switch {
+	case q.Text == "":
+		c.errAt(q.Line, q.Col, "the original spelling of %s is empty", name)
+		return
+	case len(q.Text) > c.lim.NameLen:
+		c.errAt(q.Line, q.Col, "the original spelling is longer than the limit of %d bytes for a name", c.lim.NameLen)
+		return
+	}
+	for _, a := range p.aliases {
+		if a.name == name {
+			c.errAt(w.Line, w.Col, "alias for %s given twice (first at %s)", name, c.where(a.at.Line, a.at.Col))
+			return
+		}
+		if a.original == q.Text {
+			c.errAt(q.Line, q.Col, "original spelling %q given to both %s and %s (first at %s)", q.Text, a.name, name, c.where(a.at.Line, a.at.Col))
+			return
+		}
+	}
+	p.aliases = append(p.aliases, alias{name: name, original: q.Text, at: w})
+}
+
+func (c *checker) cellHeader(s *Stmt, p *program) *cellDef {
+	c.opts(s)
+	if !c.arity(s, 1, -1, "NAME PORT ...") {
+		return nil
+	}
+	name, ok := c.name(s.Args[0], "a cell name")
+	if !ok {
+		return nil
+	}
+	if prev := c.cells[name]; prev != nil {
+		c.errAt(s.Args[0].Line, s.Args[0].Col, "cell %s defined twice (first at %s)", name, c.where(prev.line, prev.col))
+		return nil
+	}
+	cd := &cellDef{name: name, file: c.file, line: s.Line, col: s.Col, lib: c.lib, power: p.power, ground: p.ground, deep: -1}
 	for _, w := range s.Args[1:] {
 		port, ok := c.name(w, "a port name")
 		if !ok {
@@ -416,11 +561,11 @@ func (c *checker) cellHeader(s *Stmt, p *program) {
 		case cd.hasPort(port):
 			c.errAt(w.Line, w.Col, "port %s of cell %s given twice", port, name)
 		default:
-			cd.portIx[port] = len(cd.ports)
-			cd.ports = append(cd.ports, port)
+			cd.addPort(port)
 		}
 	}
 	c.cells[name] = cd
+	return cd
 }
 
 // lookup finds a cell for a use: the design's own cells first, then the
@@ -457,26 +602,42 @@ func (c *checker) body(stmts []*Stmt, cd *cellDef) []item {
 		}
 		return out, ok
 	}
+	// drop records a statement left out for an error, so that the
+	// flattener and Compile do not report what its absence causes.
+	drop := func(s *Stmt) {
+		p.dropped = true
+		if cd != nil {
+			cd.incomplete = true
+			return
+		}
+		for _, w := range s.Args {
+			p.suspect[w.Text] = true
+		}
+	}
 	for _, s := range stmts {
 		if s.Kind == "" {
 			continue
 		}
-		if cd != nil && !contains(cellKinds, s.Kind) {
-			if contains(topKinds, s.Kind) {
+		if cd != nil && !slices.Contains(cellKinds, s.Kind) {
+			if slices.Contains(topKinds, s.Kind) {
 				c.errAt(s.Line, s.Col, "%s is not allowed inside a cell (cells take %s)", s.Kind, strings.Join(cellKinds, ", "))
+			} else if hint := diag.DidYouMean(s.Kind, cellKinds); hint != "" {
+				c.errAt(s.Line, s.Col, "unknown statement %q%s", s.Kind, hint)
 			} else {
 				c.errAt(s.Line, s.Col, "unknown statement %q (want one of %s)", s.Kind, strings.Join(cellKinds, ", "))
 			}
+			drop(s)
 			continue
 		}
 		it := item{kind: s.Kind, line: s.Line, col: s.Col, words: s.Args}
 		ok := true
 		switch s.Kind {
-		case "design", "tech", "power", "ground", "cell":
+		case "design", "tech", "corner", "power", "ground", "cell", "alias":
 			continue // judged in check
 		case "input", "output":
 			c.opts(s)
 			if !c.arity(s, 1, -1, "NAME ...") {
+				drop(s)
 				continue
 			}
 			seen := inputs
@@ -505,6 +666,7 @@ func (c *checker) body(stmts []*Stmt, cd *cellDef) []item {
 		case "node":
 			o := c.opts(s, "cap", "charge")
 			if !c.arity(s, 1, -1, "NAME ... [cap=C] [charge=small|medium|large]") {
+				drop(s)
 				continue
 			}
 			it.terms, ok = terms(s.Args)
@@ -536,6 +698,7 @@ func (c *checker) body(stmts []*Stmt, cd *cellDef) []item {
 				ok = c.arity(s, 2, 2, "NAME NODE")
 			}
 			if !ok {
+				drop(s)
 				continue
 			}
 			var good bool
@@ -544,9 +707,12 @@ func (c *checker) body(stmts []*Stmt, cd *cellDef) []item {
 			}
 			it.terms, ok = terms(s.Args[1:])
 			ok = ok && good
-			for key, dst := range map[string]*float64{"w": &it.w, "l": &it.l, "wn": &it.wn, "wp": &it.wp} {
-				if v, has := o[key]; has {
-					*dst, ok = c.numberOK(v, ok)
+			for _, size := range []struct {
+				key string
+				dst *float64
+			}{{"w", &it.w}, {"l", &it.l}, {"wn", &it.wn}, {"wp", &it.wp}} {
+				if v, has := o[size.key]; has {
+					*size.dst, ok = c.numberOK(v, ok)
 				}
 			}
 			if v, has := o["strength"]; has {
@@ -556,6 +722,7 @@ func (c *checker) body(stmts []*Stmt, cd *cellDef) []item {
 		case "use":
 			o := c.opts(s, "strength")
 			if !c.arity(s, 2, -1, "CELL NAME NODE ...") {
+				drop(s)
 				continue
 			}
 			cw := s.Args[0]
@@ -565,8 +732,14 @@ func (c *checker) body(stmts []*Stmt, cd *cellDef) []item {
 				it.cell = c.lookup(cw.Text)
 			}
 			if it.cell == nil {
-				c.errAt(cw.Line, cw.Col, "undeclared cell %q%s", cw.Text, c.cellHint())
+				if hint := diag.DidYouMean(cw.Text, c.cellNames()); hint != "" {
+					c.errAt(cw.Line, cw.Col, "undeclared cell %q%s", cw.Text, hint)
+				} else {
+					c.errAt(cw.Line, cw.Col, "undeclared cell %q%s", cw.Text, c.cellHint())
+				}
 				ok = false
+			} else if cd != nil && !it.cell.lib {
+				it.cell.used = true // (the library's cells are shared: never written to)
 			}
 			var good bool
 			if it.name, good = c.name(s.Args[1], "an instance name"); good {
@@ -580,8 +753,8 @@ func (c *checker) body(stmts []*Stmt, cd *cellDef) []item {
 				if len(it.terms) > len(it.cell.ports) {
 					at = s.Args[2+len(it.cell.ports)]
 				}
-				c.errAt(at.Line, at.Col, "wrong number of terminals: cell %s takes %d node%s (%s), found %d",
-					it.cell.name, len(it.cell.ports), plural(len(it.cell.ports)), strings.Join(it.cell.ports, " "), len(it.terms))
+				c.errAt(at.Line, at.Col, "wrong number of terminals: cell %s takes %s (%s), found %d",
+					it.cell.name, diag.Count(len(it.cell.ports), "node"), strings.Join(it.cell.ports, " "), len(it.terms))
 				ok = false
 			}
 			if v, has := o["strength"]; has {
@@ -589,19 +762,46 @@ func (c *checker) body(stmts []*Stmt, cd *cellDef) []item {
 				ok = ok && good
 			}
 		default:
-			c.errAt(s.Line, s.Col, "unknown statement %q (want one of %s)", s.Kind, strings.Join(topKinds, ", "))
+			if hint := diag.DidYouMean(s.Kind, topKinds); hint != "" {
+				c.errAt(s.Line, s.Col, "unknown statement %q%s", s.Kind, hint)
+			} else {
+				c.errAt(s.Line, s.Col, "unknown statement %q (want one of %s)", s.Kind, strings.Join(topKinds, ", "))
+			}
+			drop(s)
 			continue
 		}
 		if ok {
 			items = append(items, it)
+		} else {
+			drop(s)
 		}
 	}
 	return items
 }
 
+// numberOK reads a positive number, noting an implausible size or
+// capacitance; ok carries the statement's state so far.
 func (c *checker) numberOK(o Opt, ok bool) (float64, bool) {
 	v, good := c.number(o, true)
+	if good && !c.lib {
+		c.plausible(o, v)
+	}
 	return v, ok && good
+}
+
+// cellNames lists the cells a use may name, the file's own first.
+func (c *checker) cellNames() []string {
+	own := make([]string, 0, len(c.cells)+len(c.libCells))
+	for n := range c.cells {
+		own = append(own, n)
+	}
+	slices.Sort(own)
+	lib := make([]string, 0, len(c.libCells))
+	for n := range c.libCells {
+		lib = append(lib, n)
+	}
+	slices.Sort(lib)
+	return append(own, lib...)
 }
 
 func (c *checker) cellHint() string {
@@ -612,12 +812,12 @@ func (c *checker) cellHint() string {
 	for n := range c.cells {
 		own = append(own, n)
 	}
-	sort.Strings(own)
+	slices.Sort(own)
 	var lib []string
 	for n := range c.libCells {
 		lib = append(lib, n)
 	}
-	sort.Strings(lib)
+	slices.Sort(lib)
 	if len(own) > 8 {
 		own = append(own[:8], "...")
 	}
@@ -629,56 +829,188 @@ func (c *checker) cellHint() string {
 	return c.hint
 }
 
-// walk measures cd (expanded size) and reports the cycles and the nesting
-// beyond the depth limit that it finds; line, col are those of the use
-// that led here (0 from the top of the walk).
-func (c *checker) walk(cd *cellDef, stack *[]*cellDef, line, col int) {
-	switch cd.visit {
-	case 2:
-		return
-	case 1:
-		i := len(*stack) - 1
-		for i > 0 && (*stack)[i] != cd {
-			i--
-		}
-		var chain []string
-		for _, x := range (*stack)[i:] {
-			chain = append(chain, x.name)
-			x.bad = true
-		}
-		chain = append(chain, cd.name)
-		c.errAt(line, col, "cell %s instantiates itself: %s", cd.name, strings.Join(chain, " -> "))
-		return
+// chainText names a chain of cells, eliding the middle of a long one.
+func chainText(names []string) string {
+	if len(names) > 7 {
+		names = append(append(names[:3:3], "..."), names[len(names)-3:]...)
 	}
-	if len(*stack) >= c.lim.Depth {
-		var chain []string
-		for _, x := range *stack {
-			chain = append(chain, x.name)
-			x.bad = true
+	return strings.Join(names, " -> ")
+}
+
+// saturating bound for the sizes measure adds up: past every limit, and
+// far from overflowing when multiplied by a name's length.
+const saturate = 1 << 40
+
+func sat(v int64) int64 { return min(v, saturate) }
+
+// measure walks the cells a file defines, in the order written, deepest
+// first (post-order), without recursion, so that a chain of thousands of
+// cells costs no deeper stack than one. It reports each cycle at the use
+// that closes it and gives every cell its nesting height and its expanded
+// size: devices, names and name bytes. Each cell and each use is visited
+// once, so the walk is linear in the file's size whatever the order the
+// cells are defined in.
+func (c *checker) measure(order []*cellDef) {
+	var stack []*cellDef
+	next := map[*cellDef]int{} // the next item of each cell on the stack
+	for _, root := range order {
+		if root.visit != 0 {
+			continue
 		}
-		if len(chain) > 6 {
-			chain = append(chain[:3], append([]string{"..."}, chain[len(chain)-3:]...)...)
+		root.visit, root.stack = 1, 0
+		stack = append(stack[:0], root)
+		for len(stack) > 0 {
+			cd := stack[len(stack)-1]
+			i := next[cd]
+			if i < len(cd.items) {
+				next[cd] = i + 1
+				it := &cd.items[i]
+				if it.kind != "use" || it.cell == nil {
+					continue
+				}
+				switch sub := it.cell; sub.visit {
+				case 0:
+					sub.visit, sub.stack = 1, len(stack)
+					stack = append(stack, sub)
+				case 1:
+					var chain []string
+					for _, x := range stack[sub.stack:] {
+						chain = append(chain, x.name)
+					}
+					c.errAt(it.line, it.col, "cell %s instantiates itself: %s", sub.name, chainText(append(chain, sub.name)))
+					cd.cycle = true
+				}
+				continue
+			}
+			c.finish(cd)
+			delete(next, cd)
+			stack = stack[:len(stack)-1]
 		}
-		c.errAt(line, col, "instances nest more than %d deep (%s -> %s)", c.lim.Depth, strings.Join(chain, " -> "), cd.name)
-		cd.visit, cd.bad = 2, true
-		return
 	}
-	cd.visit = 1
-	*stack = append(*stack, cd)
-	n := 0
+}
+
+// finish sums a cell whose used cells are all measured.
+func (c *checker) finish(cd *cellDef) {
+	cd.visit = 2
+	cd.height = 1
+	inner := map[string]bool{} // the nodes an instance makes
+	inst := func(n string) {
+		if !cd.hasPort(n) && n != cd.power && n != cd.ground {
+			inner[n] = true
+		}
+	}
+	var devs, names, bytes int64
 	for i := range cd.items {
 		it := &cd.items[i]
-		if it.kind == "use" && it.cell != nil {
-			c.walk(it.cell, stack, it.line, it.col)
-			n += it.cell.devs
-			if it.cell.bad {
-				cd.bad = true
+		switch it.kind {
+		case "use":
+			sub := it.cell
+			if sub == nil || sub.visit != 2 {
+				continue // a cycle, reported
 			}
-		} else {
-			n += it.devices()
+			cd.cycle = cd.cycle || sub.cycle
+			if h := min(sub.height+1, c.lim.Depth+1); h > cd.height {
+				cd.height, cd.deep = h, i
+			}
+			devs = sat(devs + sub.devs)
+			names = sat(names + sub.names)
+			bytes = sat(bytes + sub.bytes + sub.names*int64(len(it.name)+1))
+		case "tgate":
+			devs += 2
+			names += 2
+			bytes = sat(bytes + 2*int64(len(it.name)+2))
+		default:
+			if d := it.devices(); d > 0 {
+				devs += int64(d)
+				names++
+				bytes = sat(bytes + int64(len(it.name)))
+			}
 		}
-		n = min(n, c.lim.Devices+1)
+		for _, n := range it.terms {
+			inst(n)
+		}
 	}
-	*stack = (*stack)[:len(*stack)-1]
-	cd.visit, cd.devs = 2, n
+	for n := range inner {
+		names++
+		bytes = sat(bytes + int64(len(n)))
+	}
+	cd.devs, cd.names, cd.bytes = sat(devs), sat(names), bytes
+}
+
+// reportDepth reports the nesting beyond the depth limit, once per place:
+// from each cell no other cell uses, and from the top level, it follows
+// the tallest chain and names it at the use one level too deep.
+func (c *checker) reportDepth(order []*cellDef, top []item) {
+	seen := map[[2]int]bool{}
+	report := func(cd *cellDef) {
+		if cd.cycle || cd.height <= c.lim.Depth {
+			return
+		}
+		chain := []string{cd.name}
+		var it *item
+		for cur := cd; len(chain) <= c.lim.Depth && cur.deep >= 0; {
+			it = &cur.items[cur.deep]
+			cur = it.cell
+			chain = append(chain, cur.name)
+		}
+		if it == nil || seen[[2]int{it.line, it.col}] {
+			return
+		}
+		seen[[2]int{it.line, it.col}] = true
+		c.errAt(it.line, it.col, "instances nest more than %d deep (%s)", c.lim.Depth, chainText(chain))
+	}
+	for _, cd := range order {
+		if !cd.used {
+			report(cd)
+		}
+	}
+	for i := range top {
+		if it := &top[i]; it.kind == "use" && it.cell != nil && it.cell.visit == 2 {
+			report(it.cell)
+		}
+	}
+}
+
+// total checks the expanded size of the top level against the limits,
+// and that the design has a device at all.
+func (c *checker) total(p *program) {
+	var devs, bytes int64
+	skipped := false
+	nodes := map[string]bool{}
+	for i := range p.top {
+		it := &p.top[i]
+		if it.kind == "use" && it.cell != nil {
+			if it.cell.bad(c.lim) || it.cell.visit != 2 {
+				for _, n := range it.terms {
+					p.suspect[n] = true // never expanded: what it would connect is unknown
+				}
+				skipped = true
+				continue
+			}
+			devs = sat(devs + it.cell.devs)
+			bytes = sat(bytes + it.cell.bytes + it.cell.names*int64(len(it.name)+1))
+		} else if d := it.devices(); d > 0 {
+			devs += int64(d)
+			bytes = sat(bytes + int64(d*(len(it.name)+2)))
+		}
+		for _, n := range it.terms {
+			if !nodes[n] {
+				nodes[n] = true
+				bytes = sat(bytes + int64(len(n)))
+			}
+		}
+		if devs > int64(c.lim.Devices) {
+			c.errAt(it.line, it.col, "the design expands to more than the limit of %d devices", c.lim.Devices)
+			p.tooBig = true
+			return
+		}
+		if bytes > int64(c.lim.NameBytes) {
+			c.errAt(it.line, it.col, "the design's node and device names, once its cells are expanded, take more than the limit of %s", diag.SizeString(c.lim.NameBytes))
+			p.tooBig = true
+			return
+		}
+	}
+	if devs == 0 && !p.dropped && !skipped && !c.lib {
+		c.errAt(1, 0, "the design has no devices: nothing to simulate (add nmos, pmos, tgate, pullup, pulldown or use statements)")
+	}
 }

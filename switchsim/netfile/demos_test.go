@@ -8,6 +8,7 @@ import (
 
 	"railyard/designs"
 	"railyard/switchsim"
+	"railyard/switchsim/load"
 	"railyard/switchsim/netfile"
 	"railyard/switchsim/steps"
 )
@@ -42,19 +43,14 @@ func runSteps(t *testing.T, d *netfile.Design, st *steps.Steps, mode switchsim.M
 
 func loadDemo(t *testing.T, name string) (*netfile.Design, *steps.Steps) {
 	t.Helper()
-	d, err := netfile.ReadFile("demo:" + name)
+	ld, err := load.Host(load.Options{}).Open("demo:"+name, "")
 	if err != nil {
 		t.Fatalf("demo %s: %v", name, err)
 	}
-	path, ok := steps.Default("demo:" + name)
-	if !ok {
+	if ld.Steps == nil {
 		t.Fatalf("demo %s has no steps", name)
 	}
-	st, err := steps.ReadFile(path, d.Netlist)
-	if err != nil {
-		t.Fatalf("demo %s steps: %v", name, err)
-	}
-	return d, st
+	return ld.Design, ld.Steps
 }
 
 // Every demo's steps pass in ideal mode (the checks are the designers'
@@ -83,7 +79,7 @@ func TestDemoStepsIdeal(t *testing.T) {
 // The demo list's descriptions, read without the reader, agree with it.
 func TestDemoDescriptions(t *testing.T) {
 	for _, e := range designs.List() {
-		d, err := netfile.ReadFile("demo:" + e.Name)
+		d, err := readDemo(e.Name)
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -91,7 +87,7 @@ func TestDemoDescriptions(t *testing.T) {
 			t.Errorf("demo %s: reader says %q %q, list says %q", e.Name, d.Name, d.Desc, e.Desc)
 		}
 	}
-	if _, _, ok := designs.Source(designs.Default); !ok {
+	if _, err := readDemo(designs.Default); err != nil {
 		t.Errorf("default demo %s missing", designs.Default)
 	}
 }

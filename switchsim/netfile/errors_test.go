@@ -6,13 +6,14 @@ import (
 	"strings"
 	"testing"
 
+	"railyard/switchsim/diag"
 	"railyard/switchsim/netfile"
 )
 
 // wantErrors reads src as t.sw and checks that every want, written
 // "LINE:COL: text", matches an error at exactly that position whose
 // message contains text. The positions are counted by hand from src.
-func wantErrors(t *testing.T, src string, lim *netfile.Limits, wants ...string) netfile.ErrorList {
+func wantErrors(t *testing.T, src string, lim *netfile.Limits, wants ...string) diag.List {
 	t.Helper()
 	var err error
 	if lim != nil {
@@ -23,9 +24,9 @@ func wantErrors(t *testing.T, src string, lim *netfile.Limits, wants ...string) 
 	if err == nil {
 		t.Fatalf("no error for:\n%s", src)
 	}
-	var list netfile.ErrorList
+	var list diag.List
 	if !errors.As(err, &list) {
-		t.Fatalf("error is %T, not an ErrorList: %v", err, err)
+		t.Fatalf("error is %T, not a diag.List: %v", err, err)
 	}
 	text := err.Error()
 	for _, w := range wants {
@@ -178,19 +179,4 @@ func TestLimits(t *testing.T) {
 			t.Errorf("want 10 errors and a last line, got %d", len(list))
 		}
 	})
-}
-
-func TestReadFileErrors(t *testing.T) {
-	_, err := netfile.ReadFile("demo:no_such_demo")
-	if err == nil || !strings.HasPrefix(err.Error(), "demo:no_such_demo: no demo design named") {
-		t.Errorf("unknown demo: %v", err)
-	}
-	_, err = netfile.ReadFile(t.TempDir() + "/missing.sw")
-	if err == nil || !strings.Contains(err.Error(), "missing.sw: cannot read: no such file") {
-		t.Errorf("missing file: %v", err)
-	}
-	_, err = netfile.ReadFile(t.TempDir())
-	if err == nil || !strings.Contains(err.Error(), "is a directory") {
-		t.Errorf("directory: %v", err)
-	}
 }

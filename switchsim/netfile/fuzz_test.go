@@ -7,6 +7,7 @@ import (
 	"testing"
 
 	"railyard/designs"
+	"railyard/switchsim/diag"
 	"railyard/switchsim/netfile"
 	"railyard/switchsim/steps"
 )
@@ -16,15 +17,17 @@ var fuzzLimits = netfile.Limits{FileSize: 64 << 10, LineLen: 4 << 10, Depth: 16,
 
 func seedDesigns(f *testing.F) {
 	for _, e := range designs.List() {
-		sw, _, _ := designs.Source(e.Name)
+		sw, _ := designs.FS.ReadFile(e.Name + ".sw")
 		f.Add(sw)
 	}
 	f.Add(netfile.LibrarySource())
 	f.Add([]byte("cell a X\n  use b i X\nend\ncell b Y\n  use a j Y\nend\nuse a top q\n"))
 	f.Add([]byte("design x \"d\"\ntech generic vdd=1.2 vtp=-0.3\npower vcc\nground vss\ninput a\nnode a cap=1f charge=small\npulldown p a strength=weak\n"))
+	f.Add([]byte("tech generic vdd=1.8\ncorner slow vdd=1.62 vtn=0.5 kn=150u\ncorner fast vdd=1.98\ninput a\nuse inv u a y\nalias u.n \"MN<0>\"\nalias y \"net\\\"3\"\n"))
+	f.Add([]byte("input a\nnmos n a y gnd w=0.5 l=2m\nnode y cap=5\ncorner k vdd=0.3\nalias q \"Q\"\n"))
 }
 
-// FuzzRead: no input panics; every error is an ErrorList with a position in
+// FuzzRead: no input panics; every error is a diag.List with a position in
 // the file; a design that reads survives the writer: read(write(d)) gives
 // the same netlist, both from the tree and flat.
 func FuzzRead(f *testing.F) {
@@ -32,7 +35,7 @@ func FuzzRead(f *testing.F) {
 	f.Fuzz(func(t *testing.T, src []byte) {
 		d, err := netfile.ReadLimits("f.sw", src, fuzzLimits)
 		if err != nil {
-			var list netfile.ErrorList
+			var list diag.List
 			if !errors.As(err, &list) || len(list) == 0 {
 				t.Fatalf("error %T: %v", err, err)
 			}
@@ -64,15 +67,32 @@ func FuzzRead(f *testing.F) {
 			if diff := diffNetlists(d.Netlist, d2.Netlist); len(diff) > 0 {
 				t.Fatalf("read(write(d)) differs (flat %v):\n%s\n%s", flat, strings.Join(diff, "\n"), buf.String())
 			}
+			if flat {
+				continue // the flat writer writes the netlist alone
+			}
+			if len(d2.Corners) != len(d.Corners) {
+				t.Fatalf("read(write(d)) has %d corners, not %d", len(d2.Corners), len(d.Corners))
+			}
+			for i := range d.Corners {
+				if d.Corners[i].Name != d2.Corners[i].Name || d.Corners[i].Tech != d2.Corners[i].Tech {
+					t.Fatalf("corner %d differs: %+v vs %+v", i, d.Corners[i], d2.Corners[i])
+				}
+			}
+			for n := 0; n < d.Netlist.NumNodes(); n++ {
+				if a, b := d.Netlist.DisplayName(n), d2.Netlist.DisplayName(n); a != b {
+					t.Fatalf("node %s shows as %q, then %q", d.Netlist.NodeName(n), a, b)
+				}
+			}
 		}
 	})
 }
 
 // FuzzSteps reads a design and a steps file against it: no panic, errors
-// are ErrorLists, and rows that read have one value per column.
+// are diag.Lists, and rows that read have one value per column.
 func FuzzSteps(f *testing.F) {
 	for _, e := range designs.List() {
-		sw, st, _ := designs.Source(e.Name)
+		sw, _ := designs.FS.ReadFile(e.Name + ".sw")
+		st, _ := designs.FS.ReadFile(e.Name + ".steps")
 		f.Add(sw, st)
 	}
 	f.Add([]byte("input a b\noutput y\nuse nand2 g a b y\n"), []byte("apply a b\ncheck y g.mid\n0 0|1 -\nx z | X Z # l\n"))
@@ -83,7 +103,7 @@ func FuzzSteps(f *testing.F) {
 		}
 		st, err := steps.ReadLimits("f.steps", src, d.Netlist, steps.Limits{FileSize: 64 << 10, LineLen: 4 << 10})
 		if err != nil {
-			var list netfile.ErrorList
+			var list diag.List
 			if !errors.As(err, &list) || len(list) == 0 {
 				t.Fatalf("error %T: %v", err, err)
 			}

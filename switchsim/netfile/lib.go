@@ -2,8 +2,9 @@ package netfile
 
 import (
 	_ "embed"
-	"sort"
 	"sync"
+
+	"railyard/switchsim/diag"
 )
 
 // LibraryFile is the name the built-in library's positions are given in.
@@ -14,17 +15,17 @@ var librarySource []byte
 
 var library = sync.OnceValues(func() (map[string]*cellDef, error) {
 	lim := DefaultLimits()
-	errs := &sink{max: lim.Errors}
+	errs := diag.NewSink(lim.Errors)
 	t := parseTree(LibraryFile, scanLines(LibraryFile, librarySource, lim.LineLen, errs), errs)
 	c := &checker{file: LibraryFile, lim: lim, errs: errs, lib: true}
 	p := c.check(t)
 	for _, s := range t.Stmts {
 		if s.Kind != "" && s.Kind != "cell" {
-			errs.add(Pos{LibraryFile, s.Line, s.Col}, "the library holds only cells")
+			errs.Add(at(LibraryFile, s.Line, s.Col), "the library holds only cells")
 		}
 	}
-	if errs.any() {
-		return nil, errs.err()
+	if errs.Any() {
+		return nil, errs.Err()
 	}
 	return p.cells, nil
 })
@@ -43,14 +44,4 @@ func LibraryCells() map[string][]string {
 		out[n] = append([]string(nil), cd.ports...)
 	}
 	return out
-}
-
-// LibraryNames lists the built-in cells' names, sorted.
-func LibraryNames() []string {
-	var names []string
-	for n := range LibraryCells() {
-		names = append(names, n)
-	}
-	sort.Strings(names)
-	return names
 }

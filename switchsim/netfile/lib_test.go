@@ -3,7 +3,9 @@ package netfile_test
 import (
 	"testing"
 
+	"railyard/designs"
 	"railyard/switchsim"
+	"railyard/switchsim/diag"
 	"railyard/switchsim/netfile"
 )
 
@@ -159,3 +161,22 @@ func TestLibraryRenamedRails(t *testing.T) {
 		t.Errorf("y = %s, want 1", got.State)
 	}
 }
+
+// readDemo reads an embedded demo's design, as the reader sees its bytes.
+func readDemo(name string) (*netfile.Design, error) {
+	src, err := designs.FS.ReadFile(name + ".sw")
+	if err != nil {
+		return nil, err
+	}
+	return netfile.Read("demo:"+name, src)
+}
+
+func demoNames() []string {
+	var names []string
+	for _, e := range designs.List() {
+		names = append(names, e.Name)
+	}
+	return names
+}
+
+func pos(line int) diag.Pos { return diag.Pos{File: "x.sp", Line: line, Col: 1} }

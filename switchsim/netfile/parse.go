@@ -1,6 +1,10 @@
 package netfile
 
-import "strings"
+import (
+	"strings"
+
+	"railyard/switchsim/diag"
+)
 
 // Tree is a design file as written: its statements in file order with their
 // positions and comments, before any checking or cell expansion. The writer
@@ -43,7 +47,7 @@ func (s *Stmt) Get(key string) (Opt, bool) {
 
 // parseTree groups lines into statements and cell bodies. Only the block
 // structure is checked here (cell ... end); the checker judges the rest.
-func parseTree(file string, lines []srcLine, errs *sink) *Tree {
+func parseTree(file string, lines []srcLine, errs *diag.Sink) *Tree {
 	t := &Tree{File: file}
 	var cell *Stmt
 	add := func(s *Stmt) {
@@ -53,8 +57,10 @@ func parseTree(file string, lines []srcLine, errs *sink) *Tree {
 			t.Stmts = append(t.Stmts, s)
 		}
 	}
-	for _, l := range lines {
-		s := &Stmt{Line: l.num, Comment: l.comment, HasComment: l.hasComment}
+	slab := make([]Stmt, len(lines)) // one allocation for every statement
+	for i, l := range lines {
+		s := &slab[i]
+		*s = Stmt{Line: l.num, Comment: l.comment, HasComment: l.hasComment}
 		if len(l.words) == 0 {
 			add(s)
 			continue
@@ -62,11 +68,21 @@ func parseTree(file string, lines []srcLine, errs *sink) *Tree {
 		kw := l.words[0]
 		s.Col = kw.Col
 		if kw.Quoted {
-			errs.add(Pos{file, kw.Line, kw.Col}, "expected a statement keyword, found a string")
+			errs.Add(at(file, kw.Line, kw.Col), "expected a statement keyword, found a string")
 			continue
 		}
 		s.Kind = kw.Text
+		plain := true
 		for _, w := range l.words[1:] {
+			plain = plain && !w.Quoted && strings.IndexByte(w.Text, '=') < 0
+		}
+		if plain {
+			s.Args = l.words[1:] // the common case: no copy
+		}
+		for _, w := range l.words[1:] {
+			if plain {
+				break
+			}
 			if w.Quoted {
 				s.Strs = append(s.Strs, w)
 				continue
@@ -80,7 +96,7 @@ func parseTree(file string, lines []srcLine, errs *sink) *Tree {
 		switch s.Kind {
 		case "cell":
 			if cell != nil {
-				errs.add(Pos{file, s.Line, s.Col}, "cell %s starts inside cell %s (line %d), which has no end: cells cannot be nested",
+				errs.Add(at(file, s.Line, s.Col), "cell %s starts inside cell %s (line %d), which has no end: cells cannot be nested",
 					firstArg(s), firstArg(cell), cell.Line)
 			}
 			cell = nil
@@ -88,11 +104,11 @@ func parseTree(file string, lines []srcLine, errs *sink) *Tree {
 			cell = s
 		case "end":
 			if cell == nil {
-				errs.add(Pos{file, s.Line, s.Col}, "end without a cell to close")
+				errs.Add(at(file, s.Line, s.Col), "end without a cell to close")
 				continue
 			}
 			if len(s.Args)+len(s.Opts)+len(s.Strs) > 0 {
-				errs.add(Pos{file, s.Line, s.Col}, "end takes nothing after it")
+				errs.Add(at(file, s.Line, s.Col), "end takes nothing after it")
 			}
 			cell.End = s
 			cell = nil
@@ -101,7 +117,7 @@ func parseTree(file string, lines []srcLine, errs *sink) *Tree {
 		}
 	}
 	if cell != nil {
-		errs.add(Pos{file, cell.Line, cell.Col}, "cell %s has no end", firstArg(cell))
+		errs.Add(at(file, cell.Line, cell.Col), "cell %s has no end", firstArg(cell))
 	}
 	return t
 }

@@ -12,14 +12,9 @@ package netfile
 import (
 	"errors"
 	"fmt"
-	"io"
-	"io/fs"
-	"os"
 	"path/filepath"
-	"strconv"
 	"strings"
 
-	"railyard/designs"
 	"railyard/switchsim"
 	"railyard/switchsim/diag"
 )
@@ -49,21 +44,24 @@ type Corner struct {
 }
 
 // Read reads a design from src with the default limits; filename is used in
-// positions. Every error comes back as an ErrorList.
+// positions. Every error comes back as a diag.List.
 func Read(filename string, src []byte) (*Design, error) {
 	return ReadLimits(filename, src, DefaultLimits())
 }
 
-// ReadLimits is Read with the given limits.
+// ReadLimits is Read with the given limits. Every stage runs on what the
+// earlier ones accepted, so one run reports the errors of all of them
+// (syntax, names, cells, connectivity), leaving out only what an earlier
+// error makes unknowable.
 func ReadLimits(filename string, src []byte, lim Limits) (*Design, error) {
 	lim = lim.orDefault()
-	if e := CheckSize(filename, src, lim.FileSize); e != nil {
-		return nil, ErrorList{e}
+	if e := diag.CheckSize(filename, src, lim.FileSize); e != nil {
+		return nil, diag.List{e}
 	}
-	if e := CheckText(filename, src); e != nil {
-		return nil, ErrorList{e}
+	if e := diag.CheckText(filename, src); e != nil {
+		return nil, diag.List{e}
 	}
-	errs := &sink{max: lim.Errors}
+	errs := diag.NewSink(lim.Errors)
 	tree := parseTree(filename, scanLines(filename, src, lim.LineLen, errs), errs)
 	lib, err := library()
 	if err != nil {
@@ -71,22 +69,33 @@ func ReadLimits(filename string, src []byte, lim Limits) (*Design, error) {
 	}
 	c := &checker{file: filename, lim: lim, errs: errs, libCells: lib}
 	p := c.check(tree)
-	if errs.any() {
-		return nil, errs.err()
-	}
 	if !p.named {
-		p.name = strings.TrimSuffix(filepath.Base(strings.TrimPrefix(filename, "demo:")), filepath.Ext(filename))
+		p.name = baseName(filename)
 	}
-	nl := flatten(filename, p, errs)
-	if errs.any() {
-		return nil, errs.err()
+	var nl *switchsim.Netlist
+	if !p.tooBig && !p.railsBad && !errs.Full() {
+		nl = flatten(filename, p, errs)
 	}
-	return &Design{Name: p.name, Desc: p.desc, Netlist: nl, Source: src, File: filename, Tree: tree}, nil
+	if errs.Any() {
+		return nil, errs.Err()
+	}
+	return &Design{Name: p.name, Desc: p.desc, Netlist: nl, Source: src, File: filename, Tree: tree,
+		Corners: p.corners, Notes: p.notes}, nil
+}
+
+// baseName is a file's name without its folders, any scheme before a colon
+// (demo:, builtin:) and its extension: a design's name when it gives none.
+func baseName(file string) string {
+	if i := strings.LastIndexAny(file, `/\:`); i >= 0 {
+		file = file[i+1:]
+	}
+	return strings.TrimSuffix(file, filepath.Ext(file))
 }
 
 func (l Limits) orDefault() Limits {
 	d := DefaultLimits()
-	for _, f := range []struct{ v, d *int }{{&l.FileSize, &d.FileSize}, {&l.LineLen, &d.LineLen}, {&l.Depth, &d.Depth}, {&l.Devices, &d.Devices}, {&l.Errors, &d.Errors}} {
+	for _, f := range []struct{ v, d *int }{{&l.FileSize, &d.FileSize}, {&l.LineLen, &d.LineLen}, {&l.Depth, &d.Depth},
+		{&l.Devices, &d.Devices}, {&l.NameLen, &d.NameLen}, {&l.NameBytes, &d.NameBytes}, {&l.Errors, &d.Errors}} {
 		if *f.v <= 0 {
 			*f.v = *f.d
 		}
@@ -94,101 +103,116 @@ func (l Limits) orDefault() Limits {
 	return l
 }
 
-// ReadFile reads a design from a path, or an embedded demo as demo:NAME.
-func ReadFile(path string) (*Design, error) {
-	if name, ok := strings.CutPrefix(path, "demo:"); ok {
-		sw, _, ok := designs.Source(name)
-		if !ok {
-			var names []string
-			for _, e := range designs.List() {
-				names = append(names, e.Name)
-			}
-			return nil, ErrorList{{Pos{File: path}, fmt.Sprintf("no demo design named %q (the demos: %s)", name, strings.Join(names, ", "))}}
-		}
-		return Read(path, sw)
-	}
-	src, err := ReadText(path, DefaultLimits().FileSize)
-	if err != nil {
-		return nil, err
-	}
-	return Read(path, src)
-}
-
-// ReadText reads a file of at most max bytes (and one more, so that the
-// size error has a position). An error is an ErrorList naming the file.
-func ReadText(path string, max int) ([]byte, error) {
-	fail := func(err error) error {
-		var pe *fs.PathError
-		if errors.As(err, &pe) {
-			err = pe.Err
-		}
-		return ErrorList{{Pos{File: path}, "cannot read: " + err.Error()}}
-	}
-	f, err := os.Open(path)
-	if err != nil {
-		return nil, fail(err)
-	}
-	defer f.Close()
-	if st, err := f.Stat(); err == nil && st.IsDir() {
-		return nil, ErrorList{{Pos{File: path}, "cannot read: is a directory"}}
-	}
-	src, err := io.ReadAll(io.LimitReader(f, int64(max)+1))
-	if err != nil {
-		return nil, fail(err)
-	}
-	return src, nil
-}
-
 // flattener expands a checked program into a Builder.
 type flattener struct {
 	b             *switchsim.Builder
-	errs          *sink
+	p             *program
+	errs          *diag.Sink
 	file          string
 	power, ground string
-	declared      map[string]Pos // outputs and annotated nodes, for Compile's messages
-	line, col     int            // the top-level statement being expanded
+	declared      map[string]diag.Pos // outputs and annotated nodes, for Compile's messages
+	suspect       map[string]bool     // nodes an error left incompletely connected
+	incomplete    []string            // prefixes of instances of cells with a statement left out
+	line, col     int                 // the top-level statement being expanded
 }
 
-func flatten(file string, p *program, errs *sink) *switchsim.Netlist {
-	f := &flattener{b: switchsim.NewBuilder(), errs: errs, file: file, power: p.power, ground: p.ground, declared: map[string]Pos{}}
+func flatten(file string, p *program, errs *diag.Sink) *switchsim.Netlist {
+	f := &flattener{b: switchsim.NewBuilder(), p: p, errs: errs, file: file, power: p.power, ground: p.ground,
+		declared: map[string]diag.Pos{}, suspect: p.suspect}
 	f.b.SetName(p.name, p.desc)
 	f.b.SetTech(p.tech)
 	if err := f.b.SetRails(p.power, p.ground); err != nil {
-		errs.add(Pos{file, 1, 0}, "%v", err)
+		errs.Add(at(file, 1, 0), "%v", err)
 		return nil
 	}
 	f.scope(p.top, nil, "", nil, switchsim.HighZ)
-	if errs.any() {
+	if errs.Full() {
 		return nil
 	}
+	f.aliases()
 	nl, err := f.b.Compile()
 	if err != nil {
 		var ce *switchsim.CompileError
 		if !errors.As(err, &ce) {
-			errs.add(Pos{file, 1, 0}, "%v", err)
+			errs.Add(at(file, 1, 0), "%v", err)
 			return nil
 		}
-		for _, msg := range ce.Problems {
-			errs.add(f.posOf(msg), "%s", msg)
+		for _, pr := range ce.Problems {
+			if !f.caused(pr) {
+				errs.Add(f.posOf(pr), "%s", pr.Msg)
+			}
 		}
 		return nil
 	}
 	return nl
 }
 
-// posOf finds the declaration a Compile message is about, by the first
-// quoted name in it.
-func (f *flattener) posOf(msg string) Pos {
-	if i := strings.IndexByte(msg, '"'); i >= 0 {
-		if q, err := strconv.QuotedPrefix(msg[i:]); err == nil {
-			if n, err := strconv.Unquote(q); err == nil {
-				if p, ok := f.declared[n]; ok {
-					return p
-				}
+// aliases records the original spellings, each for a node or device the
+// expanded design has.
+func (f *flattener) aliases() {
+	for _, a := range f.p.aliases {
+		node, dev := f.b.HasNode(a.name), f.b.HasDevice(a.name)
+		switch {
+		case !node && !dev:
+			if !f.p.dropped {
+				f.errs.Add(at(f.file, a.at.Line, a.at.Col), "alias names %s, which is no node or device of the design", a.name)
+			}
+			continue
+		case a.original != a.name && (f.b.HasNode(a.original) || f.b.HasDevice(a.original)):
+			f.errs.Add(at(f.file, a.at.Line, a.at.Col), "the original spelling %q of %s is the name of another node or device", a.original, a.name)
+			continue
+		}
+		if err := f.b.Original(a.name, a.original); err != nil {
+			f.errs.Add(at(f.file, a.at.Line, a.at.Col), "%v", err)
+		}
+	}
+}
+
+// caused reports whether a Compile problem may come from a statement left
+// out for an error: its node was named by one, or lies in an instance of a
+// cell that lost one.
+func (f *flattener) caused(pr switchsim.Problem) bool {
+	if !f.p.dropped {
+		return false
+	}
+	for _, n := range []string{pr.Node, pr.Device} {
+		if n == "" {
+			continue
+		}
+		if f.suspect[n] {
+			return true
+		}
+		for _, pre := range f.incomplete {
+			if strings.HasPrefix(n, pre) {
+				return true
 			}
 		}
 	}
-	return Pos{f.file, 1, 0}
+	return false
+}
+
+// posOf finds the statement a Compile problem is about: where its node was
+// declared, else the top-level statement that made its node or device (a
+// device by name, an instance by the prefix of the names it made).
+func (f *flattener) posOf(pr switchsim.Problem) diag.Pos {
+	if p, ok := f.declared[pr.Node]; ok && pr.Node != "" {
+		return p
+	}
+	for _, name := range []string{pr.Device, pr.Node} {
+		if name == "" {
+			continue
+		}
+		for i := range f.p.top {
+			it := &f.p.top[i]
+			switch {
+			case it.name == "":
+			case it.kind == "use" && strings.HasPrefix(name, it.name+"."),
+				name == it.name, it.kind == "tgate" && (name == it.name+".n" || name == it.name+".p"):
+				return at(f.file, it.line, it.col)
+			}
+		}
+	}
+	return at(f.file, 1, 0)
 }
 
 // effective gives a device's strength: its own (or the default), capped by
@@ -206,11 +230,17 @@ func effective(s, def, limit switchsim.Strength) switchsim.Strength {
 // scope expands one scope: the top level (cd nil) or an instance of cd
 // whose ports connect to the nodes in ports.
 func (f *flattener) scope(items []item, cd *cellDef, prefix string, ports []string, limit switchsim.Strength) {
+	if cd != nil && cd.incomplete {
+		f.incomplete = append(f.incomplete, prefix)
+		for _, n := range ports {
+			f.suspect[n] = true
+		}
+	}
 	mapn := func(n string) string {
 		if cd == nil {
 			return n
 		}
-		if i, ok := cd.portIx[n]; ok {
+		if i, ok := cd.portIndex(n); ok {
 			return ports[i]
 		}
 		switch n {
@@ -234,7 +264,7 @@ func (f *flattener) scope(items []item, cd *cellDef, prefix string, ports []stri
 			if cd != nil {
 				msg += fmt.Sprintf(" (expanding cell %s, %s:%d)", cd.name, cd.file, it.line)
 			}
-			f.errs.add(Pos{f.file, f.line, f.col}, "%s", msg)
+			f.errs.Add(at(f.file, f.line, f.col), "%s", msg)
 		}
 		t := it.terms
 		switch it.kind {
@@ -266,6 +296,9 @@ func (f *flattener) scope(items []item, cd *cellDef, prefix string, ports []stri
 		case "pullup", "pulldown":
 			fail(f.b.Pull(prefix+it.name, mapn(t[0]), it.kind == "pullup", effective(it.strength, switchsim.Pull, limit)))
 		case "use":
+			if it.cell.bad(f.p.lim) {
+				continue // on a cycle or too deep: reported, never expanded
+			}
 			sub := make([]string, len(t))
 			for j, n := range t {
 				sub[j] = mapn(n)
@@ -276,7 +309,7 @@ func (f *flattener) scope(items []item, cd *cellDef, prefix string, ports []stri
 			}
 			f.scope(it.cell.items, it.cell, prefix+it.name+".", sub, lim)
 		}
-		if f.errs.dropped > 0 {
+		if f.errs.Full() {
 			return // past the error limit: stop expanding
 		}
 	}
@@ -288,7 +321,7 @@ func (f *flattener) declare(n string, w Word, top bool) {
 	if _, ok := f.declared[n]; ok {
 		return
 	}
-	p := Pos{f.file, f.line, f.col}
+	p := at(f.file, f.line, f.col)
 	if top {
 		p.Col = w.Col
 	}

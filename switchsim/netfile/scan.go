@@ -2,7 +2,9 @@ package netfile
 
 import (
 	"strconv"
-	"unicode/utf8"
+	"strings"
+
+	"railyard/switchsim/diag"
 )
 
 // Word is one token of a line: a bare Word, or a double-quoted string
@@ -21,89 +23,35 @@ type srcLine struct {
 	hasComment bool
 }
 
-// CheckText reports the first byte that keeps src from being text: a NUL
-// byte or a byte sequence that is not UTF-8. It returns nil for text.
-func CheckText(file string, src []byte) *Error {
-	line, col := 1, 1
-	for i := 0; i < len(src); {
-		c := src[i]
-		if c == 0 {
-			return &Error{Pos{file, line, col}, "not a text file: NUL byte"}
-		}
-		if c < utf8.RuneSelf {
-			i++
-			if c == '\n' {
-				line, col = line+1, 1
-			} else {
-				col++
-			}
-			continue
-		}
-		r, n := utf8.DecodeRune(src[i:])
-		if r == utf8.RuneError && n <= 1 {
-			return &Error{Pos{file, line, col}, "not a text file: invalid UTF-8"}
-		}
-		i += n
-		col += n
-	}
-	return nil
-}
-
-// CheckSize reports a file longer than max bytes, at the position where it
-// passes the limit.
-func CheckSize(file string, src []byte, max int) *Error {
-	if len(src) <= max {
-		return nil
-	}
-	line, col := 1, 1
-	for _, c := range src[:max] {
-		if c == '\n' {
-			line, col = line+1, 1
-		} else {
-			col++
-		}
-	}
-	return &Error{Pos{file, line, col}, "file is longer than the limit of " + sizeString(max)}
-}
-
-func sizeString(n int) string {
-	switch {
-	case n >= 1<<20 && n%(1<<20) == 0:
-		return strconv.Itoa(n>>20) + " MiB"
-	case n >= 1<<10 && n%(1<<10) == 0:
-		return strconv.Itoa(n>>10) + " KiB"
-	}
-	return strconv.Itoa(n) + " bytes"
-}
-
 func isSpace(c byte) bool { return c == ' ' || c == '\t' || c == '\r' || c == '\f' || c == '\v' }
 
 // scanLines splits src (already checked to be text) into lines of words.
-// A line longer than maxLine is reported and left empty.
-func scanLines(file string, src []byte, maxLine int, errs *sink) []srcLine {
+// A line longer than maxLine is reported and left empty. The text is
+// copied once; words are slices of that copy, and the lines' words share
+// one backing array, so a file costs a fixed number of bytes a word.
+func scanLines(file string, src []byte, maxLine int, errs *diag.Sink) []srcLine {
 	if len(src) >= 3 && src[0] == 0xEF && src[1] == 0xBB && src[2] == 0xBF {
 		src = src[3:] // a byte-order mark says nothing in UTF-8
 	}
-	var lines []srcLine
+	all := string(src)
+	lines := make([]srcLine, 0, strings.Count(all, "\n")+1)
+	words := make([]Word, 0, countWords(all))
 	num := 0
-	for len(src) > 0 {
+	for len(all) > 0 {
 		num++
-		end := 0
-		for end < len(src) && src[end] != '\n' {
-			end++
-		}
-		text := src[:end]
-		if end < len(src) {
-			src = src[end+1:]
+		text := all
+		if end := strings.IndexByte(all, '\n'); end >= 0 {
+			text, all = all[:end], all[end+1:]
 		} else {
-			src = nil
+			all = ""
 		}
 		l := srcLine{num: num}
 		if len(text) > maxLine {
-			errs.add(Pos{file, num, maxLine + 1}, "line is longer than the limit of %d bytes", maxLine)
+			errs.Add(at(file, num, maxLine+1), "line is longer than the limit of %d bytes", maxLine)
 			lines = append(lines, l)
 			continue
 		}
+		first := len(words)
 		for i := 0; i < len(text); {
 			c := text[i]
 			switch {
@@ -117,31 +65,58 @@ func scanLines(file string, src []byte, maxLine int, errs *sink) []srcLine {
 				for k > j && isSpace(text[k-1]) {
 					k--
 				}
-				l.comment, l.hasComment = string(text[j:k]), true
+				l.comment, l.hasComment = text[j:k], true
 				i = len(text)
 			case c == '"':
-				q, err := strconv.QuotedPrefix(string(text[i:]))
+				q, err := strconv.QuotedPrefix(text[i:])
 				if err != nil {
-					errs.add(Pos{file, num, i + 1}, "string is not closed or has a bad escape (use \\\" and \\\\ inside quotes)")
+					errs.Add(at(file, num, i+1), "string is not closed or has a bad escape (use \\\" and \\\\ inside quotes)")
 					i = len(text)
 					break
 				}
 				s, err := strconv.Unquote(q)
 				if err != nil {
-					errs.add(Pos{file, num, i + 1}, "bad string %s", q)
+					errs.Add(at(file, num, i+1), "bad string %s", q)
 				}
-				l.words = append(l.words, Word{Text: s, Line: num, Col: i + 1, Quoted: true})
+				words = append(words, Word{Text: s, Line: num, Col: i + 1, Quoted: true})
 				i += len(q)
 			default:
 				j := i
 				for j < len(text) && !isSpace(text[j]) && text[j] != '#' && text[j] != '"' {
 					j++
 				}
-				l.words = append(l.words, Word{Text: string(text[i:j]), Line: num, Col: i + 1})
+				words = append(words, Word{Text: text[i:j], Line: num, Col: i + 1})
 				i = j
 			}
 		}
+		l.words = words[first:len(words):len(words)]
 		lines = append(lines, l)
 	}
 	return lines
 }
+
+// countWords counts the words of a text the way scanLines splits them,
+// closely enough to size its array once (a quoted string holding spaces
+// counts more than once: the estimate errs high).
+func countWords(s string) int {
+	n, in, comment := 0, false, false
+	for i := 0; i < len(s); i++ {
+		c := s[i]
+		switch {
+		case c == '\n':
+			in, comment = false, false
+		case comment:
+		case c == '#':
+			comment = true
+		case isSpace(c):
+			in = false
+		case !in:
+			in = true
+			n++
+		}
+	}
+	return n
+}
+
+// at is the position of a line and column of file.
+func at(file string, line, col int) diag.Pos { return diag.Pos{File: file, Line: line, Col: col} }

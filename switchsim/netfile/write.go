@@ -77,7 +77,7 @@ func stmtText(s *Stmt) string {
 		parts = append(parts, strconv.Quote(q.Text))
 	}
 	order := optOrder[s.Kind]
-	if s.Kind == "tech" {
+	if s.Kind == "tech" || s.Kind == "corner" {
 		order = switchsim.TechKeys()
 	}
 	written := map[int]bool{}

@@ -103,7 +103,7 @@ func roundTrip(t *testing.T, name string, d *netfile.Design) string {
 // statement tree and flat from the netlist.
 func TestWriteRoundTrip(t *testing.T) {
 	for _, e := range designs.List() {
-		d, err := netfile.ReadFile("demo:" + e.Name)
+		d, err := readDemo(e.Name)
 		if err != nil {
 			t.Fatal(err)
 		}

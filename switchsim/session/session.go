@@ -10,11 +10,9 @@ import (
 	"errors"
 	"fmt"
 	"math"
-	"os"
-	"strings"
 
-	"railyard/designs"
 	"railyard/switchsim"
+	"railyard/switchsim/load"
 	"railyard/switchsim/netfile"
 	"railyard/switchsim/steps"
 )
@@ -139,63 +137,27 @@ func Hash(b []byte) string {
 	return hex.EncodeToString(h[:])
 }
 
-// Open loads a design (a path or demo:NAME) and its steps: stepsPath if
-// given, else the design's default steps if there are any.
+// Open loads a design (a path or demo:NAME) and its steps, from the
+// command line's file system: stepsPath if given, else the design's
+// default steps if there are any.
 func Open(designPath, stepsPath string, opt Options) (*Session, error) {
-	d, err := netfile.ReadFile(designPath)
+	return OpenFrom(load.Host(load.Options{}), designPath, stepsPath, opt)
+}
+
+// OpenFrom is Open through a loader: a served folder, or the command
+// line's file system with the reader options of its flags. The paths the
+// session records are the loader's names for them (load.Loader.Path).
+func OpenFrom(l *load.Loader, designPath, stepsPath string, opt Options) (*Session, error) {
+	ld, err := l.Open(designPath, stepsPath)
 	if err != nil {
 		return nil, err
 	}
-	var st *steps.Steps
-	var stepsSrc []byte
-	if stepsPath == "" {
-		stepsPath, stepsSrc = defaultSteps(designPath)
-	} else {
-		if stepsSrc, err = readSteps(stepsPath); err != nil {
-			return nil, err
-		}
-	}
-	if stepsSrc != nil {
-		if st, err = steps.Read(stepsPath, stepsSrc, d.Netlist); err != nil {
-			return nil, err
-		}
-	}
-	s := New(d, designPath, st, opt)
-	s.StepsPath = stepsPath
-	if stepsSrc != nil {
-		s.StepsHash = Hash(stepsSrc)
+	s := New(ld.Design, l.Path(designPath), ld.Steps, opt)
+	if ld.StepsName != "" {
+		s.StepsPath = l.Path(ld.StepsName)
+		s.StepsHash = Hash(ld.StepsSource)
 	}
 	return s, nil
-}
-
-func readSteps(path string) ([]byte, error) {
-	if name, ok := strings.CutPrefix(path, "demo:"); ok {
-		name = strings.TrimSuffix(name, ".steps")
-		if _, src, ok := designSource(name); ok && src != nil {
-			return src, nil
-		}
-		return nil, fmt.Errorf("%s: no such demo steps", path)
-	}
-	return os.ReadFile(path)
-}
-
-// defaultSteps finds the design's same-named steps file, if any.
-func defaultSteps(designPath string) (string, []byte) {
-	if name, ok := strings.CutPrefix(designPath, "demo:"); ok {
-		if _, src, ok := designSource(name); ok && src != nil {
-			return designPath + ".steps", src
-		}
-		return "", nil
-	}
-	p, ok := steps.Default(designPath)
-	if !ok {
-		return "", nil
-	}
-	src, err := os.ReadFile(p)
-	if err != nil {
-		return "", nil
-	}
-	return p, src
 }
 
 // New starts a session on a loaded design and settles it once.
@@ -389,8 +351,6 @@ func FormatVolts(v float64) string {
 	}
 	return fmt.Sprintf("%.3f", v)
 }
-
-func designSource(name string) (sw, st []byte, ok bool) { return designs.Source(name) }
 
 // snapshotBytes estimates one snapshot's size: per node the value, strength,
 // state, volts, drive and flags plus physical mode's record; per device its

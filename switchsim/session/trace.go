@@ -12,7 +12,7 @@ import (
 	"time"
 
 	"railyard/switchsim"
-	"railyard/switchsim/netfile"
+	"railyard/switchsim/load"
 	"railyard/switchsim/steps"
 )
 
@@ -377,14 +377,14 @@ const maxDifferences = 20
 // relative to the trace's folder.
 func Replay(t *Trace) (*ReplayReport, error) {
 	path := t.Design
-	if !strings.HasPrefix(path, "demo:") && !filepath.IsAbs(path) {
+	if _, demo := load.CutDemo(path); !demo && !filepath.IsAbs(path) {
 		if _, err := os.Stat(path); err != nil {
 			if alt := filepath.Join(filepath.Dir(t.File), path); fileExists(alt) {
 				path = alt
 			}
 		}
 	}
-	d, err := netfile.ReadFile(path)
+	d, err := load.Host(load.Options{}).Design(path)
 	if err != nil {
 		return nil, err
 	}

@@ -4,6 +4,7 @@ import (
 	"testing"
 
 	"railyard/designs"
+	"railyard/switchsim/diag"
 	"railyard/switchsim/netfile"
 	"railyard/switchsim/steps"
 )
@@ -12,18 +13,23 @@ import (
 // a file that reads has rows of the right widths.
 func FuzzRead(f *testing.F) {
 	for _, e := range designs.List() {
-		_, st, _ := designs.Source(e.Name)
+		st, _ := designs.FS.ReadFile(e.Name + ".steps")
 		f.Add(st)
 	}
 	f.Add([]byte("apply clk d\ncheck s q\n1 0 | 0 0 # x\n0|L -\n"))
-	d, err := netfile.ReadFile("demo:static_latch")
+	f.Add([]byte("apply clk d\ncheck s q\n1 0 | 0 0 | 1\nX Z\n0 1 0 | - - -\n"))
+	sw, err := designs.FS.ReadFile("static_latch.sw")
+	if err != nil {
+		f.Fatal(err)
+	}
+	d, err := netfile.Read("static_latch.sw", sw)
 	if err != nil {
 		f.Fatal(err)
 	}
 	f.Fuzz(func(t *testing.T, src []byte) {
 		st, err := steps.ReadLimits("f.steps", src, d.Netlist, steps.Limits{FileSize: 64 << 10})
 		if err != nil {
-			if _, ok := err.(netfile.ErrorList); !ok {
+			if _, ok := err.(diag.List); !ok {
 				t.Fatalf("error %T: %v", err, err)
 			}
 			return

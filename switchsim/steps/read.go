@@ -1,11 +1,10 @@
 package steps
 
 import (
-	"fmt"
 	"strings"
 
 	"railyard/switchsim"
-	"railyard/switchsim/netfile"
+	"railyard/switchsim/diag"
 )
 
 // MaxRows bounds the steps of one file, so memory stays bounded.
@@ -46,17 +45,11 @@ type reader struct {
 	file    string
 	colName map[string][]string // apply, check: the column names as written
 	nl      *switchsim.Netlist
-	errs    netfile.ErrorList
-	max     int
-	dropped int
+	errs    *diag.Sink
 }
 
 func (r *reader) errAt(line, col int, format string, args ...any) {
-	if len(r.errs) >= r.max {
-		r.dropped++
-		return
-	}
-	r.errs.Add(netfile.Pos{File: r.file, Line: line, Col: col}, format, args...)
+	r.errs.Add(diag.Pos{File: r.file, Line: line, Col: col}, format, args...)
 }
 
 // ReadLimits is Read with the given limits.
@@ -71,16 +64,16 @@ func ReadLimits(filename string, src []byte, nl *switchsim.Netlist, lim Limits) 
 	if lim.Errors <= 0 {
 		lim.Errors = d.Errors
 	}
-	if e := netfile.CheckSize(filename, src, lim.FileSize); e != nil {
-		return nil, netfile.ErrorList{e}
+	if e := diag.CheckSize(filename, src, lim.FileSize); e != nil {
+		return nil, diag.List{e}
 	}
-	if e := netfile.CheckText(filename, src); e != nil {
-		return nil, netfile.ErrorList{e}
+	if e := diag.CheckText(filename, src); e != nil {
+		return nil, diag.List{e}
 	}
 	if len(src) >= 3 && src[0] == 0xEF && src[1] == 0xBB && src[2] == 0xBF {
 		src = src[3:]
 	}
-	r := &reader{file: filename, nl: nl, max: lim.Errors, colName: map[string][]string{}}
+	r := &reader{file: filename, nl: nl, errs: diag.NewSink(lim.Errors), colName: map[string][]string{}}
 	st := &Steps{File: filename}
 	applyLine, checkLine := 0, 0
 	var drives []switchsim.Drive // one backing array for every row's drives
@@ -200,16 +193,11 @@ func ReadLimits(filename string, src []byte, nl *switchsim.Netlist, lim Limits) 
 		spans = append(spans, sp)
 		st.Rows = append(st.Rows, Row{Line: num, Label: comment})
 	}
-	if applyLine == 0 && len(r.errs) == 0 {
+	if applyLine == 0 && !r.errs.Any() {
 		r.errAt(1, 0, "missing apply line: a steps file starts with apply NAME ...")
 	}
-	if len(r.errs) > 0 {
-		r.errs.Sort()
-		if r.dropped > 0 {
-			last := r.errs[len(r.errs)-1].Pos
-			r.errs = append(r.errs, &netfile.Error{Pos: last, Msg: fmt.Sprintf("too many errors: %d more not shown", r.dropped)})
-		}
-		return nil, r.errs
+	if r.errs.Any() {
+		return nil, r.errs.Err()
 	}
 	for i, sp := range spans {
 		st.Rows[i].Drives = drives[sp.d0:sp.d1:sp.d1]
@@ -237,16 +225,9 @@ func (r *reader) count(num int, all, apply []token, want int, what string, withB
 		if len(apply) > 0 {
 			col = apply[len(apply)-1].col
 		}
-		r.errAt(num, col, "wrong number of values: %d %s value%s, want %d (%s)", len(apply), what, plural(len(apply)), want, r.names(what))
+		r.errAt(num, col, "wrong number of values: %s, want %d (%s)", diag.Count(len(apply), what+" value"), want, r.names(what))
 	}
 	return false
-}
-
-func plural(n int) string {
-	if n == 1 {
-		return ""
-	}
-	return "s"
 }
 
 func (r *reader) names(what string) string {

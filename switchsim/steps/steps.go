@@ -5,13 +5,9 @@
 package steps
 
 import (
-	"os"
-	"path/filepath"
 	"strings"
 
-	"railyard/designs"
 	"railyard/switchsim"
-	"railyard/switchsim/netfile"
 )
 
 // Want is what a check asks of a node.
@@ -109,43 +105,39 @@ type Limits struct {
 func DefaultLimits() Limits { return Limits{FileSize: 4 << 20, LineLen: 64 << 10, Errors: 100} }
 
 // Read reads a steps file against nl; filename is used in positions.
-// Every error comes back as a netfile.ErrorList.
+// Every error comes back as a diag.List. Files are opened by the loader
+// (switchsim/load), which also finds a design's default steps.
 func Read(filename string, src []byte, nl *switchsim.Netlist) (*Steps, error) {
 	return ReadLimits(filename, src, nl, DefaultLimits())
 }
 
-// ReadFile reads a steps file from a path, or a demo's embedded steps as
-// demo:NAME.steps.
-func ReadFile(path string, nl *switchsim.Netlist) (*Steps, error) {
-	if name, ok := strings.CutPrefix(path, "demo:"); ok {
-		_, src, ok := designs.Source(strings.TrimSuffix(name, ".steps"))
-		if !ok || src == nil {
-			return nil, netfile.ErrorList{{Pos: netfile.Pos{File: path}, Msg: "no such demo steps"}}
+// ApplyNames returns the names of src's apply line, or nil when src has
+// none before its first row. It reads no more than that line, so that a
+// netlist reader can learn which ports the steps drive before the netlist
+// is read (README, "Netlists from elsewhere"); Read judges the rest.
+func ApplyNames(src []byte) []string {
+	text := string(src)
+	for len(text) > 0 {
+		line := text
+		if i := strings.IndexByte(text, '\n'); i >= 0 {
+			line, text = text[:i], text[i+1:]
+		} else {
+			text = ""
 		}
-		return Read(path, src, nl)
-	}
-	src, err := netfile.ReadText(path, DefaultLimits().FileSize)
-	if err != nil {
-		return nil, err
-	}
-	return Read(path, src, nl)
-}
-
-// Default returns the design's default steps: the same-named .steps file
-// beside a design file, or demo:NAME.steps for a demo that has steps.
-func Default(designPath string) (string, bool) {
-	if name, ok := strings.CutPrefix(designPath, "demo:"); ok {
-		if _, src, ok := designs.Source(name); ok && src != nil {
-			return designPath + ".steps", true
+		toks, _, _ := tokens(line)
+		if len(toks) == 0 || toks[0].text == "check" {
+			continue
 		}
-		return "", false
+		if toks[0].text != "apply" {
+			return nil
+		}
+		var names []string
+		for _, t := range toks[1:] {
+			if t.text != "|" {
+				names = append(names, t.text)
+			}
+		}
+		return names
 	}
-	p := strings.TrimSuffix(designPath, filepath.Ext(designPath)) + ".steps"
-	if p == designPath {
-		return "", false
-	}
-	if st, err := os.Stat(p); err == nil && st.Mode().IsRegular() {
-		return p, true
-	}
-	return "", false
+	return nil
 }

@@ -2,12 +2,11 @@ package steps_test
 
 import (
 	"math"
-	"os"
-	"path/filepath"
 	"strings"
 	"testing"
 
 	"railyard/switchsim"
+	"railyard/switchsim/diag"
 	"railyard/switchsim/netfile"
 	"railyard/switchsim/steps"
 )
@@ -166,8 +165,8 @@ func TestReadErrors(t *testing.T) {
 			if err == nil {
 				t.Fatalf("no error")
 			}
-			if _, ok := err.(netfile.ErrorList); !ok {
-				t.Errorf("error is %T, not a netfile.ErrorList", err)
+			if _, ok := err.(diag.List); !ok {
+				t.Errorf("error is %T, not a diag.List", err)
 			}
 			found := false
 			for _, line := range strings.Split(err.Error(), "\n") {
@@ -196,38 +195,21 @@ func TestReadLimits(t *testing.T) {
 	}
 }
 
-func TestDefault(t *testing.T) {
-	dir := t.TempDir()
-	sw := filepath.Join(dir, "latch.sw")
-	os.WriteFile(sw, []byte("input a\n"), 0o644)
-	if p, ok := steps.Default(sw); ok {
-		t.Errorf("no steps file yet, got %s", p)
-	}
-	want := filepath.Join(dir, "latch.steps")
-	os.WriteFile(want, []byte("apply a\n1\n"), 0o644)
-	if p, ok := steps.Default(sw); !ok || p != want {
-		t.Errorf("Default(%s) = %s %v, want %s", sw, p, ok, want)
-	}
-	if p, ok := steps.Default(filepath.Join(dir, "latch")); !ok || p != want {
-		t.Errorf("no extension: %s %v", p, ok)
-	}
-	if p, ok := steps.Default(want); ok {
-		t.Errorf("a steps file is not its own default: %s", p)
-	}
-	if p, ok := steps.Default("demo:static_latch"); !ok || p != "demo:static_latch.steps" {
-		t.Errorf("demo: %s %v", p, ok)
-	}
-	if _, ok := steps.Default("demo:nothing_here"); ok {
-		t.Error("unknown demo has default steps")
-	}
-	d, err := netfile.ReadFile("demo:static_latch")
-	if err != nil {
-		t.Fatal(err)
-	}
-	if st, err := steps.ReadFile("demo:static_latch.steps", d.Netlist); err != nil || len(st.Rows) == 0 {
-		t.Errorf("demo steps: %v", err)
-	}
-	if _, err := steps.ReadFile(filepath.Join(dir, "none.steps"), d.Netlist); err == nil || !strings.Contains(err.Error(), "none.steps: cannot read") {
-		t.Errorf("missing file: %v", err)
+// ApplyNames reads only the apply line, before any row, so a netlist
+// reader can learn its inputs from the steps before the netlist is read.
+func TestApplyNames(t *testing.T) {
+	for _, c := range []struct {
+		src  string
+		want []string
+	}{
+		{"# header\n\napply clk d # columns\ncheck q\n1 0 | 1\n", []string{"clk", "d"}},
+		{"check q\napply a|b\n", []string{"a", "b"}},
+		{"1 0\napply a\n", nil},
+		{"", nil},
+	} {
+		got := steps.ApplyNames([]byte(c.src))
+		if strings.Join(got, ",") != strings.Join(c.want, ",") || (got == nil) != (c.want == nil) {
+			t.Errorf("ApplyNames(%q) = %q, want %q", c.src, got, c.want)
+		}
 	}
 }

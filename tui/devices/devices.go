@@ -1,10 +1,13 @@
 // Package devices is the explorer's device table: every transistor and
-// pull with its gate's value and whether it is on, off or of unknown state,
-// filterable by name, with the devices of the inspected node's group marked.
+// pull with its gate's value (and volts, where they are not a full level),
+// whether it is on, off or of unknown state, and its size, filterable by
+// name, with the devices of the inspected node's group marked. Enter on a
+// row asks why its gate holds its value.
 package devices
 
 import (
 	"fmt"
+	"math"
 	"strings"
 
 	"github.com/charmbracelet/bubbles/key"
@@ -13,6 +16,7 @@ import (
 
 	"railyard/switchsim"
 	"railyard/tui/listing"
+	"railyard/tui/panel"
 	"railyard/tui/theme"
 )
 
@@ -21,21 +25,24 @@ type KeyMap struct {
 	listing.Nav
 	Filter    key.Binding
 	GroupOnly key.Binding
+	Inspect   key.Binding
 }
 
-// DefaultKeyMap: arrows, '/' to filter, o to show only the marked group.
+// DefaultKeyMap: arrows, '/' to filter, o to show only the marked group,
+// enter to ask why the selected device's gate holds its value.
 func DefaultKeyMap() KeyMap {
 	return KeyMap{
 		Nav:       listing.DefaultNav(),
 		Filter:    key.NewBinding(key.WithKeys("/"), key.WithHelp("/", "filter devices")),
 		GroupOnly: key.NewBinding(key.WithKeys("o"), key.WithHelp("o", "only the node's group")),
+		Inspect:   key.NewBinding(key.WithKeys("enter"), key.WithHelp("enter", "why: its gate")),
 	}
 }
 
 // ShortHelp and FullHelp feed the help view.
-func (k KeyMap) ShortHelp() []key.Binding { return []key.Binding{k.Filter, k.GroupOnly} }
+func (k KeyMap) ShortHelp() []key.Binding { return []key.Binding{k.Inspect, k.Filter, k.GroupOnly} }
 func (k KeyMap) FullHelp() [][]key.Binding {
-	return [][]key.Binding{{k.Up, k.Down, k.PageUp, k.PageDown, k.Home, k.End}, {k.Filter, k.GroupOnly}}
+	return [][]key.Binding{{k.Up, k.Down, k.PageUp, k.PageDown, k.Home, k.End}, {k.Inspect, k.Filter, k.GroupOnly}}
 }
 
 // Styles draw the table.
@@ -62,9 +69,12 @@ type Model struct {
 	Styles Styles
 
 	nl        *switchsim.Netlist
+	names     *panel.Names
 	cond      []switchsim.Conduction
-	vals      []switchsim.Value // by node
-	group     []bool            // by device
+	states    []switchsim.NodeState // by node
+	vdd       float64
+	ohms      []float64 // by device: on-resistance, NaN where not known
+	group     []bool    // by device
 	groupOf   string
 	groupOnly bool
 	search    []string // per device: the words a filter matches
@@ -74,20 +84,22 @@ type Model struct {
 	filter    listing.Filter
 	focused   bool
 	w, h      int
+	labels    []string // by device: the name fitted to labelW
+	labelW    int
 }
 
 // New makes a table for a netlist.
-func New(nl *switchsim.Netlist, st Styles) *Model {
-	m := &Model{KeyMap: DefaultKeyMap(), Styles: st, nl: nl, filter: listing.NewFilter()}
+func New(nl *switchsim.Netlist, names *panel.Names, st Styles) Model {
+	m := Model{KeyMap: DefaultKeyMap(), Styles: st, nl: nl, names: names, filter: listing.NewFilter(), vdd: math.NaN()}
 	m.search = make([]string, nl.NumDevices())
 	for d := range m.search {
 		dv := nl.Device(d)
-		w := []string{dv.Name, nl.NodeName(dv.A), nl.NodeName(dv.B)}
+		w := []string{names.Device[d], names.Node[dv.A], names.Node[dv.B]}
 		if dv.Gate >= 0 {
-			w = append(w, nl.NodeName(dv.Gate))
+			w = append(w, names.Node[dv.Gate])
 		}
 		m.search[d] = strings.Join(w, " ")
-		m.nameMax = max(m.nameMax, lipgloss.Width(dv.Name))
+		m.nameMax = max(m.nameMax, lipgloss.Width(names.Device[d]))
 	}
 	m.rebuild()
 	return m
@@ -96,16 +108,22 @@ func New(nl *switchsim.Netlist, st Styles) *Model {
 // SetSize gives the table its cells.
 func (m *Model) SetSize(w, h int) {
 	m.w, m.h = w, h
-	m.cur.SetHeight(h - 2) // info and column heads
+	m.cur.SetHeight(h - 3) // info, column heads, the selected device's line
+	if nw := m.nameWidth(); nw != m.labelW || m.labels == nil {
+		m.labelW = nw
+		m.labels = listing.Shorten(m.names.Device, nw, m.Styles.Theme.G.Ellipsis)
+	}
 }
 
+func (m Model) nameWidth() int { return min(max(m.nameMax, 6), max(m.w*3/10, 6)) }
+
 // Focus and Blur tell the table whether keys go to it.
-func (m *Model) Focus()             { m.focused = true }
-func (m *Model) Blur()              { m.focused = false }
-func (m *Model) Focused() bool      { return m.focused }
-func (m *Model) Filtering() bool    { return m.filter.Typing() }
-func (m *Model) StartFilter()       { m.filter.Start() }
-func (m *Model) FilterText() string { return m.filter.Value() }
+func (m *Model) Focus()            { m.focused = true }
+func (m *Model) Blur()             { m.focused = false }
+func (m Model) Focused() bool      { return m.focused }
+func (m Model) Filtering() bool    { return m.filter.Typing() }
+func (m *Model) StartFilter()      { m.filter.Start() }
+func (m Model) FilterText() string { return m.filter.Value() }
 
 // ClearFilter drops the filter and the group-only view; it reports whether
 // either was in force.
@@ -117,10 +135,16 @@ func (m *Model) ClearFilter() bool {
 	return had
 }
 
-// SetStates gives each device's conduction and every node's value.
-func (m *Model) SetStates(cond []switchsim.Conduction, vals []switchsim.Value) {
-	m.cond, m.vals = cond, vals
+// SetStates gives each device's conduction, every node's state and the
+// supply's volts (NaN in ideal mode), so that a gate's volts are shown
+// where they are not a full level.
+func (m *Model) SetStates(cond []switchsim.Conduction, states []switchsim.NodeState, vdd float64) {
+	m.cond, m.states, m.vdd = cond, states, vdd
 }
+
+// SetOhms gives each device's on-resistance estimate in ohms (NaN where
+// there is none); the table shows the column when any is known.
+func (m *Model) SetOhms(ohms []float64) { m.ohms = ohms }
 
 // SetGroup marks the devices of a node's group (indexed by device).
 func (m *Model) SetGroup(node string, group []bool) {
@@ -131,10 +155,10 @@ func (m *Model) SetGroup(node string, group []bool) {
 }
 
 // Shown is the number of devices listed.
-func (m *Model) Shown() int { return len(m.rows) }
+func (m Model) Shown() int { return len(m.rows) }
 
 // Selected is the device under the cursor, or -1.
-func (m *Model) Selected() int {
+func (m Model) Selected() int {
 	if m.cur.Pos < len(m.rows) {
 		return m.rows[m.cur.Pos]
 	}
@@ -161,17 +185,18 @@ func (m *Model) rebuild() {
 	}
 }
 
-// Update handles a key when the table is focused.
-func (m *Model) Update(msg tea.Msg) {
+// Update handles a key when the table is focused. Enter asks the root for
+// the Why view of the device's gate (a pull has none: of the node it pulls).
+func (m Model) Update(msg tea.Msg) (Model, tea.Cmd) {
 	k, ok := msg.(tea.KeyMsg)
 	if !ok {
-		return
+		return m, nil
 	}
-	if m.filter.Typing() {
-		if m.filter.Update(k) {
+	if took, changed := m.filter.Take(k); took {
+		if changed {
 			m.rebuild()
 		}
-		return
+		return m, nil
 	}
 	switch {
 	case m.KeyMap.Nav.Handle(k, &m.cur):
@@ -180,19 +205,40 @@ func (m *Model) Update(msg tea.Msg) {
 	case key.Matches(k, m.KeyMap.GroupOnly):
 		m.groupOnly = !m.groupOnly
 		m.rebuild()
+	case key.Matches(k, m.KeyMap.Inspect):
+		d := m.Selected()
+		if d < 0 {
+			return m, panel.Send(panel.Note{Text: "no device selected"})
+		}
+		dv := m.nl.Device(d)
+		n := dv.Gate
+		if n < 0 {
+			n = dv.A
+			if m.nl.NodeKind(n) == switchsim.Power || m.nl.NodeKind(n) == switchsim.Ground {
+				n = dv.B
+			}
+		}
+		return m, panel.Send(panel.Inspect{Node: n})
 	}
+	return m, nil
 }
 
 // View draws the table in its w x h cells.
-func (m *Model) View() string {
+func (m Model) View() string {
 	st, t := m.Styles, m.Styles.Theme
 	g := t.G
-	nameW := min(max(m.nameMax, 6), max(m.w*3/10, 6))
-	gateW := max(min(m.w/5, 12), 7)
+	nameW := m.labelW
 	kindW := 6
 	if m.w < 60 {
 		kindW = 4 // nmos, pmos, pull: the channel names the rail of a pull
 	}
+	gateW := max(min(m.w/5, 12), 7)
+	partial := m.anyPartialGate()
+	if partial {
+		gateW += 6 // room for " 1.14V": the channel is cut first
+	}
+	showWL := m.w >= 72
+	showOhms := showWL && m.anyOhms()
 	info := fmt.Sprintf("%d", len(m.search))
 	if m.filter.Active() || m.groupOnly {
 		info = fmt.Sprintf("%d of %d", len(m.rows), len(m.search))
@@ -206,9 +252,16 @@ func (m *Model) View() string {
 	if f := m.filter.View(); f != "" {
 		info += "  " + f
 	}
+	head := fmt.Sprintf("  %-*s %-*s %-*s %-3s ", nameW, "name", kindW, "kind", gateW, "gate", "is")
+	if showWL {
+		head += fmt.Sprintf("%-9s ", "W/L um")
+	}
+	if showOhms {
+		head += fmt.Sprintf("%-9s ", "R on")
+	}
 	lines := []string{
 		st.Dim.Render(t.Clip("devices "+info, m.w)),
-		st.Header.Render(fmt.Sprintf("  %-*s %-*s %-*s %-3s %s", nameW, "name", kindW, "kind", gateW, "gate", "is", "channel")),
+		st.Header.Render(head + "channel"),
 	}
 	if len(m.rows) == 0 {
 		msg := "no devices"
@@ -231,12 +284,11 @@ func (m *Model) View() string {
 		}
 		inGroup := d < len(m.group) && m.group[d]
 		if inGroup {
-			b.WriteString(t.Mark(&m.Styles.Group, g.Group))
+			b.WriteString(t.Mark("devices.group", st.Group, g.Group))
 		} else {
 			b.WriteByte(' ')
 		}
-		name := t.Clip(dv.Name, nameW)
-		name += strings.Repeat(" ", nameW-lipgloss.Width(name))
+		name := theme.Pad(t.Clip(m.label(d), nameW), nameW)
 		switch {
 		case sel && m.focused:
 			name = st.Selected.Render(name)
@@ -245,33 +297,131 @@ func (m *Model) View() string {
 		}
 		b.WriteString(name)
 		fmt.Fprintf(&b, " %-*s ", kindW, kindName(dv.Kind, kindW))
-		gate := "-"
-		if dv.Gate >= 0 {
-			v := "?"
-			if dv.Gate < len(m.vals) {
-				v = m.vals[dv.Gate].String()
+		b.WriteString(theme.Pad(m.gateCell(dv, gateW, partial), gateW))
+		b.WriteByte(' ')
+		b.WriteString(m.condCell(d))
+		b.WriteByte(' ')
+		if showWL {
+			b.WriteString(theme.Pad(size(dv), 9) + " ")
+		}
+		if showOhms {
+			r := math.NaN()
+			if d < len(m.ohms) {
+				r = m.ohms[d]
 			}
-			gate = t.Clip(m.nl.NodeName(dv.Gate), gateW-2) + "=" + v
+			if math.IsNaN(r) {
+				b.WriteString(theme.Pad("-", 9) + " ")
+			} else {
+				b.WriteString(theme.Pad(panel.Ohms(r), 9) + " ")
+			}
 		}
-		b.WriteString(theme.Pad(gate, gateW))
-		b.WriteByte(' ')
-		c := switchsim.On
-		if d < len(m.cond) {
-			c = m.cond[d]
-		}
-		switch c {
-		case switchsim.On:
-			b.WriteString(t.Mark(&m.Styles.On, "on "))
-		case switchsim.Off:
-			b.WriteString(t.Mark(&m.Styles.Off, "off"))
-		default:
-			b.WriteString(t.Mark(&m.Styles.Unknown, "X? "))
-		}
-		b.WriteByte(' ')
-		b.WriteString(m.nl.NodeName(dv.A) + g.Rule + m.nl.NodeName(dv.B))
+		b.WriteString(m.names.Node[dv.A] + g.Rule + m.names.Node[dv.B])
 		lines = append(lines, b.String())
 	}
+	for len(lines) < m.h-1 {
+		lines = append(lines, "")
+	}
+	lines = append(lines, m.detail())
 	return theme.Block(lines, m.w, m.h)
+}
+
+func (m Model) label(d int) string {
+	if d < len(m.labels) {
+		return m.labels[d]
+	}
+	return m.names.Device[d]
+}
+
+// gateCell words a device's gate: name=value, with its volts where they
+// are not a full level and withVolts.
+func (m Model) gateCell(dv switchsim.Device, w int, withVolts bool) string {
+	t := m.Styles.Theme
+	if dv.Gate < 0 {
+		return "-"
+	}
+	v, volts := "?", ""
+	if dv.Gate < len(m.states) {
+		ns := m.states[dv.Gate]
+		v = ns.Value.String()
+		if withVolts && !panel.FullLevel(ns.Volts, m.vdd) {
+			volts = " " + panel.Volts(ns.Volts) + "V"
+		}
+	}
+	return t.Clip(m.names.Node[dv.Gate], max(w-2-len(volts), 1)) + "=" + v + volts
+}
+
+func (m Model) condCell(d int) string {
+	st, t := m.Styles, m.Styles.Theme
+	c := switchsim.On
+	if d < len(m.cond) {
+		c = m.cond[d]
+	}
+	switch c {
+	case switchsim.On:
+		return t.Mark("devices.on", st.On, "on ")
+	case switchsim.Off:
+		return t.Mark("devices.off", st.Off, "off")
+	}
+	return t.Mark("devices.unknown", st.Unknown, "X? ")
+}
+
+// detail is the selected device in full, whatever the width: its name,
+// kind, gate with volts, conduction, size and channel.
+func (m Model) detail() string {
+	st, t := m.Styles, m.Styles.Theme
+	d := m.Selected()
+	if d < 0 {
+		return ""
+	}
+	dv := m.nl.Device(d)
+	parts := []string{m.names.Device[d], dv.Kind.String()}
+	if dv.Gate >= 0 {
+		parts = append(parts, "gate "+m.gateCell(dv, 1<<20, true))
+	}
+	c := "on"
+	if d < len(m.cond) {
+		c = m.cond[d].String()
+	}
+	parts = append(parts, c)
+	if sz := size(dv); sz != "-" {
+		parts = append(parts, "W/L "+sz+" um")
+	}
+	// The on-resistance estimate goes here too once the physical mode
+	// gives it (SetOhms): until then the column and this part stay away.
+	if d < len(m.ohms) && !math.IsNaN(m.ohms[d]) {
+		parts = append(parts, "R on "+panel.Ohms(m.ohms[d]))
+	}
+	parts = append(parts, m.names.Node[dv.A]+t.G.Rule+m.names.Node[dv.B])
+	return st.Dim.Render(t.Clip(t.G.Cursor+" "+strings.Join(parts, "  "), m.w))
+}
+
+func (m Model) anyPartialGate() bool {
+	if math.IsNaN(m.vdd) {
+		return false
+	}
+	for _, d := range m.rows {
+		if g := m.nl.Device(d).Gate; g >= 0 && g < len(m.states) && !panel.FullLevel(m.states[g].Volts, m.vdd) {
+			return true
+		}
+	}
+	return false
+}
+
+func (m Model) anyOhms() bool {
+	for _, r := range m.ohms {
+		if !math.IsNaN(r) {
+			return true
+		}
+	}
+	return false
+}
+
+// size words a device's W/L in micrometres ("-" for a pull, which has none).
+func size(dv switchsim.Device) string {
+	if dv.W <= 0 || dv.L <= 0 {
+		return "-"
+	}
+	return fmt.Sprintf("%.3g/%.3g", dv.W*1e6, dv.L*1e6)
 }
 
 // kindName fits a device kind in w cells (4 or 6).

@@ -15,8 +15,12 @@ import (
 type Cursor struct {
 	Pos, Offset, Len, Height int
 	// Skip, when set, marks rows the cursor never rests on (separators).
-	Skip func(i int) bool
+	// A slice, not a function, so that a cursor copied with its model
+	// (panels are values) never reads another copy's rows.
+	Skip []bool
 }
+
+func (c *Cursor) skip(i int) bool { return i >= 0 && i < len(c.Skip) && c.Skip[i] }
 
 // SetLen changes the number of rows and keeps the cursor inside them.
 func (c *Cursor) SetLen(n int) {
@@ -53,8 +57,8 @@ func (c *Cursor) clamp(dir int) {
 		return
 	}
 	c.Pos = min(max(c.Pos, 0), c.Len-1)
-	if c.Skip != nil {
-		for i := 0; i < c.Len && c.Skip(c.Pos); i++ {
+	{
+		for i := 0; i < c.Len && c.skip(c.Pos); i++ {
 			next := c.Pos + dir
 			if next < 0 || next >= c.Len {
 				dir = -dir
@@ -72,7 +76,7 @@ func (c *Cursor) clamp(dir int) {
 	}
 	c.Offset = min(max(c.Offset, 0), max(c.Len-h, 0))
 	// show the separator above the first row when scrolled to it
-	if c.Skip != nil && c.Offset > 0 && c.Pos == c.Offset && c.Skip(c.Offset-1) {
+	if c.Offset > 0 && c.Pos == c.Offset && c.skip(c.Offset-1) {
 		c.Offset--
 	}
 }
@@ -167,6 +171,16 @@ func (f *Filter) Update(msg tea.KeyMsg) bool {
 		return false
 	}
 	return f.in.Update(msg)
+}
+
+// Take feeds k to the filter when it is being typed: took says the key
+// was the filter's, changed that the text changed (the rows want
+// rebuilding).
+func (f *Filter) Take(k tea.KeyMsg) (took, changed bool) {
+	if !f.typing {
+		return false, false
+	}
+	return true, f.Update(k)
 }
 
 // View draws the field while typing, or the filter in force.

@@ -63,7 +63,7 @@ type Model struct {
 }
 
 // New makes an empty log.
-func New(st Styles) *Model { return &Model{KeyMap: DefaultKeyMap(), Styles: st} }
+func New(st Styles) Model { return Model{KeyMap: DefaultKeyMap(), Styles: st} }
 
 // SetSize gives the log its cells.
 func (m *Model) SetSize(w, h int) {
@@ -72,11 +72,12 @@ func (m *Model) SetSize(w, h int) {
 }
 
 // Focus and Blur tell the log whether keys go to it.
-func (m *Model) Focus()        { m.focused = true }
-func (m *Model) Blur()         { m.focused = false }
-func (m *Model) Focused() bool { return m.focused }
+func (m *Model) Focus()       { m.focused = true }
+func (m *Model) Blur()        { m.focused = false }
+func (m Model) Focused() bool { return m.focused }
 
-// SetEntries gives the actions in force with their warnings, oldest first.
+// SetEntries gives the actions in force with their warnings, oldest first
+// (titles and messages come from files: the caller makes them printable).
 func (m *Model) SetEntries(e []Entry) {
 	m.entries = e
 	m.offset = 0
@@ -84,7 +85,7 @@ func (m *Model) SetEntries(e []Entry) {
 }
 
 // Last is the number of warnings of the last settle.
-func (m *Model) Last() int {
+func (m Model) Last() int {
 	if len(m.entries) == 0 {
 		return 0
 	}
@@ -171,10 +172,10 @@ func splitWords(s string) []string {
 }
 
 // Update scrolls.
-func (m *Model) Update(msg tea.Msg) {
+func (m Model) Update(msg tea.Msg) (Model, tea.Cmd) {
 	k, ok := msg.(tea.KeyMsg)
 	if !ok {
-		return
+		return m, nil
 	}
 	maxOff := max(len(m.lines)-m.h, 0)
 	km := m.KeyMap
@@ -192,10 +193,11 @@ func (m *Model) Update(msg tea.Msg) {
 	case key.Matches(k, km.End):
 		m.offset = maxOff
 	}
+	return m, nil
 }
 
 // View draws the log in its w x h cells.
-func (m *Model) View() string {
+func (m Model) View() string {
 	lo := m.offset
 	hi := min(lo+m.h, len(m.lines))
 	return theme.Block(m.lines[lo:hi], m.w, m.h)

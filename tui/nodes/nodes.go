@@ -6,7 +6,6 @@ package nodes
 
 import (
 	"fmt"
-	"math"
 	"sort"
 	"strings"
 
@@ -16,6 +15,7 @@ import (
 
 	"railyard/switchsim"
 	"railyard/tui/listing"
+	"railyard/tui/panel"
 	"railyard/tui/theme"
 )
 
@@ -25,6 +25,9 @@ type KeyMap struct {
 	Filter  key.Binding
 	Inspect key.Binding
 	Watch   key.Binding
+	// Drive are the input bank's keys: on the board they only say where
+	// they work (the board lists no inputs).
+	Drive key.Binding
 }
 
 // DefaultKeyMap: arrows to move, '/' to filter, enter to inspect, m to watch.
@@ -34,6 +37,7 @@ func DefaultKeyMap() KeyMap {
 		Filter:  key.NewBinding(key.WithKeys("/"), key.WithHelp("/", "filter nodes")),
 		Inspect: key.NewBinding(key.WithKeys("enter", "w"), key.WithHelp("enter/w", "why: inspect node")),
 		Watch:   key.NewBinding(key.WithKeys("m"), key.WithHelp("m", "watch on timeline")),
+		Drive:   key.NewBinding(key.WithKeys(" ", "0", "1", "x", "z"), key.WithHelp("space 0 1 x z", "inputs only")),
 	}
 }
 
@@ -73,7 +77,7 @@ type Model struct {
 	KeyMap KeyMap
 	Styles Styles
 
-	nl      *switchsim.Netlist
+	names   *panel.Names
 	order   []int // outputs, then internal nodes by name
 	nout    int
 	nameMax int
@@ -87,15 +91,16 @@ type Model struct {
 	filter  listing.Filter
 	focused bool
 	w, h    int
+	labels  []string // by node: the name fitted to labelW
+	labelW  int
 }
 
 // New makes a board for a netlist.
-func New(nl *switchsim.Netlist, st Styles) *Model {
-	m := &Model{KeyMap: DefaultKeyMap(), Styles: st, nl: nl, filter: listing.NewFilter()}
-	m.cur.Skip = func(i int) bool { return m.rows[i].node < 0 }
+func New(nl *switchsim.Netlist, names *panel.Names, st Styles) Model {
+	m := Model{KeyMap: DefaultKeyMap(), Styles: st, names: names, filter: listing.NewFilter()}
 	isOut := make([]bool, nl.NumNodes())
 	for _, o := range nl.Outputs() {
-		if nl.NodeKind(o) == switchsim.Internal {
+		if nl.NodeKind(o) == switchsim.Internal && !isOut[o] {
 			isOut[o] = true
 			m.order = append(m.order, o)
 		}
@@ -108,10 +113,10 @@ func New(nl *switchsim.Netlist, st Styles) *Model {
 			rest = append(rest, n)
 		}
 	}
-	sort.Slice(rest, func(i, j int) bool { return natLess(nl.NodeName(rest[i]), nl.NodeName(rest[j])) })
+	sort.Slice(rest, func(i, j int) bool { return natLess(names.Node[rest[i]], names.Node[rest[j]]) })
 	m.order = append(m.order, rest...)
 	for _, n := range m.order {
-		m.nameMax = max(m.nameMax, lipgloss.Width(nl.NodeName(n)))
+		m.nameMax = max(m.nameMax, lipgloss.Width(names.Node[n]))
 	}
 	m.watched = make([]bool, nl.NumNodes())
 	m.rebuild()
@@ -122,16 +127,32 @@ func New(nl *switchsim.Netlist, st Styles) *Model {
 func (m *Model) SetSize(w, h int) {
 	m.w, m.h = w, h
 	m.cur.SetHeight(h - 2) // title and column heads
+	if nw := m.nameWidth(); nw != m.labelW || m.labels == nil {
+		m.labelW = nw
+		all := make([]string, len(m.order))
+		for i, n := range m.order {
+			all[i] = m.names.Node[n]
+		}
+		short := listing.Shorten(all, nw, m.Styles.Theme.G.Ellipsis)
+		m.labels = make([]string, len(m.names.Node))
+		for i, n := range m.order {
+			m.labels[n] = short[i]
+		}
+	}
 }
 
+// nameWidth is the name column: what the longest name needs, within what
+// the other columns leave.
+func (m Model) nameWidth() int { return min(max(m.w-4-2-2-7-6, 6), max(m.nameMax, 4)) }
+
 // Want is the width the board needs to show its longest name whole.
-func (m *Model) Want() int { return 4 + m.nameMax + 1 + 2 + 2 + 7 + 5 + 2 }
+func (m Model) Want() int { return 4 + m.nameMax + 1 + 2 + 2 + 7 + 5 + 2 }
 
 // Focus and Blur tell the board whether keys go to it.
-func (m *Model) Focus()          { m.focused = true }
-func (m *Model) Blur()           { m.focused = false }
-func (m *Model) Focused() bool   { return m.focused }
-func (m *Model) Filtering() bool { return m.filter.Typing() }
+func (m *Model) Focus()         { m.focused = true }
+func (m *Model) Blur()          { m.focused = false }
+func (m Model) Focused() bool   { return m.focused }
+func (m Model) Filtering() bool { return m.filter.Typing() }
 
 // SetStates gives the board every node's state, which nodes the last settle
 // changed, and which failed a check (both indexed by node, may be nil).
@@ -143,7 +164,7 @@ func (m *Model) SetStates(states []switchsim.NodeState, changed, failing []bool)
 func (m *Model) SetWatched(w []bool) { m.watched = w }
 
 // Selected returns the node under the cursor, or -1.
-func (m *Model) Selected() int {
+func (m Model) Selected() int {
 	if m.cur.Pos < len(m.rows) && m.rows[m.cur.Pos].node >= 0 {
 		return m.rows[m.cur.Pos].node
 	}
@@ -162,7 +183,7 @@ func (m *Model) Select(n int) bool {
 }
 
 // Shown is the number of nodes the filter lets through.
-func (m *Model) Shown() int {
+func (m Model) Shown() int {
 	k := 0
 	for _, r := range m.rows {
 		if r.node >= 0 {
@@ -186,71 +207,64 @@ func (m *Model) ClearFilter() bool {
 func (m *Model) rebuild() {
 	keep := m.Selected()
 	f := m.filter.Value()
-	m.rows = m.rows[:0]
+	rows := make([]row, 0, len(m.rows))
+	skip := make([]bool, 0, len(m.rows))
 	sepOut, sepIn := false, false
 	for i, n := range m.order {
-		if !listing.Match(f, m.nl.NodeName(n)) {
+		if !listing.Match(f, m.names.Node[n]) {
 			continue
 		}
 		if i < m.nout && !sepOut {
 			sepOut = true
-			m.rows = append(m.rows, row{-1, "outputs"})
+			rows, skip = append(rows, row{-1, "outputs"}), append(skip, true)
 		}
 		if i >= m.nout && !sepIn {
 			sepIn = true
 			if sepOut {
-				m.rows = append(m.rows, row{-1, "internal"})
+				rows, skip = append(rows, row{-1, "internal"}), append(skip, true)
 			}
 		}
-		m.rows = append(m.rows, row{node: n})
+		rows, skip = append(rows, row{node: n}), append(skip, false)
 	}
+	m.rows, m.cur.Skip = rows, skip
 	m.cur.SetLen(len(m.rows))
 	if keep < 0 || !m.Select(keep) {
 		m.cur.Top() // the selected node was filtered out: start from the first match
 	}
 }
 
-// Update handles a key when the board is focused. Messages that are not
-// its keys are ignored. It reports an Inspect or Watch request through
-// the returned Request.
-func (m *Model) Update(msg tea.Msg) (Request, tea.Cmd) {
+// Update handles a key when the board is focused: inspecting or watching
+// the selected node is an intent for the root (panel.Inspect, panel.Watch).
+func (m Model) Update(msg tea.Msg) (Model, tea.Cmd) {
 	k, ok := msg.(tea.KeyMsg)
 	if !ok {
-		return None, nil
+		return m, nil
 	}
-	if m.filter.Typing() {
-		if m.filter.Update(k) {
+	if took, changed := m.filter.Take(k); took {
+		if changed {
 			m.rebuild()
 		}
-		return None, nil
+		return m, nil
 	}
+	n := m.Selected()
 	switch {
 	case m.KeyMap.Nav.Handle(k, &m.cur):
 	case key.Matches(k, m.KeyMap.Filter):
 		m.filter.Start()
-	case key.Matches(k, m.KeyMap.Inspect):
-		if m.Selected() >= 0 {
-			return Inspect, nil
-		}
-	case key.Matches(k, m.KeyMap.Watch):
-		if m.Selected() >= 0 {
-			return Watch, nil
-		}
+	case key.Matches(k, m.KeyMap.Inspect) && n >= 0:
+		return m, panel.Send(panel.Inspect{Node: n})
+	case key.Matches(k, m.KeyMap.Watch) && n >= 0:
+		return m, panel.Send(panel.Watch{Node: n})
+	case key.Matches(k, m.KeyMap.Inspect, m.KeyMap.Watch):
+		return m, panel.Send(panel.Note{Text: "no node selected"})
+	case key.Matches(k, m.KeyMap.Drive):
+		return m, panel.Send(panel.Note{Text: "space and 0 1 x z drive an input: the board lists no inputs; tab goes to Inputs"})
 	}
-	return None, nil
+	return m, nil
 }
 
-// Request is what a key asks of the root model.
-type Request uint8
-
-const (
-	None Request = iota
-	Inspect
-	Watch
-)
-
 // View draws the board in its w x h cells.
-func (m *Model) View() string {
+func (m Model) View() string {
 	st, t := m.Styles, m.Styles.Theme
 	g := t.G
 	lines := make([]string, 0, m.h)
@@ -258,9 +272,12 @@ func (m *Model) View() string {
 	if f := m.filter.View(); f != "" {
 		info = fmt.Sprintf("%d of %d  %s", m.Shown(), len(m.order), f)
 	}
+	nameW := m.labelW
+	if n := m.Selected(); n >= 0 && m.focused && m.label(n, nameW) != m.names.Node[n] {
+		info += "  " + m.names.Node[n] // the cut name, whole
+	}
 	lines = append(lines, t.TitleBar("Nodes", info, m.focused, m.w))
 	// columns: marks(3) name state value strength volts
-	nameW := min(max(m.w-4-2-2-7-6, 6), max(m.nameMax, 4))
 	lines = append(lines, st.Header.Render(fmt.Sprintf("    %-*s %s %s %-6s %5s", nameW, "name", "s", "v", "str", "volts")))
 	if len(m.rows) == 0 {
 		msg := "no nodes"
@@ -281,12 +298,19 @@ func (m *Model) View() string {
 	return theme.Block(lines, m.w, m.h)
 }
 
-func (m *Model) line(n int, sel bool, nameW int) string {
+func (m Model) label(n, w int) string {
+	if n < len(m.labels) && m.labels[n] != "" {
+		return m.labels[n]
+	}
+	return m.Styles.Theme.Clip(m.names.Node[n], w)
+}
+
+func (m Model) line(n int, sel bool, nameW int) string {
 	st, t := m.Styles, m.Styles.Theme
 	g := t.G
-	mark := func(on bool, glyph string, s *lipgloss.Style) string {
+	mark := func(on bool, name, glyph string, s lipgloss.Style) string {
 		if on {
-			return t.Mark(s, glyph)
+			return t.Mark(name, s, glyph)
 		}
 		return " "
 	}
@@ -296,11 +320,10 @@ func (m *Model) line(n int, sel bool, nameW int) string {
 	}
 	var b strings.Builder
 	b.WriteString(cur)
-	b.WriteString(mark(at(m.changed, n), g.Changed, &m.Styles.Changed))
-	b.WriteString(mark(at(m.watched, n), g.Watched, &m.Styles.Watched))
+	b.WriteString(mark(at(m.changed, n), "nodes.changed", g.Changed, st.Changed))
+	b.WriteString(mark(at(m.watched, n), "nodes.watched", g.Watched, st.Watched))
 	b.WriteByte(' ')
-	name := t.Clip(m.nl.NodeName(n), nameW)
-	name += strings.Repeat(" ", nameW-lipgloss.Width(name))
+	name := theme.Pad(m.label(n, nameW), nameW)
 	if n < len(m.states) {
 		ns := m.states[n]
 		switch {
@@ -316,27 +339,19 @@ func (m *Model) line(n int, sel bool, nameW int) string {
 		b.WriteByte(' ')
 		b.WriteString(ns.Value.String())
 		b.WriteByte(' ')
-		fmt.Fprintf(&b, "%-6s %5s", ns.Strength, volts(ns.Volts))
+		fmt.Fprintf(&b, "%-6s %5s", ns.Strength, panel.Volts(ns.Volts))
 	} else {
 		b.WriteString(name)
 	}
 	if at(m.failing, n) {
-		b.WriteString(" " + t.Mark(&m.Styles.Fail, g.Fail))
+		b.WriteString(" " + t.Mark("nodes.fail", st.Fail, g.Fail))
 	}
 	return b.String()
 }
 
-func (m *Model) isOutput(n int) bool { return at(m.isOut, n) }
+func (m Model) isOutput(n int) bool { return at(m.isOut, n) }
 
 func at(b []bool, i int) bool { return i >= 0 && i < len(b) && b[i] }
-
-// volts prints a voltage in five cells, "-" where unknown (ideal mode).
-func volts(v float64) string {
-	if math.IsNaN(v) {
-		return "-"
-	}
-	return fmt.Sprintf("%.2f", v)
-}
 
 // natLess orders names with their numbers by value: b2 before b10.
 func natLess(a, b string) bool {

@@ -6,6 +6,7 @@ import (
 	tea "github.com/charmbracelet/bubbletea"
 
 	"railyard/switchsim"
+	"railyard/tui/panel"
 	"railyard/tui/theme"
 )
 
@@ -29,7 +30,7 @@ func TestOrderAndFilter(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	m := New(nl, DefaultStyles(theme.New(nil, true, false)))
+	m := New(nl, panel.NewNames(nl), DefaultStyles(theme.New(nil, true, false)))
 	m.SetSize(40, 10)
 	var names []string
 	for _, r := range m.rows {
@@ -48,9 +49,9 @@ func TestOrderAndFilter(t *testing.T) {
 		}
 	}
 	m.Focus()
-	m.Update(tea.KeyMsg{Type: tea.KeyRunes, Runes: []rune{'/'}})
+	m, _ = m.Update(tea.KeyMsg{Type: tea.KeyRunes, Runes: []rune{'/'}})
 	for _, r := range "n1" {
-		m.Update(tea.KeyMsg{Type: tea.KeyRunes, Runes: []rune{r}})
+		m, _ = m.Update(tea.KeyMsg{Type: tea.KeyRunes, Runes: []rune{r}})
 	}
 	if m.Shown() != 1 || nl.NodeName(m.Selected()) != "n10" {
 		t.Fatalf("filter n1: %d shown, selected %s; want 1 and n10", m.Shown(), nl.NodeName(m.Selected()))

@@ -1,9 +1,13 @@
 // Package prompt is the explorer's one-line question at the foot of the
-// screen: the file name to save the trace (or, after tab, a VCD) under, or
-// the step to go to. Enter answers, Esc cancels.
+// screen: the file name to save the trace (or, after tab, a VCD) under;
+// with the files' place chosen by the explorer's owner, only which of the
+// two to save; whether to replace a file that is there; or the step to go
+// to. Enter answers, Esc cancels; the answer is an intent for the root
+// (panel.Save, panel.JumpTo, panel.Canceled, panel.Note).
 package prompt
 
 import (
+	"fmt"
 	"strconv"
 	"strings"
 
@@ -11,7 +15,9 @@ import (
 	tea "github.com/charmbracelet/bubbletea"
 	"github.com/charmbracelet/lipgloss"
 
+	"railyard/switchsim/diag"
 	"railyard/tui/listing"
+	"railyard/tui/panel"
 	"railyard/tui/theme"
 )
 
@@ -19,28 +25,35 @@ import (
 type Kind uint8
 
 const (
-	SaveTrace Kind = iota // a file name for the session trace
+	None      Kind = iota // no prompt is open
+	SaveTrace             // a file name for the session trace
 	SaveVCD               // a file name for a VCD of the history in force
+	Choose                // trace or VCD, to a place the explorer's owner chose
+	Confirm               // replace a file that is there?
 	Jump                  // a step number
 )
 
 // KeyMap are the prompt's keys.
 type KeyMap struct {
 	Accept, Cancel, Switch key.Binding
+	Yes, No                key.Binding
 }
 
-// DefaultKeyMap: enter accepts, esc cancels, tab switches trace and VCD.
+// DefaultKeyMap: enter accepts, esc cancels, tab switches trace and VCD,
+// y and n answer a yes-or-no question.
 func DefaultKeyMap() KeyMap {
 	return KeyMap{
 		Accept: key.NewBinding(key.WithKeys("enter"), key.WithHelp("enter", "ok")),
 		Cancel: key.NewBinding(key.WithKeys("esc"), key.WithHelp("esc", "cancel")),
 		Switch: key.NewBinding(key.WithKeys("tab"), key.WithHelp("tab", "trace or VCD")),
+		Yes:    key.NewBinding(key.WithKeys("y"), key.WithHelp("y", "yes")),
+		No:     key.NewBinding(key.WithKeys("n"), key.WithHelp("n", "no")),
 	}
 }
 
 // ShortHelp and FullHelp feed the help view.
 func (k KeyMap) ShortHelp() []key.Binding  { return []key.Binding{k.Accept, k.Cancel, k.Switch} }
-func (k KeyMap) FullHelp() [][]key.Binding { return [][]key.Binding{k.ShortHelp()} }
+func (k KeyMap) FullHelp() [][]key.Binding { return [][]key.Binding{k.ShortHelp(), {k.Yes, k.No}} }
 
 // Styles draw the prompt.
 type Styles struct {
@@ -55,15 +68,7 @@ func DefaultStyles(t *theme.Theme) Styles {
 	return Styles{Theme: t, Question: t.Accent.Bold(true), Hint: t.Dim, Error: t.Error}
 }
 
-// Answer is what the prompt gives back when it closes.
-type Answer struct {
-	Kind     Kind
-	Text     string
-	Step     int // Jump: 0-based row
-	Canceled bool
-}
-
-// Model is an open prompt.
+// Model is the prompt; its zero value is closed.
 type Model struct {
 	KeyMap KeyMap
 	Styles Styles
@@ -72,26 +77,37 @@ type Model struct {
 	field    listing.Field
 	defaults [2]string // trace and VCD default names
 	steps    int
+	save     panel.Save // Confirm: the save to make if the answer is yes
 	err      string
+	w        int
 }
 
 // NewSave asks for a file name, offering the trace and VCD defaults.
-func NewSave(st Styles, traceName, vcdName string) *Model {
-	m := &Model{KeyMap: DefaultKeyMap(), Styles: st, kind: SaveTrace, defaults: [2]string{traceName, vcdName}}
+func NewSave(st Styles, traceName, vcdName string) Model {
+	m := Model{KeyMap: DefaultKeyMap(), Styles: st, kind: SaveTrace, defaults: [2]string{traceName, vcdName}}
 	m.field.CursorGlyph = cursorGlyph(st.Theme)
 	m.field.SetValue(traceName)
 	m.field.Focus()
 	return m
 }
 
-// NewJump asks for a step number from 1 to steps.
-func NewJump(st Styles, steps, suggest int) *Model {
-	m := &Model{KeyMap: DefaultKeyMap(), Styles: st, kind: Jump, steps: steps}
+// NewChoose asks only whether to save the trace or a VCD: the explorer's
+// owner chooses where the file goes and its name, so no path is typed.
+func NewChoose(st Styles) Model {
+	return Model{KeyMap: DefaultKeyMap(), Styles: st, kind: Choose}
+}
+
+// NewConfirm asks whether to replace the file s would write over.
+func NewConfirm(st Styles, s panel.Save) Model {
+	return Model{KeyMap: DefaultKeyMap(), Styles: st, kind: Confirm, save: s}
+}
+
+// NewJump asks for a step number from 1 to steps. The field starts empty:
+// a suggested number would be typed onto (2 after a suggested 5 is 52).
+func NewJump(st Styles, steps int) Model {
+	m := Model{KeyMap: DefaultKeyMap(), Styles: st, kind: Jump, steps: steps}
 	m.field.CursorGlyph = cursorGlyph(st.Theme)
 	m.field.Limit = 9
-	if suggest > 0 {
-		m.field.SetValue(strconv.Itoa(suggest))
-	}
 	m.field.Focus()
 	return m
 }
@@ -103,86 +119,142 @@ func cursorGlyph(t *theme.Theme) string {
 	return "▏"
 }
 
+// Active reports whether the prompt is open.
+func (m Model) Active() bool { return m.kind != None }
+
 // Kind is what the prompt is asking for now.
-func (m *Model) Kind() Kind { return m.kind }
+func (m Model) Kind() Kind { return m.kind }
 
 // Value is the text typed so far.
-func (m *Model) Value() string { return m.field.Value() }
+func (m Model) Value() string { return m.field.Value() }
 
-// Update handles a key; it returns an answer when the prompt closes.
-func (m *Model) Update(msg tea.Msg) *Answer {
+// SetSize gives the prompt its line (h is always 1).
+func (m *Model) SetSize(w, _ int) { m.w = w }
+
+// Update handles a key. When the prompt closes it becomes inactive and
+// the command carries the answer.
+func (m Model) Update(msg tea.Msg) (Model, tea.Cmd) {
 	k, ok := msg.(tea.KeyMsg)
-	if !ok {
-		return nil
+	if !ok || m.kind == None {
+		return m, nil
+	}
+	km := m.KeyMap
+	closeWith := func(intent tea.Msg) (Model, tea.Cmd) {
+		m.kind = None
+		return m, panel.Send(intent)
+	}
+	switch m.kind {
+	case Confirm:
+		switch {
+		case key.Matches(k, km.Yes):
+			s := m.save
+			s.Overwrite = true
+			return closeWith(s)
+		case key.Matches(k, km.No, km.Cancel):
+			return closeWith(panel.Canceled{What: diag.Printable(m.save.Path) + " left as it was"})
+		}
+		m.err = "y or n"
+		return m, nil
+	case Choose:
+		switch {
+		case key.Matches(k, km.Cancel):
+			return closeWith(panel.Canceled{What: "nothing saved"})
+		case key.Matches(k, km.Switch):
+			if m.save.Kind == panel.SaveTrace {
+				m.save.Kind = panel.SaveVCD
+			} else {
+				m.save.Kind = panel.SaveTrace
+			}
+		case key.Matches(k, km.Accept):
+			return closeWith(panel.Save{Kind: m.save.Kind})
+		}
+		return m, nil
 	}
 	switch {
-	case key.Matches(k, m.KeyMap.Cancel):
-		return &Answer{Kind: m.kind, Canceled: true}
-	case key.Matches(k, m.KeyMap.Switch) && m.kind != Jump:
+	case key.Matches(k, km.Cancel):
+		return closeWith(panel.Canceled{What: "canceled"})
+	case key.Matches(k, km.Switch) && m.kind != Jump:
 		old, next := m.kind, SaveVCD
 		if old == SaveVCD {
 			next = SaveTrace
 		}
 		// carry the name across, swapping the default extension
 		v := m.field.Value()
-		if v == m.defaults[old] || v == "" {
-			v = m.defaults[next]
+		if v == m.defaults[old-SaveTrace] || v == "" {
+			v = m.defaults[next-SaveTrace]
 		}
 		m.kind = next
 		m.field.SetValue(v)
 		m.err = ""
-		return nil
-	case key.Matches(k, m.KeyMap.Accept):
+		return m, nil
+	case key.Matches(k, km.Accept):
 		v := strings.TrimSpace(m.field.Value())
 		if m.kind == Jump {
 			n, err := strconv.Atoi(v)
-			if err != nil || n < 1 || n > m.steps {
-				m.err = "a step number from 1 to " + strconv.Itoa(m.steps)
-				return nil
+			switch {
+			case v == "":
+				return closeWith(panel.Note{Text: "no step given: g then a number from 1 to " + strconv.Itoa(m.steps)})
+			case err != nil || n < 1 || n > m.steps:
+				return closeWith(panel.Note{Text: fmt.Sprintf("there is no step %s: the steps file has %d (1 to %d)", v, m.steps, m.steps)})
 			}
-			return &Answer{Kind: Jump, Text: v, Step: n - 1}
+			return closeWith(panel.JumpTo{Row: n - 1})
 		}
 		if v == "" {
 			m.err = "a file name, please"
-			return nil
+			return m, nil
 		}
-		return &Answer{Kind: m.kind, Text: v}
+		kind := panel.SaveTrace
+		if m.kind == SaveVCD {
+			kind = panel.SaveVCD
+		}
+		return closeWith(panel.Save{Kind: kind, Path: v})
 	}
 	if m.kind == Jump && k.Type == tea.KeyRunes {
 		for _, r := range k.Runes {
 			if r < '0' || r > '9' {
 				m.err = "digits only"
-				return nil
+				return m, nil
 			}
 		}
 	}
 	if m.field.Update(k) {
 		m.err = ""
 	}
-	return nil
+	return m, nil
 }
 
-// View draws the prompt on one line of w cells.
-func (m *Model) View(w int) string {
+// View draws the prompt on its line.
+func (m Model) View() string {
 	st := m.Styles
-	q := ""
-	hint := ""
+	q, hint, field := "", "", m.field.View()
 	switch m.kind {
+	case None:
+		return ""
 	case SaveTrace:
 		q, hint = "save trace as ", "  enter save · tab VCD instead · esc cancel"
 	case SaveVCD:
 		q, hint = "export VCD as ", "  enter save · tab trace instead · esc cancel"
+	case Choose:
+		field = ""
+		if m.save.Kind == panel.SaveVCD {
+			q, hint = "save a VCD of the history", "  enter save · tab the trace instead · esc cancel"
+		} else {
+			q, hint = "save the session trace", "  enter save · tab a VCD instead · esc cancel"
+		}
+	case Confirm:
+		field = ""
+		q, hint = diag.Printable(m.save.Path)+" is there: replace it?", "  y replace · n keep it"
 	case Jump:
 		q, hint = "go to step (1-"+strconv.Itoa(m.steps)+") ", "  enter go · esc cancel"
 	}
 	if st.Theme.ASCII {
 		hint = strings.ReplaceAll(hint, "·", "|")
 	}
-	line := st.Question.Render(q) + m.field.View()
+	line := st.Question.Render(q) + field
 	if m.err != "" {
 		line += "  " + st.Error.Render(m.err)
 	} else {
 		line += st.Hint.Render(hint)
 	}
-	return theme.Fit(line, w)
+	return theme.Fit(line, m.w)
 }

@@ -10,6 +10,8 @@ import (
 
 	"github.com/charmbracelet/ssh"
 	gossh "golang.org/x/crypto/ssh"
+
+	"railyard/switchsim/diag"
 )
 
 // authorizedKeys is the set of keys let in, read from an authorized_keys
@@ -28,20 +30,18 @@ type authorizedKeys struct {
 // or carries options the server cannot honour, is an error.
 func loadAuthorizedKeys(path string) (*authorizedKeys, error) {
 	a := &authorizedKeys{path: path}
-	fi, err := os.Stat(path)
+	src, fi, err := readBounded(path, MaxAuthorizedKeysBytes)
 	if err != nil {
-		return nil, fmt.Errorf("--authorized-keys: %w", err)
-	}
-	src, err := os.ReadFile(path)
-	if err != nil {
-		return nil, fmt.Errorf("--authorized-keys: %w", err)
+		return nil, &ConfigError{Field: "AuthorizedKeys", Err: err}
 	}
 	keys, errs := parseAuthorizedKeys(path, src)
 	if len(errs) > 0 {
+		// Each line's error has its FILE:LINE position, which says enough.
 		return nil, joinLines(errs)
 	}
 	if len(keys) == 0 {
-		return nil, fmt.Errorf("%s: no keys (add one public key a line, as ssh-keygen writes them)", path)
+		return nil, &ConfigError{Field: "AuthorizedKeys",
+			Err: fmt.Errorf("%s: no keys (add one public key a line, as ssh-keygen writes them)", path)}
 	}
 	a.keys, a.modTime, a.size = keys, fi.ModTime(), fi.Size()
 	return a, nil
@@ -87,9 +87,9 @@ func (a *authorizedKeys) allowed(key ssh.PublicKey) (bool, error) {
 		return false, fmt.Errorf("authorized keys: %w", err)
 	}
 	if !fi.ModTime().Equal(a.modTime) || fi.Size() != a.size {
-		src, err := os.ReadFile(a.path)
+		src, fi, err := readBounded(a.path, MaxAuthorizedKeysBytes)
 		if err != nil {
-			a.keys = nil
+			a.keys, a.modTime, a.size = nil, time.Time{}, 0
 			return false, fmt.Errorf("authorized keys: %w", err)
 		}
 		keys, errs := parseAuthorizedKeys(a.path, src)
@@ -107,25 +107,29 @@ func (a *authorizedKeys) allowed(key ssh.PublicKey) (bool, error) {
 	return false, reloadErr
 }
 
-// publicKeyAllowed is the server's only authentication method. x/crypto/ssh
-// keeps one cached key per connection, so the last key this accepted is the
-// one the client proved it holds, and ssh.Session.PublicKey reports it.
+// publicKeyAllowed is the server's only authentication method. It is also
+// asked about keys the client only offers without proving it holds them, so
+// accepting one here is not yet authentication: ssh.Session.PublicKey reports
+// the key whose signature the SSH layer verified (the SSH fork takes it from
+// the permissions of the attempt that succeeded, not from the last key this
+// was asked about).
 func (s *Server) publicKeyAllowed(ctx ssh.Context, key ssh.PublicKey) bool {
 	fp := gossh.FingerprintSHA256(key)
 	remote := ""
 	if ctx.RemoteAddr() != nil {
 		remote = ctx.RemoteAddr().String()
 	}
+	user := diag.Printable(ctx.User()) // the client's choice, not yet checked
 	if err := validUser(ctx.User()); err != nil {
-		s.log.Warn("auth refused", "user", ctx.User(), "key", fp, "remote", remote, "reason", err.Error())
+		s.log.Warn("auth refused", "user", user, "key", fp, "remote", remote, "reason", err.Error())
 		return false
 	}
 	ok, err := s.keys.allowed(key)
 	if err != nil {
-		s.log.Error("authorized keys", "error", err.Error())
+		s.log.Error("authorized keys", "error", diag.Printable(err.Error())) // may quote the file's key options
 	}
 	if !ok {
-		s.log.Warn("auth refused", "user", ctx.User(), "key", fp, "remote", remote, "reason", "key not authorised")
+		s.log.Warn("auth refused", "user", user, "key", fp, "remote", remote, "reason", "key not authorised")
 	}
 	return ok
 }

@@ -16,10 +16,16 @@ type sshSettings struct {
 	auth     ssh.PublicKeyHandler // nil: no client authentication (loopback --no-auth only)
 	connIdle time.Duration
 	failed   func(net.Conn, error)
-	chain    []func(ssh.Handler) ssh.Handler // innermost first
+	// accept sees every connection first, before the handshake; nil
+	// closes it. handshake gives the settings of its handshake.
+	accept    ssh.ConnCallback
+	handshake ssh.ServerConfigCallback
+	chain     []func(ssh.Handler) ssh.Handler // innermost first
 }
 
-// newSSHServer builds the server with wish (needs keygen v0.5.4 or later in go.mod).
+// newSSHServer builds the server with wish. The host key is always given, so
+// wish never makes one of its own (it would write id_ed25519 in the working
+// folder).
 func newSSHServer(c sshSettings) (*ssh.Server, error) {
 	mw := make([]wish.Middleware, len(c.chain))
 	for i, m := range c.chain {
@@ -31,6 +37,8 @@ func newSSHServer(c sshSettings) (*ssh.Server, error) {
 		func(s *ssh.Server) error { s.AddHostKey(c.hostKey); return nil },
 		wish.WithMiddleware(mw...),
 		func(s *ssh.Server) error { s.ConnectionFailedCallback = c.failed; return nil },
+		ssh.WrapConn(c.accept),
+		func(s *ssh.Server) error { s.ServerConfigCallback = c.handshake; return nil },
 	}
 	if c.connIdle > 0 {
 		opts = append(opts, wish.WithIdleTimeout(c.connIdle))

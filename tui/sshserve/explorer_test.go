@@ -3,6 +3,7 @@ package sshserve
 import (
 	"os"
 	"path/filepath"
+	"regexp"
 	"strings"
 	"testing"
 	"time"
@@ -53,7 +54,7 @@ func TestExplorerOnADemoWithItsSteps(t *testing.T) {
 	ts := startServer(t, 1, realExplorer)
 	var name string
 	for _, e := range designs.List() {
-		if _, st, _ := designs.Source(e.Name); st != nil {
+		if _, err := designs.FS.ReadFile(e.Name + ".steps"); err == nil {
 			name = e.Name
 			break
 		}
@@ -100,8 +101,9 @@ func TestExplorerViewerSeesChangesAndChangesNothing(t *testing.T) {
 	h.waitFor(pick0)
 	v.waitFor(pick0) // the host's change reaches the viewer
 
-	// Every key that changes a session, and the save key, in the viewer.
-	for _, k := range []string{"1", "z", " ", "n", "e", "p", "s"} {
+	// Every key that changes a session, and the save key with what its
+	// question takes (tab for a VCD, enter), in the viewer.
+	for _, k := range []string{"1", "z", " ", "n", "e", "p", "s", "\r", "s", "\t", "\r"} {
 		v.send(k)
 		time.Sleep(20 * time.Millisecond) // apart, so each is its own key
 	}
@@ -111,8 +113,13 @@ func TestExplorerViewerSeesChangesAndChangesNothing(t *testing.T) {
 			t.Errorf("the viewer's keys reached the host (%q):\n%s", bad, tail(h.text(), 2000))
 		}
 	}
-	if m, _ := filepath.Glob(filepath.Join(ts.dir, "traces", "bob", "*")); len(m) > 0 {
-		t.Errorf("the viewer saved a trace: %v", m)
+	// Nothing is saved by anyone: the host has not saved yet, and a viewer
+	// has no way to.
+	if m, _ := filepath.Glob(filepath.Join(ts.dir, "traces", "*", "*")); len(m) > 0 {
+		t.Errorf("the viewer saved a file: %v", m)
+	}
+	if strings.Contains(v.text(), "save the session trace") || strings.Contains(h.text(), "save the session trace") {
+		t.Errorf("the viewer's s opened a save question")
 	}
 	h.send("1")
 	h.waitFor(pick1)
@@ -125,26 +132,56 @@ func TestExplorerViewerSeesChangesAndChangesNothing(t *testing.T) {
 	}
 }
 
+// saveOver presses the save key in a served explorer, which asks only what
+// to save (tab switches to a VCD), and enter; it returns the name the
+// status line shows, USER/DESIGN-DATE-TIME-ID.EXT.
+func (tm *term) saveOver(vcd bool) string {
+	tm.t.Helper()
+	tm.send("s")
+	tm.waitFor("save the session trace") // the explorer's choice, not a path prompt
+	want := `saved the trace \(\d+ actions?\) as (\S+\.trace)`
+	if vcd {
+		tm.send("\t")
+		tm.waitFor("save a VCD of the history")
+		want = `saved a VCD of \d+ actions? as (\S+\.vcd)`
+	}
+	tm.send("\r")
+	re := regexp.MustCompile(want)
+	end := time.Now().Add(readDeadline)
+	for time.Now().Before(end) {
+		if m := re.FindStringSubmatch(tm.text()); m != nil {
+			return m[1]
+		}
+		time.Sleep(5 * time.Millisecond)
+	}
+	tm.t.Fatalf("no %q within %s; output:\n%s", want, readDeadline, tail(tm.text(), 2000))
+	return ""
+}
+
+// namePattern is the server's naming scheme for alice's files on opsel.
+var namePattern = regexp.MustCompile(`^alice/opsel-\d{8}-\d{6}-[a-z2-9]{6}\.(trace|vcd)$`)
+
 func TestExplorerTraceIsSavedAndReplays(t *testing.T) {
 	ts := startServer(t, 1, realExplorer)
 	ts.writeDesign(t, "opsel.sw", opselDesign)
-	tm := ts.open(t, ts.keys[0], "alice", "opsel", 80, 24)
+	tm := ts.open(t, ts.keys[0], "alice", "opsel", 120, 30)
 	tm.waitFor(pickX)
 	tm.send(" ")
 	tm.waitFor(pick0)
-	tm.send("s")
-	tm.waitFor("trace saved as alice/opsel-")
-	if strings.Contains(tm.text(), "save trace as") {
-		t.Errorf("the explorer's save prompt opened (it takes any path on the server)")
+	shown := tm.saveOver(false)
+	if !namePattern.MatchString(shown) {
+		t.Errorf("trace shown as %q, want alice/opsel-DATE-TIME-ID.trace", shown)
 	}
-	m, _ := filepath.Glob(filepath.Join(ts.dir, "traces", "alice", "opsel-*.trace"))
-	if len(m) != 1 {
-		t.Fatalf("traces under traces/alice: %v", m)
+	for _, prompt := range []string{"save trace as", "export VCD as"} {
+		if strings.Contains(tm.text(), prompt) {
+			t.Errorf("the explorer's path prompt opened (%q): it would take any path on the server", prompt)
+		}
 	}
-	f, err := os.Open(m[0])
+	p := filepath.Join(ts.dir, "traces", filepath.FromSlash(shown))
+	f, err := os.Open(p)
 	must(t, err)
 	defer f.Close()
-	tr, err := session.ReadTrace(m[0], f)
+	tr, err := session.ReadTrace(p, f)
 	must(t, err)
 	// Start, then the one toggle: pick driven 0.
 	if len(tr.Actions) != 2 || tr.Actions[1].Kind != session.Set || tr.Actions[1].Set != [2]string{"pick", "0"} {
@@ -155,6 +192,8 @@ func TestExplorerTraceIsSavedAndReplays(t *testing.T) {
 	if !rep.Match() {
 		t.Errorf("the saved trace does not replay: %v", rep.Differences)
 	}
+	tm.send("q")
+	tm.waitFor("railyard: trace saved as " + shown) // the end keeps the same file
 }
 
 func TestExplorerRefusesBadDesignWithoutServerPaths(t *testing.T) {
@@ -183,4 +222,43 @@ func TestPickerListsTheDemos(t *testing.T) {
 	}
 	tm.send("\r") // opsel comes first: the folder's designs, then the demos
 	tm.waitFor("operand pick for the adder's A port")
+}
+
+// selDesign has inputs whose names hold an s, to be typed into a filter.
+const selDesign = `design selreg "register select for the write port"
+input sel rst d
+output q
+tgate tsel sel sel_b d q
+use inv isel sel sel_b
+nmos nrst rst q gnd
+`
+
+func TestSaveKeyIsALetterInAFilter(t *testing.T) {
+	ts := startServer(t, 1, realExplorer)
+	ts.writeDesign(t, "selreg.sw", selDesign)
+	tm := ts.open(t, ts.keys[0], "alice", "selreg", 120, 30)
+	tm.waitFor("Inputs 3")
+	// One key at a time, each seen before the next (keys sent together
+	// can arrive as one read, which is one key message of several runes).
+	tm.send("/") // the inputs have the focus: / filters them
+	tm.waitFor("/_")
+	tm.send("s") // a letter of the filter, not the save key
+	tm.waitFor("/s_")
+	tm.send("e")
+	tm.waitFor("/se_")
+	tm.send("s")
+	tm.waitFor("/ses_")
+	if strings.Contains(tm.text(), "save the session trace") {
+		t.Fatalf("s typed into the filter opened the save question:\n%s", tail(tm.text(), 2000))
+	}
+	tm.send("\x7f") // backspace: "se" matches sel only
+	tm.waitFor("/se_")
+	tm.send("\r") // the filter stays; the keys are the explorer's again
+	tm.send("s")
+	tm.waitFor("save the session trace") // now s is the save key
+	tm.send("\x1b")
+	tm.waitFor("nothing saved")
+	if m, _ := filepath.Glob(filepath.Join(ts.dir, "traces", "alice", "*")); len(m) > 0 {
+		t.Errorf("files saved: %v", m)
+	}
 }

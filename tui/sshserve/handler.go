@@ -4,10 +4,8 @@ import (
 	"errors"
 	"fmt"
 	"io"
-	"os"
 	"path/filepath"
 	"runtime/debug"
-	"slices"
 	"strings"
 	"sync/atomic"
 	"time"
@@ -17,6 +15,9 @@ import (
 	"github.com/charmbracelet/ssh"
 	"github.com/charmbracelet/x/ansi"
 	"github.com/muesli/termenv"
+
+	"railyard/switchsim/diag"
+	"railyard/tui"
 )
 
 // handle is the innermost handler: it reads the SSH command and builds this
@@ -76,8 +77,8 @@ func (s *Server) serveHost(sess ssh.Session, v *visit, name string) {
 		fail(sess, v, "trace", err.Error())
 		return
 	}
-	if root.saved {
-		fmt.Fprintf(sess, "railyard: trace saved as %s\n", root.traceRel)
+	if root.saved != "" {
+		fmt.Fprintf(sess, "railyard: trace saved as %s\n", root.saved)
 	}
 	if reason != "" {
 		fail(sess, v, reason, msg)
@@ -251,7 +252,7 @@ func (s *Server) run(sess ssh.Session, v *visit, m tea.Model, act *activity, las
 	case errors.Is(err, tea.ErrProgramPanic):
 		return "internal error; this session is closed (the others go on)", "panic"
 	case err != nil && sess.Context().Err() == nil && !errors.Is(err, tea.ErrProgramKilled):
-		s.log.Warn("program error", "user", v.user, "error", err.Error())
+		s.log.Warn("program error", "user", v.user, "error", diag.Printable(err.Error()))
 		return "the session stopped: " + err.Error(), "error"
 	}
 	return "", ""
@@ -268,14 +269,13 @@ type hostModel struct {
 	noColor, ascii bool
 	act            *activity
 
-	picker    *picker
-	inner     tea.Model
-	host      *host // the joinable session, once a design is open
-	tracePath string
-	traceRel  string
-	saved     bool
-	notice    string
-	failed    atomic.Bool
+	picker *picker
+	inner  tea.Model
+	host   *host  // the joinable session, once a design is open
+	files  *saves // where its files go, once a design is open
+	saved  string // the trace kept at the end, as the user reads it
+	notice string
+	failed atomic.Bool
 }
 
 // open resolves name, registers a joinable session and builds the explorer.
@@ -285,22 +285,17 @@ func (m *hostModel) open(name string) error {
 		return err
 	}
 	h := m.srv.registry.add(m.sess.User(), t.Name, m.act)
-	req := ExplorerRequest{Name: t.Name, Design: t.Design, Steps: t.Steps,
+	files, err := m.srv.newSaves(m.v, m.sess.User(), t.Name, h.ID, time.Now())
+	if err != nil {
+		m.srv.registry.remove(h)
+		return err
+	}
+	req := ExplorerRequest{Name: t.Name, Design: t.Design, Steps: t.Steps, Files: t.Files,
 		Width: m.width, Height: m.height, NoColor: m.noColor, ASCII: m.ascii,
-		Renderer: m.renderer(), Banner: "session " + h.ID}
+		Renderer: m.renderer(), Banner: "session " + h.ID, Save: files.save}
 	m.notice = fmt.Sprintf("session %s: others watch with 'join %s'", h.ID, h.ID)
-	if m.srv.cfg.Traces != "" {
-		dir := filepath.Join(m.srv.cfg.Traces, m.sess.User())
-		if err := os.MkdirAll(dir, 0o750); err != nil {
-			m.srv.registry.remove(h)
-			m.srv.log.Error("traces folder", "path", dir, "error", err.Error())
-			return errors.New("cannot keep traces for this user; ask the server's keeper")
-		}
-		base := strings.ReplaceAll(t.Name, ":", "-")
-		file := fmt.Sprintf("%s-%s-%s.trace", base, time.Now().UTC().Format("20060102-150405"), h.ID)
-		req.TracePath = filepath.Join(dir, file)
-		m.traceRel = filepath.Join(m.sess.User(), file)
-		m.notice += "; s saves the trace as " + m.traceRel
+	if files.dir != "" {
+		m.notice += fmt.Sprintf("; s saves to %s/", diag.Printable(m.sess.User()))
 	}
 	inner, err := m.build(req)
 	if err != nil {
@@ -309,9 +304,9 @@ func (m *hostModel) open(name string) error {
 		msg := strings.ReplaceAll(err.Error(), m.srv.catalog.root+string(filepath.Separator), "")
 		return fmt.Errorf("%s: %s", t.Name, msg)
 	}
-	m.inner, m.host, m.picker, m.tracePath = inner, h, nil, req.TracePath
-	m.v.set(func(v *visit) { v.kind, v.design, v.id = "explorer", t.Name, h.ID })
-	m.srv.log.Info("design opened", "user", m.sess.User(), "design", t.Name, "session", h.ID)
+	m.inner, m.host, m.picker, m.files = inner, h, nil, files
+	m.v.set(func(v *visit) { v.kind, v.design, v.id = "explorer", diag.Printable(t.Name), h.ID })
+	m.srv.log.Info("design opened", "user", diag.Printable(m.sess.User()), "design", diag.Printable(t.Name), "session", h.ID)
 	return nil
 }
 
@@ -333,28 +328,24 @@ func (m *hostModel) end() {
 	}
 }
 
-// Saver is what an explorer model offers for its trace to be kept. A
-// served explorer never asks the user for a path: the server picks it. The
-// save keys are taken before the model sees them, so its own save prompt
-// (which would take any path on the server) never opens; the price is that
-// those keys cannot be typed into the explorer's filters.
+// Saver is what an explorer model offers for its whole trace to be kept
+// when the session ends (as the explorer does on quit locally). What the
+// user saves along the way goes through ExplorerRequest.Save.
 type Saver interface {
-	SaveTrace(path string) error
-	SaveKeys() []string
+	WriteTrace(w io.Writer) error
 }
 
-// save writes the whole session's trace to the served path, if any.
+// save keeps the whole session's trace, if the server keeps files.
 func (m *hostModel) save() error {
 	sv, ok := m.inner.(Saver)
-	if m.tracePath == "" || !ok {
+	if m.files == nil || m.files.dir == "" || !ok {
 		return nil
 	}
-	if err := sv.SaveTrace(m.tracePath); err != nil {
-		m.srv.log.Error("trace", "user", m.sess.User(), "path", m.tracePath, "error", err.Error())
+	shown, err := m.files.save(tui.SaveTrace, sv.WriteTrace)
+	if err != nil {
 		return errors.New("the trace could not be saved")
 	}
-	m.saved = true
-	m.v.set(func(v *visit) { v.trace = m.traceRel })
+	m.saved = shown
 	return nil
 }
 
@@ -392,20 +383,10 @@ func (m *hostModel) Update(msg tea.Msg) (model tea.Model, cmd tea.Cmd) {
 		m.width, m.height = ws.Width, ws.Height
 	}
 	if m.inner != nil {
-		if k, ok := msg.(tea.KeyMsg); ok {
+		// Every key goes to the explorer, the save key too: its
+		// Options.Save puts files where the server says.
+		if _, ok := msg.(tea.KeyMsg); ok {
 			m.notice = ""
-			if sv, ok := m.inner.(Saver); ok {
-				if slices.Contains(sv.SaveKeys(), k.String()) {
-					m.notice = "this server keeps no traces"
-					if m.tracePath != "" {
-						m.notice = "trace saved as " + m.traceRel
-						if err := m.save(); err != nil {
-							m.notice = err.Error()
-						}
-					}
-					return m, nil
-				}
-			}
 		}
 		var next tea.Model
 		next, cmd = m.inner.Update(msg)
@@ -414,7 +395,8 @@ func (m *hostModel) Update(msg tea.Msg) (model tea.Model, cmd tea.Cmd) {
 	}
 	if c, ok := msg.(choose); ok {
 		if err := m.open(c.name); err != nil {
-			m.picker.err = err.Error()
+			// One line under the list; a design's errors may quote it.
+			m.picker.err = diag.Printable(strings.ReplaceAll(err.Error(), "\n", "; "))
 			return m, nil
 		}
 		// The explorer starts from the current size and its own Init.

@@ -18,6 +18,8 @@ import (
 	tea "github.com/charmbracelet/bubbletea"
 	"github.com/charmbracelet/x/ansi"
 	gossh "golang.org/x/crypto/ssh"
+
+	"railyard/tui"
 )
 
 // readDeadline bounds every wait for output in these tests.
@@ -112,8 +114,22 @@ func startServer(t testing.TB, nKeys int, opts ...serverOpt) *testServer {
 		case <-time.After(5 * time.Second):
 			t.Error("server did not stop")
 		}
+		// Sessions end after the server stops, each keeping its trace:
+		// wait for them, so that no file is written while the test's
+		// folder is removed.
+		end := time.Now().Add(5 * time.Second)
+		for srv.registry.Active() != 0 && time.Now().Before(end) {
+			time.Sleep(5 * time.Millisecond)
+		}
 	})
 	return ts
+}
+
+// Active is the number of open sessions (the tests' view of the count).
+func (r *registry) Active() int {
+	r.mu.Lock()
+	defer r.mu.Unlock()
+	return r.active
 }
 
 func must(t testing.TB, err error) {
@@ -133,12 +149,33 @@ func (ts *testServer) writeDesign(t testing.TB, name, src string) string {
 
 // dial connects as user with the given auth methods.
 func (ts *testServer) dial(user string, auth ...gossh.AuthMethod) (*gossh.Client, error) {
-	return gossh.Dial("tcp", ts.addr, &gossh.ClientConfig{
+	return ts.dialFrom("", user, auth...)
+}
+
+// dialFrom connects from the local address ip (any when empty). Loopback on
+// Linux accepts the whole of 127.0.0.0/8, so tests can come from 127.0.0.2.
+func (ts *testServer) dialFrom(ip, user string, auth ...gossh.AuthMethod) (*gossh.Client, error) {
+	d := net.Dialer{Timeout: readDeadline}
+	if ip != "" {
+		d.LocalAddr = &net.TCPAddr{IP: net.ParseIP(ip)}
+	}
+	conn, err := d.Dial("tcp", ts.addr)
+	if err != nil {
+		return nil, err
+	}
+	// The handshake has the same bound a dial by address would give it.
+	conn.SetDeadline(time.Now().Add(readDeadline))
+	cc, chans, reqs, err := gossh.NewClientConn(conn, ts.addr, &gossh.ClientConfig{
 		User:            user,
 		Auth:            auth,
 		HostKeyCallback: gossh.FixedHostKey(ts.HostKey()),
-		Timeout:         readDeadline,
 	})
+	if err != nil {
+		conn.Close()
+		return nil, err
+	}
+	conn.SetDeadline(time.Time{})
+	return gossh.NewClient(cc, chans, reqs), nil
 }
 
 // term is one client session with a pty, its output collected.
@@ -266,36 +303,51 @@ func tail(s string, n int) string {
 }
 
 // fakeModel is a stand-in explorer for the server's plumbing: it shows the
-// request, a toggle that t flips, and the size; p panics, q quits.
+// request, a toggle that t flips, and the size; s saves a stand-in trace and
+// v a stand-in VCD through the request's Save (as the explorer's save key
+// does), p panics, q quits.
 type fakeModel struct {
 	req  ExplorerRequest
 	on   bool
 	w, h int
+	said string // what the last save said
 }
 
 func fakeExplorer(r ExplorerRequest) (tea.Model, error) {
-	if _, err := readFakeDesign(r.Design); err != nil {
+	if _, err := readFakeDesign(r); err != nil {
 		return nil, err
+	}
+	if r.Save == nil {
+		return nil, fmt.Errorf("no Save in the request")
 	}
 	return &fakeModel{req: r, w: r.Width, h: r.Height}, nil
 }
 
-// readFakeDesign reads a design the way an explorer would, so that a refused
-// name could only be caught by the server's resolution.
-func readFakeDesign(p string) ([]byte, error) {
-	if strings.HasPrefix(p, "demo:") {
+// readFakeDesign reads a design the way an explorer would (through the
+// request's loader), so that a refused name could only be caught by the
+// server's resolution or the loader's root.
+func readFakeDesign(r ExplorerRequest) ([]byte, error) {
+	if strings.HasPrefix(r.Design, "demo:") {
 		return []byte("demo"), nil
 	}
-	return os.ReadFile(p)
+	return r.Files.ReadFile(r.Design)
 }
 
 func (m *fakeModel) Init() tea.Cmd { return nil }
 
-func (m *fakeModel) SaveKeys() []string { return []string{"s"} }
+// WriteTrace writes the toggle, as a stand-in for a trace.
+func (m *fakeModel) WriteTrace(w io.Writer) error {
+	_, err := fmt.Fprintf(w, "fake trace, sel=%v\n", m.on)
+	return err
+}
 
-// SaveTrace writes the toggle count, as a stand-in for a trace.
-func (m *fakeModel) SaveTrace(path string) error {
-	return os.WriteFile(path, []byte(fmt.Sprintf("fake trace, sel=%v\n", m.on)), 0o644)
+func (m *fakeModel) save(kind tui.SaveKind, write func(io.Writer) error) {
+	shown, err := m.req.Save(kind, write)
+	if err != nil {
+		m.said = kind.String() + " save failed: " + err.Error()
+		return
+	}
+	m.said = kind.String() + " saved as " + shown
 }
 
 func (m *fakeModel) Update(msg tea.Msg) (tea.Model, tea.Cmd) {
@@ -311,7 +363,13 @@ func (m *fakeModel) Update(msg tea.Msg) (tea.Model, tea.Cmd) {
 		case "q":
 			return m, tea.Quit
 		case "s":
-			panic("the server should have taken the save key")
+			m.save(tui.SaveTrace, m.WriteTrace)
+		case "v":
+			on := m.on
+			m.save(tui.SaveVCD, func(w io.Writer) error {
+				_, err := fmt.Fprintf(w, "fake vcd, sel=%v\n", on)
+				return err
+			})
 		}
 	}
 	return m, nil
@@ -322,5 +380,5 @@ func (m *fakeModel) View() string {
 	if m.on {
 		v = 1
 	}
-	return fmt.Sprintf("fake explorer on %s\nsel=%d\nsize %dx%d\n%s", m.req.Name, v, m.w, m.h, m.req.Banner)
+	return fmt.Sprintf("fake explorer on %s\nsel=%d\nsize %dx%d\n%s\n%s", m.req.Name, v, m.w, m.h, m.req.Banner, m.said)
 }

@@ -18,28 +18,22 @@ import (
 // there (mode 600, with PATH.pub beside it) when there is none, so clients see
 // the same host key across restarts.
 func loadOrCreateHostKey(path string) (gossh.Signer, bool, error) {
-	pemBytes, err := os.ReadFile(path)
+	pemBytes, fi, err := readBounded(path, MaxHostKeyBytes)
 	if errors.Is(err, fs.ErrNotExist) {
 		signer, err := createHostKey(path)
 		return signer, err == nil, err
 	}
 	if err != nil {
-		return nil, false, fmt.Errorf("host key: %w", err)
+		return nil, false, err
 	}
-	if runtime.GOOS != "windows" {
-		fi, err := os.Stat(path)
-		if err != nil {
-			return nil, false, fmt.Errorf("host key: %w", err)
-		}
-		// As sshd does: a private key others can read is not a secret.
-		if fi.Mode().Perm()&0o077 != 0 {
-			return nil, false, fmt.Errorf("host key %s: mode %04o lets others read it; run chmod 600 %s",
-				path, fi.Mode().Perm(), path)
-		}
+	// As sshd does: a private key others can read is not a secret.
+	if runtime.GOOS != "windows" && fi.Mode().Perm()&0o077 != 0 {
+		return nil, false, fmt.Errorf("%s: mode %04o lets others read it; run chmod 600 %s",
+			path, fi.Mode().Perm(), path)
 	}
 	signer, err := gossh.ParsePrivateKey(pemBytes)
 	if err != nil {
-		return nil, false, fmt.Errorf("host key %s: %v", path, err)
+		return nil, false, fmt.Errorf("%s: %v", path, err)
 	}
 	return signer, false, nil
 }
@@ -54,21 +48,21 @@ func createHostKey(path string) (gossh.Signer, error) {
 		return nil, err
 	}
 	if err := os.MkdirAll(filepath.Dir(path), 0o700); err != nil {
-		return nil, fmt.Errorf("host key: %w", err)
+		return nil, err
 	}
 	// O_EXCL: two servers starting at once never overwrite each other's key.
 	f, err := os.OpenFile(path, os.O_WRONLY|os.O_CREATE|os.O_EXCL, 0o600)
 	if err != nil {
-		return nil, fmt.Errorf("host key: %w", err)
+		return nil, err
 	}
 	if _, err := f.Write(pem.EncodeToMemory(block)); err != nil {
 		f.Close()
 		os.Remove(path)
-		return nil, fmt.Errorf("host key: %w", err)
+		return nil, err
 	}
 	if err := f.Close(); err != nil {
 		os.Remove(path)
-		return nil, fmt.Errorf("host key: %w", err)
+		return nil, err
 	}
 	signer, err := gossh.NewSignerFromKey(priv)
 	if err != nil {

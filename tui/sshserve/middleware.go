@@ -9,6 +9,8 @@ import (
 
 	"github.com/charmbracelet/ssh"
 	gossh "golang.org/x/crypto/ssh"
+
+	"railyard/switchsim/diag"
 )
 
 // visit is one SSH session as the middlewares see it: the logging middleware
@@ -26,7 +28,8 @@ type visit struct {
 	id     string // the joinable session id (explorer) or the one joined (viewer)
 	status int
 	reason string // why the server ended it, if it did
-	trace  string
+	trace  string // the files it saved, as USER/NAME
+	vcd    string
 }
 
 func (v *visit) set(f func(v *visit)) {
@@ -44,10 +47,15 @@ func visitOf(s ssh.Session) *visit {
 	return &visit{} // only when a middleware runs outside the chain (tests)
 }
 
-// fail ends the session with a one-line message and exit status 1.
+// fail ends the session with a message and exit status 1. The message may
+// quote a design's errors, so each of its lines is made printable.
 func fail(s ssh.Session, v *visit, reason, msg string) {
 	v.set(func(v *visit) { v.status, v.reason = 1, reason })
-	fmt.Fprintf(s.Stderr(), "railyard: %s\n", msg)
+	lines := strings.Split(msg, "\n")
+	for i, l := range lines {
+		lines[i] = diag.Printable(l)
+	}
+	fmt.Fprintf(s.Stderr(), "railyard: %s\n", strings.Join(lines, "\n"))
 	_ = s.Exit(1)
 }
 
@@ -55,15 +63,17 @@ func fail(s ssh.Session, v *visit, reason, msg string) {
 // duration, once it starts and once it ends.
 func (s *Server) logSessions(next ssh.Handler) ssh.Handler {
 	return func(sess ssh.Session) {
-		v := &visit{user: sess.User(), key: "none", remote: sess.RemoteAddr().String(),
-			command: sess.RawCommand(), started: time.Now()}
+		// The user name and the command are the client's: made printable,
+		// so that a log read on a terminal cannot drive it.
+		v := &visit{user: diag.Printable(sess.User()), key: "none", remote: sess.RemoteAddr().String(),
+			command: diag.Printable(sess.RawCommand()), started: time.Now()}
 		if k := sess.PublicKey(); k != nil {
 			v.key = gossh.FingerprintSHA256(k)
 		}
 		sess.Context().SetValue(visitKey{}, v)
 		pty, _, hasPTY := sess.Pty()
 		s.log.Info("session start", "user", v.user, "key", v.key, "remote", v.remote,
-			"command", v.command, "pty", hasPTY, "term", pty.Term,
+			"command", v.command, "pty", hasPTY, "term", diag.Printable(pty.Term),
 			"width", pty.Window.Width, "height", pty.Window.Height)
 		next(sess)
 		v.mu.Lock()
@@ -76,6 +86,9 @@ func (s *Server) logSessions(next ssh.Handler) ssh.Handler {
 		}
 		if v.trace != "" {
 			attrs = append(attrs, "trace", v.trace)
+		}
+		if v.vcd != "" {
+			attrs = append(attrs, "vcd", v.vcd)
 		}
 		s.log.Info("session end", attrs...)
 	}
@@ -101,7 +114,7 @@ func (s *Server) logPanic(v *visit, r any, stack []byte) {
 	user, design, id := v.user, v.design, v.id
 	v.mu.Unlock()
 	s.log.Error("session panic", "user", user, "design", design, "session", id,
-		"panic", fmt.Sprint(r), "stack", string(stack))
+		"panic", diag.Printable(fmt.Sprint(r)), "stack", string(stack))
 }
 
 // checkAccess is the last word on who is in: the SSH layer already demanded a

@@ -7,6 +7,8 @@ import (
 	"github.com/charmbracelet/bubbles/key"
 	tea "github.com/charmbracelet/bubbletea"
 	"github.com/charmbracelet/x/ansi"
+
+	"railyard/switchsim/diag"
 )
 
 // PickerKeyMap is the picker's keys.
@@ -91,9 +93,10 @@ func (p *picker) view() string {
 		mark = "> "
 	}
 	for i := p.top; i < len(p.names) && i < p.top+n; i++ {
-		line := "  " + p.names[i]
+		// A name is a file name in the folder: shown printable, chosen as it is.
+		line := "  " + diag.Printable(p.names[i])
 		if i == p.cursor {
-			line = mark + p.names[i]
+			line = mark + diag.Printable(p.names[i])
 		}
 		b.WriteString(ansi.Truncate(line, max(1, p.width), "") + "\n")
 	}

@@ -43,13 +43,6 @@ func (r *registry) release() {
 	r.mu.Unlock()
 }
 
-// Active is the number of open sessions.
-func (r *registry) Active() int {
-	r.mu.Lock()
-	defer r.mu.Unlock()
-	return r.active
-}
-
 // idAlphabet has no letters easily misread for digits (no i, l, o, 0, 1).
 const idAlphabet = "abcdefghjkmnpqrstuvwxyz23456789"
 

@@ -10,44 +10,55 @@ import (
 	"strings"
 	"unicode"
 
-	"railyard/switchsim/steps"
+	"railyard/switchsim/load"
 )
 
-// DesignExt is the suffix of the design files served from the folder.
+// DesignExt is the suffix of the design files served from the folder; a
+// name given without an extension is looked up with it.
 const DesignExt = ".sw"
 
 // catalog resolves the names a client may ask for: files in one folder, and
-// the embedded demos.
+// the embedded demos. Every file is opened through an os.Root of the
+// folder (the loader's Root), so that no name and no symbolic link leads
+// out of it, and what resolve looked at is what the session reads: there
+// is no gap between a check of a path and its open.
 type catalog struct {
-	root     string // the folder, with symlinks resolved
+	root     string       // the folder, with symlinks resolved (for logs; stripped from messages)
+	files    *load.Loader // the folder, opened
 	demos    func() []string
 	maxBytes int64
 }
 
 // target is a resolved design.
 type target struct {
-	Name   string // as listed: a file name without .sw, or demo:NAME
-	Design string // a real path inside the folder, or demo:NAME
-	Steps  string // the default steps, a real path inside the folder; empty for none
+	Name   string       // as listed: a file name without .sw, or demo:NAME
+	Design string       // the name to open through Files: a file inside the folder, or demo:NAME
+	Steps  string       // the default steps, a file inside the folder; empty for none
+	Files  *load.Loader // what Design and Steps are opened through
 }
 
 func newCatalog(dir string, demos func() []string, maxBytes int64) (*catalog, error) {
 	abs, err := filepath.Abs(dir)
 	if err != nil {
-		return nil, fmt.Errorf("--designs: %w", err)
+		return nil, err
 	}
 	root, err := filepath.EvalSymlinks(abs)
 	if err != nil {
-		return nil, fmt.Errorf("--designs: %w", err)
+		return nil, err
 	}
 	fi, err := os.Stat(root)
 	if err != nil {
-		return nil, fmt.Errorf("--designs: %w", err)
+		return nil, err
 	}
 	if !fi.IsDir() {
-		return nil, fmt.Errorf("--designs %s: not a folder", dir)
+		return nil, fmt.Errorf("%s: not a folder", dir)
 	}
-	return &catalog{root: root, demos: demos, maxBytes: maxBytes}, nil
+	r, err := os.OpenRoot(root)
+	if err != nil {
+		return nil, err
+	}
+	files := load.Root(r, load.Options{MaxBytes: int(min(maxBytes, 1<<30))})
+	return &catalog{root: root, files: files, demos: demos, maxBytes: maxBytes}, nil
 }
 
 // errRefused marks a name refused for where it points, not for being absent.
@@ -55,11 +66,11 @@ var errRefused = errors.New("refused")
 
 // resolve turns a requested name into a design to open. File names are
 // looked up in the folder only: no separators, no "..", no absolute paths,
-// and after following symlinks the file must still lie inside the folder.
+// and no symbolic link out of the folder (the root refuses it).
 func (c *catalog) resolve(name string) (target, error) {
-	if demo, ok := strings.CutPrefix(name, "demo:"); ok {
+	if demo, ok := load.CutDemo(name); ok {
 		if slices.Contains(c.demos(), demo) {
-			return target{Name: name, Design: name}, nil
+			return target{Name: name, Design: name, Files: c.files}, nil
 		}
 		return target{}, fmt.Errorf("%q: no such demo (try one listed by the picker)", name)
 	}
@@ -67,23 +78,23 @@ func (c *catalog) resolve(name string) (target, error) {
 		return target{}, err
 	}
 	file := name
-	if !strings.HasSuffix(file, DesignExt) {
+	if !load.Known(file) {
 		file += DesignExt
 	}
-	real, err := c.inside(filepath.Join(c.root, file))
-	if err != nil {
+	if err := c.inside(file); err != nil {
 		if errors.Is(err, fs.ErrNotExist) {
 			return target{}, fmt.Errorf("%q: no such design here", name)
 		}
 		return target{}, fmt.Errorf("%q: %w", name, err)
 	}
-	t := target{Name: strings.TrimSuffix(file, DesignExt), Design: real}
+	t := target{Name: strings.TrimSuffix(file, DesignExt), Design: file, Files: c.files}
 	// The default steps are found the way the session finds them (beside
-	// the design as opened); they too must stay inside.
-	if p, ok := steps.Default(real); ok {
-		if t.Steps, err = c.inside(p); err != nil {
+	// the design, through the same root); they too must stay inside.
+	if st, ok := c.files.DefaultSteps(file); ok {
+		if err := c.inside(st); err != nil {
 			return target{}, fmt.Errorf("%q: its steps file: %w", name, err)
 		}
+		t.Steps = st
 	}
 	return t, nil
 }
@@ -112,40 +123,32 @@ func plainName(name string) error {
 	return nil
 }
 
-// inside resolves p's symlinks and checks that the result is a regular file
-// inside the folder, within the size bound.
-func (c *catalog) inside(p string) (string, error) {
-	real, err := filepath.EvalSymlinks(p)
+// inside opens file through the root and checks that what it opened is a
+// regular file within the size bound.
+func (c *catalog) inside(file string) error {
+	fi, err := c.files.Stat(file)
 	if err != nil {
 		if errors.Is(err, fs.ErrNotExist) {
-			return "", err
+			return err
 		}
-		return "", fmt.Errorf("%w: cannot be resolved", errRefused)
-	}
-	rel, err := filepath.Rel(c.root, real)
-	if err != nil || rel == "." || rel == ".." || strings.HasPrefix(rel, ".."+string(filepath.Separator)) || filepath.IsAbs(rel) {
-		return "", fmt.Errorf("%w: it points outside the designs folder", errRefused)
-	}
-	fi, err := os.Stat(real)
-	if err != nil {
-		return "", err
+		return fmt.Errorf("%w: it points outside the designs folder or cannot be opened", errRefused)
 	}
 	if !fi.Mode().IsRegular() {
-		return "", fmt.Errorf("%w: not a regular file", errRefused)
+		return fmt.Errorf("%w: not a regular file", errRefused)
 	}
 	if fi.Size() > c.maxBytes {
-		return "", fmt.Errorf("%w: %d bytes, over the served limit of %d", errRefused, fi.Size(), c.maxBytes)
+		return fmt.Errorf("%w: %d bytes, over the served limit of %d", errRefused, fi.Size(), c.maxBytes)
 	}
-	return real, nil
+	return nil
 }
 
 // list is what the picker offers: the folder's designs that resolve, then the demos.
 func (c *catalog) list() []string {
 	var names []string
-	entries, _ := os.ReadDir(c.root)
+	entries, _ := c.files.ReadDir(".")
 	for _, e := range entries {
 		n := e.Name()
-		if !strings.HasSuffix(n, DesignExt) || strings.HasPrefix(n, ".") {
+		if !load.Known(n) || strings.HasPrefix(n, ".") {
 			continue
 		}
 		if t, err := c.resolve(n); err == nil {
@@ -154,7 +157,7 @@ func (c *catalog) list() []string {
 	}
 	slices.Sort(names)
 	for _, d := range c.demos() {
-		names = append(names, "demo:"+d)
+		names = append(names, load.DemoPrefix+d)
 	}
 	return names
 }

@@ -8,7 +8,6 @@ import (
 	"log/slog"
 	"net"
 	"os"
-	"path/filepath"
 	"time"
 
 	tea "github.com/charmbracelet/bubbletea"
@@ -16,7 +15,10 @@ import (
 	"github.com/charmbracelet/ssh"
 	gossh "golang.org/x/crypto/ssh"
 
+	"railyard/switchsim/diag"
+	"railyard/switchsim/load"
 	"railyard/switchsim/netfile"
+	"railyard/tui"
 )
 
 // Defaults for the options a Config leaves zero.
@@ -26,14 +28,21 @@ const (
 	DefaultIdleTimeout = 15 * time.Minute
 )
 
+// The limits before authentication (MaxPending, MaxPendingPerAddr,
+// HandshakeTimeout) have their defaults in pending.go.
+
 // Config is what a server is built from.
 type Config struct {
-	Listen         string // TCP address; DefaultListen when empty
+	// Listen is the TCP address the listener given to Serve is for (with
+	// NoAuth it must be loopback); DefaultListen when empty.
+	Listen         string
 	AuthorizedKeys string // authorized_keys file; required unless NoAuth
 	HostKey        string // private host key; generated (ed25519, mode 600) when missing
 	Designs        string // the folder of .sw designs served
-	Traces         string // traces are saved under Traces/USER/; none are saved when empty
-	MaxSessions    int    // open sessions (explorers, viewers, pickers) at once; DefaultMaxSessions when 0
+	// Traces is where files are kept: what users save, and each session's
+	// whole trace, go under Traces/USER/; nothing is kept when empty.
+	Traces      string
+	MaxSessions int // open sessions (explorers, viewers, pickers) at once; DefaultMaxSessions when 0
 	// IdleTimeout closes a session after this long without input (a viewer:
 	// without input from it or its host); 0 never does.
 	IdleTimeout time.Duration
@@ -43,11 +52,18 @@ type Config struct {
 	// reader's own file limit when 0. With the reader's device limit it
 	// bounds what one session loads.
 	MaxDesignBytes int64
-	Logger         *slog.Logger // connection log; JSON to stderr when nil
+	// Limits before authentication, each its default when 0: connections
+	// accepted but not yet authenticated, in all and from one remote
+	// address, and the time a connection has to authenticate. See
+	// pendingGate for what happens when a cap is hit.
+	MaxPending        int
+	MaxPendingPerAddr int
+	HandshakeTimeout  time.Duration
+	Logger            *slog.Logger // connection log; JSON to stderr when nil
 
 	// Explorer builds the model for a chosen design; nil uses the railyard
 	// explorer (tests give their own). A model that is a Saver has its
-	// trace kept under Traces.
+	// whole trace kept under Traces when the session ends.
 	Explorer func(ExplorerRequest) (tea.Model, error)
 	// Demos lists the embedded demo names; nil uses the designs package.
 	Demos func() []string
@@ -55,16 +71,47 @@ type Config struct {
 
 // ExplorerRequest is what the Explorer hook gets to build one connection's model.
 type ExplorerRequest struct {
-	Name          string // as the user chose it: a file name under Designs or demo:NAME
-	Design        string // what to open: a resolved path inside Designs, or demo:NAME
-	Steps         string // the design's default steps, resolved inside Designs; empty for none or a demo
+	Name   string // as the user chose it: a file name under Designs or demo:NAME
+	Design string // what to open through Files: a file name inside Designs, or demo:NAME
+	Steps  string // the design's default steps, inside Designs; empty for none
+	// Files opens Design and Steps: a loader over the served folder that no
+	// name or symbolic link can leave (nil: the command line's files).
+	Files         *load.Loader
 	Width, Height int    // the client's terminal
 	Banner        string // the session id, for the header
-	TracePath     string // where the trace is saved; empty when the server keeps none
-	NoColor       bool   // the client asked for NO_COLOR
-	ASCII         bool   // the client's terminal is not UTF-8 capable
+	// Save keeps what the user saves (the explorer's tui.Options.Save):
+	// under Traces/USER/ with a name the server chooses, or, when the
+	// server keeps no files, an error saying so. Never nil: a served
+	// explorer must not fall back to asking for a path.
+	Save    tui.SaveFunc
+	NoColor bool // the client asked for NO_COLOR
+	ASCII   bool // the client's terminal is not UTF-8 capable
 	// Renderer renders styles for this client's terminal.
 	Renderer *lipgloss.Renderer
+}
+
+// ConfigError is a Config the server cannot take: the field at fault (as
+// named in Config), the field it clashes with when there is one, and what
+// is wrong. A command maps the field names to its own flags.
+type ConfigError struct {
+	Field string
+	Other string
+	Err   error
+}
+
+func (e *ConfigError) Error() string {
+	f := e.Field
+	if e.Other != "" {
+		f += " and " + e.Other
+	}
+	return f + ": " + e.Err.Error()
+}
+
+func (e *ConfigError) Unwrap() error { return e.Err }
+
+// configError is a ConfigError on one field.
+func configError(field, format string, args ...any) error {
+	return &ConfigError{Field: field, Err: fmt.Errorf(format, args...)}
 }
 
 // Server is a configured railyard SSH server.
@@ -76,25 +123,45 @@ type Server struct {
 	hostKey  gossh.Signer
 	catalog  *catalog
 	registry *registry
+	gate     *pendingGate
 }
 
 // New checks a Config, loads or creates the host key, reads the authorised
-// keys and builds the server. Nothing listens until Serve or ListenAndServe.
+// keys and builds the server. Nothing listens until Serve.
 func New(cfg Config) (*Server, error) {
 	if cfg.Listen == "" {
 		cfg.Listen = DefaultListen
 	}
-	if cfg.MaxSessions == 0 {
-		cfg.MaxSessions = DefaultMaxSessions
-	}
-	if cfg.MaxSessions < 0 {
-		return nil, fmt.Errorf("--max-sessions must be positive, got %d", cfg.MaxSessions)
+	for _, c := range []struct {
+		v     *int
+		def   int
+		field string
+	}{
+		{&cfg.MaxSessions, DefaultMaxSessions, "MaxSessions"},
+		{&cfg.MaxPending, DefaultMaxPending, "MaxPending"},
+		{&cfg.MaxPendingPerAddr, DefaultMaxPendingPerAddr, "MaxPendingPerAddr"},
+	} {
+		if *c.v == 0 {
+			*c.v = c.def
+		}
+		if *c.v < 0 {
+			return nil, configError(c.field, "must be positive, got %d", *c.v)
+		}
 	}
 	if cfg.IdleTimeout < 0 {
-		return nil, fmt.Errorf("--idle-timeout must not be negative, got %s", cfg.IdleTimeout)
+		return nil, configError("IdleTimeout", "must not be negative, got %s", cfg.IdleTimeout)
+	}
+	if cfg.HandshakeTimeout == 0 {
+		cfg.HandshakeTimeout = DefaultHandshakeTimeout
+	}
+	if cfg.HandshakeTimeout < 0 {
+		return nil, configError("HandshakeTimeout", "must be positive, got %s", cfg.HandshakeTimeout)
 	}
 	if cfg.MaxDesignBytes == 0 {
 		cfg.MaxDesignBytes = int64(netfile.DefaultLimits().FileSize)
+	}
+	if cfg.MaxDesignBytes < 0 {
+		return nil, configError("MaxDesignBytes", "must be positive, got %d", cfg.MaxDesignBytes)
 	}
 	if cfg.Logger == nil {
 		cfg.Logger = slog.New(slog.NewJSONHandler(os.Stderr, nil))
@@ -105,18 +172,19 @@ func New(cfg Config) (*Server, error) {
 	if cfg.Demos == nil {
 		cfg.Demos = demoNames
 	}
-	s := &Server{cfg: cfg, log: cfg.Logger, registry: newRegistry(cfg.MaxSessions)}
+	s := &Server{cfg: cfg, log: cfg.Logger, registry: newRegistry(cfg.MaxSessions),
+		gate: newPendingGate(cfg.MaxPending, cfg.MaxPendingPerAddr, cfg.HandshakeTimeout, realClock{}, cfg.Logger)}
 
 	if cfg.NoAuth {
 		if cfg.AuthorizedKeys != "" {
-			return nil, errors.New("--no-auth and --authorized-keys exclude each other")
+			return nil, &ConfigError{Field: "NoAuth", Other: "AuthorizedKeys", Err: errors.New("they exclude each other")}
 		}
 		if err := checkLoopback(cfg.Listen); err != nil {
 			return nil, err
 		}
 	} else {
 		if cfg.AuthorizedKeys == "" {
-			return nil, errors.New("--authorized-keys FILE is required (public keys are the only way in)")
+			return nil, configError("AuthorizedKeys", "a file is required (public keys are the only way in)")
 		}
 		keys, err := loadAuthorizedKeys(cfg.AuthorizedKeys)
 		if err != nil {
@@ -125,33 +193,33 @@ func New(cfg Config) (*Server, error) {
 		s.keys = keys
 	}
 	if cfg.HostKey == "" {
-		return nil, errors.New("--host-key FILE is required")
+		return nil, configError("HostKey", "a file is required")
 	}
 	hk, created, err := loadOrCreateHostKey(cfg.HostKey)
 	if err != nil {
-		return nil, err
+		return nil, &ConfigError{Field: "HostKey", Err: err}
 	}
 	s.hostKey = hk
 	if created {
 		s.log.Info("host key created", "path", cfg.HostKey, "fingerprint", gossh.FingerprintSHA256(hk.PublicKey()))
 	}
 	if cfg.Designs == "" {
-		return nil, errors.New("--designs DIR is required")
+		return nil, configError("Designs", "a folder is required")
 	}
 	if s.catalog, err = newCatalog(cfg.Designs, cfg.Demos, cfg.MaxDesignBytes); err != nil {
-		return nil, err
+		return nil, &ConfigError{Field: "Designs", Err: err}
 	}
 	if cfg.Traces != "" {
 		if err := os.MkdirAll(cfg.Traces, 0o750); err != nil {
-			return nil, fmt.Errorf("--traces: %w", err)
+			return nil, &ConfigError{Field: "Traces", Err: err}
 		}
 	}
 
 	connIdle := time.Duration(0)
 	if cfg.IdleTimeout > 0 {
 		// The session watchdog closes idle sessions with a message; this
-		// connection deadline is the backstop for stalled handshakes and
-		// connections that never open a session.
+		// connection deadline is the backstop for authenticated connections
+		// that never open a session (the gate bounds the handshake).
 		connIdle = cfg.IdleTimeout + 30*time.Second
 	}
 	var auth ssh.PublicKeyHandler
@@ -161,11 +229,13 @@ func New(cfg Config) (*Server, error) {
 		auth = s.publicKeyAllowed
 	}
 	srv, err := newSSHServer(sshSettings{
-		addr:     cfg.Listen,
-		hostKey:  hk,
-		auth:     auth,
-		connIdle: connIdle,
-		failed:   s.connectionFailed,
+		addr:      cfg.Listen,
+		hostKey:   hk,
+		auth:      auth,
+		connIdle:  connIdle,
+		failed:    s.connectionFailed,
+		accept:    s.admit,
+		handshake: s.handshakeConfig,
 		// Listed innermost first: a session runs logging, recovery, access,
 		// the limit, the terminal check, then the handler.
 		chain: []func(ssh.Handler) ssh.Handler{
@@ -197,21 +267,14 @@ func (s *Server) Serve(ln net.Listener) error {
 	}
 	s.log.Info("serving", "addr", ln.Addr().String(), "designs", s.catalog.root,
 		"host_key", gossh.FingerprintSHA256(s.hostKey.PublicKey()), "auth", s.authName(),
-		"max_sessions", s.cfg.MaxSessions, "idle_timeout", s.cfg.IdleTimeout.String())
+		"max_sessions", s.cfg.MaxSessions, "idle_timeout", s.cfg.IdleTimeout.String(),
+		"max_pending", s.cfg.MaxPending, "max_pending_per_addr", s.cfg.MaxPendingPerAddr,
+		"handshake_timeout", s.cfg.HandshakeTimeout.String())
 	err := s.srv.Serve(ln)
 	if errors.Is(err, ssh.ErrServerClosed) {
 		return nil
 	}
 	return err
-}
-
-// ListenAndServe listens on the configured address and serves.
-func (s *Server) ListenAndServe() error {
-	ln, err := net.Listen("tcp", s.cfg.Listen)
-	if err != nil {
-		return err
-	}
-	return s.Serve(ln)
 }
 
 // Close stops listening and closes every connection.
@@ -234,27 +297,55 @@ func (s *Server) connectionFailed(c net.Conn, err error) {
 	if errors.Is(err, io.EOF) {
 		return // a client that gave up or only probed
 	}
-	s.log.Warn("connection refused", "remote", c.RemoteAddr().String(), "error", err.Error())
+	if errors.Is(err, errDropped) {
+		return // the gate dropped it and logged why
+	}
+	// The reason can quote what the client sent (its algorithm names).
+	s.log.Warn("handshake failed", "event", "failed", "remote", c.RemoteAddr().String(), "reason", diag.Printable(err.Error()))
+}
+
+// pendingKey holds a connection's pendingConn in its SSH context, from
+// accept to the handshake's settings.
+type pendingKey struct{}
+
+// admit is the first thing a new connection meets: the gate takes it or
+// refuses it (nil closes it).
+func (s *Server) admit(ctx ssh.Context, c net.Conn) net.Conn {
+	pc, ok := s.gate.admit(c)
+	if !ok {
+		return nil
+	}
+	ctx.SetValue(pendingKey{}, pc)
+	return pc
+}
+
+// handshakeConfig gives the connection's handshake settings: the SSH layer
+// reports every authentication attempt to it, and the first one that succeeds
+// ends the connection's time in the gate.
+func (s *Server) handshakeConfig(ctx ssh.Context) *gossh.ServerConfig {
+	cfg := &gossh.ServerConfig{}
+	if pc, ok := ctx.Value(pendingKey{}).(*pendingConn); ok {
+		cfg.AuthLogCallback = func(_ gossh.ConnMetadata, _ string, err error) {
+			if err == nil {
+				pc.authenticated()
+			}
+		}
+	}
+	return cfg
 }
 
 // checkLoopback refuses any address that is not bound to loopback only.
 func checkLoopback(addr string) error {
 	host, _, err := net.SplitHostPort(addr)
 	if err != nil {
-		return fmt.Errorf("--listen %q: %v", addr, err)
+		return configError("Listen", "%q: %v", addr, err)
 	}
 	if host == "localhost" {
 		return nil // Serve checks the address actually bound
 	}
 	ip := net.ParseIP(host)
 	if ip == nil || !ip.IsLoopback() {
-		return fmt.Errorf("--no-auth is only allowed on a loopback address (such as 127.0.0.1), not %q", addr)
+		return configError("NoAuth", "only allowed on a loopback address (such as 127.0.0.1), not %q", addr)
 	}
 	return nil
-}
-
-// cleanBase is a design path's base name without its extension, for trace names.
-func cleanBase(p string) string {
-	b := filepath.Base(p)
-	return b[:len(b)-len(filepath.Ext(b))]
 }

@@ -236,9 +236,9 @@ func TestIdleTimeout(t *testing.T) {
 	ts.writeDesign(t, "opsel.sw", opsel)
 	busy := ts.open(t, ts.keys[0], "bob", "opsel", 80, 24)
 	busy.waitFor("fake explorer")
-	idle := ts.open(t, ts.keys[0], "alice", "opsel", 80, 24)
-	idle.waitFor("fake explorer")
-	// The busy one types well within the timeout, for longer than the idle one lasts.
+	// The busy one types well within the timeout, from before the idle one
+	// opens (opening takes a handshake, which on a loaded machine can take
+	// longer than the timeout) to after it has been closed.
 	stop := make(chan struct{})
 	go func() {
 		tick := time.NewTicker(40 * time.Millisecond)
@@ -253,6 +253,8 @@ func TestIdleTimeout(t *testing.T) {
 		}
 	}()
 	defer close(stop)
+	idle := ts.open(t, ts.keys[0], "alice", "opsel", 80, 24)
+	idle.waitFor("fake explorer")
 	if st := idle.exit(); st != 1 {
 		t.Fatalf("idle session: exit status %d, want 1", st)
 	}
@@ -364,28 +366,45 @@ func TestPanicEndsOnlyItsSession(t *testing.T) {
 	}
 }
 
-func TestTraceGoesUnderUserFolder(t *testing.T) {
+func TestSavesGoUnderUserFolder(t *testing.T) {
 	ts := startServer(t, 1)
 	ts.writeDesign(t, "opsel.sw", opsel)
 	tm := ts.open(t, ts.keys[0], "alice", "opsel", 120, 24)
 	id := tm.sessionID()
-	// The name is DESIGN-YYYYMMDD-HHMMSS-ID.trace (the project's own scheme).
-	re := regexp.MustCompile(`trace saved as (alice/opsel-\d{8}-\d{6}-` + id + `\.trace)`)
-	tm.waitFor("s saves the trace as alice/opsel-")
+	tm.waitFor("s saves to alice/")
+	// The names are DESIGN-YYYYMMDD-HHMMSS-ID.trace and .vcd (the project's
+	// own scheme), the same stem for both.
+	stem := `alice/opsel-\d{8}-\d{6}-` + id
 	tm.send("t")
 	tm.waitFor("sel=1")
-	tm.send("s") // taken by the server: the fake model panics if it sees it
-	tm.waitFor("trace saved as")
-	m := re.FindStringSubmatch(tm.text())
+	tm.send("s") // the save key reaches the explorer, which saves through the request's Save
+	tm.waitFor("saved as alice/")
+	m := regexp.MustCompile(`saved as (` + stem + `\.trace)`).FindStringSubmatch(tm.text())
 	if m == nil {
 		t.Fatalf("no trace name shown:\n%s", tm.text())
 	}
-	p := filepath.Join(ts.dir, "traces", m[1])
+	trace := m[1]
+	p := filepath.Join(ts.dir, "traces", trace)
 	if b, err := os.ReadFile(p); err != nil || string(b) != "fake trace, sel=true\n" {
 		t.Fatalf("trace under traces/alice: %q, %v", b, err)
 	}
+	tm.send("v")
+	tm.waitFor(".vcd")
+	m = regexp.MustCompile(`saved as (` + stem + `\.vcd)`).FindStringSubmatch(tm.text())
+	if m == nil {
+		t.Fatalf("no VCD name shown:\n%s", tm.text())
+	}
+	vcd := m[1]
+	if strings.TrimSuffix(vcd, ".vcd") != strings.TrimSuffix(trace, ".trace") {
+		t.Errorf("the trace %s and the VCD %s of one session have different stems", trace, vcd)
+	}
 	tm.send("t")
 	tm.waitCount("sel=0", 2)
+	tm.send("v") // a second VCD replaces the first, and says so
+	tm.waitFor("(replacing the one saved before)")
+	if b, err := os.ReadFile(filepath.Join(ts.dir, "traces", vcd)); err != nil || string(b) != "fake vcd, sel=false\n" {
+		t.Fatalf("VCD after the second save: %q, %v", b, err)
+	}
 	tm.send("q")
 	if st := tm.exit(); st != 0 {
 		t.Fatalf("exit status %d, want 0", st)
@@ -394,10 +413,64 @@ func TestTraceGoesUnderUserFolder(t *testing.T) {
 	if b, err := os.ReadFile(p); err != nil || string(b) != "fake trace, sel=false\n" {
 		t.Fatalf("trace after quit: %q, %v", b, err)
 	}
-	if strings.Count(tm.text(), "trace saved as "+m[1]) < 2 {
+	if !strings.Contains(tm.text(), "railyard: trace saved as "+trace) {
 		t.Errorf("the trace name is not shown on quit:\n%s", tm.text())
 	}
-	ts.waitLog(t, "session end", map[string]any{"user": "alice", "trace": m[1]})
+	// A session puts two files on the disk, whatever the number of saves.
+	if all, _ := filepath.Glob(filepath.Join(ts.dir, "traces", "*", "*")); len(all) != 2 {
+		t.Errorf("files under traces: %v, want the trace and the VCD", all)
+	}
+	ts.waitLog(t, "session end", map[string]any{"user": "alice", "trace": trace, "vcd": vcd})
+	ts.waitLog(t, "file saved", map[string]any{"user": "alice", "session": id, "kind": "VCD", "file": vcd})
+}
+
+func TestNoTracesFolderKeepsNoFiles(t *testing.T) {
+	ts := startServer(t, 1, func(c *Config) { c.Traces = "" })
+	ts.writeDesign(t, "opsel.sw", opsel)
+	tm := ts.open(t, ts.keys[0], "alice", "opsel", 120, 24)
+	tm.sessionID()
+	if strings.Contains(tm.text(), "s saves") {
+		t.Errorf("the notice offers saves on a server that keeps none:\n%s", tm.text())
+	}
+	tm.send("s")
+	tm.waitFor("trace save failed: this server keeps no files")
+	tm.send("v")
+	tm.waitFor("VCD save failed: this server keeps no files")
+	tm.send("q")
+	if st := tm.exit(); st != 0 {
+		t.Fatalf("exit status %d, want 0", st)
+	}
+	if strings.Contains(tm.text(), "trace saved") {
+		t.Errorf("a trace was said to be saved:\n%s", tm.text())
+	}
+	if m, _ := filepath.Glob(filepath.Join(ts.dir, "traces", "*")); len(m) > 0 {
+		t.Errorf("files written without a traces folder: %v", m)
+	}
+}
+
+func TestSaveFailureIsShownAndLogged(t *testing.T) {
+	ts := startServer(t, 1)
+	ts.writeDesign(t, "opsel.sw", opsel)
+	tm := ts.open(t, ts.keys[0], "alice", "opsel", 120, 24)
+	tm.sessionID()
+	// The user's folder turns into a file: nothing can be written in it.
+	dir := filepath.Join(ts.dir, "traces", "alice")
+	must(t, os.Remove(dir))
+	must(t, os.WriteFile(dir, []byte("in the way\n"), 0o644))
+	tm.send("s")
+	tm.waitFor("save failed: the server could not write it")
+	if strings.Contains(tm.text(), ts.dir) {
+		t.Errorf("the server's folder shows:\n%s", tm.text())
+	}
+	r := ts.waitLog(t, "save failed", map[string]any{"user": "alice", "kind": "trace"})
+	if e, _ := r["error"].(string); e == "" {
+		t.Errorf("the log does not say why: %v", r)
+	}
+	tm.send("q")
+	if st := tm.exit(); st != 1 {
+		t.Errorf("exit status %d, want 1 (the trace could not be kept)", st)
+	}
+	tm.waitFor("the trace could not be saved")
 }
 
 func TestPickerListsAndOpens(t *testing.T) {

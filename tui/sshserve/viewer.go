@@ -8,6 +8,8 @@ import (
 	"github.com/charmbracelet/bubbles/key"
 	tea "github.com/charmbracelet/bubbletea"
 	"github.com/charmbracelet/x/ansi"
+
+	"railyard/switchsim/diag"
 )
 
 // viewer shows another session's latest frame. It has no way to reach that
@@ -97,7 +99,7 @@ func (m *viewer) View() string {
 		sep = " - "
 	}
 	status := fmt.Sprintf("watching session %s%s%s%s%s%sread-only%sq leaves",
-		m.host.ID, sep, m.host.User, sep, m.host.Design, sep, sep)
+		m.host.ID, sep, diag.Printable(m.host.User), sep, diag.Printable(m.host.Design), sep, sep)
 	w := max(1, m.width)
 	var b strings.Builder
 	b.WriteString(ansi.Truncate(status, w, ""))

@@ -14,27 +14,32 @@ import (
 
 	"railyard/switchsim"
 	"railyard/tui/listing"
+	"railyard/tui/panel"
 	"railyard/tui/theme"
 )
 
 // KeyMap are the view's keys.
 type KeyMap struct {
 	listing.Nav
-	Jump key.Binding
+	Jump        key.Binding
+	Left, Right key.Binding // scroll the apply | want column
 }
 
-// DefaultKeyMap: arrows select a row, enter brings the design to it.
+// DefaultKeyMap: arrows select a row, enter brings the design to it, left
+// and right scroll the values when they do not fit.
 func DefaultKeyMap() KeyMap {
 	return KeyMap{
-		Nav:  listing.DefaultNav(),
-		Jump: key.NewBinding(key.WithKeys("enter"), key.WithHelp("enter", "go to this step")),
+		Nav:   listing.DefaultNav(),
+		Jump:  key.NewBinding(key.WithKeys("enter"), key.WithHelp("enter", "go to this step")),
+		Left:  key.NewBinding(key.WithKeys("left", ","), key.WithHelp("←", "scroll values left")),
+		Right: key.NewBinding(key.WithKeys("right", "."), key.WithHelp("→", "scroll values right")),
 	}
 }
 
 // ShortHelp and FullHelp feed the help view.
-func (k KeyMap) ShortHelp() []key.Binding { return []key.Binding{k.Jump} }
+func (k KeyMap) ShortHelp() []key.Binding { return []key.Binding{k.Jump, k.Left, k.Right} }
 func (k KeyMap) FullHelp() [][]key.Binding {
-	return [][]key.Binding{{k.Up, k.Down, k.PageUp, k.PageDown, k.Home, k.End}, {k.Jump}}
+	return [][]key.Binding{{k.Up, k.Down, k.PageUp, k.PageDown, k.Home, k.End}, {k.Jump, k.Left, k.Right}}
 }
 
 // Styles draw the view.
@@ -97,13 +102,16 @@ type Model struct {
 	outcomes []Outcome
 	next     int
 	cur      listing.Cursor
+	hoff     int // runes of the apply | want column scrolled off to the left
 	focused  bool
 	w, h     int
 }
 
 // New makes a view of a steps file's rows (none: the design has no steps).
-func New(file string, steps []Step, st Styles) *Model {
-	m := &Model{KeyMap: DefaultKeyMap(), Styles: st, file: file, steps: steps}
+// The file name and the rows' labels come from a file: the caller makes
+// them printable.
+func New(file string, steps []Step, st Styles) Model {
+	m := Model{KeyMap: DefaultKeyMap(), Styles: st, file: file, steps: steps}
 	m.outcomes = make([]Outcome, len(steps))
 	m.cur.SetLen(len(steps))
 	return m
@@ -115,23 +123,15 @@ func (m *Model) SetSize(w, h int) {
 	m.cur.SetHeight(m.listHeight())
 }
 
-func (m *Model) listHeight() int {
-	// the list takes what the details below leave
-	return max(min(len(m.steps), m.h-2-m.detailRows()), min(3, m.h-2))
-}
-
-func (m *Model) detailRows() int {
-	n := 0
-	if m.cur.Pos < len(m.outcomes) {
-		n = len(m.outcomes[m.cur.Pos].Checks)
-	}
-	return min(max(n, 1)+1, max(m.h/2, 2))
+func (m Model) listHeight() int {
+	// the list takes what the details below leave, at least three rows
+	return max(min(len(m.steps), m.h-2-len(m.details())), min(3, m.h-2))
 }
 
 // Focus and Blur tell the view whether keys go to it.
-func (m *Model) Focus()        { m.focused = true }
-func (m *Model) Blur()         { m.focused = false }
-func (m *Model) Focused() bool { return m.focused }
+func (m *Model) Focus()       { m.focused = true }
+func (m *Model) Blur()        { m.focused = false }
+func (m Model) Focused() bool { return m.focused }
 
 // SetProgress gives each row's outcome and the row the next step applies.
 // The selection follows the last row applied.
@@ -146,30 +146,42 @@ func (m *Model) SetProgress(outcomes []Outcome, next int) {
 }
 
 // Selected is the row under the cursor, or -1.
-func (m *Model) Selected() int {
+func (m Model) Selected() int {
 	if len(m.steps) == 0 {
 		return -1
 	}
 	return m.cur.Pos
 }
 
-// Update handles a key; it reports the row to jump to, or -1.
-func (m *Model) Update(msg tea.Msg) int {
+// Update handles a key; enter asks the root to go to the row (panel.JumpTo).
+func (m Model) Update(msg tea.Msg) (Model, tea.Cmd) {
 	k, ok := msg.(tea.KeyMsg)
-	if !ok || len(m.steps) == 0 {
-		return -1
+	if !ok {
+		return m, nil
+	}
+	if len(m.steps) == 0 {
+		if key.Matches(k, m.KeyMap.Jump) {
+			return m, panel.Send(panel.Note{Text: "this design has no steps file: give one with --steps"})
+		}
+		return m, nil
 	}
 	switch {
 	case m.KeyMap.Nav.Handle(k, &m.cur):
 		m.cur.SetHeight(m.listHeight())
 	case key.Matches(k, m.KeyMap.Jump):
-		return m.cur.Pos
+		return m, panel.Send(panel.JumpTo{Row: m.cur.Pos})
+	case key.Matches(k, m.KeyMap.Left):
+		m.hoff = max(m.hoff-8, 0)
+	case key.Matches(k, m.KeyMap.Right):
+		// stop when the end of the longest row is in view
+		labelW, numW := m.columns()
+		m.hoff = min(m.hoff+8, max(m.maxValues()-m.valuesW(labelW, numW)+2, 0))
 	}
-	return -1
+	return m, nil
 }
 
 // View draws the view in its w x h cells.
-func (m *Model) View() string {
+func (m Model) View() string {
 	st, t := m.Styles, m.Styles.Theme
 	g := t.G
 	if len(m.steps) == 0 {
@@ -192,18 +204,17 @@ func (m *Model) View() string {
 		info += "  " + st.Fail.Render(fmt.Sprintf("%s %d failing", g.Fail, failed))
 	}
 	lines := []string{st.Dim.Render(t.Clip(info, m.w))}
-	numW := len(fmt.Sprint(len(m.steps)))
-	// the label gets what the apply and want columns leave, at least a third
-	rest := 0
-	for _, s := range m.steps {
-		rest = max(rest, lipgloss.Width(s.Apply)+3+lipgloss.Width(s.Want))
+	labelW, numW := m.columns()
+	values := "apply | want"
+	if m.hoff > 0 {
+		values += fmt.Sprintf(" (from +%d, %s)", m.hoff, m.KeyMap.Left.Help().Key)
+	} else if m.valuesW(labelW, numW) < m.maxValues() {
+		values += fmt.Sprintf(" (%s scrolls)", m.KeyMap.Right.Help().Key)
 	}
-	labelW := min(max(m.maxLabel(), 5), max(m.w-6-numW-rest, m.w/3, 8))
-	if m.maxLabel() == 0 {
-		labelW = -1 // no labels: no column (and no space after the number)
-		lines = append(lines, st.Header.Render(fmt.Sprintf("    %*s %s", numW, "#", "apply | want")))
+	if labelW < 0 {
+		lines = append(lines, st.Header.Render(fmt.Sprintf("    %*s %s", numW, "#", values)))
 	} else {
-		lines = append(lines, st.Header.Render(fmt.Sprintf("    %*s %-*s %s", numW, "#", labelW, "label", "apply | want")))
+		lines = append(lines, st.Header.Render(fmt.Sprintf("    %*s %-*s %s", numW, "#", labelW, "label", values)))
 	}
 	lo, hi := m.cur.Window()
 	for i := lo; i < hi; i++ {
@@ -219,22 +230,21 @@ func (m *Model) View() string {
 		}
 		switch {
 		case i == m.next:
-			b.WriteString(st.Next.Render(g.Next))
+			b.WriteString(t.Mark("stepper.next", st.Next, g.Next))
 		default:
 			b.WriteByte(' ')
 		}
 		switch {
 		case o.Taken && o.Failed() > 0:
-			b.WriteString(st.Fail.Render(g.Fail))
+			b.WriteString(t.Mark("stepper.fail", st.Fail, g.Fail))
 		case o.Taken:
-			b.WriteString(st.Pass.Render(g.Pass))
+			b.WriteString(t.Mark("stepper.pass", st.Pass, g.Pass))
 		default:
 			b.WriteByte(' ')
 		}
 		label := ""
 		if labelW > 0 {
-			label = t.Clip(s.Label, labelW)
-			label += strings.Repeat(" ", labelW-lipgloss.Width(label))
+			label = theme.Pad(t.Clip(s.Label, labelW), labelW)
 		}
 		num := fmt.Sprintf(" %*d", numW, i+1)
 		if labelW > 0 {
@@ -245,11 +255,16 @@ func (m *Model) View() string {
 		} else {
 			b.WriteString(num + label)
 		}
-		rest := s.Apply
+		rest := []rune(s.Apply)
 		if s.Want != "" {
-			rest += " | " + s.Want
+			rest = []rune(s.Apply + " | " + s.Want)
 		}
-		b.WriteString(" " + st.Dim.Render(t.Clip(rest, max(m.w-lipgloss.Width(b.String())-1, 1))))
+		off := min(m.hoff, len(rest))
+		text := string(rest[off:])
+		if off > 0 {
+			text = g.Ellipsis + text
+		}
+		b.WriteString(" " + st.Dim.Render(t.Clip(text, max(m.w-lipgloss.Width(b.String())-1, 1))))
 		lines = append(lines, b.String())
 	}
 	if hi < len(m.steps) {
@@ -259,20 +274,56 @@ func (m *Model) View() string {
 	return theme.Block(lines, m.w, m.h)
 }
 
-// details spells out the selected row's checks.
-func (m *Model) details() []string {
+// columns are the widths of the label (-1: no labels, no column) and of
+// the row number.
+func (m Model) columns() (labelW, numW int) {
+	numW = len(fmt.Sprint(len(m.steps)))
+	if m.maxLabel() == 0 {
+		return -1, numW
+	}
+	// the label gets what the apply and want columns leave, at least a third
+	return min(max(m.maxLabel(), 5), max(m.w-6-numW-m.maxValues(), m.w/3, 8)), numW
+}
+
+// valuesW is the cells left for the apply | want column on a row.
+func (m Model) valuesW(labelW, numW int) int {
+	used := 3 + 1 + numW + 1
+	if labelW > 0 {
+		used += labelW + 1
+	}
+	return m.w - used
+}
+
+// maxValues is the longest apply | want text, in runes.
+func (m Model) maxValues() int {
+	w := 0
+	for _, s := range m.steps {
+		n := len([]rune(s.Apply))
+		if s.Want != "" {
+			n += 3 + len([]rune(s.Want))
+		}
+		w = max(w, n)
+	}
+	return w
+}
+
+// details spells out the selected row: what it applies and wants, in full
+// (wrapped, so no wanted value is cut off), and its checks once applied.
+func (m Model) details() []string {
 	st, t := m.Styles, m.Styles.Theme
 	g := t.G
 	i := m.cur.Pos
-	if i >= len(m.steps) {
+	if i >= len(m.steps) || m.w <= 0 {
 		return nil
 	}
 	o := m.outcomes[i]
+	s := m.steps[i]
 	head := fmt.Sprintf("step %d", i+1)
-	if m.steps[i].Label != "" {
-		head += " " + m.steps[i].Label
+	if s.Label != "" {
+		head += " " + s.Label
 	}
 	out := []string{st.Heading.Render(t.Clip(head, m.w))}
+	wrap := func(l string) { out = append(out, theme.Wrap(l, m.w)...) }
 	switch {
 	case !o.Taken && i == m.next:
 		out = append(out, st.Dim.Render("  not applied yet: n applies it"))
@@ -281,20 +332,30 @@ func (m *Model) details() []string {
 	case len(o.Checks) == 0:
 		out = append(out, st.Dim.Render("  applied; this row checks nothing"))
 	}
+	if s.Apply != "" {
+		wrap(st.Dim.Render("  applies " + s.Apply))
+	}
+	if !o.Taken && s.Want != "" {
+		wrap(st.Dim.Render("  wants   " + s.Want))
+	}
 	if o.Taken {
 		for _, c := range o.Checks {
 			mark, style, verdict := g.Pass, st.Pass, "pass"
 			if !c.Pass {
 				mark, style, verdict = g.Fail, st.Fail, "FAIL"
 			}
-			out = append(out, fmt.Sprintf("  %s %s want %s got %s (value %s, %s) %s",
+			wrap(fmt.Sprintf("  %s %s want %s got %s (value %s, %s) %s",
 				style.Render(mark), c.Node, c.Want, t.StateLetter(c.Got.State), c.Got.Value, c.Got.Strength, style.Render(verdict)))
 		}
+	}
+	// at most half the view: the list keeps the rest
+	if lim := max(m.h/2, 2); len(out) > lim {
+		out = append(out[:lim-1], st.Dim.Render(fmt.Sprintf("  %s %d more lines", g.Ellipsis, len(out)-lim+1)))
 	}
 	return out
 }
 
-func (m *Model) maxLabel() int {
+func (m Model) maxLabel() int {
 	w := 0
 	for _, s := range m.steps {
 		w = max(w, lipgloss.Width(s.Label))

@@ -19,9 +19,10 @@ type Glyphs struct {
 	Changed  string // changed in the last settle
 	Watched  string // on the timeline
 	Group    string // a device of the inspected node's group
-	Pass     string
-	Fail     string
-	Warn     string
+	Pass     string // a check that passed
+	Fail     string // a check that failed (never plain information)
+	Warn     string // a warning of the simulator
+	Set      string // on the timeline: an action that set an input by hand
 	Next     string // the step that n applies
 	Arrow    string
 	Rule     string // horizontal rule
@@ -35,16 +36,19 @@ type Glyphs struct {
 // levels (0 at the floor, 1 at the top, the weak states between, Z at mid).
 func unicodeGlyphs() Glyphs {
 	return Glyphs{
-		Cursor: "▸", Changed: "•", Watched: "◆", Group: "◇", Pass: "✓", Fail: "✗", Warn: "!",
+		Cursor: "▸", Changed: "•", Watched: "◆", Group: "◇", Pass: "✓", Fail: "✗", Warn: "!", Set: "+",
 		Next: "▶", Arrow: "→", Rule: "─", Bar: "│", Ellipsis: "…", Cell: "·",
 		Wave: [6]string{"▁", "█", "▃", "▆", "─", "▒"},
 	}
 }
 
-// ASCII glyphs for terminals and fonts that cannot show anything else.
+// ASCII glyphs for terminals and fonts that cannot show anything else:
+// one glyph, one meaning, as in Unicode. F is a failed check and ! a
+// warning; + a pass and s an input set by hand; & a device of the group,
+// since # is the waveform's 1.
 func asciiGlyphs() Glyphs {
 	return Glyphs{
-		Cursor: ">", Changed: "*", Watched: "@", Group: "#", Pass: "+", Fail: "!", Warn: "!",
+		Cursor: ">", Changed: "*", Watched: "@", Group: "&", Pass: "+", Fail: "F", Warn: "!", Set: "s",
 		Next: ">", Arrow: "->", Rule: "-", Bar: "|", Ellipsis: "~", Cell: ".",
 		Wave: [6]string{"_", "#", ".", "^", "-", "x"},
 	}
@@ -100,10 +104,7 @@ type waveKey struct {
 	n int
 }
 
-type markKey struct {
-	style *lipgloss.Style
-	text  string
-}
+type markKey struct{ name, text string }
 
 // New builds a theme on a renderer (nil: lipgloss's default renderer).
 // noColor keeps bold and reverse video but drops every colour (NO_COLOR);
@@ -165,11 +166,12 @@ func New(r *lipgloss.Renderer, noColor, ascii bool) *Theme {
 	return t
 }
 
-// Mark renders a short, often repeated text (a glyph) in a style of the
-// theme's own or a panel's, once; style must point at a style that does
-// not change afterwards.
-func (t *Theme) Mark(style *lipgloss.Style, text string) string {
-	k := markKey{style, text}
+// Mark renders a short, often repeated text (a glyph) in a style, once.
+// name says which style it is ("nodes.changed"): the first rendering under
+// a name is kept for the theme's life, so a panel's Styles are fixed once
+// it has drawn. (Panels are values, so the style's address cannot be the key.)
+func (t *Theme) Mark(name string, style lipgloss.Style, text string) string {
+	k := markKey{name, text}
 	if s, ok := t.marks[k]; ok {
 		return s
 	}

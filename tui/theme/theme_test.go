@@ -54,3 +54,30 @@ func TestFitAndWrap(t *testing.T) {
 		t.Errorf("continuation lines are not indented past the first: %q", lines)
 	}
 }
+
+// One glyph, one meaning: the marks a screen shows side by side (cursor,
+// changed, watched, group, pass, fail, warning, set) are all different in
+// both sets, and none is a state letter or a waveform glyph (issue 18 item
+// 13: ASCII drew failed checks and warnings both as !, passes and sets
+// both as +).
+func TestMarkGlyphsHaveOneMeaning(t *testing.T) {
+	for _, ascii := range []bool{false, true} {
+		g := New(nil, true, ascii).G
+		marks := map[string]string{"cursor": g.Cursor, "changed": g.Changed, "watched": g.Watched,
+			"group": g.Group, "pass": g.Pass, "fail": g.Fail, "warn": g.Warn, "set": g.Set}
+		seen := map[string]string{}
+		for s := switchsim.State0; s <= switchsim.StateX; s++ {
+			seen[s.String()] = "state " + s.String()
+			seen[g.Wave[s]] = "waveform " + s.String()
+		}
+		for what, glyph := range marks {
+			if ansi.StringWidth(glyph) != 1 {
+				t.Errorf("ascii=%v: %s glyph %q is not one cell", ascii, what, glyph)
+			}
+			if o, dup := seen[glyph]; dup {
+				t.Errorf("ascii=%v: %s and %s share the glyph %q", ascii, o, what, glyph)
+			}
+			seen[glyph] = what
+		}
+	}
+}

@@ -13,6 +13,7 @@ import (
 
 	"railyard/switchsim"
 	"railyard/tui/listing"
+	"railyard/tui/panel"
 	"railyard/tui/theme"
 )
 
@@ -55,7 +56,7 @@ func DefaultStyles(t *theme.Theme) Styles {
 
 // Column is one action of the history in force.
 type Column struct {
-	Mark   string // one cell: "0" for the start, the step's last digit, "+" for a set
+	Mark   string // one cell: "0" for the start, the step's last digit, the theme's Set glyph for a set
 	States []switchsim.NodeState
 	Failed bool
 }
@@ -65,7 +66,7 @@ type Model struct {
 	KeyMap KeyMap
 	Styles Styles
 
-	nl      *switchsim.Netlist
+	names   *panel.Names
 	watched []int
 	cols    []Column
 	cur     listing.Cursor
@@ -75,8 +76,8 @@ type Model struct {
 }
 
 // New makes an empty timeline.
-func New(nl *switchsim.Netlist, st Styles) *Model {
-	return &Model{KeyMap: DefaultKeyMap(), Styles: st, nl: nl, end: -1}
+func New(names *panel.Names, st Styles) Model {
+	return Model{KeyMap: DefaultKeyMap(), Styles: st, names: names, end: -1}
 }
 
 // SetSize gives the timeline its cells.
@@ -86,9 +87,9 @@ func (m *Model) SetSize(w, h int) {
 }
 
 // Focus and Blur tell the timeline whether keys go to it.
-func (m *Model) Focus()        { m.focused = true }
-func (m *Model) Blur()         { m.focused = false }
-func (m *Model) Focused() bool { return m.focused }
+func (m *Model) Focus()       { m.focused = true }
+func (m *Model) Blur()        { m.focused = false }
+func (m Model) Focused() bool { return m.focused }
 
 // SetColumns gives the actions in force, oldest first.
 func (m *Model) SetColumns(cols []Column) {
@@ -103,18 +104,19 @@ func (m *Model) SetWatched(nodes []int) {
 }
 
 // Selected is the watched node under the cursor, or -1.
-func (m *Model) Selected() int {
+func (m Model) Selected() int {
 	if m.cur.Pos < len(m.watched) {
 		return m.watched[m.cur.Pos]
 	}
 	return -1
 }
 
-// Update handles a key; it returns a node to stop watching, or -1.
-func (m *Model) Update(msg tea.Msg) int {
+// Update handles a key; dropping the selected trace is an intent for the
+// root (panel.Watch toggles it off).
+func (m Model) Update(msg tea.Msg) (Model, tea.Cmd) {
 	k, ok := msg.(tea.KeyMsg)
 	if !ok {
-		return -1
+		return m, nil
 	}
 	km := m.KeyMap
 	last := len(m.cols) - 1
@@ -133,9 +135,12 @@ func (m *Model) Update(msg tea.Msg) int {
 			}
 		}
 	case key.Matches(k, km.Unwatch):
-		return m.Selected()
+		if n := m.Selected(); n >= 0 {
+			return m, panel.Send(panel.Watch{Node: n})
+		}
+		return m, panel.Send(panel.Note{Text: "no node is watched: m on a node or an input watches it"})
 	}
-	return -1
+	return m, nil
 }
 
 // View draws the timeline in its w x h cells.
@@ -143,10 +148,13 @@ func (m *Model) View() string {
 	st, t := m.Styles, m.Styles.Theme
 	g := t.G
 	nameW := 4
-	for _, n := range m.watched {
-		nameW = max(nameW, lipgloss.Width(m.nl.NodeName(n)))
+	all := make([]string, len(m.watched))
+	for i, n := range m.watched {
+		all[i] = m.names.Node[n]
+		nameW = max(nameW, lipgloss.Width(all[i]))
 	}
 	nameW = min(nameW, max(m.w/4, 6))
+	labels := listing.Shorten(all, nameW, g.Ellipsis)
 	if len(m.watched) == 0 {
 		return theme.Block([]string{
 			st.Dim.Render("No watched nodes."),
@@ -171,7 +179,7 @@ func (m *Model) View() string {
 	if start > 0 || end < len(m.cols)-1 {
 		info += fmt.Sprintf(", showing %d-%d", start, end)
 	}
-	lines := []string{st.Dim.Render(t.Clip(info+"; marks: 0 start, + set, N step N", m.w))}
+	lines := []string{st.Dim.Render(t.Clip(info+"; marks: 0 start, "+g.Set+" set, N step N", m.w))}
 
 	var marks, fails strings.Builder
 	marks.WriteString(strings.Repeat(" ", nameW+3))
@@ -191,8 +199,7 @@ func (m *Model) View() string {
 	for i := lo; i < hi; i++ {
 		n := m.watched[i]
 		var b strings.Builder
-		name := t.Clip(m.nl.NodeName(n), nameW)
-		name += strings.Repeat(" ", nameW-lipgloss.Width(name))
+		name := theme.Pad(t.Clip(labels[i], nameW), nameW)
 		if i == m.cur.Pos && m.focused {
 			b.WriteString(g.Cursor + " " + st.Selected.Render(name) + " ")
 		} else {

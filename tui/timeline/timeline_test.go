@@ -7,6 +7,7 @@ import (
 	"github.com/charmbracelet/x/ansi"
 
 	"railyard/switchsim"
+	"railyard/tui/panel"
 	"railyard/tui/theme"
 )
 
@@ -24,7 +25,7 @@ func TestWaveform(t *testing.T) {
 	}
 	a, _ := nl.Lookup("a")
 	th := theme.New(nil, true, true)
-	m := New(nl, DefaultStyles(th))
+	m := New(panel.NewNames(nl), DefaultStyles(th))
 	m.SetSize(40, 8)
 	col := func(s switchsim.State) Column {
 		st := make([]switchsim.NodeState, nl.NumNodes())

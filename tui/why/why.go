@@ -1,7 +1,8 @@
 // Package why is the explorer's inspector: it words the engine's
 // explanation of one node (the winning paths device by device with their
-// gate states, the opposing paths, the devices of unknown state, the
-// device that degraded the level, the divider and the charge-sharing group).
+// gate states, and a gate's volts wherever it is not at a full level, the
+// opposing paths, the devices of unknown state, the device that degraded
+// the level, the divider and the charge-sharing group).
 package why
 
 import (
@@ -15,6 +16,7 @@ import (
 
 	"railyard/switchsim"
 	"railyard/tui/listing"
+	"railyard/tui/panel"
 	"railyard/tui/theme"
 )
 
@@ -50,21 +52,24 @@ type Model struct {
 	KeyMap KeyMap
 	Styles Styles
 
+	nl      *switchsim.Netlist
+	names   *panel.Names
 	node    int
 	raw     []string // as worded
 	lines   []string // wrapped to the width
-	cur     listing.Cursor
+	offset  int      // the first line shown
 	focused bool
 	w, h    int
 }
 
-// New makes an empty inspector.
-func New(st Styles) *Model { return &Model{KeyMap: DefaultKeyMap(), Styles: st, node: -1} }
+// New makes an empty inspector for a netlist.
+func New(nl *switchsim.Netlist, names *panel.Names, st Styles) Model {
+	return Model{KeyMap: DefaultKeyMap(), Styles: st, nl: nl, names: names, node: -1}
+}
 
 // SetSize gives the inspector its cells.
 func (m *Model) SetSize(w, h int) {
 	m.w, m.h = w, h
-	m.cur.SetHeight(h)
 	m.wrap()
 }
 
@@ -73,65 +78,65 @@ func (m *Model) wrap() {
 	for _, l := range m.raw {
 		m.lines = append(m.lines, theme.Wrap(l, m.w)...)
 	}
-	m.cur.Offset = min(m.cur.Offset, max(len(m.lines)-max(m.h, 1), 0))
-	m.cur.Pos = m.cur.Offset
-	m.cur.SetLen(len(m.lines))
+	m.offset = min(m.offset, max(len(m.lines)-max(m.h, 1), 0))
 }
 
 // Focus and Blur tell the inspector whether keys go to it.
-func (m *Model) Focus()        { m.focused = true }
-func (m *Model) Blur()         { m.focused = false }
-func (m *Model) Focused() bool { return m.focused }
+func (m *Model) Focus()       { m.focused = true }
+func (m *Model) Blur()        { m.focused = false }
+func (m Model) Focused() bool { return m.focused }
 
 // Node is the node explained, or -1.
-func (m *Model) Node() int { return m.node }
+func (m Model) Node() int { return m.node }
 
-// Set words an explanation. keepScroll keeps the scroll position when the
-// same node is explained again after a change.
-func (m *Model) Set(nl *switchsim.Netlist, e switchsim.Explanation, extra []string) {
+// Set words an explanation; states are every node's states (for the gates'
+// volts) and vdd the supply's volts (NaN in ideal mode). The scroll
+// position is kept when the same node is explained again after a change.
+// extra lines (the node's standing warnings, worded) go at the end.
+func (m *Model) Set(e switchsim.Explanation, states []switchsim.NodeState, vdd float64, extra []string) {
 	same := e.Node == m.node
 	m.node = e.Node
-	m.raw = append(Lines(nl, e, m.Styles), extra...)
+	m.raw = append(Lines(m.nl, m.names, e, Levels{states, vdd}, m.Styles), extra...)
 	if !same {
-		m.cur.Offset = 0
+		m.offset = 0
 	}
 	m.wrap()
 }
 
 // Update scrolls.
-func (m *Model) Update(msg tea.Msg) {
+func (m Model) Update(msg tea.Msg) (Model, tea.Cmd) {
 	k, ok := msg.(tea.KeyMsg)
 	if !ok {
-		return
+		return m, nil
 	}
-	// the cursor is the top line: moving it scrolls the text
-	m.cur.Pos = m.cur.Offset
-	h := max(m.cur.Height, 1)
+	h := max(m.h, 1)
+	last := max(len(m.lines)-h, 0)
 	switch {
 	case key.Matches(k, m.KeyMap.Down):
-		m.cur.Offset = min(m.cur.Offset+1, max(len(m.lines)-h, 0))
+		m.offset = min(m.offset+1, last)
 	case key.Matches(k, m.KeyMap.Up):
-		m.cur.Offset = max(m.cur.Offset-1, 0)
+		m.offset = max(m.offset-1, 0)
 	case key.Matches(k, m.KeyMap.PageDown):
-		m.cur.Offset = min(m.cur.Offset+h-1, max(len(m.lines)-h, 0))
+		m.offset = min(m.offset+h-1, last)
 	case key.Matches(k, m.KeyMap.PageUp):
-		m.cur.Offset = max(m.cur.Offset-h+1, 0)
+		m.offset = max(m.offset-h+1, 0)
 	case key.Matches(k, m.KeyMap.Home):
-		m.cur.Offset = 0
+		m.offset = 0
 	case key.Matches(k, m.KeyMap.End):
-		m.cur.Offset = max(len(m.lines)-h, 0)
+		m.offset = last
 	}
+	return m, nil
 }
 
 // View draws the inspector in its w x h cells.
-func (m *Model) View() string {
+func (m Model) View() string {
 	if m.node < 0 {
 		return theme.Block([]string{
 			m.Styles.Dim.Render("Select a node on the board and press enter"),
 			m.Styles.Dim.Render("(or w) to see why it holds its state."),
 		}, m.w, m.h)
 	}
-	lo := m.cur.Offset
+	lo := m.offset
 	hi := min(lo+m.h, len(m.lines))
 	view := m.lines[lo:hi]
 	if hi < len(m.lines) && len(view) > 0 {
@@ -141,10 +146,28 @@ func (m *Model) View() string {
 	return theme.Block(view, m.w, m.h)
 }
 
+// Levels are what the wording needs to show a gate's volts: every node's
+// state and the supply's volts (NaN in ideal mode).
+type Levels struct {
+	States []switchsim.NodeState
+	Vdd    float64
+}
+
+// gate words a gate node and its value, with its volts when they are not
+// a full level (a gate at 1.14 V is the point of a lost level).
+func (lv Levels) gate(names *panel.Names, g int, v switchsim.Value) string {
+	s := fmt.Sprintf("%s=%s", names.Node[g], v)
+	if g < len(lv.States) && !panel.FullLevel(lv.States[g].Volts, lv.Vdd) {
+		s += fmt.Sprintf(" (%s V)", panel.Volts(lv.States[g].Volts))
+	}
+	return s
+}
+
 // Lines words an explanation, one line a fact.
-func Lines(nl *switchsim.Netlist, e switchsim.Explanation, st Styles) []string {
+func Lines(nl *switchsim.Netlist, names *panel.Names, e switchsim.Explanation, lv Levels, st Styles) []string {
 	t := st.Theme
-	name := nl.NodeName
+	name := func(n int) string { return names.Node[n] }
+	dev := func(d int) string { return names.Device[d] }
 	var out []string
 	add := func(f string, a ...any) { out = append(out, fmt.Sprintf(f, a...)) }
 	head := fmt.Sprintf("%s is %s", st.Node.Render(name(e.Node)), t.StateLetter(e.State))
@@ -173,7 +196,7 @@ func Lines(nl *switchsim.Netlist, e switchsim.Explanation, st Styles) []string {
 		}
 		out = append(out, st.Heading.Render(fmt.Sprintf("%s %s:", verb, plural(len(e.Winning), "path"))))
 		for _, p := range e.Winning {
-			out = append(out, pathLines(nl, p, st)...)
+			out = append(out, pathLines(nl, names, p, lv, st)...)
 		}
 	} else if !e.Floating {
 		out = append(out, "", "No single path sets it: its value comes from the whole group.")
@@ -186,7 +209,7 @@ func Lines(nl *switchsim.Netlist, e switchsim.Explanation, st Styles) []string {
 			out = append(out, st.Heading.Render(fmt.Sprintf("Opposed by %s (they lose):", plural(len(e.Opposing), "path"))))
 		}
 		for _, p := range e.Opposing {
-			out = append(out, pathLines(nl, p, st)...)
+			out = append(out, pathLines(nl, names, p, lv, st)...)
 		}
 	}
 	if e.Divider == nil && !math.IsNaN(e.Volts) && len(e.Winning) > 0 && len(e.Opposing) > 0 &&
@@ -198,24 +221,24 @@ func Lines(nl *switchsim.Netlist, e switchsim.Explanation, st Styles) []string {
 	}
 	if len(e.Unknown) > 0 {
 		out = append(out, "")
-		names := make([]string, len(e.Unknown))
+		unknown := make([]string, len(e.Unknown))
 		for i, d := range e.Unknown {
 			dv := nl.Device(d)
-			g := "?"
+			g := "?=X"
 			if dv.Gate >= 0 {
-				g = name(dv.Gate)
+				g = lv.gate(names, dv.Gate, switchsim.VX)
 			}
-			names[i] = st.Device.Render(dv.Name) + " (gate " + g + "=X)"
+			unknown[i] = st.Device.Render(dev(d)) + " (gate " + g + ")"
 		}
-		out = append(out, st.Warn.Render(t.G.Warn+" unknown devices in its group: ")+strings.Join(names, ", "))
+		out = append(out, st.Warn.Render(t.G.Warn+" unknown devices in its group: ")+strings.Join(unknown, ", "))
 	}
 	if e.Degrader >= 0 {
 		out = append(out, "", fmt.Sprintf("Level degraded by %s (%s): a threshold drop.",
-			st.Device.Render(nl.Device(e.Degrader).Name), nl.Device(e.Degrader).Kind))
+			st.Device.Render(dev(e.Degrader)), nl.Device(e.Degrader).Kind))
 	}
 	if e.Divider != nil {
 		out = append(out, "", fmt.Sprintf("Divider: %s to the 1 side, %s to the 0 side %s %.2f V",
-			ohms(e.Divider.Up), ohms(e.Divider.Down), t.G.Arrow, e.Divider.Volts))
+			panel.Ohms(e.Divider.Up), panel.Ohms(e.Divider.Down), t.G.Arrow, e.Divider.Volts))
 	}
 	if e.Floating {
 		out = append(out, "")
@@ -249,9 +272,9 @@ func stateMeaning(e switchsim.Explanation) string {
 }
 
 // pathLines draws a path from its source to the node, one device a line.
-func pathLines(nl *switchsim.Netlist, p switchsim.Path, st Styles) []string {
+func pathLines(nl *switchsim.Netlist, names *panel.Names, p switchsim.Path, lv Levels, st Styles) []string {
 	t := st.Theme
-	src := nl.NodeName(p.Source)
+	src := names.Node[p.Source]
 	kind := "charge"
 	switch nl.NodeKind(p.Source) {
 	case switchsim.Power:
@@ -263,24 +286,24 @@ func pathLines(nl *switchsim.Netlist, p switchsim.Path, st Styles) []string {
 	}
 	weak := ""
 	if p.Weakest >= 0 {
-		weak = ", limited by " + st.Device.Render(nl.Device(p.Weakest).Name)
+		weak = ", limited by " + st.Device.Render(names.Device[p.Weakest])
 	}
 	out := []string{fmt.Sprintf("  %s %s (%s) %s %s%s", t.G.Next, st.Node.Render(src), kind, p.Value, p.Strength, weak)}
 	for _, s := range p.Steps {
 		dv := nl.Device(s.Device)
 		gate := "always on"
 		if s.Gate >= 0 {
-			gate = fmt.Sprintf("gate %s=%s", nl.NodeName(s.Gate), s.GateValue)
+			gate = "gate " + lv.gate(names, s.Gate, s.GateValue)
 		}
 		par := ""
 		for _, o := range s.Parallel {
-			par += ", " + st.Device.Render(nl.Device(o).Name)
+			par += ", " + st.Device.Render(names.Device[o])
 		}
 		if par != "" {
 			par = " (in parallel with" + par[1:] + ")"
 		}
-		out = append(out, fmt.Sprintf("    %s %s %s  %s, %s %s %s%s", st.Device.Render(dv.Name), dv.Kind, gate,
-			s.Conduction, nl.NodeName(s.From), t.G.Arrow, nl.NodeName(s.To), par))
+		out = append(out, fmt.Sprintf("    %s %s %s  %s, %s %s %s%s", st.Device.Render(names.Device[s.Device]), dv.Kind, gate,
+			s.Conduction, names.Node[s.From], t.G.Arrow, names.Node[s.To], par))
 	}
 	if len(p.Steps) == 0 {
 		out = append(out, st.Dim.Render("    (its own stored charge)"))
@@ -293,18 +316,6 @@ func plural(n int, w string) string {
 		return "1 " + w
 	}
 	return fmt.Sprintf("%d %ss", n, w)
-}
-
-func ohms(r float64) string {
-	switch {
-	case math.IsInf(r, 0) || math.IsNaN(r):
-		return "open"
-	case r >= 1e6:
-		return fmt.Sprintf("%.3g Mohm", r/1e6)
-	case r >= 1e3:
-		return fmt.Sprintf("%.3g kohm", r/1e3)
-	}
-	return fmt.Sprintf("%.3g ohm", r)
 }
 
 func farads(c float64) string {

@@ -1,0 +1,239 @@
+package main
+
+import (
+	"crypto/sha256"
+	"encoding/hex"
+	"fmt"
+	"math"
+	"os"
+	"path/filepath"
+	"strings"
+	"time"
+
+	"railyard/switchsim"
+	"railyard/switchsim/diag"
+	"railyard/switchsim/lint"
+	"railyard/switchsim/load"
+	"railyard/switchsim/netfile"
+	"railyard/switchsim/reach"
+)
+
+// findDesigns expands the arguments into design names, in order: a file or
+// demo:NAME as it is, a folder (or demo: for every demo) searched
+// recursively by the loader's walk for files of a design format, in
+// lexical order (hidden files and folders skipped). A name given twice is
+// checked once.
+func findDesigns(files *load.Loader, args []string) ([]string, error) {
+	var out []string
+	seen := map[string]bool{}
+	add := func(p string) {
+		if !seen[p] {
+			seen[p] = true
+			out = append(out, p)
+		}
+	}
+	for _, a := range args {
+		if demo, ok := load.CutDemo(a); ok && demo != "" {
+			add(a)
+			continue
+		}
+		if _, ok := load.CutDemo(a); !ok {
+			if st, err := os.Stat(a); err != nil || !st.IsDir() {
+				add(filepath.ToSlash(filepath.Clean(a))) // the loader says why it cannot be read
+				continue
+			}
+		}
+		found := 0
+		err := files.Walk(a, func(e load.Entry) error {
+			found++
+			add(filepath.ToSlash(e.Design))
+			return nil
+		})
+		if err != nil {
+			return nil, fmt.Errorf("%s: %v", diag.Printable(a), err)
+		}
+		if found == 0 {
+			return nil, fmt.Errorf("%s: no design files in it (formats: %s)", diag.Printable(a), strings.Join(load.FormatNames(), ", "))
+		}
+	}
+	return out, nil
+}
+
+// checkJob is one design to check, read and planned.
+type checkJob struct {
+	path   string
+	key    string        // cache key, with --cache
+	cached *designResult // a result from the cache
+	notes  diag.List     // what the reader noticed, printed before the report
+	err    error         // bad input or a refused search
+}
+
+// loaded is a design read with what its check needs.
+type loaded struct {
+	d         *netfile.Design
+	stepsPath string
+	stepsSrc  []byte
+	reset     [][]reach.Set
+}
+
+// loadCheck reads a design and, for --reset, its steps.
+func loadCheck(files *load.Loader, path string, o checkOptions) (*loaded, error) {
+	d, err := files.Design(path)
+	if err != nil {
+		return nil, err
+	}
+	l := &loaded{d: d}
+	if o.reset == 0 {
+		return l, nil
+	}
+	sp := o.steps
+	if sp == "" {
+		p, ok := files.DefaultSteps(path)
+		if !ok {
+			return nil, fmt.Errorf("%s: --reset %d needs the design's steps, and it has none (give --steps FILE)", diag.Printable(files.Path(path)), o.reset)
+		}
+		sp = p
+	}
+	st, src, err := files.Steps(sp, d.Netlist)
+	if err != nil {
+		return nil, err
+	}
+	if len(st.Rows) < o.reset {
+		return nil, fmt.Errorf("%s: --reset %d: the steps have %d rows", diag.Printable(files.Path(sp)), o.reset, len(st.Rows))
+	}
+	l.stepsPath, l.stepsSrc = files.Path(sp), src
+	for _, row := range st.Rows[:o.reset] {
+		var r []reach.Set
+		for c, n := range st.Apply {
+			r = append(r, reach.Set{Input: n, Drive: row.Drives[c]})
+		}
+		l.reset = append(l.reset, r)
+	}
+	return l, nil
+}
+
+func (o checkOptions) reachOptions(l *loaded) reach.Options {
+	opt := reach.Options{Mode: switchsim.Physical, Pairs: o.pairs, Reset: l.reset, MaxStates: o.maxStates, Budget: o.budget}
+	if o.ideal {
+		opt.Mode = switchsim.Ideal
+	}
+	if o.budget == 0 {
+		opt.Budget = math.Inf(1)
+	}
+	return opt
+}
+
+// prepare reads and plans one design, and looks it up in the cache.
+func prepare(files *load.Loader, path string, o checkOptions, cache *resultCache) *checkJob {
+	j := &checkJob{path: path}
+	l, err := loadCheck(files, path, o)
+	if err != nil {
+		j.err = err
+		return j
+	}
+	j.notes = l.d.Notes
+	if o.exhaustive {
+		if _, err := reach.Check(l.d.Netlist, o.reachOptions(l)); err != nil {
+			j.err = fmt.Errorf("%s: %w", diag.Printable(path), err)
+			return j
+		}
+	}
+	if cache != nil {
+		j.key = cacheKey(l, o)
+		if r := cache.get(j.key); r != nil {
+			r.Path, r.Cached = files.Path(path), true
+			j.cached = r
+		}
+	}
+	return j
+}
+
+// runCheck checks one design: the static checks, then the search.
+func runCheck(files *load.Loader, j *checkJob, o checkOptions, progress func(reach.Progress)) *designResult {
+	t0 := time.Now()
+	l, err := loadCheck(files, j.path, o) // read again: a library's designs are not all held at once
+	if err != nil {
+		return &designResult{err: err}
+	}
+	nl := l.d.Netlist
+	r := &designResult{Path: files.Path(j.path), Name: l.d.Name, Mode: "physical", Nodes: nl.NumNodes(), Devices: nl.NumDevices(),
+		InputNames: names(nl, nl.Inputs()), Exhaustive: o.exhaustive}
+	if o.ideal {
+		r.Mode = "ideal"
+	}
+	for _, f := range lint.Check(nl) {
+		fr := findingResult{Kind: string(f.Kind), Check: "static", Failing: f.Failing(), Message: f.Message}
+		if f.Node >= 0 {
+			fr.Node = nl.NodeName(f.Node)
+		}
+		if f.Device >= 0 {
+			fr.Device = nl.Device(f.Device).Name
+		}
+		r.Static = append(r.Static, fr)
+	}
+	if o.exhaustive {
+		opt := o.reachOptions(l)
+		opt.Progress, opt.ProgressEvery = progress, 100*time.Millisecond
+		ctx, cancel := searchContext(o)
+		rep, err := reach.Search(ctx, nl, opt)
+		cancel()
+		if err != nil {
+			return &designResult{err: fmt.Errorf("%s: %w", diag.Printable(j.path), err)}
+		}
+		r.Pairs, r.Reset, r.StepsPath = o.pairs, o.reset, l.stepsPath
+		r.States, r.Transitions, r.Depth, r.MaxStates = rep.States, rep.Transitions, rep.Depth, o.maxStates
+		if rep.Stopped != reach.Done {
+			r.Stopped = rep.Stopped.String()
+		}
+		for _, f := range rep.Findings {
+			fr := findingResult{Kind: string(f.Kind), Check: "exhaustive", Failing: f.Failing(), Message: f.Message,
+				States: f.States, Transitions: f.Transitions, Moves: f.Moves}
+			if f.Node >= 0 {
+				fr.Node = nl.NodeName(f.Node)
+				if k := nl.NodeKind(f.Node); k != switchsim.Power && k != switchsim.Ground {
+					fr.Want = f.Got.State.String()
+				}
+			}
+			if f.Device >= 0 {
+				fr.Device = nl.Device(f.Device).Name
+			}
+			for _, row := range f.Steps {
+				var rr seqRow
+				for _, s := range row {
+					rr = append(rr, seqSet{nl.NodeName(s.Input), s.Drive.String()})
+				}
+				fr.Sequence = append(fr.Sequence, rr)
+			}
+			r.Findings = append(r.Findings, fr)
+		}
+	}
+	r.Seconds = time.Since(t0).Seconds()
+	return r
+}
+
+func names(nl *switchsim.Netlist, ns []int) []string {
+	out := make([]string, len(ns))
+	for i, n := range ns {
+		out[i] = nl.NodeName(n)
+	}
+	return out
+}
+
+// cacheVersion changes whenever what a check computes changes in a way the
+// build identity would not show.
+const cacheVersion = "railyard check cache 1"
+
+// cacheKey is the key of a design's result: railyard's build, the options
+// that change a result, the design's and steps' bytes and the technology in
+// force (a preset's values come from the build).
+func cacheKey(l *loaded, o checkOptions) string {
+	h := sha256.New()
+	fmt.Fprintf(h, "%s\n%s\n", cacheVersion, buildIdentity())
+	fmt.Fprintf(h, "exhaustive=%v pairs=%v ideal=%v reset=%d max-states=%d\n", o.exhaustive, o.pairs, o.ideal, o.reset, o.maxStates)
+	fmt.Fprintf(h, "design %d\n", len(l.d.Source))
+	h.Write(l.d.Source)
+	fmt.Fprintf(h, "\nsteps %d\n", len(l.stepsSrc))
+	h.Write(l.stepsSrc)
+	fmt.Fprintf(h, "\ntech %+v\n", l.d.Netlist.Tech)
+	return hex.EncodeToString(h.Sum(nil))
+}
