@@ -195,6 +195,7 @@ func (s *Sim) raceAnalysis(settled bool) {
 	s.rounds(false)
 	s.rec, a.stage = &s.unit, InRounds
 	an.A, an.B = phaseOf(&a.recA), phaseOf(&a.recB)
+	u.index() // segment 0 is complete: the analyses look nodes up in it
 	s.conserveCharge()
 
 	// Candidates, from the state before the step (the log's entries), phase

@@ -934,7 +934,7 @@ func (r *refSim) cases(res *refResult, solved map[int]bool) map[int]bool {
 					}
 					record(n, weakerRef(ends[0].stateOf(n), ends[1].stateOf(n)))
 				}
-			case settled[0] != settled[1] || bad[0] != bad[1]:
+			case (bad[0] && !bad[1] && settled[1]) || (bad[1] && !bad[0] && settled[0]):
 				// "If exactly one branch is contradicted and the other settled, c
 				// has the other branch's value in every real state, and every node
 				// X in the present state that is 0 or 1 at the end of that branch is
@@ -942,9 +942,6 @@ func (r *refSim) cases(res *refResult, solved map[int]bool) map[int]bool {
 				w := 0
 				if bad[0] {
 					w = 1
-				}
-				if !settled[w] || bad[w] || !bad[1-w] {
-					break
 				}
 				for n := 0; n < nn; n++ {
 					if v := ends[w].val[n]; present.val[n] == sw.VX && !r.isSource(n) && v != sw.VX {

@@ -355,12 +355,14 @@ func (s *Sim) Settle() *Result {
 	s.seeds = s.seeds[:0] // s.gates may hold fan-out left queued by a stopped settle
 	s.roundNo = 0
 	s.nextEpoch()
-	s.undo.reset()
 	s.rec = &s.unit
 	s.unit.reset()
 	s.ana.sawX = false
 
 	first := s.initial
+	// Segment 0 of the undo log is kept where race analysis may go back to
+	// the state before the step.
+	s.undo.reset(!first && len(s.dirtyIn) > 0 && s.races != RacesOff, s.mode == Physical || len(s.gates) > 0)
 	if first {
 		s.initial = false
 		for n := range s.val {

@@ -20,8 +20,16 @@ func (s *Sim) solveGroup(seed int32) {
 	g.srcHas = [3]bool{}
 	g.nodes = append(g.nodes, seed)
 	s.gmark[seed] = s.epoch
+	log, rec := s.undo.on, s.rec != nil
 	for i := 0; i < len(g.nodes); i++ {
 		n := g.nodes[i]
+		// log before the solve that may change it; mark it solved in this settle
+		if log && s.undo.nmark[n] != s.undo.id {
+			s.logNode(n)
+		}
+		if rec && s.touchMark[n] != s.settleID {
+			s.touch(n)
+		}
 		for _, d := range nl.chanDev[nl.chanStart[n]:nl.chanStart[n+1]] {
 			c := s.cond[d]
 			if c == Off {
@@ -48,12 +56,6 @@ func (s *Sim) solveGroup(seed int32) {
 		}
 	}
 	s.ana.visits += len(g.nodes)
-	for _, n := range g.nodes { // log before the solve that may change them; mark solved in this settle
-		s.logNode(n)
-		if s.rec != nil && s.touchMark[n] != s.settleID {
-			s.touch(n)
-		}
-	}
 	s.resolve(g)
 	s.physGroup(g)
 	s.commit(g)

@@ -24,22 +24,28 @@ type physSave struct {
 	share uint32  // physical mode's charge-sharing stamp
 }
 
-// devSave is a device's state as the log keeps it.
+// devSave is a device's state as the log keeps it; physical mode's part is
+// in the parallel physDevSave.
 type devSave struct {
-	d       int32
-	cond    Conduction
-	gv, lim float64 // physical mode: the gate voltage recorded and the pass limit for it
+	d    int32
+	cond Conduction
+}
+
+type physDevSave struct {
+	gv, lim float64 // the gate voltage recorded and the pass limit for it
 }
 
 type undoLog struct {
+	on    bool     // logging: off where nothing can go back (no race analysis can run in this settle)
+	devOn bool     // logging devices too; in ideal mode with no fan-out queued a device's state is its gate's function, recomputed on going back
 	id    uint32   // the open segment's stamp
-	seg0  bool     // the open segment is segment 0
-	at    []int32  // node -> its entry in segment 0 (valid where that entry names it)
+	at    []int32  // node -> its entry in segment 0 (valid where that entry names it), set by index
 	nmark []uint32 // node -> stamp of the segment that logged it
 	dmark []uint32
 	nodes []nodeSave
 	phys  []physSave // parallel to nodes in physical mode
 	devs  []devSave
+	pdevs []physDevSave // parallel to devs in physical mode
 }
 
 // undoMark is a position in the log: going back to it restores everything
@@ -53,7 +59,7 @@ func (u *undoLog) init(nn, nd int) {
 // open starts a segment: from here on every node and device is logged
 // again before its first change. It returns the segment's start.
 func (u *undoLog) open() undoMark {
-	u.seg0 = false
+	u.on = true
 	u.id++
 	if u.id == 0 { // wrapped: clear the stamps
 		clear(u.nmark)
@@ -63,15 +69,25 @@ func (u *undoLog) open() undoMark {
 	return undoMark{len(u.nodes), len(u.devs)}
 }
 
-// reset empties the log and opens segment 0.
-func (u *undoLog) reset() {
-	u.nodes, u.phys, u.devs = u.nodes[:0], u.phys[:0], u.devs[:0]
+// reset empties the log and opens segment 0, logging or not, and logging
+// devices or not.
+func (u *undoLog) reset(on, devOn bool) {
+	u.nodes, u.phys, u.devs, u.pdevs = u.nodes[:0], u.phys[:0], u.devs[:0], u.pdevs[:0]
 	u.open()
-	u.seg0 = true
+	u.on, u.devOn = on, on && devOn
+}
+
+// index records where each node's entry of segment 0 is, for before; the
+// hot path leaves it to the analysis that needs it.
+func (u *undoLog) index() {
+	for i := range u.nodes {
+		u.at[u.nodes[i].n] = int32(i)
+	}
 }
 
 // before returns the index of node n's entry in segment 0, -1 where it has
-// none (it did not change since the settle began).
+// none (it did not change since the settle began). index must have run
+// since the last entry was added.
 func (u *undoLog) before(n int32) int {
 	if i := int(u.at[n]); i < len(u.nodes) && u.nodes[i].n == n {
 		return i
@@ -83,13 +99,10 @@ func (u *undoLog) before(n int32) int {
 // reports whether it did (false: already logged).
 func (s *Sim) logNode(n int32) bool {
 	u := &s.undo
-	if u.nmark[n] == u.id {
+	if !u.on || u.nmark[n] == u.id {
 		return false
 	}
 	u.nmark[n] = u.id
-	if u.seg0 {
-		u.at[n] = int32(len(u.nodes))
-	}
 	u.nodes = append(u.nodes, nodeSave{n, s.val[n], s.str[n], s.state[n], s.drive[n],
 		s.fight[n], s.contest[n], s.shared[n], s.source[n], s.volts[n]})
 	if s.mode == Physical {
@@ -101,15 +114,14 @@ func (s *Sim) logNode(n int32) bool {
 // logDevice saves device d before its first change in the open segment.
 func (s *Sim) logDevice(d int32) {
 	u := &s.undo
-	if u.dmark[d] == u.id {
+	if !u.devOn || u.dmark[d] == u.id {
 		return
 	}
 	u.dmark[d] = u.id
-	e := devSave{d: d, cond: s.cond[d]}
+	u.devs = append(u.devs, devSave{d, s.cond[d]})
 	if s.mode == Physical {
-		e.gv, e.lim = s.phys.gv[d], s.phys.lim[d]
+		u.pdevs = append(u.pdevs, physDevSave{s.phys.gv[d], s.phys.lim[d]})
 	}
-	u.devs = append(u.devs, e)
 }
 
 // restoreNode puts back log entry i.
@@ -137,13 +149,24 @@ func (s *Sim) undoTo(m undoMark, drop bool) {
 		e := &u.devs[i]
 		s.cond[e.d] = e.cond
 		if s.mode == Physical {
-			s.phys.gv[e.d], s.phys.lim[e.d] = e.gv, e.lim
+			s.phys.gv[e.d], s.phys.lim[e.d] = u.pdevs[i].gv, u.pdevs[i].lim
+		}
+	}
+	if !u.devOn {
+		// The devices were not logged: each one a restored node gates takes
+		// the state its gate gives (no fan-out was queued at the mark).
+		nl := s.nl
+		for i := m.nodes; i < len(u.nodes); i++ {
+			n := u.nodes[i].n
+			for _, d := range nl.gateDev[nl.gateStart[n]:nl.gateStart[n+1]] {
+				s.cond[d] = s.condOf(int(d))
+			}
 		}
 	}
 	if drop {
 		u.nodes, u.devs = u.nodes[:m.nodes], u.devs[:m.devs]
 		if s.mode == Physical {
-			u.phys = u.phys[:m.nodes]
+			u.phys, u.pdevs = u.phys[:m.nodes], u.pdevs[:m.devs]
 		}
 		u.open()
 	}
