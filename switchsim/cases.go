@@ -48,7 +48,7 @@ func (s *Sim) caseAnalysis() {
 	a.visits = 0
 	budget := caseVisits(len(s.val))
 	rec := s.rec
-	a.held = append(a.held[:0], s.gates...) // fan-out a stopped run left queued: kept for the next Settle
+	a.held = append(a.held[:0], s.gates...)              // fan-out a stopped run left queued: kept for the next Settle
 	s.undo.devOn = s.mode == Physical || len(a.held) > 0 // as in segment 0: see undoLog
 	defer func() { s.rec, s.gates = rec, append(s.gates[:0], a.held...) }()
 	for !an.Bounded {
