@@ -25,7 +25,7 @@ func (s *Sim) solveGroup(seed int32) {
 		n := g.nodes[i]
 		// log before the solve that may change it; mark it solved in this settle
 		if log && s.undo.nmark[n] != s.undo.id {
-			s.logNode(n)
+			s.saveNode(n)
 		}
 		if rec && s.touchMark[n] != s.settleID {
 			s.touch(n)

@@ -102,13 +102,19 @@ func (s *Sim) logNode(n int32) bool {
 	if !u.on || u.nmark[n] == u.id {
 		return false
 	}
+	s.saveNode(n)
+	return true
+}
+
+// saveNode appends node n's entry (logNode's checks passed).
+func (s *Sim) saveNode(n int32) {
+	u := &s.undo
 	u.nmark[n] = u.id
 	u.nodes = append(u.nodes, nodeSave{n, s.val[n], s.str[n], s.state[n], s.drive[n],
 		s.fight[n], s.contest[n], s.shared[n], s.source[n], s.volts[n]})
 	if s.mode == Physical {
 		u.phys = append(u.phys, physSave{s.phys.info[n], s.phys.shareMark[n]})
 	}
-	return true
 }
 
 // logDevice saves device d before its first change in the open segment.
