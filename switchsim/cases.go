@@ -184,7 +184,7 @@ func (s *Sim) split(c int32) {
 		if e.val == VX {
 			a.b0All = append(a.b0All, e.n) // X before the split
 		}
-		if !sameNode(e.saved(), s.Node(int(e.n))) {
+		if !sameNode(s.saved(i), s.Node(int(e.n))) {
 			a.b0Nodes = append(a.b0Nodes, e.n) // changed in branch 0
 		}
 	}
@@ -219,7 +219,7 @@ func (s *Sim) split(c int32) {
 			a.failMark[n] = s.settleID
 		}
 		for i := m.nodes; i < len(u.nodes); i++ {
-			if e := &u.nodes[i]; !sameNode(e.saved(), s.Node(int(e.n))) {
+			if e := &u.nodes[i]; !sameNode(s.saved(i), s.Node(int(e.n))) {
 				a.failMark[e.n] = s.settleID
 			}
 		}

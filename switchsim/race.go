@@ -336,7 +336,7 @@ func (s *Sim) decide() {
 			if s.nl.nodeKind[e.n] == Power || s.nl.nodeKind[e.n] == Ground || s.source[e.n] {
 				continue
 			}
-			was := e.saved()
+			was := s.saved(i)
 			if i < a.unitN {
 				was = a.unitEnd[i]
 			}
@@ -455,7 +455,7 @@ func (s *Sim) conserveCharge() {
 				ok = false
 				break
 			}
-			v := u.nodes[j].volts
+			v := s.saved(j).Volts
 			if math.IsNaN(v) {
 				ok = false // an unknown charge: the range stands
 				break
@@ -477,7 +477,7 @@ func (s *Sim) conserveCharge() {
 		}
 		shared := hi-lo > 1e-3
 		for _, m := range a.part {
-			before := u.nodes[u.before(m)].volts
+			before := s.saved(u.before(m)).Volts
 			s.val[m], s.volts[m], s.state[m] = val, v, StateZ
 			in := &s.phys.info[m]
 			*in = noPhysRec()

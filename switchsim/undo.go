@@ -1,5 +1,7 @@
 package switchsim
 
+import "math"
+
 // The undo log: the first change of every node and device since a mark,
 // so that the race and case analyses can go back to an earlier state at
 // the cost of what changed since, not of the whole design. A settle opens
@@ -16,10 +18,10 @@ type nodeSave struct {
 	state                          State
 	drive                          Drive
 	fight, contest, shared, source bool
-	volts                          float64
 }
 
 type physSave struct {
+	volts float64
 	phys  physRec // physical mode's record of the node
 	share uint32  // physical mode's charge-sharing stamp
 }
@@ -111,9 +113,9 @@ func (s *Sim) saveNode(n int32) {
 	u := &s.undo
 	u.nmark[n] = u.id
 	u.nodes = append(u.nodes, nodeSave{n, s.val[n], s.str[n], s.state[n], s.drive[n],
-		s.fight[n], s.contest[n], s.shared[n], s.source[n], s.volts[n]})
+		s.fight[n], s.contest[n], s.shared[n], s.source[n]})
 	if s.mode == Physical {
-		u.phys = append(u.phys, physSave{s.phys.info[n], s.phys.shareMark[n]})
+		u.phys = append(u.phys, physSave{s.volts[n], s.phys.info[n], s.phys.shareMark[n]})
 	}
 }
 
@@ -134,11 +136,11 @@ func (s *Sim) logDevice(d int32) {
 func (s *Sim) restoreNode(i int) {
 	e := &s.undo.nodes[i]
 	n := e.n
-	s.val[n], s.str[n], s.state[n], s.volts[n], s.drive[n] = e.val, e.str, e.state, e.volts, e.drive
+	s.val[n], s.str[n], s.state[n], s.drive[n] = e.val, e.str, e.state, e.drive
 	s.fight[n], s.contest[n], s.shared[n], s.source[n] = e.fight, e.contest, e.shared, e.source
 	if s.mode == Physical {
 		p := &s.undo.phys[i]
-		s.phys.info[n], s.phys.shareMark[n] = p.phys, p.share
+		s.volts[n], s.phys.info[n], s.phys.shareMark[n] = p.volts, p.phys, p.share
 	}
 }
 
@@ -181,7 +183,12 @@ func (s *Sim) undoTo(m undoMark, drop bool) {
 	s.nextEpoch()
 }
 
-// saved returns node n's state from a log entry.
-func (e *nodeSave) saved() NodeState {
-	return NodeState{e.val, e.str, e.state, e.volts, e.str.IsCharge()}
+// saved returns log entry i's node state.
+func (s *Sim) saved(i int) NodeState {
+	e := &s.undo.nodes[i]
+	v := math.NaN() // ideal mode: no voltages
+	if s.mode == Physical {
+		v = s.undo.phys[i].volts
+	}
+	return NodeState{e.val, e.str, e.state, v, e.str.IsCharge()}
 }
