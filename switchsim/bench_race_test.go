@@ -43,14 +43,14 @@ func BenchmarkRaceAnalysis(b *testing.B) {
 			}
 			s.Settle()
 			step := func(i int) *sw.Result {
-				s.SetInput(sel[0], sw.Drive(i%2))
-				s.SetInput(sel[1], sw.Drive(i/2%2))
+				s.SetInput(sel[0], sw.Drive(i%2)) // both lines toggle every step
+				s.SetInput(sel[1], sw.Drive(i%2))
 				return s.Settle()
 			}
 			for i := 0; i < 4; i++ {
 				step(i)
 			}
-			if r := step(1); r.Analysis.Ran != (c.races != sw.RacesOff) {
+			if r := step(4); r.Analysis.Ran != (c.races != sw.RacesOff) {
 				b.Fatalf("analysis ran %v", r.Analysis.Ran)
 			}
 			b.ReportAllocs()
