@@ -12,9 +12,11 @@ import (
 	"strings"
 )
 
-// FS holds the demos at its root: NAME.sw and NAME.steps for each.
+// FS holds the demos at its root: NAME.sw and NAME.steps for each, and
+// demos in the forms railyard also reads, NAME.sp (netlist cards) and
+// NAME.v (an IEEE 1364 module), each with its NAME.steps.
 //
-//go:embed *.sw *.steps
+//go:embed *.sw *.steps *.sp *.v
 var FS embed.FS
 
 // Default is the demo railyard opens when it is given none: the static latch.

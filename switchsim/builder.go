@@ -11,6 +11,13 @@ import (
 type DeviceOpts struct {
 	W, L     float64
 	Strength Strength // HighZ means the default
+	// Resistive makes the device reduce the strength of what it passes as
+	// IEEE 1364-2005 §7.12 reduces it for rnmos, rtran and the like
+	// (resistive.go); its cap is then at most pull.
+	Resistive bool
+	// Ohms is the device's resistance in physical mode (an R card's value);
+	// 0 keeps the resistance physical mode gives it by size or strength.
+	Ohms float64
 }
 
 // Builder collects a flat netlist by name. Nodes are created when first
@@ -46,6 +53,8 @@ type bdev struct {
 	a, b     int32
 	w, l     float64
 	strength Strength
+	resist   bool
+	ohms     float64
 }
 
 // NewBuilder starts an empty netlist with rails vdd and gnd and the generic technology.
@@ -157,12 +166,18 @@ func (b *Builder) device(name string, kind DeviceKind, gate, x, y string, o Devi
 	if o.Strength.IsCharge() || o.Strength > Supply {
 		return fmt.Errorf("device %q: strength must be supply, strong, pull or weak, not %s", name, o.Strength)
 	}
-	d := bdev{name: name, kind: kind, gate: -1, w: o.W, l: o.L, strength: o.Strength}
+	if o.Ohms < 0 || math.IsNaN(o.Ohms) || math.IsInf(o.Ohms, 0) {
+		return fmt.Errorf("device %q: resistance must be a positive number", name)
+	}
+	d := bdev{name: name, kind: kind, gate: -1, w: o.W, l: o.L, strength: o.Strength, resist: o.Resistive, ohms: o.Ohms}
 	if d.strength == HighZ {
 		d.strength = Strong
-		if kind >= PullUp {
+		if kind == PullUp || kind == PullDown {
 			d.strength = Pull
 		}
+	}
+	if d.resist {
+		d.strength = min(d.strength, Pull) // what any signal leaves a resistive device at, at most
 	}
 	var err error
 	if kind < PullUp {
@@ -173,10 +188,10 @@ func (b *Builder) device(name string, kind DeviceKind, gate, x, y string, o Devi
 			return err
 		}
 	}
-	if y == "" || (kind < PullUp && x == "") {
+	if y == "" || ((kind < PullUp || kind == Tran) && x == "") {
 		return fmt.Errorf("device %q: missing channel terminal", name)
 	}
-	if kind < PullUp {
+	if kind < PullUp || kind == Tran {
 		if d.a, err = b.node(x); err != nil {
 			return err
 		}

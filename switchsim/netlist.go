@@ -33,8 +33,10 @@ type Netlist struct {
 	devCap    []Strength
 	devW      []float64
 	devL      []float64
-	devByName []int32 // device numbers sorted by name
-	chanStart []int32 // CSR: devices whose channel touches node n are chanDev[chanStart[n]:chanStart[n+1]]
+	devByName []int32   // device numbers sorted by name
+	devResist []bool    // IEEE 1364-2005 §7.12 resistive devices; nil when there are none
+	devOhms   []float64 // resistances given in ohms (R cards); nil when none is
+	chanStart []int32   // CSR: devices whose channel touches node n are chanDev[chanStart[n]:chanStart[n+1]]
 	chanDev   []int32
 	gateStart []int32 // CSR: devices gated by node n
 	gateDev   []int32
@@ -130,6 +132,18 @@ func (b *Builder) Compile() (*Netlist, error) {
 		}
 		if d.l == 0 && d.kind < PullUp {
 			nl.devL[i] = b.tech.L
+		}
+		if d.resist {
+			if nl.devResist == nil {
+				nl.devResist = make([]bool, nd)
+			}
+			nl.devResist[i] = true
+		}
+		if d.ohms > 0 {
+			if nl.devOhms == nil {
+				nl.devOhms = make([]float64, nd)
+			}
+			nl.devOhms[i] = d.ohms
 		}
 		touched[a], touched[d.b] = true, true
 		if d.gate >= 0 {
@@ -284,12 +298,24 @@ type Device struct {
 	A, B     int // channel terminals
 	W, L     float64
 	Strength Strength
+	// Resistive is set for devices that reduce strengths as IEEE
+	// 1364-2005 §7.12 says (rnmos, rtran, R cards); Ohms is a resistance
+	// given in ohms, 0 where the device has none of its own.
+	Resistive bool
+	Ohms      float64
 }
 
 // Device returns device d's description.
 func (nl *Netlist) Device(d int) Device {
-	return Device{nl.devName[d], nl.devKind[d], int(nl.devGate[d]), int(nl.devA[d]), int(nl.devB[d]),
-		nl.devW[d], nl.devL[d], nl.devCap[d]}
+	dv := Device{Name: nl.devName[d], Kind: nl.devKind[d], Gate: int(nl.devGate[d]), A: int(nl.devA[d]), B: int(nl.devB[d]),
+		W: nl.devW[d], L: nl.devL[d], Strength: nl.devCap[d]}
+	if nl.devResist != nil {
+		dv.Resistive = nl.devResist[d]
+	}
+	if nl.devOhms != nil {
+		dv.Ohms = nl.devOhms[d]
+	}
+	return dv
 }
 
 // ChannelDevices returns the devices whose channel touches node n.

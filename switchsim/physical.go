@@ -193,8 +193,11 @@ func noPhysNode() physNode {
 func deviceResistance(nl *Netlist, d int) float64 {
 	t := nl.Tech
 	k, st := nl.devKind[d], nl.devCap[d]
+	if nl.devOhms != nil && nl.devOhms[d] > 0 {
+		return nl.devOhms[d] // a resistor's own value (resistive.go)
+	}
 	switch k {
-	case PullUp, PullDown:
+	case PullUp, PullDown, Tran:
 		return t.DefaultResistance(st)
 	}
 	rsq, w0 := t.Rn, t.Wn

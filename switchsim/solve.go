@@ -109,9 +109,9 @@ func (s *Sim) resolve(g *group) {
 		a, b := nl.devA[d], nl.devB[d]
 		switch {
 		case s.source[a] && !s.source[b]:
-			s.relax(b, min(Supply, nl.devCap[d]), s.val[a], stamp)
+			s.relax(b, nl.pass(d, Supply), s.val[a], stamp)
 		case s.source[b] && !s.source[a]:
-			s.relax(a, min(Supply, nl.devCap[d]), s.val[b], stamp)
+			s.relax(a, nl.pass(d, Supply), s.val[b], stamp)
 		}
 	}
 	for lvl := Supply; lvl >= Small; lvl-- {
@@ -127,7 +127,7 @@ func (s *Sim) resolve(g *group) {
 			for ci := 0; ci < len(s.comp); ci++ {
 				m := s.comp[ci]
 				for _, d := range nl.chanDev[nl.chanStart[m]:nl.chanStart[m+1]] {
-					if s.cond[d] != On || nl.devCap[d] < lvl {
+					if s.cond[d] != On || nl.pass(d, lvl) < lvl {
 						continue
 					}
 					o := nl.other(d, m)
@@ -155,12 +155,12 @@ func (s *Sim) resolve(g *group) {
 			}
 			for _, m := range s.comp {
 				for _, d := range nl.chanDev[nl.chanStart[m]:nl.chanStart[m+1]] {
-					if s.cond[d] != On || nl.devCap[d] >= lvl {
+					if s.cond[d] != On || nl.pass(d, lvl) >= lvl {
 						continue
 					}
 					o := nl.other(d, m)
 					if !s.source[o] && s.done[o] != stamp {
-						s.relax(o, nl.devCap[d], cv, stamp)
+						s.relax(o, nl.pass(d, lvl), cv, stamp)
 					}
 				}
 			}
@@ -223,7 +223,7 @@ func (s *Sim) resolveSingle(g *group) {
 			continue // a device from the node to itself
 		}
 		sv := s.val[src]
-		switch st := min(Supply, nl.devCap[d]); {
+		switch st := nl.pass(d, Supply); {
 		case st > best:
 			best, v, arrived = st, sv, 1<<sv
 		case st == best:
@@ -292,7 +292,7 @@ func (s *Sim) potential(g *group, v Value) {
 			continue
 		}
 		if sv := s.val[a]; sv == v || sv == VX {
-			push(b, min(Supply, nl.devCap[d]))
+			push(b, nl.pass(d, Supply))
 		}
 	}
 	for lvl := Supply; lvl >= Small; lvl-- {
@@ -311,7 +311,7 @@ func (s *Sim) potential(g *group, v Value) {
 				}
 				o := nl.other(d, t)
 				if !s.source[o] && pdone[o] != stamp {
-					push(o, min(lvl, nl.devCap[d]))
+					push(o, nl.pass(d, lvl))
 				}
 			}
 		}

@@ -168,10 +168,11 @@ const (
 	PMOS                       // conducts for gate 0 (common practice)
 	PullUp                     // a resistive pull to the power rail: always on
 	PullDown                   // a resistive pull to the ground rail: always on
+	Tran                       // always on between two nodes: an IEEE 1364 tran, rtran, or a resistor
 )
 
 func (k DeviceKind) String() string {
-	return [...]string{"nmos", "pmos", "pullup", "pulldown"}[k]
+	return [...]string{"nmos", "pmos", "pullup", "pulldown", "tran"}[k]
 }
 
 // conduction gives a device's state for its gate value.

@@ -15,6 +15,8 @@ import (
 	"railyard/switchsim/diag"
 	"railyard/switchsim/load"
 	"railyard/switchsim/session"
+	"railyard/switchsim/trace"
+	"railyard/switchsim/wave"
 	"railyard/tui/panel"
 	"railyard/tui/prompt"
 )
@@ -188,9 +190,9 @@ func (m *Model) openSave() {
 	if m.opt.Save != nil {
 		m.prompt = prompt.NewChoose(st)
 	} else {
-		base := m.sess.Design.Name
+		base := m.sess.Design().Name
 		if base == "" {
-			base = load.BaseName(m.sess.DesignPath)
+			base = load.BaseName(m.sess.DesignPath())
 		}
 		tr, vcd := base+".trace", base+".vcd"
 		if m.opt.TracePath != "" {
@@ -214,11 +216,11 @@ func (m *Model) openJump() {
 // the path typed, asking first before it replaces a file this explorer
 // did not write itself.
 func (m *Model) save(s panel.Save) {
-	write := func(w io.Writer) error { return m.sess.WriteTrace(w) }
+	write := func(w io.Writer) error { _, err := trace.Write(m.sess, w, ""); return err }
 	if s.Kind == panel.SaveVCD {
-		write = func(w io.Writer) error { return m.sess.WriteVCD(w, session.VCDOptions{}) }
+		write = func(w io.Writer) error { return wave.Write(w, m.sess, wave.Options{}) }
 	}
-	what := fmt.Sprintf("the trace (%s)", plural(len(m.sess.Trace()), "action"))
+	what := traceWhat(m.sess)
 	if s.Kind == panel.SaveVCD {
 		what = fmt.Sprintf("a VCD of %s", plural(len(m.sess.History()), "action"))
 	}
@@ -249,9 +251,9 @@ func (m *Model) save(s panel.Save) {
 	}
 	var err error
 	if s.Kind == panel.SaveVCD {
-		err = m.sess.SaveVCD(path, session.VCDOptions{})
+		err = wave.Save(m.sess, path, wave.Options{}) // never over the design, its steps, a link or a device
 	} else {
-		err = m.sess.SaveTrace(path)
+		_, err = trace.Save(m.sess, path)
 	}
 	if err != nil {
 		m.fail("could not save " + what + ": " + err.Error())
@@ -263,4 +265,19 @@ func (m *Model) save(s panel.Save) {
 		msg += "; railyard replay " + path + " repeats it"
 	}
 	m.say(msg)
+}
+
+// traceWhat words the trace a save writes: its actions, counted as replay
+// counts them (the start, sets, steps and backs), and the cap when the
+// trace reached it.
+func traceWhat(s *session.Session) string {
+	w := trace.Of(s)
+	if w == nil {
+		return "the trace"
+	}
+	what := "the trace (" + plural(w.Actions(), "action")
+	if capped, skipped, why := w.Capped(); capped {
+		what += fmt.Sprintf("; %s, so the last %d were not kept", why, skipped)
+	}
+	return what + ")"
 }

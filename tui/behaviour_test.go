@@ -83,7 +83,7 @@ func TestSaveToTheOwnersPlace(t *testing.T) {
 		t.Fatalf("with Options.Save, s shows a path prompt:\n%s", v)
 	}
 	press(m, "enter")
-	if len(f.files) != 1 || f.kinds[0] != SaveTrace || !bytes.Contains(f.files[0], []byte("railyard-trace 1")) {
+	if len(f.files) != 1 || f.kinds[0] != SaveTrace || !bytes.Contains(f.files[0], []byte("railyard-trace 2")) {
 		t.Fatalf("enter did not hand the trace to the owner: %d files %v", len(f.files), f.kinds)
 	}
 	if !strings.Contains(m.Status(), "saved the trace (2 actions) as kept-1.trace") {
@@ -165,7 +165,7 @@ func TestSaveAsksBeforeReplacing(t *testing.T) {
 		t.Fatalf("n replaced the file: %q", b)
 	}
 	save("y")
-	if b, _ := os.ReadFile(path); !bytes.Contains(b, []byte("railyard-trace 1")) {
+	if b, _ := os.ReadFile(path); !bytes.Contains(b, []byte("railyard-trace 2")) {
 		t.Fatalf("y did not replace the file: %q", b)
 	}
 	press(m, "n")
@@ -218,8 +218,8 @@ func TestKeysSayWhatTheyNeed(t *testing.T) {
 	press(m, "tab") // the board
 	for _, k := range []string{"space", "0", "1"} {
 		press(m, k)
-		if len(s.Trace()) != 1 || !strings.Contains(m.Status(), "tab goes to Inputs") || m.statusAs != statusNote {
-			t.Errorf("%s on the board: %d actions, status %q (want a note on where it works)", k, len(s.Trace()), m.Status())
+		if s.Actions() != 1 || !strings.Contains(m.Status(), "tab goes to Inputs") || m.statusAs != statusNote {
+			t.Errorf("%s on the board: %d actions, status %q (want a note on where it works)", k, s.Actions(), m.Status())
 		}
 	}
 	// / with the inputs focused filters the inputs
@@ -234,7 +234,7 @@ func TestKeysSayWhatTheyNeed(t *testing.T) {
 		t.Fatalf("input filter b: %d shown, selected %d", m.inputs.Shown(), m.inputs.Selected())
 	}
 	press(m, "1")
-	if s.Sim.InputDrive(node(t, s, "b")) != switchsim.Drive1 {
+	if s.InputDrive(node(t, s, "b")) != switchsim.Drive1 {
 		t.Error("1 after the input filter did not drive b")
 	}
 	press(m, "esc")
@@ -373,8 +373,8 @@ func TestGateVoltsWhereNotFull(t *testing.T) {
 	s := openDemo(t, "strong_keeper", switchsim.Physical)
 	m := New(s, 120, 40, Options{})
 	press(m, "n", "n")
-	sv := s.Sim.Node(node(t, s, "s")).Volts
-	if panel.FullLevel(sv, s.Sim.Node(s.Netlist().Power()).Volts) {
+	sv := s.Node(node(t, s, "s")).Volts
+	if panel.FullLevel(sv, s.Node(s.Netlist().Power()).Volts) {
 		t.Fatalf("s at %.2f V is a full level: the demo no longer shows the fight", sv)
 	}
 	volts := fmt.Sprintf("%.2f", sv)

@@ -33,7 +33,7 @@ func TestControlCodesAreNeverDrawn(t *testing.T) {
 	must(os.WriteFile(filepath.Join(dir, "esc.steps"), []byte(st), 0o644))
 	s, err := session.Open(filepath.Join(dir, "esc.sw"), filepath.Join(dir, "esc.steps"), session.Options{Mode: switchsim.Physical})
 	must(err)
-	if !strings.Contains(s.Design.Desc, "\x1b") || !strings.Contains(s.Steps.Rows[0].Label, "\x1b") {
+	if !strings.Contains(s.Design().Desc, "\x1b") || !strings.Contains(s.Steps().Rows[0].Label, "\x1b") {
 		t.Fatal("the fixture lost its escapes on reading: the test would prove nothing")
 	}
 	checkNoESC(t, s, []string{"n", "n", "v", "up"}, "\\x1b]0;TITLE\\x07", "pick \\x1b[2J")

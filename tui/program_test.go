@@ -75,11 +75,11 @@ func TestProgramFlows(t *testing.T) {
 	}
 	// the session after the flows: sel=0, step 1 applied (a=1), so y=1 (selector function)
 	fs := fm.Session()
-	if fs.NextStep() != 1 || fs.Sim.Node(node(t, fs, "y")).Value != switchsim.V1 {
-		t.Errorf("final state: next step %d, y=%s; want 1 and 1", fs.NextStep(), fs.Sim.Node(node(t, fs, "y")).Value)
+	if fs.NextStep() != 1 || fs.Node(node(t, fs, "y")).Value != switchsim.V1 {
+		t.Errorf("final state: next step %d, y=%s; want 1 and 1", fs.NextStep(), fs.Node(node(t, fs, "y")).Value)
 	}
 	b, err := os.ReadFile(trace)
-	if err != nil || !bytes.Contains(b, []byte("railyard-trace 1")) {
+	if err != nil || !bytes.Contains(b, []byte("railyard-trace 2")) {
 		t.Errorf("saved trace: %v\n%s", err, b)
 	}
 }
@@ -113,7 +113,7 @@ func TestRunWritesTraceOnQuit(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	// start, two steps and a back: four actions (session/trace.go writes each as "action N ...")
+	// start, two steps and a back: four actions (switchsim/trace writes each as "action N ...")
 	if n := bytes.Count(b, []byte("\naction ")); n != 4 {
 		t.Errorf("trace holds %d actions, want 4:\n%s", n, b)
 	}

@@ -47,7 +47,7 @@ func (m *Model) sync() {
 	ins := nl.Inputs()
 	drives := make([]switchsim.Drive, len(ins))
 	for i, n := range ins {
-		drives[i] = s.Sim.InputDrive(n)
+		drives[i] = s.InputDrive(n)
 	}
 	m.inputs.SetStates(drives, states, changed)
 	m.inputs.SetWatched(m.watchSet)
@@ -56,7 +56,7 @@ func (m *Model) sync() {
 
 	cond := make([]switchsim.Conduction, nl.NumDevices())
 	for d := range cond {
-		cond[d] = s.Sim.Conduction(d)
+		cond[d] = s.Conduction(d)
 	}
 	m.devices.SetStates(cond, states, m.vdd(states))
 	// On-resistance per device: the Devices view has a column and a place
@@ -64,9 +64,13 @@ func (m *Model) sync() {
 	// from the physical mode's estimate once that is exposed; until then
 	// nothing is shown rather than a guess.
 
+	// The rounds view reads the state each changed node had before the action.
 	var before []switchsim.NodeState
 	if len(hist) > 1 {
-		before = hist[len(hist)-2].States
+		before = make([]switchsim.NodeState, nn)
+		for _, c := range last.Changes {
+			before[c.Node].State = c.Was
+		}
 	}
 	st := rounds.Settle{Title: m.title(last), Rounds: last.Rounds, Before: before, Oscillated: last.Oscillated}
 	if len(hist) == 1 {
@@ -83,11 +87,12 @@ func (m *Model) sync() {
 	var cols []timeline.Column
 	var entries []logpanel.Entry
 	m.numSteps, m.nextStep, m.failed = s.NumSteps(), s.NextStep(), 0
-	for _, e := range hist {
+	track := s.Track(m.watched)
+	for i, e := range hist {
 		if e.Action.Kind == session.Step && e.Failed() {
 			m.failed++
 		}
-		col := timeline.Column{Mark: m.th.G.Set, States: e.States, Failed: e.Failed()}
+		col := timeline.Column{Mark: m.th.G.Set, States: track[i], Failed: e.Failed()}
 		switch e.Action.Kind {
 		case session.Start:
 			col.Mark = "0"
@@ -105,6 +110,9 @@ func (m *Model) sync() {
 		}
 		cols = append(cols, col)
 		en := logpanel.Entry{Title: m.title(e)}
+		if e.Dropped() && e.NumWarnings() > 0 {
+			en.Title += fmt.Sprintf(" (%d warnings, details dropped for memory)", e.NumWarnings())
+		}
 		for _, w := range e.Warnings {
 			en.Warnings = append(en.Warnings, logpanel.Warning{Kind: string(w.Kind), Message: diag.Printable(w.Message)})
 		}
@@ -119,13 +127,9 @@ func (m *Model) sync() {
 
 // states are every node's states after the last action.
 func (m *Model) states() []switchsim.NodeState {
-	if st := m.sess.Last().States; st != nil {
-		return st
-	}
-	// a design too large to keep states per event: read the simulator
 	st := make([]switchsim.NodeState, m.sess.Netlist().NumNodes())
 	for n := range st {
-		st[n] = m.sess.Sim.Node(n)
+		st[n] = m.sess.Node(n)
 	}
 	return st
 }
@@ -145,7 +149,7 @@ func (m *Model) explain() {
 		return
 	}
 	nl := m.sess.Netlist()
-	e := m.sess.Sim.Explain(m.inspect)
+	e := m.sess.Explain(m.inspect)
 	states := m.states()
 	m.why.Set(e, states, m.vdd(states), m.nodeWarnings(m.inspect))
 	group := make([]bool, nl.NumDevices())
@@ -195,18 +199,18 @@ func (m *Model) nodeWarnings(n int) []string {
 
 // stepRows words the steps file's rows for the vectors view, printable.
 func stepRows(s *session.Session, names *panel.Names) []stepper.Step {
-	if s.Steps == nil {
+	if s.Steps() == nil {
 		return nil
 	}
-	out := make([]stepper.Step, len(s.Steps.Rows))
-	for i, r := range s.Steps.Rows {
+	out := make([]stepper.Step, len(s.Steps().Rows))
+	for i, r := range s.Steps().Rows {
 		var ap, wa []string
-		for c, n := range s.Steps.Apply {
+		for c, n := range s.Steps().Apply {
 			if c < len(r.Drives) {
 				ap = append(ap, names.Node[n]+"="+r.Drives[c].String())
 			}
 		}
-		for c, n := range s.Steps.Check {
+		for c, n := range s.Steps().Check {
 			if c < len(r.Wants) && r.Wants[c].String() != "-" {
 				wa = append(wa, names.Node[n]+"="+r.Wants[c].String())
 			}
@@ -217,8 +221,8 @@ func stepRows(s *session.Session, names *panel.Names) []stepper.Step {
 }
 
 func stepsFile(s *session.Session) string {
-	if s.StepsPath == "" {
+	if s.StepsPath() == "" {
 		return ""
 	}
-	return filepath.Base(s.StepsPath)
+	return filepath.Base(s.StepsPath())
 }

@@ -23,7 +23,9 @@ import (
 	"github.com/charmbracelet/lipgloss"
 
 	"railyard/switchsim/diag"
+	"railyard/switchsim/outfile"
 	"railyard/switchsim/session"
+	"railyard/switchsim/trace"
 	"railyard/tui/devices"
 	"railyard/tui/inputs"
 	"railyard/tui/logpanel"
@@ -51,6 +53,13 @@ const (
 // user should read it (never a path of the owner's own that the user must
 // not see), or an error to show.
 type SaveFunc func(kind SaveKind, write func(io.Writer) error) (shown string, err error)
+
+// Notice is a message the explorer's owner sends to tell the user what the
+// explorer cannot see for itself (a server: the session's trace reached
+// the server's cap). Text goes on the status line as a note; Mark, when
+// set, stays in the header from then on, so that it is seen after the
+// status line has moved on.
+type Notice struct{ Text, Mark string }
 
 // Options configure the explorer.
 type Options struct {
@@ -80,7 +89,7 @@ func SaveInDir(dir string, name func(SaveKind) string) SaveFunc {
 		if n == "" || n == "." || n == ".." || strings.ContainsAny(n, `/\`) || filepath.Base(n) != n {
 			return "", fmt.Errorf("%q is not a plain file name", n)
 		}
-		if err := session.WriteFileAtomic(filepath.Join(dir, n), write); err != nil {
+		if err := outfile.Write(filepath.Join(dir, n), nil, write); err != nil {
 			return "", fmt.Errorf("could not write %s", n) // the folder is the owner's, not the user's
 		}
 		return n, nil
@@ -146,6 +155,7 @@ type Model struct {
 	helpPage int
 	status   string
 	statusAs int
+	mark     string // the owner's mark in the header (Notice)
 
 	watched  []int // timeline order
 	watchSet []bool
@@ -165,6 +175,11 @@ func New(s *session.Session, width, height int, opt Options) *Model {
 	nl := s.Netlist()
 	m := &Model{sess: s, opt: opt, th: th, keys: DefaultKeyMap(), w: width, h: height, inspect: -1,
 		written: map[string]bool{}}
+	if trace.Of(s) == nil && s.Actions() == 1 {
+		// The save key needs the session's trace: record it from the start
+		// (an unnamed spool in the temporary folder) unless the caller does.
+		trace.Start(s, "", trace.Options{})
+	}
 	if opt.MinWidth == 0 {
 		m.opt.MinWidth = 80
 	}
@@ -186,11 +201,11 @@ func New(s *session.Session, width, height int, opt Options) *Model {
 	}
 	// every string from a file is made printable here or in sync, once
 	m.names = panel.NewNames(nl)
-	m.designName = diag.Printable(s.Design.Name)
+	m.designName = diag.Printable(s.Design().Name)
 	if m.designName == "" {
-		m.designName = diag.Printable(s.DesignPath)
+		m.designName = diag.Printable(s.DesignPath())
 	}
-	m.designDesc = diag.Printable(s.Design.Desc)
+	m.designDesc = diag.Printable(s.Design().Desc)
 
 	m.inputs = inputs.New(nl.Inputs(), m.names, inputs.DefaultStyles(th))
 	m.nodes = nodes.New(nl, m.names, nodes.DefaultStyles(th))
@@ -223,9 +238,9 @@ func firstWatched(s *session.Session) []int {
 	nl := s.Netlist()
 	var cands []int
 	cands = append(cands, nl.Outputs()...)
-	if s.Steps != nil {
-		cands = append(cands, s.Steps.Check...)
-		cands = append(cands, s.Steps.Apply...)
+	if s.Steps() != nil {
+		cands = append(cands, s.Steps().Check...)
+		cands = append(cands, s.Steps().Apply...)
 	}
 	cands = append(cands, nl.Inputs()...)
 	seen := map[int]bool{}
@@ -291,6 +306,11 @@ func (m *Model) Update(msg tea.Msg) (tea.Model, tea.Cmd) {
 		m.change(func() { m.jump(msg.Row) })
 	case panel.Save:
 		m.save(msg)
+	case Notice:
+		m.note(msg.Text)
+		if msg.Mark != "" {
+			m.mark = diag.Printable(msg.Mark)
+		}
 	case panel.Canceled:
 		m.say(msg.What)
 	case panel.Note:
@@ -581,12 +601,16 @@ func runProgram(s *session.Session, opt Options, w, h int, note io.Writer, popts
 	p := tea.NewProgram(m, popts...)
 	_, err := p.Run()
 	if opt.TracePath != "" {
-		if terr := s.SaveTrace(opt.TracePath); terr != nil {
+		saved, terr := trace.Save(s, opt.TracePath)
+		if terr != nil {
 			return errors.Join(err, fmt.Errorf("writing the trace: %w", terr))
 		}
 		shown := diag.Printable(opt.TracePath)
 		fmt.Fprintf(note, "railyard: trace of %s saved to %s; railyard replay %s repeats it\n",
-			plural(len(s.Trace()), "action"), shown, shown)
+			plural(saved.Actions, "action"), shown, shown)
+		if saved.Skipped > 0 {
+			fmt.Fprintf(note, "railyard: %s: the last %d actions were not written\n", saved.Why, saved.Skipped)
+		}
 	}
 	return err
 }

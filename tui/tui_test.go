@@ -143,15 +143,15 @@ func TestToggleAndSet(t *testing.T) {
 	sel, a := node(t, s, "sel"), node(t, s, "a")
 	// inputs start driven x; toggling anything but 0 gives 0 (session.Toggle)
 	press(m, "space")
-	if d := s.Sim.InputDrive(sel); d != switchsim.Drive0 {
+	if d := s.InputDrive(sel); d != switchsim.Drive0 {
 		t.Fatalf("after space sel is driven %s, want 0", d)
 	}
 	press(m, "down", "1")
-	if d := s.Sim.InputDrive(a); d != switchsim.Drive1 {
+	if d := s.InputDrive(a); d != switchsim.Drive1 {
 		t.Fatalf("after 1 a is driven %s, want 1", d)
 	}
 	// sel = 0 selects a (the fixture's function): y = 1, strong through a full transmission gate
-	y := s.Sim.Node(node(t, s, "y"))
+	y := s.Node(node(t, s, "y"))
 	if y.Value != switchsim.V1 || y.State != switchsim.State1 {
 		t.Fatalf("y = %s/%s, want 1/1 (sel=0 selects a=1)", y.Value, y.State)
 	}
@@ -159,11 +159,11 @@ func TestToggleAndSet(t *testing.T) {
 		t.Errorf("status %q does not report the set", m.Status())
 	}
 	press(m, "z")
-	if d := s.Sim.InputDrive(a); d != switchsim.DriveZ {
+	if d := s.InputDrive(a); d != switchsim.DriveZ {
 		t.Fatalf("after z a is %s, want z", d)
 	}
 	press(m, "x")
-	if d := s.Sim.InputDrive(a); d != switchsim.DriveX {
+	if d := s.InputDrive(a); d != switchsim.DriveX {
 		t.Fatalf("after x a is %s, want x", d)
 	}
 	// the rounds view shows the last settle: y changed
@@ -182,17 +182,17 @@ func TestStepForwardBackAndFailure(t *testing.T) {
 	}
 	y := node(t, s, "y")
 	// row 1: sel=0 a=1 -> y=1 (selector function)
-	if v := s.Sim.Node(y).Value; v != switchsim.V1 {
+	if v := s.Node(y).Value; v != switchsim.V1 {
 		t.Fatalf("after step 1 y=%s, want 1", v)
 	}
 	press(m, "n")
 	// row 2: sel=1 b=0 -> y=0
-	if v := s.Sim.Node(y).Value; v != switchsim.V0 {
+	if v := s.Node(y).Value; v != switchsim.V0 {
 		t.Fatalf("after step 2 y=%s, want 0", v)
 	}
 	press(m, "p")
-	if s.NextStep() != 1 || s.Sim.Node(y).Value != switchsim.V1 {
-		t.Fatalf("after p: next step %d y=%s, want 1 and 1 (restored from the snapshot)", s.NextStep(), s.Sim.Node(y).Value)
+	if s.NextStep() != 1 || s.Node(y).Value != switchsim.V1 {
+		t.Fatalf("after p: next step %d y=%s, want 1 and 1 (restored from the snapshot)", s.NextStep(), s.Node(y).Value)
 	}
 	// f runs to the first failing check: row 4 wants y=1 but a=0 is selected
 	press(m, "f")
@@ -296,8 +296,8 @@ func TestSaveTraceAndVCD(t *testing.T) {
 	if err != nil {
 		t.Fatalf("trace not written: %v (status %q)", err, m.Status())
 	}
-	// the trace format's magic line and the two steps (session/trace.go)
-	if !bytes.Contains(b, []byte("railyard-trace 1")) || bytes.Count(b, []byte("\naction ")) != 3 {
+	// the trace format's magic line and the two steps (switchsim/trace)
+	if !bytes.Contains(b, []byte("railyard-trace 2")) || bytes.Count(b, []byte("\naction ")) != 3 {
 		t.Errorf("trace lacks the magic line or the start and two steps:\n%s", b)
 	}
 	vcd := filepath.Join(dir, "run.vcd")
@@ -447,4 +447,30 @@ func TestNoColor(t *testing.T) {
 	if v := c.View(); !strings.Contains(v, "[38;5;") {
 		t.Error("with colour on, nothing is coloured")
 	}
+}
+
+// An owner's Notice (a server saying the session's trace is full) goes on
+// the status line and its mark stays in the header after the status line
+// has moved on; without one the header has no mark.
+func TestNoticeFromTheOwner(t *testing.T) {
+	s := openFixture(t)
+	m := New(s, 100, 24, Options{Banner: "session abc234"})
+	header := func() string { return strings.SplitN(m.View(), "\n", 2)[0] }
+	if strings.Contains(header(), "trace full") {
+		t.Fatalf("a mark before any notice: %q", header())
+	}
+	send(m, Notice{Text: "trace full at 16 KiB: later actions are not recorded", Mark: "trace full\x1b[2J"})
+	if m.Status() != "trace full at 16 KiB: later actions are not recorded" {
+		t.Errorf("status %q, want the notice", m.Status())
+	}
+	press(m, "space")
+	if !strings.Contains(m.Status(), "set sel=0") {
+		t.Errorf("status %q after a toggle, want the set", m.Status())
+	}
+	h := header()
+	// The mark is printable (an owner's text is shown as the rest is).
+	if !strings.Contains(h, `trace full\x1b[2J`) || !strings.Contains(h, "session abc234") {
+		t.Errorf("header %q lacks the mark (made printable) or the banner", h)
+	}
+	checkScreen(t, m.View(), 100, 24)
 }

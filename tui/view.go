@@ -127,7 +127,7 @@ func (m *Model) header() string {
 		left += " " + t.Dim.Render(d)
 	}
 	var right []string
-	right = append(right, t.Dim.Render(m.sess.Opts.Mode.String()))
+	right = append(right, t.Dim.Render(m.sess.Options().Mode.String()))
 	if m.numSteps > 0 {
 		right = append(right, fmt.Sprintf("step %d/%d", m.nextStep, m.numSteps))
 	}
@@ -135,6 +135,9 @@ func (m *Model) header() string {
 		right = append(right, t.FailBadge.Render(fmt.Sprintf(" %s FAIL %s ", t.G.Fail, m.lastFail)))
 	} else if m.failed > 0 {
 		right = append(right, t.Fail.Render(fmt.Sprintf("%s %d failed", t.G.Fail, m.failed)))
+	}
+	if m.mark != "" {
+		right = append(right, t.Warn.Render(m.mark))
 	}
 	if m.opt.Banner != "" {
 		right = append(right, t.Accent.Render(m.opt.Banner))

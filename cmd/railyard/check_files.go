@@ -16,7 +16,7 @@ import (
 	"time"
 
 	"railyard/switchsim/diag"
-	"railyard/switchsim/session"
+	"railyard/switchsim/outfile"
 )
 
 // checkOutputPaths refuses, before anything is checked, to write a report
@@ -83,7 +83,7 @@ func saveFindingSteps(dir string, r *designResult, several bool) error {
 		if notRegular(path) {
 			return fmt.Errorf("%s exists and is not a regular file", diag.Printable(path))
 		}
-		if err := session.WriteFileAtomic(path, func(w io.Writer) error { return writeFindingSteps(w, r, *f) }); err != nil {
+		if err := outfile.Write(path, nil, func(w io.Writer) error { return writeFindingSteps(w, r, *f) }); err != nil {
 			return err
 		}
 		f.StepsFile = path
@@ -301,7 +301,7 @@ func writeJUnit(path string, results []*designResult, o checkOptions, took time.
 		suite.Cases = append(suite.Cases, c)
 	}
 	doc := junitSuites{Name: name, Tests: suite.Tests, Failures: suite.Failures, Time: suite.Time, Suites: []junitSuite{suite}}
-	return session.WriteFileAtomic(path, func(w io.Writer) error {
+	return outfile.Write(path, nil, func(w io.Writer) error {
 		if _, err := io.WriteString(w, xml.Header); err != nil {
 			return err
 		}
@@ -368,7 +368,7 @@ func (c *resultCache) put(key string, r *designResult) {
 	if err != nil || len(b) > maxCacheEntry {
 		return
 	}
-	session.WriteFileAtomic(c.file(key), func(w io.Writer) error { _, err := w.Write(b); return err })
+	outfile.Write(c.file(key), nil, func(w io.Writer) error { _, err := w.Write(b); return err })
 }
 
 // trim removes the least recently used entries while the folder holds more

@@ -3,11 +3,14 @@ package main
 import (
 	"fmt"
 	"io"
+	"path/filepath"
 
 	"railyard/designs"
 	"railyard/switchsim"
 	"railyard/switchsim/load"
+	"railyard/switchsim/outfile"
 	"railyard/switchsim/session"
+	"railyard/switchsim/trace"
 	"railyard/tui"
 )
 
@@ -55,11 +58,33 @@ func cmdExplore(args []string, stdout, stderr io.Writer) int {
 	if err != nil {
 		return usageError(stderr, "explore", "%v", err)
 	}
+	if o.trace != "" {
+		keep := []outfile.Keep{{Path: design, What: "the design"}, {Path: o.steps, What: "the steps file"}}
+		if st, ok := files.DefaultSteps(design); ok && o.steps == "" {
+			keep[1].Path = st
+		}
+		if err := outfile.Check(o.trace, keep...); err != nil {
+			fmt.Fprintf(stderr, "railyard explore: --trace: %v\n", err)
+			return exitUsage
+		}
+	}
 	s, err := session.OpenFrom(files, design, o.steps, session.Options{Mode: switchsim.Physical})
 	if err != nil {
 		return loadError(stderr, err)
 	}
-	printNotes(stderr, s.Design)
+	printNotes(stderr, s.Design())
+	// The session always records its trace, so that the save key works;
+	// it streams beside --trace when given.
+	dir := ""
+	if o.trace != "" {
+		dir = filepath.Dir(o.trace)
+	}
+	w, err := trace.Start(s, dir, trace.Options{})
+	if err != nil {
+		fmt.Fprintf(stderr, "railyard explore: %v\n", err)
+		return exitUsage
+	}
+	defer w.Close()
 	return startExplorer(s, o, stderr)
 }
 

@@ -86,10 +86,34 @@ func TestGoldenTextReports(t *testing.T) {
 
 var createdLine = regexp.MustCompile(`(?m)^created .*$`)
 
+// copyFiles copies testdata files into dir, returning their new paths.
+func copyFiles(t *testing.T, dir string, names ...string) []string {
+	t.Helper()
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		t.Fatal(err)
+	}
+	var out []string
+	for _, n := range names {
+		b, err := os.ReadFile(filepath.Join("testdata", n))
+		if err != nil {
+			t.Fatal(err)
+		}
+		p := filepath.Join(dir, n)
+		if err := os.WriteFile(p, b, 0o644); err != nil {
+			t.Fatal(err)
+		}
+		out = append(out, p)
+	}
+	return out
+}
+
 func TestGoldenTrace(t *testing.T) {
+	// A project folder: the cells in cells/, the traces in traces/.
 	dir := t.TempDir()
-	tr := filepath.Join(dir, "plat.trace")
-	if code, _, e := call("run", "testdata/plat.sw", "--ideal", "--trace", tr); code != 0 {
+	design := copyFiles(t, filepath.Join(dir, "cells"), "plat.sw", "plat.steps")[0]
+	tr := filepath.Join(dir, "traces", "plat.trace")
+	os.MkdirAll(filepath.Dir(tr), 0o755)
+	if code, _, e := call("run", design, "--ideal", "--trace", tr); code != 0 {
 		t.Fatalf("exit %d: %s", code, e)
 	}
 	b, err := os.ReadFile(tr)
@@ -100,10 +124,17 @@ func TestGoldenTrace(t *testing.T) {
 	if !createdLine.MatchString(text) {
 		t.Error("the trace has no created line")
 	}
-	// The creation time is the one machine-dependent line.
+	// The creation time is the one machine-dependent line. Checked by hand
+	// in the golden file: the design and steps named relative to the
+	// trace's folder (../cells/plat.sw), their sha256 (as sha256sum prints
+	// for the two files), vil and vih as computed for the generic preset
+	// (0.737 and 0.961 V, as run prints them), the four steps of
+	// plat.steps with their labels, drives and wanted values, and end 5
+	// (the start and four steps).
 	golden(t, "trace_plat_ideal", createdLine.ReplaceAllString(text, "created TIME"))
-	// No temporary file is left beside it (the write is a rename).
-	ents, _ := os.ReadDir(dir)
+	// No temporary file is left beside it (the write is a rename), and the
+	// spool the session streamed to has no name.
+	ents, _ := os.ReadDir(filepath.Dir(tr))
 	if len(ents) != 1 {
 		t.Errorf("%d files in the trace's folder, want 1", len(ents))
 	}
@@ -128,7 +159,7 @@ func TestExitCodes(t *testing.T) {
 		{[]string{"--json"}, 2, `needs a command`},
 		{[]string{"replay"}, 2, `want one TRACE`},
 		{[]string{"replay", "testdata/nonexistent.trace"}, 2, `nonexistent\.trace`},
-		{[]string{"replay", "testdata/opsel.sw"}, 2, `(?m)^testdata/opsel\.sw:\d+: not a railyard trace`},
+		{[]string{"replay", "testdata/opsel.sw"}, 2, `(?m)^testdata/opsel\.sw:\d+:\d+: not a railyard trace`},
 		{[]string{"check", "testdata/slips.sw"}, 1, ""},
 		{[]string{"check", "testdata/bus.sw", "--exhaustive"}, 1, ""},
 		{[]string{"check", "testdata/opsel.sw", "--exhaustive"}, 0, ""},
@@ -257,8 +288,8 @@ func TestReplayNamesTheTamperedLine(t *testing.T) {
 	if code != 1 {
 		t.Errorf("replay of a tampered trace: exit %d, want 1\n%s", code, out)
 	}
-	// The difference is reported at the action's line, FILE:LINE: action 2: ...
-	want := tr + ":" + strconv.Itoa(action) + ": action 2: "
+	// The difference is reported at the action's line, FILE:LINE:COL: action 2: ...
+	want := tr + ":" + strconv.Itoa(action) + ":1: action 2: "
 	if !strings.Contains(out, want) || !strings.Contains(out, `"1 st Z 0 medium -"`) {
 		t.Errorf("output does not name %q and the edited change:\n%s", want, out)
 	}

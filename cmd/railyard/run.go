@@ -3,12 +3,16 @@ package main
 import (
 	"fmt"
 	"io"
-	"math"
+	"path/filepath"
+	"slices"
 
 	"railyard/designs"
 	"railyard/switchsim"
 	"railyard/switchsim/load"
+	"railyard/switchsim/outfile"
 	"railyard/switchsim/session"
+	"railyard/switchsim/trace"
+	"railyard/switchsim/wave"
 )
 
 const runUsage = `
@@ -19,7 +23,11 @@ same-named .steps file), check the nodes the steps name, and print a report.
 Without steps the report shows the design's initial settle.
 
 Exit status: 0 when every check passes, 1 when one fails, 2 on bad input
-(nothing is written to --trace or --vcd then).
+(nothing is written to --trace or --vcd then). --trace and --vcd never
+replace the design, its steps, each other, or anything that is not a
+regular file; they are checked before anything runs and written whole at
+the end (a temporary file renamed into place, removed on an interrupt).
+In physical mode the VCD also holds each node's estimated voltage.
 
 examples:
   railyard run demo:` + designs.Default + `
@@ -44,7 +52,7 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 	fs.BoolVar(&o.ideal, "ideal", false, "ideal mode: strengths only, no voltage estimates")
 	fs.BoolVar(&o.fullSwing, "full-swing", false, "0 and 1 checks also require the strong full-level states")
 	fs.StringVar(&o.trace, "trace", "", "save the session trace to `FILE` (for railyard replay)")
-	fs.StringVar(&o.vcd, "vcd", "", "write a VCD waveform of every node to `FILE`")
+	fs.StringVar(&o.vcd, "vcd", "", "write a VCD waveform of every node to `FILE` (with voltages in physical mode)")
 	o.load = addLoadFlags(fs)
 	pos, code := parseArgs(fs, args, stdout, stderr)
 	if code >= 0 {
@@ -56,16 +64,10 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 	return runDesign(pos[0], o, stdout, stderr)
 }
 
-// runDesign runs a design's steps and reports; the files are written only
-// once the run has succeeded.
+// runDesign runs a design's steps and reports. Every output path is
+// checked before anything is simulated; the report streams as the steps
+// run; the files are put in place only once the run has succeeded.
 func runDesign(design string, o runOptions, stdout, stderr io.Writer) int {
-	opt := session.Options{Mode: switchsim.Physical, FullSwing: o.fullSwing}
-	if o.ideal {
-		opt.Mode = switchsim.Ideal
-	}
-	if o.vcd != "" {
-		opt.KeepStates = math.MaxInt // a waveform needs every state, whatever the size
-	}
 	if o.load == nil {
 		o.load = &loadFlags{}
 	}
@@ -73,37 +75,120 @@ func runDesign(design string, o runOptions, stdout, stderr io.Writer) int {
 	if err != nil {
 		return usageError(stderr, "run", "%v", err)
 	}
-	s, err := session.OpenFrom(files, design, o.steps, opt)
-	if err != nil {
-		return loadError(stderr, err)
-	}
-	printNotes(stderr, s.Design)
-	s.RunToEnd(false)
-	if o.trace != "" {
-		if err := s.SaveTrace(o.trace); err != nil {
-			fmt.Fprintf(stderr, "railyard run: writing the trace: %v\n", err)
-			return exitUsage
-		}
-	}
-	if o.vcd != "" {
-		if err := s.SaveVCD(o.vcd, session.VCDOptions{Version: version}); err != nil {
-			fmt.Fprintf(stderr, "railyard run: writing the waveform: %v\n", err)
-			return exitUsage
-		}
-	}
-	if o.json {
-		err = s.WriteJSON(stdout)
-	} else {
-		err = s.WriteText(stdout)
-	}
+	keep, err := checkOutputs(files, design, o)
 	if err != nil {
 		fmt.Fprintf(stderr, "railyard run: %v\n", err)
 		return exitUsage
 	}
-	if !session.Summarize(s.ReportEvents()).Pass() {
+	if o.trace != "" || o.vcd != "" {
+		defer outfile.HandleSignals()()
+	}
+	opt := session.Options{Mode: switchsim.Physical, FullSwing: o.fullSwing}
+	if o.ideal {
+		opt.Mode = switchsim.Ideal
+	}
+	s, err := session.OpenFrom(files, design, o.steps, opt)
+	if err != nil {
+		return loadError(stderr, err)
+	}
+	printNotes(stderr, s.Design())
+	var tw *trace.Writer
+	if o.trace != "" {
+		if tw, err = trace.Start(s, filepath.Dir(o.trace), trace.Options{}); err != nil {
+			fmt.Fprintf(stderr, "railyard run: --trace %s: %v\n", o.trace, err)
+			return exitUsage
+		}
+		defer tw.Close()
+	}
+	var vf *outfile.File
+	var vw *wave.Writer
+	if o.vcd != "" {
+		if vf, err = outfile.Create(o.vcd, keep.vcd...); err != nil {
+			fmt.Fprintf(stderr, "railyard run: --vcd: %v\n", err)
+			return exitUsage
+		}
+		defer vf.Abort() // harmless after Commit
+		vw = wave.NewWriter(vf, s, wave.Options{Version: version})
+		vw.Add(s.Last(), s.Node)
+	}
+	format := session.Text
+	if o.json {
+		format = session.JSON
+	}
+	rep := session.NewReport(stdout, s, format)
+	if s.NumSteps() == 0 {
+		rep.Add(s.Last(), s.Node) // a design without steps: its resting state
+	}
+	for {
+		e, ok := s.Next()
+		if !ok {
+			break
+		}
+		rep.Add(e, s.Node)
+		if vw != nil {
+			vw.Add(e, s.Node)
+		}
+	}
+	sum, err := rep.Close()
+	if err != nil {
+		fmt.Fprintf(stderr, "railyard run: %v\n", err)
+		return exitUsage
+	}
+	if tw != nil {
+		saved, err := tw.Save(o.trace, keep.trace...)
+		if err != nil {
+			fmt.Fprintf(stderr, "railyard run: writing the trace: %v\n", err)
+			return exitUsage
+		}
+		if saved.Skipped > 0 {
+			fmt.Fprintf(stderr, "railyard run: %s: %s; it holds the first %d actions, the last %d were not written\n",
+				o.trace, saved.Why, saved.Actions, saved.Skipped)
+		}
+	}
+	if vw != nil {
+		vw.Close()
+		if err := vf.Commit(); err != nil {
+			fmt.Fprintf(stderr, "railyard run: writing the waveform: %v\n", err)
+			return exitUsage
+		}
+	}
+	if !sum.Pass() {
 		return exitFail
 	}
 	return exitOK
+}
+
+// outputKeep are the files each output must keep clear of.
+type outputKeep struct{ trace, vcd []outfile.Keep }
+
+// checkOutputs refuses --trace and --vcd paths that would replace the
+// run's own inputs (the design, its steps), each other, or anything that is
+// not a regular file, before anything is simulated.
+func checkOutputs(files *load.Loader, design string, o runOptions) (outputKeep, error) {
+	inputs := []outfile.Keep{{Path: design, What: "the design"}}
+	st := o.steps
+	if st == "" {
+		st, _ = files.DefaultSteps(design)
+	}
+	if st != "" {
+		inputs = append(inputs, outfile.Keep{Path: st, What: "the steps file"})
+	}
+	k := outputKeep{trace: inputs, vcd: inputs}
+	if o.trace != "" && o.vcd != "" {
+		k.trace = append(slices.Clip(inputs), outfile.Keep{Path: o.vcd, What: "the --vcd output"})
+		k.vcd = append(slices.Clip(inputs), outfile.Keep{Path: o.trace, What: "the --trace output"})
+	}
+	if o.trace != "" {
+		if err := outfile.Check(o.trace, inputs...); err != nil {
+			return k, fmt.Errorf("--trace: %w", err)
+		}
+	}
+	if o.vcd != "" {
+		if err := outfile.Check(o.vcd, k.vcd...); err != nil {
+			return k, fmt.Errorf("--vcd: %w", err)
+		}
+	}
+	return k, nil
 }
 
 // batchDefault is bare `railyard` off a terminal: the demo's batch report,

@@ -6,10 +6,13 @@ import (
 	"fmt"
 	"io"
 	"log/slog"
+	"math"
 	"net"
 	"os"
 	"os/signal"
 	"path/filepath"
+	"strconv"
+	"strings"
 	"syscall"
 	"time"
 
@@ -22,6 +25,7 @@ const serveUsage = `
 usage: railyard serve --authorized-keys FILE --designs DIR [--listen ADDR]
        [--host-key FILE] [--traces DIR] [--max-sessions N] [--idle-timeout D]
        [--max-pending N] [--max-pending-per-addr N] [--handshake-timeout D]
+       [--max-trace SIZE] [--max-wave SIZE]
 
 Serve the explorer over SSH. Designers connect with a plain SSH client and
 a key listed in --authorized-keys (public keys only: no passwords). The SSH
@@ -31,6 +35,12 @@ it), demo:NAME for an embedded demo, nothing for a picker, and
 writes the trace or a VCD under --traces/USER/ with a name the server
 chooses; each session's trace is kept there too. Connections are logged to
 stderr as JSON lines.
+
+Each session's trace is capped at --max-trace: past it later actions are
+not recorded and the explorer says so; what was recorded is still saved
+and replays. A VCD a user saves is capped at --max-wave: past it the save
+is refused. A SIZE is bytes, or a number with K, M or G (1024-based:
+64M is 64 MiB).
 
 A connection has --handshake-timeout to authenticate. Connections not yet
 authenticated are capped per remote address (an IPv6 one by its /64) and in
@@ -58,6 +68,8 @@ var serveFlags = map[string]string{
 	"MaxPendingPerAddr": "--max-pending-per-addr",
 	"HandshakeTimeout":  "--handshake-timeout",
 	"NoAuth":            "--no-auth",
+	"MaxTrace":          "--max-trace",
+	"MaxWave":           "--max-wave",
 }
 
 // serveError says err in flags: a ConfigError's fields become the flags
@@ -102,6 +114,16 @@ func cmdServe(args []string, stdout, stderr io.Writer) int {
 	fs.IntVar(&cfg.MaxPending, "max-pending", sshserve.DefaultMaxPending, "connections not yet authenticated at once (`N`), from all addresses")
 	fs.IntVar(&cfg.MaxPendingPerAddr, "max-pending-per-addr", sshserve.DefaultMaxPendingPerAddr, "connections not yet authenticated at once (`N`) from one remote address")
 	fs.DurationVar(&cfg.HandshakeTimeout, "handshake-timeout", sshserve.DefaultHandshakeTimeout, "time (`D`) from connecting to being authenticated")
+	sizes := []struct {
+		flag string
+		v    *int64
+		text string
+	}{
+		{"max-trace", &cfg.MaxTrace, byteSize(sshserve.DefaultMaxTrace)},
+		{"max-wave", &cfg.MaxWave, byteSize(sshserve.DefaultMaxWave)},
+	}
+	fs.StringVar(&sizes[0].text, sizes[0].flag, sizes[0].text, "cap each session's trace at `SIZE` (bytes, or with K, M, G); later actions are not recorded")
+	fs.StringVar(&sizes[1].text, sizes[1].flag, sizes[1].text, "refuse to save a VCD larger than `SIZE` (bytes, or with K, M, G)")
 	fs.BoolVar(&cfg.NoAuth, "no-auth", false, "let anyone in: only on a loopback address, for trying it out")
 	pos, code := parseArgs(fs, args, stdout, stderr)
 	if code >= 0 {
@@ -124,6 +146,13 @@ func cmdServe(args []string, stdout, stderr io.Writer) int {
 	}
 	if cfg.HandshakeTimeout <= 0 {
 		return usageError(stderr, "serve", "--handshake-timeout must be more than 0")
+	}
+	for _, sz := range sizes {
+		n, err := parseByteSize(sz.text)
+		if err != nil {
+			return usageError(stderr, "serve", "--%s: %v", sz.flag, err)
+		}
+		*sz.v = n
 	}
 	cfg.Logger = slog.New(slog.NewJSONHandler(stderr, nil))
 	srv, err := sshserve.New(cfg)
@@ -162,4 +191,46 @@ func cmdServe(args []string, stdout, stderr io.Writer) int {
 	}
 	<-done
 	return exitOK
+}
+
+// byteSize words n as --max-trace and --max-wave take it: 64M, 512K, or
+// bytes.
+func byteSize(n int64) string {
+	for _, u := range []struct {
+		shift  uint
+		suffix string
+	}{{30, "G"}, {20, "M"}, {10, "K"}} {
+		if n >= 1<<u.shift && n%(1<<u.shift) == 0 {
+			return strconv.FormatInt(n>>u.shift, 10) + u.suffix
+		}
+	}
+	return strconv.FormatInt(n, 10)
+}
+
+// parseByteSize reads a size such as 65536, 512K, 64M, 64MiB or 1G.
+func parseByteSize(s string) (int64, error) {
+	bad := fmt.Errorf("want a size such as 64M, 512K or 1048576 (bytes), got %q", s)
+	t := strings.TrimSpace(s)
+	digits := strings.TrimRight(t, "KMGiBkmgb ")
+	unit := strings.ToUpper(strings.TrimSpace(t[len(digits):]))
+	shift := 0
+	switch unit {
+	case "":
+	case "K", "KIB":
+		shift = 10
+	case "M", "MIB":
+		shift = 20
+	case "G", "GIB":
+		shift = 30
+	default:
+		return 0, bad
+	}
+	n, err := strconv.ParseInt(digits, 10, 64)
+	if err != nil || n <= 0 {
+		return 0, bad
+	}
+	if n > math.MaxInt64>>shift {
+		return 0, fmt.Errorf("%q is too large", s)
+	}
+	return n << shift, nil
 }

@@ -22,7 +22,7 @@ func TestServeLimitFlags(t *testing.T) {
 	}
 	// The documented defaults (README: serving over SSH).
 	for _, want := range []string{"-max-pending N", "(default 64)", "-max-pending-per-addr N", "(default 16)",
-		"-handshake-timeout D", "(default 30s)"} {
+		"-handshake-timeout D", "(default 30s)", "-max-trace SIZE", "-max-wave SIZE", `(default "64M")`} {
 		if !strings.Contains(out, want) {
 			t.Errorf("serve --help does not show %q", want)
 		}
@@ -31,6 +31,10 @@ func TestServeLimitFlags(t *testing.T) {
 		{"--max-pending", "0"}, {"--max-pending", "-3"},
 		{"--max-pending-per-addr", "0"},
 		{"--handshake-timeout", "0s"}, {"--handshake-timeout", "-1s"},
+		{"--max-trace", "0"}, {"--max-trace", "-64M"}, {"--max-trace", "64MB"}, {"--max-trace", "lots"},
+		{"--max-trace", "1.5M"}, {"--max-trace", "99999999999G"},
+		{"--max-trace", "1K"}, // under the smallest cap taken (the server's own check)
+		{"--max-wave", "0"}, {"--max-wave", "12x"}, {"--max-wave", "100"},
 	} {
 		args := append([]string{"serve", "--designs", t.TempDir(), "--no-auth", "--listen", "127.0.0.1:0"}, bad...)
 		code, out, errOut := call(args...)
@@ -109,5 +113,31 @@ func TestServeFlagsAreConfigFields(t *testing.T) {
 	}
 	if len(flags) < 11 {
 		t.Errorf("only %d flags mapped", len(flags))
+	}
+}
+
+func TestParseByteSize(t *testing.T) {
+	for _, c := range []struct {
+		in   string
+		want int64
+	}{
+		{"65536", 65536}, {"512K", 512 << 10}, {"512k", 512 << 10}, {"64M", 64 << 20}, {"64MiB", 64 << 20},
+		{"64 MiB", 64 << 20}, {"1G", 1 << 30}, {"2gib", 2 << 30},
+	} {
+		if got, err := parseByteSize(c.in); err != nil || got != c.want {
+			t.Errorf("parseByteSize(%q) = %d, %v; want %d", c.in, got, err, c.want)
+		}
+	}
+	// MB is refused rather than guessed (1000- or 1024-based).
+	for _, bad := range []string{"", "M", "0", "-1", "64MB", "64 B", "1.5M", "0x10", "8E", "99999999999G"} {
+		if got, err := parseByteSize(bad); err == nil {
+			t.Errorf("parseByteSize(%q) = %d, want an error", bad, got)
+		}
+	}
+	// What --help shows as the default reads back as the same size.
+	for _, n := range []int64{sshserve.DefaultMaxTrace, sshserve.DefaultMaxWave, 3 << 30, 16 << 10, 100000} {
+		if got, err := parseByteSize(byteSize(n)); err != nil || got != n {
+			t.Errorf("%d shown as %q reads back as %d, %v", n, byteSize(n), got, err)
+		}
 	}
 }

@@ -6,7 +6,9 @@ import (
 	"path/filepath"
 	"strings"
 
+	"railyard/switchsim/cardfile"
 	"railyard/switchsim/netfile"
+	"railyard/switchsim/vfile"
 )
 
 // Reader reads one format's bytes into a design; file names the bytes in
@@ -27,8 +29,8 @@ type Format struct {
 // cardfile.Read), which takes the ReadOptions the loader fills.
 var formats = []Format{
 	{Name: "sw", Desc: "railyard designs", Exts: []string{".sw"}, Read: readSW},
-	{Name: "netlist", Desc: "transistor netlist cards", Exts: []string{".sp", ".spice", ".cir", ".cdl", ".net", ".ckt"}},
-	{Name: "verilog", Desc: "IEEE 1364 switch-level modules", Exts: []string{".v", ".vg"}},
+	{Name: "netlist", Desc: "transistor netlist cards", Exts: []string{".sp", ".spice", ".cir", ".cdl", ".net", ".ckt"}, Read: cardfile.ReadWith},
+	{Name: "verilog", Desc: "IEEE 1364 switch-level modules", Exts: []string{".v", ".vg"}, Read: vfile.ReadWith},
 }
 
 func readSW(file string, src []byte, _ netfile.ReadOptions) (*netfile.Design, error) {

@@ -151,7 +151,8 @@ func flatten(file string, p *program, errs *diag.Sink) *switchsim.Netlist {
 // expanded design has.
 func (f *flattener) aliases() {
 	for _, a := range f.p.aliases {
-		node, dev := f.b.HasNode(a.name), f.b.HasDevice(a.name)
+		// The rails are nodes of every design, touched by a device or not.
+		node, dev := f.b.HasNode(a.name) || a.name == f.power || a.name == f.ground, f.b.HasDevice(a.name)
 		switch {
 		case !node && !dev:
 			if !f.p.dropped {

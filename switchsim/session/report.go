@@ -23,39 +23,26 @@ type Summary struct {
 // Pass reports whether every check passed.
 func (m Summary) Pass() bool { return m.Failed == 0 }
 
-// ReportEvents returns the events a batch report covers: the steps applied
-// after the initial settle, or the initial settle alone when no step was
-// applied (a design without steps still gets a report of its resting state).
-func (s *Session) ReportEvents() []*Event {
-	if h := s.History(); len(h) > 1 {
-		return h[1:]
+// add counts one event. A dropped event's checks are gone, so only its
+// failure is counted; the report streams events whole, before any drop.
+func (m *Summary) add(e *Event) {
+	if e.Action.Kind == Step {
+		m.Steps++
 	}
-	return s.History()
-}
-
-// Summarize counts the steps, checks, failures and warnings of events.
-func Summarize(events []*Event) Summary {
-	var m Summary
-	for _, e := range events {
-		if e.Action.Kind == Step {
-			m.Steps++
+	for _, c := range e.Checks {
+		if !IsCheck(c) {
+			continue
 		}
-		for _, c := range e.Checks {
-			if !IsCheck(c) {
-				continue
-			}
-			m.Checks++
-			if !c.Pass {
-				m.Failed++
-			}
+		m.Checks++
+		if !c.Pass {
+			m.Failed++
 		}
-		m.Warnings += len(e.Warnings)
 	}
-	return m
+	if e.dropped && e.failed {
+		m.Failed++
+	}
+	m.Warnings += e.warnings
 }
-
-// IsCheck reports whether a check column checks anything ("-" does not).
-func IsCheck(c CheckResult) bool { return c.Want.String() != "-" }
 
 // Thresholds are a technology's logic thresholds in volts, NaN where unknown.
 type Thresholds struct{ VIL, VIH, VM float64 }
@@ -67,89 +54,180 @@ func TechThresholds(t switchsim.Tech) Thresholds {
 	return Thresholds{vil, vih, vm}
 }
 
-// --- text report ---
+// --- the batch report, text or JSON lines, streamed ---
 
-// WriteText writes the readable batch report: the design, each step with
-// its inputs, rounds, checks and warnings, then a summary.
-func (s *Session) WriteText(w io.Writer) error {
-	bw := bufio.NewWriter(w)
-	nl := s.Netlist()
-	p := func(f string, a ...any) { fmt.Fprintf(bw, f, a...) }
+// Format is a report's form.
+type Format uint8
 
-	p("design %s", s.Design.Name)
+const (
+	Text Format = iota // the readable report
+	JSON               // JSON lines (README, "run --json")
+)
+
+// reportStatesLimit bounds the designs whose text report prints a node line
+// for every step: beyond it the lines would be longer than anyone reads.
+const reportStatesLimit = 20000
+
+// Report writes a batch report as the events come: a header, one part per
+// event Add is given, and the summary at Close. It keeps nothing per
+// event, so a run of any length reports in constant memory.
+type Report struct {
+	s      *Session
+	w      *bufio.Writer
+	format Format
+	shown  []int // the nodes a text report prints per step
+	sum    Summary
+}
+
+// NewReport starts a report of s on w and writes its header.
+func NewReport(w io.Writer, s *Session, format Format) *Report {
+	r := &Report{s: s, w: bufio.NewWriter(w), format: format}
+	if format == JSON {
+		r.jsonHeader()
+	} else {
+		r.textHeader()
+		if s.Netlist().NumNodes() <= reportStatesLimit {
+			r.shown = reportNodes(s.Netlist())
+		}
+	}
+	return r
+}
+
+// Add reports one event; node reads the states just after it (the
+// session's Node while the event is the last, or a Walk's reader).
+func (r *Report) Add(e *Event, node func(n int) switchsim.NodeState) {
+	r.sum.add(e)
+	if r.format == JSON {
+		r.w.WriteString(r.s.eventJSON(e, node))
+		r.w.WriteByte('\n')
+		return
+	}
+	r.textEvent(e, node)
+}
+
+// Close writes the summary, flushes, and returns the summary.
+func (r *Report) Close() (Summary, error) {
+	m := r.sum
+	if r.format == JSON {
+		var sum jsonObject
+		sum.key("steps").num(float64(m.Steps))
+		sum.key("checks").num(float64(m.Checks))
+		sum.key("failed").num(float64(m.Failed))
+		sum.key("warnings").num(float64(m.Warnings))
+		var top jsonObject
+		top.key("summary").raw(sum.close())
+		r.w.WriteString(top.close())
+		r.w.WriteByte('\n')
+	} else {
+		verdict := "PASS"
+		if !m.Pass() {
+			verdict = "FAIL"
+		}
+		fmt.Fprintf(r.w, "\nsummary: %s, %s, %d failed, %s: %s\n", plural(m.Steps, "step"), plural(m.Checks, "check"),
+			m.Failed, plural(m.Warnings, "warning"), verdict)
+	}
+	return m, r.w.Flush()
+}
+
+// WriteText writes the readable batch report of the history in force,
+// re-simulated (see Walk): the design, each step with its inputs, rounds,
+// checks and warnings, then a summary.
+func (s *Session) WriteText(w io.Writer) error { return s.writeReport(w, Text) }
+
+// WriteJSON writes the history in force as JSON lines: the run header, one
+// line per step (the initial settle, as step 0, when no step was applied),
+// and the summary. Keys keep a fixed order so the lines read the same
+// every run.
+func (s *Session) WriteJSON(w io.Writer) error { return s.writeReport(w, JSON) }
+
+// writeReport covers the steps applied after the initial settle, or the
+// initial settle alone when no step was applied (a design without steps
+// still gets a report of its resting state).
+func (s *Session) writeReport(w io.Writer, format Format) error {
+	r := NewReport(w, s, format)
+	alone := s.Len() == 1
+	err := s.Walk(func(e *Event, node func(int) switchsim.NodeState) error {
+		if e.Action.Kind != Start || alone {
+			r.Add(e, node)
+		}
+		return nil
+	})
+	if err != nil {
+		return err
+	}
+	_, err = r.Close()
+	return err
+}
+
+func (r *Report) textHeader() {
+	s, nl := r.s, r.s.Netlist()
+	p := func(f string, a ...any) { fmt.Fprintf(r.w, f, a...) }
+	p("design %s", s.design.Name)
 	if nl.Desc != "" {
 		p(" %s", strconv.Quote(nl.Desc))
 	}
-	p(" (%s)\n", s.DesignPath)
+	p(" (%s)\n", s.designPath)
 	th := TechThresholds(nl.Tech)
-	p("mode %s, tech %s: vdd %s, vil %s, vih %s, vm %s\n", s.Opts.Mode, techName(nl.Tech),
+	p("mode %s, tech %s: vdd %s, vil %s, vih %s, vm %s\n", s.opts.Mode, techName(nl.Tech),
 		voltsText(nl.Tech.Vdd), voltsText(th.VIL), voltsText(th.VIH), voltsText(th.VM))
-	if s.Steps != nil {
-		p("steps %s: %d rows\n", s.StepsPath, s.NumSteps())
+	if s.steps != nil {
+		p("steps %s: %d rows\n", s.stepsPath, s.NumSteps())
 	} else {
 		p("steps none: the report shows the initial settle\n")
 	}
-	if s.Opts.FullSwing {
+	if s.opts.FullSwing {
 		p("full swing: 0 and 1 checks require the strong full-level states\n")
 	}
+}
 
-	events := s.ReportEvents()
-	shown := reportNodes(nl)
-	for _, e := range events {
-		p("\n")
-		switch e.Action.Kind {
-		case Start:
-			p("initial settle: %s\n", plural(e.Rounds, "round"))
-		case Step:
-			p("step %d", e.Action.Step+1)
-			if e.Action.Label != "" {
-				p(" %s", strconv.Quote(e.Action.Label))
-			}
-			p(": %s\n", plural(e.Rounds, "round"))
-			if len(e.Action.Drives) > 0 {
-				p("  apply  ")
-				for i, in := range e.Action.Drives {
-					if i > 0 {
-						p(" ")
-					}
-					p("%s=%s", nl.NodeName(in.Node), in.Drive)
-				}
-				p("\n")
-			}
-		default:
-			p("%s: %s\n", s.ActionString(e.Action), plural(e.Rounds, "round"))
+func (r *Report) textEvent(e *Event, node func(int) switchsim.NodeState) {
+	s, nl := r.s, r.s.Netlist()
+	p := func(f string, a ...any) { fmt.Fprintf(r.w, f, a...) }
+	p("\n")
+	switch e.Action.Kind {
+	case Start:
+		p("initial settle: %s\n", plural(e.Rounds, "round"))
+	case Step:
+		p("step %d", e.Action.Step+1)
+		if e.Action.Label != "" {
+			p(" %s", strconv.Quote(e.Action.Label))
 		}
-		if e.States != nil && len(shown) > 0 {
-			p("  nodes  ")
-			for i, n := range shown {
+		p(": %s\n", plural(e.Rounds, "round"))
+		if len(e.Action.Drives) > 0 {
+			p("  apply  ")
+			for i, in := range e.Action.Drives {
 				if i > 0 {
-					p(", ")
+					p(" ")
 				}
-				p("%s=%s", nl.NodeName(n), stateText(e.States[n]))
+				p("%s=%s", nl.NodeName(in.Node), in.Drive)
 			}
 			p("\n")
 		}
-		for _, c := range e.Checks {
-			if !IsCheck(c) {
-				continue
+	default:
+		p("%s: %s\n", s.ActionString(e.Action), plural(e.Rounds, "round"))
+	}
+	if len(r.shown) > 0 {
+		p("  nodes  ")
+		for i, n := range r.shown {
+			if i > 0 {
+				p(", ")
 			}
-			p("  check  %s want %s got %s  %s\n", nl.NodeName(c.Node), c.Want, stateText(c.Got), passFail(c.Pass))
+			p("%s=%s", nl.NodeName(n), stateText(node(n)))
 		}
-		for _, wr := range e.Warnings {
-			p("  warn   %s: %s\n", wr.Kind, wr.Message)
-		}
-		if e.Oscillated {
-			p("  the settle reached the round limit (%d): the nodes still changing were set to X\n", s.Sim.RoundLimit())
-		}
+		p("\n")
 	}
-	m := Summarize(events)
-	verdict := "PASS"
-	if !m.Pass() {
-		verdict = "FAIL"
+	for _, c := range e.Checks {
+		if !IsCheck(c) {
+			continue
+		}
+		p("  check  %s want %s got %s  %s\n", nl.NodeName(c.Node), c.Want, stateText(c.Got), passFail(c.Pass))
 	}
-	p("\nsummary: %s, %s, %d failed, %s: %s\n", plural(m.Steps, "step"), plural(m.Checks, "check"),
-		m.Failed, plural(m.Warnings, "warning"), verdict)
-	return bw.Flush()
+	for _, wr := range e.Warnings {
+		p("  warn   %s: %s\n", wr.Kind, wr.Message)
+	}
+	if e.Oscillated {
+		p("  the settle reached the round limit (%d): the nodes still changing were set to X\n", s.RoundLimit())
+	}
 }
 
 // reportNodes are the nodes a text report prints for every step: the
@@ -202,39 +280,16 @@ func plural(n int, word string) string {
 	return strconv.Itoa(n) + " " + word + "s"
 }
 
-// --- JSON report (FORMAT.md "run --json") ---
+// --- JSON lines (README, "run --json") ---
 
-// WriteJSON writes the run as JSON lines: the run header, one line per
-// step (the initial settle, as step 0, when no step was applied), and the
-// summary. Keys keep a fixed order so the lines read the same every run.
-func (s *Session) WriteJSON(w io.Writer) error {
-	bw := bufio.NewWriter(w)
-	nl := s.Netlist()
-
+func (r *Report) jsonHeader() {
+	s, nl := r.s, r.s.Netlist()
 	var o jsonObject
-	o.key("design").str(s.Design.Name)
-	o.key("mode").str(s.Opts.Mode.String())
+	o.key("design").str(s.design.Name)
+	o.key("mode").str(s.opts.Mode.String())
 	o.key("tech").raw(techJSON(nl.Tech))
-	bw.WriteString(o.close())
-	bw.WriteByte('\n')
-
-	events := s.ReportEvents()
-	for _, e := range events {
-		bw.WriteString(s.eventJSON(e))
-		bw.WriteByte('\n')
-	}
-
-	m := Summarize(events)
-	var sum jsonObject
-	sum.key("steps").num(float64(m.Steps))
-	sum.key("checks").num(float64(m.Checks))
-	sum.key("failed").num(float64(m.Failed))
-	sum.key("warnings").num(float64(m.Warnings))
-	var top jsonObject
-	top.key("summary").raw(sum.close())
-	bw.WriteString(top.close())
-	bw.WriteByte('\n')
-	return bw.Flush()
+	r.w.WriteString(o.close())
+	r.w.WriteByte('\n')
 }
 
 // techJSON holds vdd and the thresholds first (null where unknown), then
@@ -257,7 +312,7 @@ func techJSON(t switchsim.Tech) string {
 	return o.close()
 }
 
-func (s *Session) eventJSON(e *Event) string {
+func (s *Session) eventJSON(e *Event, node func(int) switchsim.NodeState) string {
 	nl := s.Netlist()
 	var o jsonObject
 	step := 0
@@ -287,7 +342,7 @@ func (s *Session) eventJSON(e *Event) string {
 		if k == switchsim.Power || k == switchsim.Ground {
 			continue
 		}
-		st := s.stateAt(e, n)
+		st := node(n)
 		var ns jsonObject
 		ns.key("state").str(st.State.String())
 		ns.key("value").str(st.Value.String())
@@ -322,16 +377,6 @@ func (s *Session) eventJSON(e *Event) string {
 	}
 	o.key("warnings").raw(warns.close())
 	return o.close()
-}
-
-// stateAt is node n's state after event e: from the event's kept states,
-// else (a design too large to keep them) the present state, which is the
-// same for the last event.
-func (s *Session) stateAt(e *Event, n int) switchsim.NodeState {
-	if e.States != nil {
-		return e.States[n]
-	}
-	return s.Sim.Node(n)
 }
 
 // roundVolts keeps a tenth of a millivolt: the estimates are first order,
@@ -394,6 +439,3 @@ func jsonString(s string) string {
 	b, _ := json.Marshal(s) // a string always marshals
 	return string(b)
 }
-
-// MaxDifferences is the most differences a replay lists.
-const MaxDifferences = maxDifferences

@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"encoding/json"
 	"fmt"
+	"io"
 	"math"
 	"sort"
 	"strings"
@@ -71,10 +72,10 @@ func checkSchema(t *testing.T, s *session.Session, lines []map[string]any) {
 	if keys(h) != "design mode tech" {
 		t.Errorf("header keys %q, want design mode tech", keys(h))
 	}
-	if h["design"] != s.Design.Name {
-		t.Errorf("design %v, want %q", h["design"], s.Design.Name)
+	if h["design"] != s.Design().Name {
+		t.Errorf("design %v, want %q", h["design"], s.Design().Name)
 	}
-	if h["mode"] != s.Opts.Mode.String() || !oneOf(h["mode"], "physical ideal") {
+	if h["mode"] != s.Options().Mode.String() || !oneOf(h["mode"], "physical ideal") {
 		t.Errorf("mode %v", h["mode"])
 	}
 	tech, ok := h["tech"].(map[string]any)
@@ -162,7 +163,7 @@ func checkSchema(t *testing.T, s *session.Session, lines []map[string]any) {
 			if ns["volts"] != nil && !isNumber(ns["volts"]) {
 				t.Errorf("node %s volts %v, want a number or null", name, ns["volts"])
 			}
-			if s.Opts.Mode == switchsim.Ideal && ns["volts"] != nil {
+			if s.Options().Mode == switchsim.Ideal && ns["volts"] != nil {
 				t.Errorf("node %s has volts %v in ideal mode (FORMAT.md: null)", name, ns["volts"])
 			}
 			// A floating node is state Z (MODEL.md §2).
@@ -281,7 +282,11 @@ func TestSummarizeSkipsDontCare(t *testing.T) {
 		t.Fatal(err)
 	}
 	s.RunToEnd(false)
-	m := session.Summarize(s.ReportEvents())
+	r := session.NewReport(io.Discard, s, session.Text)
+	for _, e := range s.History()[1:] {
+		r.Add(e, s.Node)
+	}
+	m, _ := r.Close()
 	if m.Steps != 2 || m.Checks != 3 || m.Failed != 0 {
 		t.Errorf("summary %+v, want 2 steps, 3 checks, 0 failed", m)
 	}
@@ -289,4 +294,14 @@ func TestSummarizeSkipsDontCare(t *testing.T) {
 	if n := len(lines[1]["checks"].([]any)); n != 1 {
 		t.Errorf("step 1 lists %d checks, want 1 (the - column is no check)", n)
 	}
+}
+
+func runSession(t *testing.T, design string, mode switchsim.Mode) *session.Session {
+	t.Helper()
+	s, err := session.Open(design, "", session.Options{Mode: mode})
+	if err != nil {
+		t.Fatal(err)
+	}
+	s.RunToEnd(false)
+	return s
 }

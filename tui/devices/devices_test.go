@@ -21,7 +21,7 @@ func table(s *session.Session, w, h int) Model {
 	m.SetSize(w, h)
 	cond := make([]switchsim.Conduction, nl.NumDevices())
 	for d := range cond {
-		cond[d] = s.Sim.Conduction(d)
+		cond[d] = s.Conduction(d)
 	}
 	st := paneltest.States(s)
 	m.SetStates(cond, st, st[nl.Power()].Volts)
@@ -160,7 +160,7 @@ func TestGolden(t *testing.T) {
 	s.Next()
 	s.Next()
 	nl := s.Netlist()
-	e := s.Sim.Explain(paneltest.Node(t, nl, "s_b"))
+	e := s.Explain(paneltest.Node(t, nl, "s_b"))
 	group := make([]bool, nl.NumDevices())
 	for _, d := range e.Devices {
 		group[d] = true

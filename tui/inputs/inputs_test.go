@@ -28,7 +28,7 @@ func sync(m *Model, s *session.Session) {
 	ins := s.Netlist().Inputs()
 	drives := make([]switchsim.Drive, len(ins))
 	for i, n := range ins {
-		drives[i] = s.Sim.InputDrive(n)
+		drives[i] = s.InputDrive(n)
 	}
 	m.SetStates(drives, paneltest.States(s), nil)
 }

@@ -34,12 +34,15 @@ func settleOf(s *session.Session) Settle {
 	hist := s.History()
 	e := s.Last()
 	st := Settle{Title: "the last action", Rounds: e.Rounds, Oscillated: e.Oscillated}
-	if len(hist) > 1 {
-		st.Before = hist[len(hist)-2].States
+	if len(hist) > 1 { // the state before each change, as the root model gives it
+		st.Before = make([]switchsim.NodeState, s.Netlist().NumNodes())
+		for _, c := range e.Changes {
+			st.Before[c.Node].State = c.Was
+		}
 	}
 	cond := make([]switchsim.Conduction, s.Netlist().NumDevices())
 	for d := range cond {
-		cond[d] = s.Sim.Conduction(d)
+		cond[d] = s.Conduction(d)
 	}
 	for _, c := range e.Changes {
 		st.Changes = append(st.Changes, Change{Round: c.Round, Node: c.Node, State: c.State, Volts: c.Volts, Delay: c.Delay})

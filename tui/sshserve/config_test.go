@@ -44,6 +44,9 @@ func TestConfigErrorsNameTheField(t *testing.T) {
 		{"idle", "IdleTimeout", "", func(c *Config) { c.IdleTimeout = -1 }},
 		{"handshake", "HandshakeTimeout", "", func(c *Config) { c.HandshakeTimeout = -1 }},
 		{"design bytes", "MaxDesignBytes", "", func(c *Config) { c.MaxDesignBytes = -1 }},
+		{"trace cap", "MaxTrace", "", func(c *Config) { c.MaxTrace = -1 }},
+		{"tiny trace cap", "MaxTrace", "", func(c *Config) { c.MaxTrace = MinFileCap - 1 }},
+		{"wave cap", "MaxWave", "", func(c *Config) { c.MaxWave = 100 }},
 		{"both", "NoAuth", "AuthorizedKeys", func(c *Config) { c.NoAuth = true }},
 		{"no keys", "AuthorizedKeys", "", func(c *Config) { c.AuthorizedKeys = "" }},
 		{"missing keys", "AuthorizedKeys", "", func(c *Config) { c.AuthorizedKeys = filepath.Join(dir, "nokeys") }},
@@ -141,5 +144,21 @@ func TestHostKeyFileIsBounded(t *testing.T) {
 	}
 	if _, _, err := loadOrCreateHostKey(os.DevNull); err == nil || !strings.Contains(err.Error(), "not a regular file") {
 		t.Errorf("%s as the host key: %v, want a refusal", os.DevNull, err)
+	}
+}
+
+func TestFileCapsDefaults(t *testing.T) {
+	dir := t.TempDir()
+	cfg := goodConfig(t, dir)
+	srv, err := New(cfg)
+	must(t, err)
+	if srv.cfg.MaxTrace != DefaultMaxTrace || srv.cfg.MaxWave != DefaultMaxWave {
+		t.Errorf("caps %d, %d; want the defaults %d, %d", srv.cfg.MaxTrace, srv.cfg.MaxWave, DefaultMaxTrace, DefaultMaxWave)
+	}
+	cfg.MaxTrace, cfg.MaxWave = MinFileCap, MinFileCap
+	srv, err = New(cfg)
+	must(t, err)
+	if srv.cfg.MaxTrace != MinFileCap || srv.cfg.MaxWave != MinFileCap {
+		t.Errorf("caps %d, %d; want the smallest taken, %d", srv.cfg.MaxTrace, srv.cfg.MaxWave, MinFileCap)
 	}
 }

@@ -24,6 +24,15 @@
 // a name the server chooses. At its end a session's whole trace is kept
 // there too.
 //
+// What a session writes is bounded. Its trace streams to a spool in
+// Traces/USER (the disk its saves take; the spool has no name once open and
+// is closed when the session ends) under Config.MaxTrace; when the cap is
+// reached the host model sends the explorer a tui.Notice, which says so on
+// the status line and marks the header, and logs it once. A VCD, written
+// from the history when saved, is refused past Config.MaxWave. Close and
+// Shutdown wait for the sessions' last saves, so a stopped server leaves no
+// file half written.
+//
 // Shared viewing publishes frames, not state: the host's root model hands
 // every frame it renders (its View string) to a hub, and a viewer's program
 // only ever draws the latest frame it got. A viewer holds no reference to

@@ -10,6 +10,7 @@ import (
 
 	"railyard/designs"
 	"railyard/switchsim/session"
+	"railyard/switchsim/trace"
 )
 
 // opselDesign is an operand selector bit of this project's own: pick chooses
@@ -178,22 +179,43 @@ func TestExplorerTraceIsSavedAndReplays(t *testing.T) {
 		}
 	}
 	p := filepath.Join(ts.dir, "traces", filepath.FromSlash(shown))
-	f, err := os.Open(p)
+	src, err := os.ReadFile(p)
 	must(t, err)
-	defer f.Close()
-	tr, err := session.ReadTrace(p, f)
+	_, acts, err := trace.ReadAll(p, src)
 	must(t, err)
 	// Start, then the one toggle: pick driven 0.
-	if len(tr.Actions) != 2 || tr.Actions[1].Kind != session.Set || tr.Actions[1].Set != [2]string{"pick", "0"} {
-		t.Fatalf("trace actions %+v, want start then set pick 0", tr.Actions)
+	if len(acts) != 2 || acts[1].Kind != session.Set || acts[1].Set != [2]string{"pick", "0"} {
+		t.Fatalf("trace actions %+v, want start then set pick 0", acts)
 	}
-	rep, err := session.Replay(tr)
+	// The trace names the design relative to the designs folder.
+	if !strings.Contains(string(src), "\ndesign opsel.sw\n") {
+		t.Errorf("the trace does not name the design as opsel.sw:\n%s", src)
+	}
+	// The designs folder copied to a designer's own machine (another
+	// folder), the trace moved there too: it replays with --designs.
+	elsewhere := t.TempDir()
+	copied := filepath.Join(elsewhere, "my-cells")
+	must(t, os.Mkdir(copied, 0o755))
+	ents, err := os.ReadDir(filepath.Join(ts.dir, "designs"))
 	must(t, err)
-	if !rep.Match() {
-		t.Errorf("the saved trace does not replay: %v", rep.Differences)
+	for _, e := range ents {
+		b, err := os.ReadFile(filepath.Join(ts.dir, "designs", e.Name()))
+		must(t, err)
+		must(t, os.WriteFile(filepath.Join(copied, e.Name()), b, 0o644))
 	}
+	moved := filepath.Join(elsewhere, "alice.trace")
+	must(t, os.WriteFile(moved, src, 0o644))
+	rep, err := trace.Replay(moved, strings.NewReader(string(src)), trace.ReplayOptions{Designs: copied})
+	must(t, err)
+	if !rep.Match() || rep.Design != filepath.Join(copied, "opsel.sw") {
+		t.Errorf("the saved trace does not replay from the copy: design %s, %v", rep.Design, rep.Differences)
+	}
+	// End the session: the end keeps the same file; let that save finish
+	// before the test's folder is removed.
 	tm.send("q")
-	tm.waitFor("railyard: trace saved as " + shown) // the end keeps the same file
+	tm.waitFor("railyard: trace saved as " + shown)
+	tm.exit()
+	ts.waitLog(t, "session end", map[string]any{"user": "alice"})
 }
 
 func TestExplorerRefusesBadDesignWithoutServerPaths(t *testing.T) {

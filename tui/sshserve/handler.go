@@ -52,6 +52,11 @@ func (s *Server) handle(next ssh.Handler) ssh.Handler {
 
 // serveHost runs the picker (name empty) or an explorer on the named design.
 func (s *Server) serveHost(sess ssh.Session, v *visit, name string) {
+	if !s.hostStarted() {
+		fail(sess, v, "closing", "the server is stopping")
+		return
+	}
+	defer s.hosts.Done()
 	pty, _, _ := sess.Pty()
 	noColor, ascii := clientLooks(sess, pty.Term)
 	w, h := windowSize(pty.Window)
@@ -275,7 +280,9 @@ type hostModel struct {
 	files  *saves // where its files go, once a design is open
 	saved  string // the trace kept at the end, as the user reads it
 	notice string
-	failed atomic.Bool
+	// traceFull: the user was told that the trace stopped recording.
+	traceFull bool
+	failed    atomic.Bool
 }
 
 // open resolves name, registers a joinable session and builds the explorer.
@@ -292,7 +299,8 @@ func (m *hostModel) open(name string) error {
 	}
 	req := ExplorerRequest{Name: t.Name, Design: t.Design, Steps: t.Steps, Files: t.Files,
 		Width: m.width, Height: m.height, NoColor: m.noColor, ASCII: m.ascii,
-		Renderer: m.renderer(), Banner: "session " + h.ID, Save: files.save}
+		Renderer: m.renderer(), Banner: "session " + h.ID, Save: files.save,
+		MaxTrace: m.srv.cfg.MaxTrace, TraceDir: files.dir}
 	m.notice = fmt.Sprintf("session %s: others watch with 'join %s'", h.ID, h.ID)
 	if files.dir != "" {
 		m.notice += fmt.Sprintf("; s saves to %s/", diag.Printable(m.sess.User()))
@@ -300,6 +308,11 @@ func (m *hostModel) open(name string) error {
 	inner, err := m.build(req)
 	if err != nil {
 		m.srv.registry.remove(h)
+		var ke *keeperError
+		if errors.As(err, &ke) {
+			m.srv.log.Error("explorer refused", "user", diag.Printable(m.sess.User()), "design", diag.Printable(t.Name),
+				"session", h.ID, "error", diag.Printable(ke.err.Error()))
+		}
 		// Never show the server's own paths.
 		msg := strings.ReplaceAll(err.Error(), m.srv.catalog.root+string(filepath.Separator), "")
 		return fmt.Errorf("%s: %s", t.Name, msg)
@@ -307,7 +320,52 @@ func (m *hostModel) open(name string) error {
 	m.inner, m.host, m.picker, m.files = inner, h, nil, files
 	m.v.set(func(v *visit) { v.kind, v.design, v.id = "explorer", diag.Printable(t.Name), h.ID })
 	m.srv.log.Info("design opened", "user", diag.Printable(m.sess.User()), "design", diag.Printable(t.Name), "session", h.ID)
+	// The first settle alone can fill a small cap.
+	m.watchTrace()
 	return nil
+}
+
+// traceWatcher is an explorer whose trace can stop recording (the railyard
+// explorer: its trace.Writer reached the server's cap).
+type traceWatcher interface {
+	TraceFull() (capped bool, why string)
+}
+
+// watchTrace tells the user, once, that the session's trace has stopped
+// recording, and logs it. It runs after every message the explorer takes,
+// as every action is recorded while the explorer handles its message.
+func (m *hostModel) watchTrace() tea.Cmd {
+	tw, ok := m.inner.(traceWatcher)
+	if m.traceFull || !ok {
+		return nil
+	}
+	capped, why := tw.TraceFull()
+	if !capped {
+		return nil
+	}
+	m.traceFull = true
+	max := m.srv.cfg.MaxTrace
+	m.srv.log.Warn("trace full", "event", "trace-full", "user", diag.Printable(m.sess.User()),
+		"session", m.host.ID, "size", max, "reason", diag.Printable(why))
+	next, cmd := m.inner.Update(traceFullNotice(why, max, m.files.dir != ""))
+	m.inner = next
+	return cmd
+}
+
+// traceFullNotice words a stopped trace for the status line, and marks the
+// header for the rest of the session. The trace says why it stopped: its
+// cap (trace.Writer), or, rarely, an action with a line longer than a
+// trace may hold.
+func traceFullNotice(why string, max int64, keeps bool) tui.Notice {
+	n := tui.Notice{Text: "trace full at " + diag.SizeString(int(max)), Mark: "trace full"}
+	if !strings.Contains(why, "cap of") {
+		n = tui.Notice{Text: "trace stopped (" + why + ")", Mark: "trace stopped"}
+	}
+	n.Text += ": later actions are not recorded"
+	if keeps {
+		n.Text += "; save now keeps what was recorded"
+	}
+	return n
 }
 
 // build calls the Explorer hook, turning its panics into errors.
@@ -321,8 +379,15 @@ func (m *hostModel) build(req ExplorerRequest) (model tea.Model, err error) {
 	return m.srv.cfg.Explorer(req)
 }
 
-// end unregisters the joinable session, which tells viewers it has ended.
+// end releases what the explorer holds (its trace's spool, after the last
+// save) and unregisters the joinable session, which tells viewers it has
+// ended.
 func (m *hostModel) end() {
+	if c, ok := m.inner.(io.Closer); ok {
+		if err := c.Close(); err != nil {
+			m.srv.log.Warn("explorer close", "user", m.v.user, "session", m.host.ID, "error", diag.Printable(err.Error()))
+		}
+	}
 	if m.host != nil {
 		m.srv.registry.remove(m.host)
 	}
@@ -391,6 +456,9 @@ func (m *hostModel) Update(msg tea.Msg) (model tea.Model, cmd tea.Cmd) {
 		var next tea.Model
 		next, cmd = m.inner.Update(msg)
 		m.inner = next
+		if c := m.watchTrace(); c != nil {
+			cmd = tea.Batch(cmd, c)
+		}
 		return m, guardCmd(m, cmd)
 	}
 	if c, ok := msg.(choose); ok {

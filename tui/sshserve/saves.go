@@ -75,7 +75,29 @@ func (f *saves) shown(kind tui.SaveKind) string {
 	return diag.Printable(f.user) + "/" + f.name(kind)
 }
 
+// errWaveCap is what writing a VCD past the server's cap meets.
+var errWaveCap = errors.New("the VCD passed the server's cap")
+
+// capWriter passes at most left bytes on, then fails with errWaveCap.
+type capWriter struct {
+	w    io.Writer
+	left int64
+}
+
+func (c *capWriter) Write(p []byte) (int, error) {
+	if int64(len(p)) > c.left {
+		c.left = -1
+		return 0, errWaveCap
+	}
+	c.left -= int64(len(p))
+	return c.w.Write(p)
+}
+
 // save is the explorer's tui.SaveFunc, and what keeps the trace at the end.
+// A VCD is written from the session's whole history and grows with it, so
+// it is capped (Config.MaxWave): past the cap the save is refused, and
+// nothing is written (the temporary file is removed); the trace has a cap
+// of its own and is always saved.
 func (f *saves) save(kind tui.SaveKind, write func(io.Writer) error) (string, error) {
 	if f.dir == "" {
 		return "", errNoFiles
@@ -83,9 +105,19 @@ func (f *saves) save(kind tui.SaveKind, write func(io.Writer) error) (string, er
 	shown := f.shown(kind)
 	var werr error
 	_, err := tui.SaveInDir(f.dir, f.name)(kind, func(w io.Writer) error {
+		if kind == tui.SaveVCD {
+			w = &capWriter{w: w, left: f.srv.cfg.MaxWave}
+		}
 		werr = write(w)
 		return werr
 	})
+	if err != nil && errors.Is(werr, errWaveCap) {
+		max := f.srv.cfg.MaxWave
+		f.srv.log.Warn("save refused", "event", "wave-cap", "user", diag.Printable(f.user), "session", f.session,
+			"kind", kind.String(), "size", max)
+		return "", fmt.Errorf("it would pass this server's cap of %s for a VCD, so nothing was written (s saves the trace, which replays the session)",
+			diag.SizeString(int(max)))
+	}
 	if err != nil {
 		if werr != nil {
 			err = werr

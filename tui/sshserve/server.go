@@ -8,6 +8,7 @@ import (
 	"log/slog"
 	"net"
 	"os"
+	"sync"
 	"time"
 
 	tea "github.com/charmbracelet/bubbletea"
@@ -26,6 +27,16 @@ const (
 	DefaultListen      = "127.0.0.1:2222"
 	DefaultMaxSessions = 16
 	DefaultIdleTimeout = 15 * time.Minute
+	// DefaultMaxTrace caps each served session's trace, DefaultMaxWave a
+	// VCD a served user saves. A toggle of a six-device operand selector
+	// writes some 75 bytes of trace, so 64 MiB is some 900,000 of them; a
+	// toggle that changes every node of a 38,000-device design writes
+	// some 0.9 MB, so 64 MiB is some 70 (README, "Limits").
+	DefaultMaxTrace = 64 << 20
+	DefaultMaxWave  = 64 << 20
+	// MinFileCap is the smallest MaxTrace or MaxWave taken: room for a
+	// trace's header and a small cell's first actions.
+	MinFileCap = 16 << 10
 )
 
 // The limits before authentication (MaxPending, MaxPendingPerAddr,
@@ -41,7 +52,18 @@ type Config struct {
 	Designs        string // the folder of .sw designs served
 	// Traces is where files are kept: what users save, and each session's
 	// whole trace, go under Traces/USER/; nothing is kept when empty.
-	Traces      string
+	Traces string
+	// MaxTrace caps each session's trace (trace.Options.MaxBytes): once
+	// the next action would pass it, later actions are not recorded, the
+	// explorer says so and the log has a "trace full" line; what was
+	// recorded is still saved and replays. DefaultMaxTrace when 0, at least
+	// MinFileCap.
+	MaxTrace int64
+	// MaxWave caps a VCD a user saves (it is written from the session's
+	// whole history, so it grows with the session): a save that would pass
+	// it is refused and nothing is written. DefaultMaxWave when 0, at least
+	// MinFileCap.
+	MaxWave     int64
 	MaxSessions int // open sessions (explorers, viewers, pickers) at once; DefaultMaxSessions when 0
 	// IdleTimeout closes a session after this long without input (a viewer:
 	// without input from it or its host); 0 never does.
@@ -83,9 +105,15 @@ type ExplorerRequest struct {
 	// under Traces/USER/ with a name the server chooses, or, when the
 	// server keeps no files, an error saying so. Never nil: a served
 	// explorer must not fall back to asking for a path.
-	Save    tui.SaveFunc
-	NoColor bool // the client asked for NO_COLOR
-	ASCII   bool // the client's terminal is not UTF-8 capable
+	Save tui.SaveFunc
+	// MaxTrace is the session's trace cap (Config.MaxTrace), TraceDir the
+	// folder its spool lives in while the session runs: Traces/USER, the
+	// disk its saves go to, or "" (the system's temporary folder) when the
+	// server keeps no files.
+	MaxTrace int64
+	TraceDir string
+	NoColor  bool // the client asked for NO_COLOR
+	ASCII    bool // the client's terminal is not UTF-8 capable
 	// Renderer renders styles for this client's terminal.
 	Renderer *lipgloss.Renderer
 }
@@ -124,7 +152,17 @@ type Server struct {
 	catalog  *catalog
 	registry *registry
 	gate     *pendingGate
+
+	// The host sessions running, so that Close and Shutdown can wait for
+	// their last saves (a session keeps its trace as it ends): hosts is
+	// added to under mu only while the server is not closing.
+	mu      sync.Mutex
+	closing bool
+	hosts   sync.WaitGroup
 }
+
+// closeWait bounds how long Close waits for the sessions' last saves.
+const closeWait = 10 * time.Second
 
 // New checks a Config, loads or creates the host key, reads the authorised
 // keys and builds the server. Nothing listens until Serve.
@@ -156,6 +194,21 @@ func New(cfg Config) (*Server, error) {
 	}
 	if cfg.HandshakeTimeout < 0 {
 		return nil, configError("HandshakeTimeout", "must be positive, got %s", cfg.HandshakeTimeout)
+	}
+	for _, c := range []struct {
+		v     *int64
+		def   int64
+		field string
+	}{
+		{&cfg.MaxTrace, DefaultMaxTrace, "MaxTrace"},
+		{&cfg.MaxWave, DefaultMaxWave, "MaxWave"},
+	} {
+		if *c.v == 0 {
+			*c.v = c.def
+		}
+		if *c.v < MinFileCap {
+			return nil, configError(c.field, "must be at least %s, got %d bytes", diag.SizeString(MinFileCap), *c.v)
+		}
 	}
 	if cfg.MaxDesignBytes == 0 {
 		cfg.MaxDesignBytes = int64(netfile.DefaultLimits().FileSize)
@@ -269,7 +322,8 @@ func (s *Server) Serve(ln net.Listener) error {
 		"host_key", gossh.FingerprintSHA256(s.hostKey.PublicKey()), "auth", s.authName(),
 		"max_sessions", s.cfg.MaxSessions, "idle_timeout", s.cfg.IdleTimeout.String(),
 		"max_pending", s.cfg.MaxPending, "max_pending_per_addr", s.cfg.MaxPendingPerAddr,
-		"handshake_timeout", s.cfg.HandshakeTimeout.String())
+		"handshake_timeout", s.cfg.HandshakeTimeout.String(),
+		"max_trace", s.cfg.MaxTrace, "max_wave", s.cfg.MaxWave)
 	err := s.srv.Serve(ln)
 	if errors.Is(err, ssh.ErrServerClosed) {
 		return nil
@@ -277,11 +331,54 @@ func (s *Server) Serve(ln net.Listener) error {
 	return err
 }
 
-// Close stops listening and closes every connection.
-func (s *Server) Close() error { return s.srv.Close() }
+// Close stops listening, closes every connection and waits (closeWait at
+// most) for the sessions to keep their traces and release their spools, so
+// that a server stopped leaves no file half written.
+func (s *Server) Close() error {
+	err := s.srv.Close()
+	ctx, cancel := context.WithTimeout(context.Background(), closeWait)
+	defer cancel()
+	s.waitHosts(ctx)
+	return err
+}
 
-// Shutdown stops listening and waits for the open sessions to end.
-func (s *Server) Shutdown(ctx context.Context) error { return s.srv.Shutdown(ctx) }
+// Shutdown stops listening and waits for the open sessions to end and keep
+// their traces.
+func (s *Server) Shutdown(ctx context.Context) error {
+	if err := s.srv.Shutdown(ctx); err != nil {
+		return err
+	}
+	return s.waitHosts(ctx)
+}
+
+// hostStarted counts a host session in, unless the server is closing.
+func (s *Server) hostStarted() bool {
+	s.mu.Lock()
+	defer s.mu.Unlock()
+	if s.closing {
+		return false
+	}
+	s.hosts.Add(1)
+	return true
+}
+
+// waitHosts refuses new host sessions and waits for the running ones to end.
+func (s *Server) waitHosts(ctx context.Context) error {
+	s.mu.Lock()
+	s.closing = true
+	s.mu.Unlock()
+	done := make(chan struct{})
+	go func() {
+		s.hosts.Wait()
+		close(done)
+	}()
+	select {
+	case <-done:
+		return nil
+	case <-ctx.Done():
+		return ctx.Err()
+	}
+}
 
 // HostKey is the server's public host key (for known_hosts).
 func (s *Server) HostKey() gossh.PublicKey { return s.hostKey.PublicKey() }

@@ -56,10 +56,16 @@ func DefaultStyles(t *theme.Theme) Styles {
 
 // Column is one action of the history in force.
 type Column struct {
-	Mark   string // one cell: "0" for the start, the step's last digit, the theme's Set glyph for a set
-	States []switchsim.NodeState
+	Mark string // one cell: "0" for the start, the step's last digit, the theme's Set glyph for a set
+	// States are the watched nodes' states after the action, in the order
+	// of SetWatched (session.Track); nil or session.Unknown (255) where the
+	// session no longer knows them.
+	States []switchsim.State
 	Failed bool
 }
+
+// none marks a state not known (the value of session.Unknown).
+const none = switchsim.State(255)
 
 // Model is the timeline.
 type Model struct {
@@ -173,8 +179,11 @@ func (m *Model) View() string {
 	}
 	start := max(end-ncols+1, 0)
 	info := fmt.Sprintf("%d actions", len(m.cols))
-	if len(m.cols) > 0 && m.cols[len(m.cols)-1].States == nil {
-		info += " (states not kept for a design this large: blank)"
+	for c := start; c <= end && c < len(m.cols); c++ {
+		if st := m.cols[c].States; len(st) > 0 && st[0] == none {
+			info += " (blank: states dropped for the memory budget)"
+			break
+		}
 	}
 	if start > 0 || end < len(m.cols)-1 {
 		info += fmt.Sprintf(", showing %d-%d", start, end)
@@ -197,7 +206,6 @@ func (m *Model) View() string {
 	lines = append(lines, st.Header.Render(marks.String()))
 	lo, hi := m.cur.Window()
 	for i := lo; i < hi; i++ {
-		n := m.watched[i]
 		var b strings.Builder
 		name := theme.Pad(t.Clip(labels[i], nameW), nameW)
 		if i == m.cur.Pos && m.focused {
@@ -206,9 +214,8 @@ func (m *Model) View() string {
 			b.WriteString("  " + name + " ")
 		}
 		// runs of one state are drawn together: one style switch per run
-		// (a column without states, from a design too large to keep them,
-		// is drawn blank rather than as a state it did not have)
-		const none = switchsim.State(255)
+		// (a column whose states the session dropped is drawn blank rather
+		// than as a state it did not have)
 		wave := func(s switchsim.State, n int) string {
 			if s == none {
 				return strings.Repeat(" ", n)
@@ -219,8 +226,8 @@ func (m *Model) View() string {
 		run := 0
 		for c := start; c <= end; c++ {
 			s := none
-			if n < len(m.cols[c].States) {
-				s = m.cols[c].States[n].State
+			if i < len(m.cols[c].States) {
+				s = m.cols[c].States[i]
 			}
 			if run > 0 && s != last {
 				b.WriteString(wave(last, run*cell))

@@ -28,9 +28,7 @@ func TestWaveform(t *testing.T) {
 	m := New(panel.NewNames(nl), DefaultStyles(th))
 	m.SetSize(40, 8)
 	col := func(s switchsim.State) Column {
-		st := make([]switchsim.NodeState, nl.NumNodes())
-		st[a].State = s
-		return Column{Mark: "+", States: st}
+		return Column{Mark: "+", States: []switchsim.State{s}} // one per watched node
 	}
 	m.SetColumns([]Column{col(switchsim.StateX), col(switchsim.State0), col(switchsim.State1), col(switchsim.StateZ), {Mark: "+"}})
 	m.SetWatched([]int{a})

@@ -17,7 +17,7 @@ func inspector(s *session.Session, n int, w, h int, extra []string) Model {
 	m.SetSize(w, h)
 	if n >= 0 {
 		st := paneltest.States(s)
-		m.Set(s.Sim.Explain(n), st, st[s.Netlist().Power()].Volts, extra)
+		m.Set(s.Explain(n), st, st[s.Netlist().Power()].Volts, extra)
 	}
 	return m
 }
@@ -71,7 +71,7 @@ func TestFightWithGateVolts(t *testing.T) {
 	s.Next()
 	nl := s.Netlist()
 	v := inspector(s, paneltest.Node(t, nl, "s_b"), 100, 20, nil).View()
-	sv := fmt.Sprintf("%.2f", s.Sim.Node(paneltest.Node(t, nl, "s")).Volts)
+	sv := fmt.Sprintf("%.2f", s.Node(paneltest.Node(t, nl, "s")).Volts)
 	if !strings.Contains(v, "fwd.p pmos gate s=0 ("+sv+" V)") {
 		t.Errorf("s_b: fwd.p's gate s at %s V is not shown:\n%s", sv, v)
 	}
@@ -105,11 +105,11 @@ func TestScroll(t *testing.T) {
 		t.Errorf("end:\n%s", v)
 	}
 	st := paneltest.States(s)
-	m.Set(s.Sim.Explain(n), st, st[nl.Power()].Volts, extra)
+	m.Set(s.Explain(n), st, st[nl.Power()].Volts, extra)
 	if !strings.Contains(m.View(), "extra line 3999") {
 		t.Errorf("the same node again lost its scroll")
 	}
-	m.Set(s.Sim.Explain(nl.Outputs()[1]), st, st[nl.Power()].Volts, nil)
+	m.Set(s.Explain(nl.Outputs()[1]), st, st[nl.Power()].Volts, nil)
 	if strings.Contains(m.View(), "extra line") || m.Node() != nl.Outputs()[1] {
 		t.Errorf("another node kept the old text or scroll")
 	}

@@ -149,7 +149,7 @@ func States(s *session.Session) []switchsim.NodeState {
 	nl := s.Netlist()
 	st := make([]switchsim.NodeState, nl.NumNodes())
 	for n := range st {
-		st[n] = s.Sim.Node(n)
+		st[n] = s.Node(n)
 	}
 	return st
 }
