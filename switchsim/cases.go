@@ -39,7 +39,7 @@ func caseVisits(nodes int) int { return 64*nodes + 4096 }
 // only by an unknown start, and adopts what both branches agree on.
 func (s *Sim) caseAnalysis() {
 	a := &s.ana
-	a.adopted = a.adopted[:0]
+	a.l0End = len(s.undo.nodes) // the entries after it are case analysis's (see decide)
 	if s.splits < 0 || !a.sawX {
 		return // no node solved in this settle is X
 	}
@@ -49,7 +49,9 @@ func (s *Sim) caseAnalysis() {
 	budget := caseVisits(len(s.val))
 	rec := s.rec
 	a.held = append(a.held[:0], s.gates...)              // fan-out a stopped run left queued: kept for the next Settle
+	s.undo.open()                                        // what adoption and its rounds change is logged after l0End
 	s.undo.devOn = s.mode == Physical || len(a.held) > 0 // as in segment 0: see undoLog
+	a.recC.reset()
 	defer func() { s.rec, s.gates = rec, append(s.gates[:0], a.held...) }()
 	for !an.Bounded {
 		a.newTaint()
@@ -311,33 +313,31 @@ func (s *Sim) record(n int32, cs caseState, c int32) {
 // node was resolved.
 func (s *Sim) adopt() bool {
 	a := &s.ana
-	nl := s.nl
 	any := false
+	s.gates = append(s.gates[:0], a.held...)
 	for _, n := range a.resNodes {
 		cs := &a.res[n]
 		if cs.conflict {
 			continue // the splits disagree: no stable state, leave it X
 		}
 		any = true
+		s.logNode(n)
+		if s.touchMark[n] != s.settleID {
+			s.touch(n)
+		}
 		s.val[n], s.str[n], s.state[n], s.volts[n] = cs.st.Value, cs.st.Strength, cs.st.State, cs.st.Volts
 		s.fight[n], s.contest[n], s.shared[n] = false, cs.contest, cs.shared
 		if s.mode == Physical {
 			s.phys.info[n] = cs.phys
 		}
 		s.note[n] = nodeNote{kind: noteCase, split: cs.split, settle: s.settleID}
-		a.adopted = append(a.adopted, n)
+		s.gates = append(s.gates, n)
 	}
-	for _, n := range a.resNodes {
-		if a.res[n].conflict {
-			continue
-		}
-		for _, d := range nl.gateDev[nl.gateStart[n]:nl.gateStart[n+1]] {
-			s.cond[d] = s.condOf(int(d))
-			s.physGateMoved(d)
-			if nl.devFlag[d]&devShort != 0 {
-				s.checkShort(d)
-			}
-		}
+	if any {
+		// The devices the resolved nodes gate take their new state, and
+		// the groups they touch are solved again: rounds, as in a branch.
+		s.rec = &a.recC
+		s.rounds(true)
 	}
 	return any
 }

@@ -27,7 +27,8 @@ type Explanation struct {
 
 	// Physical mode (NaN, -1 or nil where they do not apply).
 	Degrader int           // the device that caused the last threshold drop
-	Divider  *Divider      // for a contested node: the resistances of the two sides
+	Divider  *Divider      // for a node of a fight: its DC operating point's effective resistances
+	Lost     *LostLevel    // for a node that is X because its level was lost: where it fell
 	Share    []ShareMember // for a floating node: the group's capacitances and voltages
 	Delay    float64       // the Elmore delay estimate of the node's last change, seconds
 
@@ -54,12 +55,40 @@ type AnalysisNote struct {
 // Any reports whether the note says anything.
 func (a AnalysisNote) Any() bool { return a.Kind != "" || a.Decided || a.Case }
 
-// Divider is the resistive estimate of a contested node:
-// Volts = vdd Down / (Up + Down).
+// Divider describes a node of a fight at its DC operating point (the
+// level-1 solve, physical_fight.go) by the effective resistances of its two
+// sides there, Up = (vdd - V) / I and Down = V / I with I the current
+// through the node, so that Volts = vdd Down / (Up + Down).
 type Divider struct {
 	Up, Down             float64 // effective ohms to the 1 side and to the 0 side
 	UpDevice, DownDevice int     // the devices carrying the most current on each side (-1: none)
 	Volts                float64
+	Amps                 float64 // the current through the node
+}
+
+// LostLevel says why a node is X by the one rule of levels (MODEL.md §4):
+// the value whose level was lost, where the level fell against the band
+// and what a stage reading it sees.
+type LostLevel struct {
+	Value    Value   // the value that was lost
+	Volts    float64 // the estimated level
+	Reads    Value   // what the next stage reads: 0 at or below VIL, 1 at or above VIH, X inside the band
+	VIL, VIH float64
+	Cause    LossCause
+	Device   int // the device of the last threshold drop, or the partly-on device (-1: none)
+}
+
+// LossCause says what took a level out of its band.
+type LossCause uint8
+
+const (
+	LostByDrop    LossCause = iota // threshold drops along the driving path
+	LostBySharing                  // charge sharing
+	LostByLeak                     // a partly-on device pulling against the driven value
+)
+
+func (c LossCause) String() string {
+	return [...]string{"threshold drop", "charge sharing", "partly-on device"}[c]
 }
 
 // ShareMember is one node of a floating group that shares charge.
@@ -84,6 +113,7 @@ type PathStep struct {
 	Device     int
 	Gate       int // -1 for pulls
 	GateValue  Value
+	GateVolts  float64 // the gate's voltage in physical mode (Bias.GateVolts), NaN in ideal mode and for pulls
 	Conduction Conduction
 	From, To   int
 	Parallel   []int // other devices that are on between the same two nodes (a transmission gate's other half)
@@ -137,7 +167,7 @@ func (s *Sim) step(d, from, to int) PathStep {
 	if g >= 0 {
 		gv = s.val[g]
 	}
-	ps := PathStep{Device: d, Gate: g, GateValue: gv, Conduction: s.cond[d], From: from, To: to}
+	ps := PathStep{Device: d, Gate: g, GateValue: gv, GateVolts: s.GateVolts(d), Conduction: s.cond[d], From: from, To: to}
 	nl := s.nl
 	for _, o := range nl.chanDev[nl.chanStart[from]:nl.chanStart[from+1]] {
 		if int(o) != d && s.cond[o] == On && nl.Other(int(o), from) == to {
@@ -367,9 +397,10 @@ func (s *Sim) physExplain(e *Explanation) {
 	switch in.How {
 	case howLevel:
 		e.Degrader = int(in.Drop)
-	case howDivider:
-		e.Divider = &Divider{Up: in.RUp, Down: in.RDown, UpDevice: int(in.Up), DownDevice: int(in.Down), Volts: in.Volts}
+	case howFight, howLeak:
+		e.Divider = &Divider{Up: in.RUp, Down: in.RDown, UpDevice: int(in.Up), DownDevice: int(in.Down), Volts: in.Volts, Amps: in.Amps}
 	}
+	e.Lost = s.lostLevel(e.Node)
 	if e.Floating {
 		for _, m := range s.physSharing(e.Node) {
 			e.Share = append(e.Share, ShareMember{Node: m.Node, Cap: m.Cap, Before: m.Before, Volts: m.Volts})

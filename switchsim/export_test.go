@@ -1,5 +1,9 @@
 package switchsim
 
-// PhysFastPath lets the external tests switch physical mode's one-node fast
-// path off, to compare it with the general path.
-var PhysFastPath = &physFastPath
+// SetPhysFastPath switches s's one-node fast path of physical mode (and
+// its precomputed rail limits) on or off, so that the external tests can
+// compare it with the general path. It is on in every new Sim.
+func (s *Sim) SetPhysFastPath(on bool) { s.phys.slow = !on }
+
+// PhysFastPath reports whether s's fast path is on.
+func (s *Sim) PhysFastPath() bool { return !s.phys.slow }

@@ -328,20 +328,16 @@ func (nl *Netlist) GatedDevices(n int) []int {
 	return ints(nl.gateDev[nl.gateStart[n]:nl.gateStart[n+1]])
 }
 
-// other is Other on the compiled arrays' types, for the solver's loops.
-func (nl *Netlist) other(d, n int32) int32 {
-	if nl.devA[d] == n {
-		return nl.devB[d]
-	}
-	return nl.devA[d]
-}
-
 // Other returns the channel terminal of device d opposite node n.
-func (nl *Netlist) Other(d, n int) int {
-	if int(nl.devA[d]) == n {
-		return int(nl.devB[d])
+func (nl *Netlist) Other(d, n int) int { return int(nl.other(int32(d), int32(n))) }
+
+// other is Other on the engine's index type: the terminal of d's channel
+// that is not n (n itself for a device from n to n).
+func (nl *Netlist) other(d, n int32) int32 {
+	if a := nl.devA[d]; a != n {
+		return a
 	}
-	return int(nl.devA[d])
+	return nl.devB[d]
 }
 
 // byName returns the indices of names sorted by name.

@@ -2,7 +2,7 @@ package switchsim
 
 import "math"
 
-// Delay estimates (MODEL.md §4): the Elmore delay (Elmore 1948; Rubinstein,
+// Delay estimates (DEVELOPERS.md, physical mode): the Elmore delay (Elmore 1948; Rubinstein,
 // Penfield and Horowitz 1983) of each node change along its driving path.
 // The driving paths of a part form a tree: for a node driven to v, the path
 // of least resistance from the sources of value v through devices that are
@@ -107,10 +107,7 @@ func (s *Sim) delayTree(c int32, v Value, floating bool) {
 			if s.cond[d] != On {
 				continue
 			}
-			o := nl.devA[d]
-			if o == m {
-				o = nl.devB[d]
-			}
+			o := nl.other(d, m)
 			if s.source[o] || p.stamp[o] == gen {
 				continue
 			}
@@ -147,10 +144,7 @@ func (s *Sim) elmore(order []int32, tdel []float64) {
 		if d < 0 {
 			return -1
 		}
-		o := nl.devA[d]
-		if o == m {
-			o = nl.devB[d]
-		}
+		o := nl.other(d, m)
 		if s.source[o] {
 			return -1
 		}

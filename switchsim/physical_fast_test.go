@@ -14,7 +14,7 @@ import (
 
 // fastPair runs one network through two Sims in physical mode, the general
 // path alone (slow) and with the fast path (fast), and fails at the first
-// difference. The oracle is the general path itself (MODEL.md §4 as
+// difference. The oracle is the general path itself (DEVELOPERS.md (physical mode) as
 // DEVELOPERS.md words it, checked against the reference solver by
 // diff_test.go): the fast path must give exactly what it gives.
 type fastPair struct {
@@ -27,8 +27,10 @@ type fastPair struct {
 }
 
 func newFastPair(t *testing.T, name string, nl *sw.Netlist) *fastPair {
-	return &fastPair{t: t, name: name, nl: nl,
+	fp := &fastPair{t: t, name: name, nl: nl,
 		slow: sw.NewSim(nl, sw.Options{Mode: sw.Physical}), fast: sw.NewSim(nl, sw.Options{Mode: sw.Physical})}
+	fp.slow.SetPhysFastPath(false)
+	return fp
 }
 
 func (fp *fastPair) set(n int, d sw.Drive) {
@@ -49,20 +51,21 @@ func sameNode(a, b sw.NodeState) bool {
 // nested pointer would print the address); floats print exactly (%v uses
 // the shortest representation that reads back the same).
 func explainText(e sw.Explanation) string {
-	div := "nil"
+	div, lost := "nil", "nil"
 	if e.Divider != nil {
 		div = fmt.Sprintf("%+v", *e.Divider)
 	}
-	e.Divider = nil
-	return fmt.Sprintf("%+v divider %s", e, div)
+	if e.Lost != nil {
+		lost = fmt.Sprintf("%+v", *e.Lost)
+	}
+	e.Divider, e.Lost = nil, nil
+	return fmt.Sprintf("%+v divider %s lost %s", e, div, lost)
 }
 
 func (fp *fastPair) settle(what string) {
 	t := fp.t
 	fp.settles++
-	*sw.PhysFastPath = false
 	rs := fp.slow.Settle()
-	*sw.PhysFastPath = true
 	rf := fp.fast.Settle()
 	fp.lastWarn = append(fp.lastWarn[:0], rf.Warnings...)
 	at := fmt.Sprintf("%s, settle %d (%s)", fp.name, fp.settles, what)
@@ -109,15 +112,22 @@ func (fp *fastPair) snapshot() (*sw.Snapshot, *sw.Snapshot) {
 }
 
 func (fp *fastPair) restore(a, b *sw.Snapshot) {
-	*sw.PhysFastPath = false
 	fp.slow.Restore(a)
-	*sw.PhysFastPath = true
 	fp.fast.Restore(b)
 }
 
 func TestPhysFastPathLinked(t *testing.T) {
-	if !*sw.PhysFastPath {
-		t.Fatal("physFastPath reads false: the engine's switch should default to true")
+	nl, err := gen.InverterChain(2).Compile()
+	if err != nil {
+		t.Fatal(err)
+	}
+	s := sw.NewSim(nl, sw.Options{})
+	if !s.PhysFastPath() {
+		t.Fatal("a new Sim's fast path is off: the switch should default to on")
+	}
+	s.SetPhysFastPath(false)
+	if s.PhysFastPath() || !sw.NewSim(nl, sw.Options{}).PhysFastPath() {
+		t.Fatal("the switch is not per Sim")
 	}
 }
 
@@ -125,7 +135,6 @@ func TestPhysFastPathLinked(t *testing.T) {
 // technology now and then so that thresholds and limits move (a preset
 // variant: thresholds near the rails make full and lost levels common).
 func TestPhysFastPathRandom(t *testing.T) {
-	defer func() { *sw.PhysFastPath = true }()
 	rng := rand.New(rand.NewPCG(17, 5))
 	drives := []sw.Drive{sw.Drive0, sw.Drive1, sw.Drive0, sw.Drive1, sw.DriveX, sw.DriveZ}
 	nets := 300
@@ -173,7 +182,6 @@ func TestPhysFastPathRandom(t *testing.T) {
 // The engine's benchmark networks (physical_bench_test.go), whose groups
 // are mostly lone nodes: inverter outputs, selector outputs, latch nodes.
 func TestPhysFastPathBenchNets(t *testing.T) {
-	defer func() { *sw.PhysFastPath = true }()
 	rng := rand.New(rand.NewPCG(2, 9))
 	for _, bn := range physBenchNets() {
 		if bn.name == "datapath200" || bn.name == "invchain1000" {
@@ -226,7 +234,6 @@ func TestPhysFastPathBenchNets(t *testing.T) {
 // Every demo design (designs, read by netfile) through its own steps, then
 // through random drives of its inputs.
 func TestPhysFastPathDemos(t *testing.T) {
-	defer func() { *sw.PhysFastPath = true }()
 	rng := rand.New(rand.NewPCG(8, 1))
 	list := designs.List()
 	if len(list) == 0 {
@@ -265,7 +272,6 @@ func TestPhysFastPathDemos(t *testing.T) {
 // the device between two stored nodes joins them, then leaves each alone.
 // The pulse is x AND NOT x, the NOT one round late (unit delay, MODEL.md §5).
 func TestPhysFastPathSharedPulse(t *testing.T) {
-	defer func() { *sw.PhysFastPath = true }()
 	b := sw.NewBuilder()
 	for _, in := range []string{"x", "pre", "dis"} {
 		b.Input(in)
@@ -305,7 +311,7 @@ func TestPhysFastPathSharedPulse(t *testing.T) {
 	fp.settle("store")
 	fp.set(x, sw.Drive1)
 	fp.settle("pulse")
-	// The premise (MODEL.md §4): charges 1.8 V apart meet, so b shares.
+	// The premise (DEVELOPERS.md, physical mode): charges 1.8 V apart meet, so b shares.
 	found := false
 	for _, w := range fp.lastWarn {
 		found = found || (w.Kind == sw.WarnChargeSharing && w.Node == look("b"))

@@ -11,7 +11,7 @@ import (
 
 // Physical mode on random networks (switchsim/gen): whatever the network,
 // every settle ends, and every estimate agrees with the value it decided
-// (MODEL.md §4): a full 0/1 sits at the rail, a driven or stored 1 at or
+// (DEVELOPERS.md, physical mode): a full 0/1 sits at the rail, a driven or stored 1 at or
 // above VIH, a 0 at or below VIL, every voltage within the rails, and every
 // change carries a delay that is a non-negative number or unknown.
 func TestPhysRandomInvariants(t *testing.T) {

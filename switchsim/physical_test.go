@@ -1,11 +1,13 @@
 package switchsim
 
 import (
+	"fmt"
 	"math"
+	"strings"
 	"testing"
 )
 
-// Tests of physical mode (MODEL.md §4). Expected voltages are computed here
+// Tests of physical mode (DEVELOPERS.md, physical mode). Expected voltages are computed here
 // from their closed forms or by the test's own numerical solutions, never
 // taken from the engine.
 
@@ -43,6 +45,20 @@ func phWarning(s *Sim, r *Result, kind WarnKind, name string) []Warning {
 	return out
 }
 
+// watch tells s that the named nodes are checked (Sim.Watch).
+func watch(t *testing.T, s *Sim, names ...string) {
+	t.Helper()
+	var ns []int
+	for _, name := range names {
+		n, ok := s.Netlist().Lookup(name)
+		if !ok {
+			t.Fatalf("no node %s", name)
+		}
+		ns = append(ns, n)
+	}
+	s.Watch(ns)
+}
+
 func phNear(t *testing.T, what string, got, want, tol float64) {
 	t.Helper()
 	if math.IsNaN(got) || math.Abs(got-want) > tol {
@@ -60,7 +76,7 @@ func TestPhysPassDegradesOnce(t *testing.T) {
 	s := phSim(t, b, Physical)
 	tc := s.Netlist().Tech
 	r := phApply(t, s, map[string]Drive{"in": Drive1, "en": Drive1})
-	// An nMOS passes a 1 only up to V = Vg - Vt(V) (MODEL.md §4; numerical solution here).
+	// An nMOS passes a 1 only up to V = Vg - Vt(V) (DEVELOPERS.md (physical mode); numerical solution here).
 	want := passHighNumeric(tc, tc.Vdd)
 	y := node(s, "y")
 	phNear(t, "y volts", y.Volts, want, 1e-9)
@@ -101,7 +117,7 @@ func TestPhysPassWithoutBodyEffect(t *testing.T) {
 
 func TestPhysTransmissionGatePassesFull(t *testing.T) {
 	// The pMOS half passes the 1 fully and the nMOS half the 0: among the
-	// paths of the winning strength the best level counts (MODEL.md §4).
+	// paths of the winning strength the best level counts (DEVELOPERS.md, physical mode).
 	b := NewBuilder()
 	b.Input("in")
 	b.Input("en")
@@ -132,6 +148,7 @@ func TestPhysGateCascadeLosesLevel(t *testing.T) {
 	b.Input("en")
 	b.NMOS("m1", "en", "in", "g1", DeviceOpts{})
 	b.NMOS("m2", "g1", "in2", "y", DeviceOpts{})
+	b.Output("y") // its level matters
 	s := phSim(t, b, Physical)
 	tc := s.Netlist().Tech
 	r := phApply(t, s, map[string]Drive{"in": Drive1, "in2": Drive1, "en": Drive1})
@@ -154,7 +171,7 @@ func TestPhysGateCascadeLosesLevel(t *testing.T) {
 }
 
 func TestPhysSeriesChainDropsOnce(t *testing.T) {
-	// Devices in series with full gates drop the level only once (MODEL.md §4).
+	// Devices in series with full gates drop the level only once (DEVELOPERS.md, physical mode).
 	b := NewBuilder()
 	b.Input("in")
 	b.Input("en")
@@ -162,6 +179,7 @@ func TestPhysSeriesChainDropsOnce(t *testing.T) {
 	b.NMOS("m2", "en", "a", "c", DeviceOpts{})
 	b.NMOS("m3", "en", "c", "y", DeviceOpts{})
 	s := phSim(t, b, Physical)
+	watch(t, s, "a", "c", "y") // the session's checked nodes: their levels matter
 	tc := s.Netlist().Tech
 	r := phApply(t, s, map[string]Drive{"in": Drive1, "en": Drive1})
 	want := passHighNumeric(tc, tc.Vdd)
@@ -182,6 +200,7 @@ func TestPhysGateMovedResolves(t *testing.T) {
 	}
 	b.TGate("t", "en", "enb", "in", "g", 0, 0, 0, HighZ)
 	b.NMOS("m2", "g", "in2", "y", DeviceOpts{})
+	b.Output("y")
 	s := phSim(t, b, Physical)
 	tc := s.Netlist().Tech
 	// the pMOS half off: g passes through the nMOS half only
@@ -241,12 +260,18 @@ func ratioed(t *testing.T, load DeviceOpts, drv DeviceOpts) *Sim {
 }
 
 func TestPhysRatioedDivider(t *testing.T) {
+	// A pseudo-nMOS inverter: a pMOS load with its gate grounded against an
+	// nMOS driver. Its low output is the textbook VOL from the level-1
+	// equations (Shichman and Hodges 1968), worked by hand in pseudoNMOSVOL.
 	tc := Generic()
 	lp := 4 * tc.L
 	s := ratioed(t, DeviceOpts{L: lp}, DeviceOpts{})
 	r := phApply(t, s, map[string]Drive{"a": Drive1})
-	rp, rn := tc.Rp*lp/tc.Wp, tc.Rn*tc.L/tc.Wn // R = r_sq L / W (MODEL.md §4)
-	want := tc.Vdd * rn / (rn + rp)            // a resistive divider (Ohm's law)
+	bn, bp := betaOf(tc.Kn, tc.Wn, tc.L), betaOf(tc.Kp, tc.Wp, lp)
+	want := pseudoNMOSVOL(tc, bn, bp)
+	if !(want <= tc.Vtp) {
+		t.Fatalf("test setup: VOL %.3f V leaves the load saturated only below |Vtp|", want)
+	}
 	y := node(s, "y")
 	phNear(t, "y volts", y.Volts, want, 1e-9)
 	if y.Value != V0 || y.State != StateL || y.Strength != Strong {
@@ -256,10 +281,14 @@ func TestPhysRatioedDivider(t *testing.T) {
 	if len(w) != 1 || w[0].Device != phDev(t, s, "drv") || w[0].Other != phDev(t, s, "load") {
 		t.Errorf("contention warnings: %+v, want one naming drv (winner) and load", w)
 	}
+	// The effective resistances at the operating point: the saturated load
+	// carries I = bp (vdd - |Vtp|)^2 / 2; RUp = (vdd - V) / I, RDown = V / I.
+	cur := bp / 2 * (tc.Vdd - tc.Vtp) * (tc.Vdd - tc.Vtp)
 	n, _ := s.Netlist().Lookup("y")
 	in := s.physInfo(n)
-	phNear(t, "divider up", in.RUp, rp, 1e-6*rp)
-	phNear(t, "divider down", in.RDown, rn, 1e-6*rn)
+	phNear(t, "current", in.Amps, cur, 1e-9*cur)
+	phNear(t, "divider up", in.RUp, (tc.Vdd-want)/cur, 1e-6*(tc.Vdd-want)/cur)
+	phNear(t, "divider down", in.RDown, want/cur, 1e-6*want/cur)
 	// a = 0: the load alone pulls y to a full 1.
 	phApply(t, s, map[string]Drive{"a": Drive0})
 	if y := node(s, "y"); y.Volts != tc.Vdd || y.State != State1 {
@@ -268,8 +297,10 @@ func TestPhysRatioedDivider(t *testing.T) {
 }
 
 func TestPhysPullUpDivider(t *testing.T) {
-	// A pull against a default nMOS: the pull's documented default resistance
-	// is 10 x max(rn L / wn, rp L / wp) (DEVELOPERS.md, physical mode).
+	// A resistive-load inverter: a pull (a resistor of the documented default
+	// 10 x max(rn L / wn, rp L / wp), DEVELOPERS.md, physical mode) against a
+	// default nMOS; VOL from the level-1 equations worked by hand
+	// (resistiveLoadVOL, Shichman and Hodges 1968).
 	b := NewBuilder()
 	b.Input("a")
 	b.Pull("pu", "y", true, HighZ)
@@ -277,15 +308,16 @@ func TestPhysPullUpDivider(t *testing.T) {
 	s := phSim(t, b, Physical)
 	tc := s.Netlist().Tech
 	phApply(t, s, map[string]Drive{"a": Drive1})
-	rn := tc.Rn * tc.L / tc.Wn
-	rpu := 10 * max(rn, tc.Rp*tc.L/tc.Wp)
-	phNear(t, "y volts", node(s, "y").Volts, tc.Vdd*rn/(rn+rpu), 1e-9)
+	rpu := 10 * max(tc.Rn*tc.L/tc.Wn, tc.Rp*tc.L/tc.Wp)
+	phNear(t, "y volts", node(s, "y").Volts, resistiveLoadVOL(tc, betaOf(tc.Kn, tc.Wn, tc.L), rpu), 1e-9)
 }
 
 func TestPhysContentionInBand(t *testing.T) {
 	tc := Generic()
-	// rp L / wp = rn L / wn: equal resistances put y at vdd / 2, inside the band.
-	s := ratioed(t, DeviceOpts{W: tc.Wn * tc.Rp / tc.Rn}, DeviceOpts{})
+	// A pMOS load as strong as the driver (kp wp = kn wn), both gates at
+	// full levels and both sources at their rails (no body effect): the two
+	// are mirror images, so y sits at vdd / 2, inside the band (symmetry).
+	s := ratioed(t, DeviceOpts{W: tc.Wn * tc.Kn / tc.Kp}, DeviceOpts{})
 	r := phApply(t, s, map[string]Drive{"a": Drive1})
 	y := node(s, "y")
 	phNear(t, "y volts", y.Volts, tc.Vdd/2, 1e-9)
@@ -298,8 +330,8 @@ func TestPhysContentionInBand(t *testing.T) {
 }
 
 func TestPhysResistanceBeatsStrength(t *testing.T) {
-	// Physical mode decides a contest by the resistor network, not by
-	// strength (MODEL.md §4): a long, narrow strong nMOS loses to a pull.
+	// Physical mode decides a fight by the devices, not by strength (DEVELOPERS.md,
+	// physical mode): a long, narrow strong nMOS loses to a pull (resistiveLoadVOL).
 	b := NewBuilder()
 	tc := Generic()
 	b.Input("a")
@@ -317,9 +349,8 @@ func TestPhysResistanceBeatsStrength(t *testing.T) {
 			}
 			continue
 		}
-		rn := tc.Rn * l / w
-		rpu := 10 * tc.RefResistance()
-		phNear(t, "y volts", y.Volts, tc.Vdd*rn/(rn+rpu), 1e-9)
+		want := resistiveLoadVOL(tc, betaOf(tc.Kn, w, l), 10*tc.RefResistance())
+		phNear(t, "y volts", y.Volts, want, 1e-9)
 		if y.Value != V1 || y.State != StateH || y.Strength != Pull {
 			t.Errorf("physical: y = %+v, want H at pull strength", y)
 		}
@@ -327,9 +358,12 @@ func TestPhysResistanceBeatsStrength(t *testing.T) {
 }
 
 func TestPhysWriteAgainstKeeper(t *testing.T) {
-	// A write through an nMOS against a weak keeper to ground: the write path
-	// is a source at its limited level in series with its resistance, so the
-	// node sits at Vlim Rk / (Rw + Rk) (MODEL.md §4 and Ohm's law).
+	// A write through an nMOS against a weak keeper to ground. The write
+	// device's source is the node, so it is saturated with the body effect;
+	// the keeper (a weak device without a size: its length stretched to the
+	// documented default resistance, 40 x RefResistance) is below saturation:
+	// beta_w (vdd - V - Vt(V))^2 / 2 = beta_k ((vdd - Vtn) V - V^2 / 2)
+	// (level-1, Shichman and Hodges 1968), solved here by bisection.
 	b := NewBuilder()
 	b.Input("d")
 	b.Input("wr")
@@ -339,19 +373,23 @@ func TestPhysWriteAgainstKeeper(t *testing.T) {
 	s := phSim(t, b, Physical)
 	tc := s.Netlist().Tech
 	phApply(t, s, map[string]Drive{"d": Drive1, "wr": Drive1, "kb": Drive1})
-	rw := tc.Rn * tc.L / tc.Wn
-	rk := 40 * tc.RefResistance() // the documented default for a weak device without a size
-	lim := passHighNumeric(tc, tc.Vdd)
-	phNear(t, "s volts", node(s, "s").Volts, lim*rk/(rw+rk), 1e-9)
+	bw := betaOf(tc.Kn, tc.Wn, tc.L)
+	bk := bw * (tc.Rn * tc.L / tc.Wn) / (40 * tc.RefResistance())
+	want := rootBisect(func(v float64) float64 {
+		return idsN(tc, bk, tc.Vdd, v, 0) - idsN(tc, bw, tc.Vdd, tc.Vdd, v)
+	}, 0, tc.Vdd)
+	phNear(t, "s volts", node(s, "s").Volts, want, 1e-9)
 	if st := node(s, "s").State; st != StateH {
 		t.Errorf("s state %v, want H (the write wins, contested)", st)
 	}
 }
 
 func TestPhysNetworkLargeMatchesDense(t *testing.T) {
-	// A stack of three nMOS against a pMOS load: node k up from ground sits at
-	// vdd k Rn / (3 Rn + Rp) (series resistors, Ohm's law), by the dense
-	// method and by the iterative one.
+	// A stack of three nMOS against a pMOS load, by Newton on the dense
+	// equations and by the sweeps. The expected voltages are found by
+	// shooting on the test's own level-1 equations: for a trial x1 the stack
+	// current I follows from the bottom device, x2 and y from I through the
+	// devices above it, and x1 is bisected until the load carries I.
 	tc := Generic()
 	lp := 8 * tc.L
 	b := NewBuilder()
@@ -361,21 +399,35 @@ func TestPhysNetworkLargeMatchesDense(t *testing.T) {
 	b.NMOS("n2", "a", "x2", "x1", DeviceOpts{})
 	b.NMOS("n1", "a", "x1", "gnd", DeviceOpts{})
 	nl := mustCompile(t, b)
-	rn, rp := tc.Rn*tc.L/tc.Wn, tc.Rp*lp/tc.Wp
+	bn, bp := betaOf(tc.Kn, tc.Wn, tc.L), betaOf(tc.Kp, tc.Wp, lp)
+	up := func(i, below float64) float64 { // the node above a device carrying i
+		return rootBisect(func(v float64) float64 { return idsN(tc, bn, tc.Vdd, v, below) - i }, below, tc.Vdd)
+	}
+	chain := func(x1 float64) (x2, y, i float64) {
+		i = idsN(tc, bn, tc.Vdd, x1, 0)
+		x2 = up(i, x1)
+		return x2, up(i, x2), i
+	}
+	x1 := rootBisect(func(x1 float64) float64 {
+		_, y, i := chain(x1)
+		return i - idsP(tc, bp, 0, tc.Vdd, y)
+	}, 0, 0.3)
+	x2, y, _ := chain(x1)
 	for _, dense := range []int{physDenseMax, 0} {
 		s := NewSim(nl, Options{})
 		s.phys.net.denseMax = dense
 		phApply(t, s, map[string]Drive{"a": Drive1})
-		for k, n := range []string{"x1", "x2", "y"} {
-			phNear(t, n, node(s, n).Volts, tc.Vdd*float64(k+1)*rn/(3*rn+rp), 1e-9)
+		for n, want := range map[string]float64{"x1": x1, "x2": x2, "y": y} {
+			phNear(t, n, node(s, n).Volts, want, 1e-7)
 		}
 	}
 }
 
 func TestPhysXSourceRange(t *testing.T) {
 	// An X input through a weak device against a strong 0: the X may stand
-	// anywhere from 0 to vdd; at vdd it is a source at the nMOS's limit in
-	// series with the weak resistance (MODEL.md §4), still below VIL.
+	// anywhere from 0 to vdd; at vdd the weak device (saturated, its source
+	// the node, body effect) fights the strong nMOS below saturation
+	// (level-1, solved here by bisection), still below VIL.
 	b := NewBuilder()
 	b.Input("x")
 	b.Input("a")
@@ -384,8 +436,11 @@ func TestPhysXSourceRange(t *testing.T) {
 	s := phSim(t, b, Physical)
 	tc := s.Netlist().Tech
 	phApply(t, s, map[string]Drive{"x": DriveX, "a": Drive1})
-	rn, rw := tc.Rn*tc.L/tc.Wn, 40*tc.RefResistance()
-	want := passHighNumeric(tc, tc.Vdd) * rn / (rn + rw)
+	bn := betaOf(tc.Kn, tc.Wn, tc.L)
+	bw := bn * (tc.Rn * tc.L / tc.Wn) / (40 * tc.RefResistance())
+	want := rootBisect(func(v float64) float64 {
+		return idsN(tc, bn, tc.Vdd, v, 0) - idsN(tc, bw, tc.Vdd, tc.Vdd, v)
+	}, 0, tc.Vdd)
 	y := node(s, "y")
 	phNear(t, "y volts (worst case)", y.Volts, want, 1e-9)
 	if y.Value != V0 || y.State != StateL {
@@ -678,5 +733,316 @@ func TestPhysRingStillOscillates(t *testing.T) {
 	}
 	if n1 := node(s, "n1"); n1.Value != VX || !math.IsNaN(n1.Volts) {
 		t.Errorf("n1 = %+v, want X with unknown volts", n1)
+	}
+}
+
+// shareThrough builds two stored nodes a (ca, charged to vdd through a
+// pMOS) and b (cb, cleared through an nMOS) joined by one pass device of
+// kind k, gated by en (an nMOS) or enb (a pMOS), with technology tc.
+func shareThrough(t *testing.T, tc Tech, k DeviceKind, ca, cb float64) *Sim {
+	b := NewBuilder()
+	b.SetTech(tc)
+	for _, n := range []string{"pre", "clr", "en", "enb"} {
+		b.Input(n)
+	}
+	b.Node("a", ca, HighZ)
+	b.Node("b", cb, HighZ)
+	b.PMOS("mp", "pre", "vdd", "a", DeviceOpts{})
+	b.NMOS("mc", "clr", "b", "gnd", DeviceOpts{})
+	if k == NMOS {
+		b.NMOS("share", "en", "a", "b", DeviceOpts{})
+	} else {
+		b.PMOS("share", "enb", "a", "b", DeviceOpts{})
+	}
+	s := phSim(t, b, Physical)
+	phApply(t, s, map[string]Drive{"pre": Drive0, "clr": Drive1, "en": Drive0, "enb": Drive1})
+	phApply(t, s, map[string]Drive{"pre": Drive1, "clr": Drive0})
+	return s
+}
+
+func TestPhysChargeSharingThroughThreshold(t *testing.T) {
+	// An nMOS of threshold 0.45 V (gamma 0) with its gate at 1.8 V between a
+	// 90 fF node at 1.8 V and a 10 fF node at 0 V: charge flows only until
+	// the lower side reaches Vg - Vt = 1.35 V, so b ends at 1.35 V and a at
+	// 1.8 - (10/90) 1.35 = 1.65 V, not both at the mean 1.62 V (charge
+	// conservation, common practice).
+	tc := Generic()
+	tc.Gamma = 0
+	s := shareThrough(t, tc, NMOS, 90e-15, 10e-15)
+	r := phApply(t, s, map[string]Drive{"en": Drive1})
+	a, b := node(s, "a"), node(s, "b")
+	phNear(t, "a volts", a.Volts, 1.65, 1e-9)
+	phNear(t, "b volts", b.Volts, 1.35, 1e-9)
+	phNear(t, "charge", 90e-15*a.Volts+10e-15*b.Volts, 90e-15*1.8, 1e-24)
+	for _, x := range []NodeState{a, b} {
+		if x.State != StateZ || x.Value != V1 {
+			t.Errorf("after sharing %+v, want Z holding 1 (above VIH)", x)
+		}
+	}
+	if len(phWarning(s, r, WarnChargeSharing, "a")) != 1 || len(phWarning(s, r, WarnChargeSharing, "b")) != 1 {
+		t.Errorf("want a charge-sharing warning on both: %+v", r.Warnings)
+	}
+	// The mirror image: a pMOS with its gate at 0 V passes charge down only
+	// until the higher side falls to |Vtp| = 0.45 V: from a 10 fF node at
+	// 1.8 V into a 90 fF node at 0 V (the mean would be 0.18 V), a stops at
+	// 0.45 V and b takes (10/90) (1.8 - 0.45) = 0.15 V.
+	s = shareThrough(t, tc, PMOS, 10e-15, 90e-15)
+	phApply(t, s, map[string]Drive{"enb": Drive0})
+	phNear(t, "a volts (pMOS)", node(s, "a").Volts, 0.45, 1e-9)
+	phNear(t, "b volts (pMOS)", node(s, "b").Volts, 0.15, 1e-9)
+	// Where the limit does not bite (the mean below it) both sides meet:
+	// 10 fF at 1.8 V into 40 fF at 0 V through the nMOS: 0.36 V on both.
+	s = shareThrough(t, tc, NMOS, 10e-15, 40e-15)
+	phApply(t, s, map[string]Drive{"en": Drive1})
+	phNear(t, "a volts (mean)", node(s, "a").Volts, 0.36, 1e-9)
+	phNear(t, "b volts (mean)", node(s, "b").Volts, 0.36, 1e-9)
+}
+
+func TestPhysLevelWarningsWhereLevelMatters(t *testing.T) {
+	// A degraded 1 on a node that gates nothing and is neither an output nor
+	// checked: its level is read by nobody, so no warning (DEVELOPERS.md, physical mode), but
+	// the facts stay (state H, the device of the drop in the explanation).
+	build := func(gates bool) *Sim {
+		b := NewBuilder()
+		b.Input("in")
+		b.Input("en")
+		b.NMOS("m1", "en", "in", "y", DeviceOpts{})
+		if gates {
+			b.PMOS("ip", "y", "vdd", "z", DeviceOpts{})
+			b.NMOS("in_", "y", "z", "gnd", DeviceOpts{})
+		}
+		return phSim(t, b, Physical)
+	}
+	s := build(false)
+	r := phApply(t, s, map[string]Drive{"in": Drive1, "en": Drive1})
+	yn, _ := s.Netlist().Lookup("y")
+	if y := node(s, "y"); y.State != StateH || len(phWarning(s, r, WarnDegraded, "y")) != 0 {
+		t.Errorf("y = %+v with warnings %+v: want H and no warning", y, r.Warnings)
+	}
+	if e := s.Explain(yn); e.Degrader != phDev(t, s, "m1") {
+		t.Errorf("explanation of y names degrader %d, want m1", e.Degrader)
+	}
+	watch(t, s, "y") // now the session checks it
+	phApply(t, s, map[string]Drive{"in": Drive0})
+	if r := phApply(t, s, map[string]Drive{"in": Drive1}); len(phWarning(s, r, WarnDegraded, "y")) != 1 {
+		t.Errorf("watched y: warnings %+v, want one degraded", r.Warnings)
+	}
+	s = build(true) // y gates an inverter
+	if r := phApply(t, s, map[string]Drive{"in": Drive1, "en": Drive1}); len(phWarning(s, r, WarnDegraded, "y")) != 1 {
+		t.Errorf("y gating a stage: warnings %+v, want one degraded", r.Warnings)
+	}
+}
+
+func TestPhysLevelLostSaysWhichSide(t *testing.T) {
+	// A gate-cascaded nMOS pass: the 1 reaches y at PassHigh(PassHigh(vdd)),
+	// 0.57 V with the generic preset, below VIL (0.737 V): the next stage
+	// reads a 0, so the value would be flipped; it stays X (DEVELOPERS.md, physical mode).
+	b := NewBuilder()
+	b.Input("in")
+	b.Input("en")
+	b.NMOS("m1", "en", "in", "g1", DeviceOpts{})
+	b.NMOS("m2", "g1", "in", "y", DeviceOpts{})
+	b.Output("y")
+	s := phSim(t, b, Physical)
+	tc := s.Netlist().Tech
+	r := phApply(t, s, map[string]Drive{"in": Drive1, "en": Drive1})
+	vil, vih, _ := tc.Thresholds()
+	yv := passHighNumeric(tc, passHighNumeric(tc, tc.Vdd))
+	if !(yv < vil) {
+		t.Fatalf("test setup: y at %.3f V not below VIL %.3f V", yv, vil)
+	}
+	w := phWarning(s, r, WarnLevelLost, "y")
+	if len(w) != 1 {
+		t.Fatalf("level-lost warnings %+v", r.Warnings)
+	}
+	msg := s.Message(w[0])
+	for _, want := range []string{"its 1 is lost", "below VIL", "reads a 0", "flipped", "m2"} {
+		if !strings.Contains(msg, want) {
+			t.Errorf("message %q lacks %q", msg, want)
+		}
+	}
+	yn, _ := s.Netlist().Lookup("y")
+	l := s.Explain(yn).Lost
+	if l == nil || l.Value != V1 || l.Reads != V0 || l.Cause != LostByDrop || l.Device != phDev(t, s, "m2") {
+		t.Errorf("explanation's lost level %+v, want the 1 lost, read as 0, dropped by m2", l)
+	}
+	if m := s.Margin(yn); math.Abs(m.Noise-(yv-vih)) > 1e-9 {
+		t.Errorf("noise margin %g, want V - VIH = %g for the lost 1", m.Noise, yv-vih)
+	}
+	// Inside the band: thresholds overridden to 1.0 / 1.3 V put one drop
+	// (1.14 V) in the band: the next stage's reading is unknown.
+	tc.VIL, tc.VIH = 1.0, 1.3
+	b2 := NewBuilder()
+	b2.SetTech(tc)
+	b2.Input("in")
+	b2.Input("en")
+	b2.NMOS("m1", "en", "in", "y", DeviceOpts{})
+	b2.Output("y")
+	s2 := phSim(t, b2, Physical)
+	r2 := phApply(t, s2, map[string]Drive{"in": Drive1, "en": Drive1})
+	w = phWarning(s2, r2, WarnLevelLost, "y")
+	if len(w) != 1 || !strings.Contains(s2.Message(w[0]), "inside the undefined band") || strings.Contains(s2.Message(w[0]), "flipped") {
+		t.Errorf("in-band warnings %+v (%v)", w, r2.Warnings)
+	}
+	yn2, _ := s2.Netlist().Lookup("y")
+	if l := s2.Explain(yn2).Lost; l == nil || l.Reads != VX {
+		t.Errorf("in-band lost level %+v, want read as X", l)
+	}
+}
+
+func TestPhysSharingLosesStoredValue(t *testing.T) {
+	// A large-class node storing 1 (10 fF) shares through a transmission
+	// gate with a 40 fF medium node storing 0: the switch-level model keeps
+	// the larger class's 1 (IEEE 1364-2005 §7), but the charge settles at
+	// 10/50 x 1.8 = 0.36 V (charge conservation), below VIL: by the one rule
+	// of levels the 1 is lost and the node is X, not read back as a 0.
+	b := NewBuilder()
+	for _, n := range []string{"pre", "clr", "en", "enb"} {
+		b.Input(n)
+	}
+	b.Node("a", 10e-15, Large)
+	b.Node("b", 40e-15, HighZ)
+	b.PMOS("mp", "pre", "vdd", "a", DeviceOpts{})
+	b.NMOS("mc", "clr", "b", "gnd", DeviceOpts{})
+	b.TGate("t", "en", "enb", "a", "b", 0, 0, 0, HighZ)
+	b.Output("a")
+	s := phSim(t, b, Physical)
+	phApply(t, s, map[string]Drive{"pre": Drive0, "clr": Drive1, "en": Drive0, "enb": Drive1})
+	phApply(t, s, map[string]Drive{"pre": Drive1, "clr": Drive0})
+	r := phApply(t, s, map[string]Drive{"en": Drive1, "enb": Drive0})
+	a := node(s, "a")
+	phNear(t, "a volts", a.Volts, 0.36, 1e-9)
+	if a.Value != VX || a.State != StateZ {
+		t.Errorf("a = %+v, want Z holding X (its 1 lost)", a)
+	}
+	w := phWarning(s, r, WarnChargeSharing, "a")
+	if len(w) != 1 || !strings.Contains(s.Message(w[0]), "stored 1 is lost") || !strings.Contains(s.Message(w[0]), "reads a 0") {
+		t.Errorf("charge-sharing warnings %+v", w)
+	}
+	an, _ := s.Netlist().Lookup("a")
+	if l := s.Explain(an).Lost; l == nil || l.Cause != LostBySharing || l.Value != V1 || l.Reads != V0 {
+		t.Errorf("lost level %+v", l)
+	}
+}
+
+func TestPhysPartlyOnMovesTheNode(t *testing.T) {
+	// An inverter whose input is an nMOS-passed 1, PassHigh(vdd) = 1.142 V:
+	// its pMOS, off by logic, has Vsg = 0.658 V > |Vtp| and is saturated,
+	// I = beta_p (Vsg - |Vtp|)^2 / 2, against the nMOS below saturation
+	// (level-1, Shichman and Hodges 1968), so the output leaves 0 V:
+	// beta_n ((Vg - Vtn) V - V^2 / 2) = I, about 0.022 V (hand calculation).
+	b := NewBuilder()
+	b.Input("in")
+	b.Input("en")
+	b.NMOS("pass", "en", "in", "x", DeviceOpts{})
+	b.PMOS("inv.p", "x", "vdd", "y", DeviceOpts{})
+	b.NMOS("inv.n", "x", "y", "gnd", DeviceOpts{})
+	s := phSim(t, b, Physical)
+	tc := s.Netlist().Tech
+	r := phApply(t, s, map[string]Drive{"in": Drive1, "en": Drive1})
+	vg := passHighNumeric(tc, tc.Vdd)
+	bp, bn := betaOf(tc.Kp, tc.Wp, tc.L), betaOf(tc.Kn, tc.Wn, tc.L)
+	cur := bp / 2 * (tc.Vdd - vg - tc.Vtp) * (tc.Vdd - vg - tc.Vtp)
+	ov := vg - tc.Vtn
+	want := ov - math.Sqrt(ov*ov-2*cur/bn)
+	y := node(s, "y")
+	phNear(t, "y volts", y.Volts, want, 1e-9)
+	if y.Value != V0 || y.State != StateL {
+		t.Errorf("y = %+v, want a 0 off its rail (L)", y)
+	}
+	w := phWarning(s, r, WarnPartialOn, "x")
+	if len(w) != 1 || w[0].Device != phDev(t, s, "inv.p") || !strings.Contains(s.Message(w[0]), "µA of static current") {
+		t.Errorf("partial-on warnings %+v", w)
+	}
+	bias := s.DeviceBias(phDev(t, s, "inv.p"))
+	if !bias.PartlyOn || bias.FullGate {
+		t.Errorf("bias %+v, want partly on with a gate off the rails", bias)
+	}
+	phNear(t, "gate volts", bias.GateVolts, vg, 1e-9)
+	phNear(t, "static current", bias.Current, cur, 1e-9*cur) // from terminal A (vdd) to B (y)
+	if len(phWarning(s, r, WarnContention, "y")) != 0 {
+		t.Errorf("a partly-on device is not a contention: %+v", r.Warnings)
+	}
+	yn, _ := s.Netlist().Lookup("y")
+	if d := s.Explain(yn).Divider; d == nil || math.Abs(d.Amps-cur) > 1e-9*cur {
+		t.Errorf("explanation's operating point %+v, want %g A through y", d, cur)
+	}
+}
+
+func TestPhysMargins(t *testing.T) {
+	// Noise margins (DEVELOPERS.md, physical mode): V - VIH for a 1, VIL - V for a 0.
+	tc := Generic()
+	vil, vih, vm := tc.Thresholds()
+	b := NewBuilder()
+	b.Input("in")
+	b.Input("en")
+	b.Input("a")
+	b.NMOS("m1", "en", "in", "y", DeviceOpts{}) // a degraded 1 on y
+	b.PMOS("ip", "y", "vdd", "z", DeviceOpts{}) // y drives a reference inverter
+	b.NMOS("in_", "y", "z", "gnd", DeviceOpts{})
+	// a pseudo-nMOS fight on f, which drives an inverter with a 4x pMOS
+	b.PMOS("load", "gnd", "vdd", "f", DeviceOpts{L: 4 * tc.L})
+	b.NMOS("drv", "a", "f", "gnd", DeviceOpts{})
+	b.PMOS("sp", "f", "vdd", "g", DeviceOpts{W: 4 * tc.Wp})
+	b.NMOS("sn", "f", "g", "gnd", DeviceOpts{})
+	s := phSim(t, b, Physical)
+	phApply(t, s, map[string]Drive{"in": Drive1, "en": Drive1, "a": Drive1})
+	look := func(name string) int { n, _ := s.Netlist().Lookup(name); return n }
+	yv := passHighNumeric(tc, tc.Vdd)
+	m := s.Margin(look("y"))
+	phNear(t, "noise margin of the degraded 1", m.Noise, yv-vih, 1e-9)
+	phNear(t, "VM of the stage y drives (the reference inverter)", m.StageVM, vm, 1e-12)
+	if !math.IsNaN(m.Write) {
+		t.Errorf("write margin %g on a node no fight reaches, want NaN", m.Write)
+	}
+	phNear(t, "noise margin of a full 1", s.Margin(look("g")).Noise, tc.Vdd-vih, 1e-12)
+	// f: VOL of the pseudo-nMOS inverter; the stage it drives has
+	// r = sqrt(kp 4 wp / (kn wn)), VM = (Vtn + r (vdd - |Vtp|)) / (1 + r)
+	// (long-channel textbook formula).
+	fv := pseudoNMOSVOL(tc, betaOf(tc.Kn, tc.Wn, tc.L), betaOf(tc.Kp, tc.Wp, 4*tc.L))
+	r := math.Sqrt(tc.Kp * 4 * tc.Wp / (tc.Kn * tc.Wn))
+	svm := (tc.Vtn + r*(tc.Vdd-tc.Vtp)) / (1 + r)
+	m = s.Margin(look("f"))
+	phNear(t, "noise margin of the fight's 0", m.Noise, vil-fv, 1e-9)
+	phNear(t, "the driven stage's own VM", m.StageVM, svm, 1e-12)
+	phNear(t, "write margin", m.Write, math.Abs(fv-svm), 1e-9)
+	if m := s.Margin(look("in")); m.Noise != tc.Vdd-vih {
+		t.Errorf("a driven 1 input: noise margin %g, want vdd - VIH", m.Noise)
+	}
+	if m := NewSim(s.Netlist(), Options{Mode: Ideal}).Margin(look("y")); !math.IsNaN(m.Noise) {
+		t.Errorf("ideal mode margin %+v, want NaN", m)
+	}
+}
+
+func TestPhysFightPicture(t *testing.T) {
+	// The picture of a pseudo-nMOS fight: the load's current into the node
+	// and the driver's out of it as functions of the node's voltage, from
+	// the level-1 equations (the test's own, level1_test.go), crossing at
+	// the node's voltage.
+	tc := Generic()
+	lp := 4 * tc.L
+	s := ratioed(t, DeviceOpts{L: lp}, DeviceOpts{})
+	phApply(t, s, map[string]Drive{"a": Drive1})
+	yn, _ := s.Netlist().Lookup("y")
+	f, ok := s.Fight(yn)
+	if !ok {
+		t.Fatal("no fight at y")
+	}
+	bn, bp := betaOf(tc.Kn, tc.Wn, tc.L), betaOf(tc.Kp, tc.Wp, lp)
+	if len(f.Up) != 1 || f.Up[0] != phDev(t, s, "load") || len(f.Down) != 1 || f.Down[0] != phDev(t, s, "drv") {
+		t.Errorf("sides %v / %v, want load / drv", f.Up, f.Down)
+	}
+	for _, v := range []float64{0, 0.1, 0.5, 0.9, 1.4, 1.8} {
+		up, down := f.Currents(v)
+		phNear(t, fmt.Sprintf("load current at %g V", v), up, idsP(tc, bp, 0, tc.Vdd, v), 1e-15)
+		phNear(t, fmt.Sprintf("driver current at %g V", v), down, idsN(tc, bn, tc.Vdd, v, 0), 1e-15)
+	}
+	up, down := f.Currents(f.Volts)
+	phNear(t, "currents at the crossing", up-down, 0, 1e-9*up) // the solve stops within 1e-9 vdd
+	if vil, vih, _ := tc.Thresholds(); f.VIL != vil || f.VIH != vih || !math.IsNaN(f.StageVM) {
+		t.Errorf("picture %+v: want VIL/VIH and no stage (y drives nothing)", f)
+	}
+	if _, ok := s.Fight(s.Netlist().Power()); ok {
+		t.Error("a fight at a rail")
 	}
 }

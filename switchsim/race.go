@@ -120,23 +120,26 @@ type analysis struct {
 	res          []caseState
 	resMark      []uint32
 	resNodes     []int32
-	adopted      []int32
-	held         []int32 // fan-out left queued when case analysis began
-	contradicted bool    // the branch running has a fight at the strongest strength
-	sawX         bool    // a group solve in this settle left a node X
+	held         []int32  // fan-out left queued when case analysis began
+	l0End        int      // log entries when case analysis began
+	recC         roundLog // the rounds after an adoption
+	firstMark    []uint32 // node -> settle stamp: decide met its entry
+	contradicted bool     // the branch running has a fight at the strongest strength
+	sawX         bool     // a group solve in this settle left a node X
 
 	// conserveCharge, made on first use (physical mode)
 	devAt    []int32 // device -> its entry in the log
 	partMark []uint32
 	partID   uint32
 	part     []int32
+	partDevs []int32
 	failMark []uint32 // node -> settle stamp: changed in a split whose branches both did not settle
 	branchID uint32
 	iterID   uint32
 }
 
 func (a *analysis) init(nn int) {
-	a.taintMark, a.failMark = make([]uint32, nn), make([]uint32, nn)
+	a.taintMark, a.failMark, a.firstMark = make([]uint32, nn), make([]uint32, nn), make([]uint32, nn)
 	a.taint = make([]uint8, nn)
 	a.b0, a.b0Mark = make([]caseState, nn), make([]uint32, nn)
 	a.res, a.resMark = make([]caseState, nn), make([]uint32, nn)
@@ -193,10 +196,13 @@ func (s *Sim) raceAnalysis(settled bool) {
 	a.recB.reset()
 	s.applyInputs(a.inputs, a.to)
 	s.rounds(false)
+	u.index() // segment 0 is complete: the analyses look nodes up in it
+	if s.conserveCharge() {
+		s.rounds(false) // phase B goes on with the charges given back
+	}
 	s.rec, a.stage = &s.unit, InRounds
 	an.A, an.B = phaseOf(&a.recA), phaseOf(&a.recB)
-	u.index() // segment 0 is complete: the analyses look nodes up in it
-	s.conserveCharge()
+	u.index() // again: charges given back added entries
 
 	// Candidates, from the state before the step (the log's entries), phase
 	// A's end, phase B's end (now) and the unit-delay rounds' end.
@@ -330,28 +336,29 @@ func (s *Sim) decide() {
 			s.note[n] = nodeNote{kind: noteDecided, settle: s.settleID}
 		}
 	}
-	if a.ran {
-		for i := range u.nodes {
-			e := &u.nodes[i]
-			if s.nl.nodeKind[e.n] == Power || s.nl.nodeKind[e.n] == Ground || s.source[e.n] {
+	// What the unit-delay rounds left: with race analysis, a node's entry
+	// of segment 0 (the rounds' end if they changed it, else its state
+	// before the step); every node case analysis changed has an entry after
+	// l0End with its state before that (the first one counts), which is the
+	// rounds' end where segment 0 has none.
+	for i := range u.nodes {
+		e := &u.nodes[i]
+		n := e.n
+		if s.source[n] || (i < a.l0End && !a.ran) {
+			continue
+		}
+		was := s.saved(i)
+		switch {
+		case i < a.l0End && i < a.unitN:
+			was = a.unitEnd[i]
+		case i >= a.l0End:
+			if a.firstMark[n] == s.settleID || (a.ran && u.before(n) >= 0 && u.before(n) < a.l0End) {
 				continue
 			}
-			was := s.saved(i)
-			if i < a.unitN {
-				was = a.unitEnd[i]
-			}
-			if !sameNode(was, s.Node(int(e.n))) {
-				add(e.n)
-			}
+			a.firstMark[n] = s.settleID
 		}
-	}
-	for _, n := range a.adopted {
-		if !a.ran || s.touchMark[n] != s.settleID {
+		if !sameNode(was, s.Node(int(n))) {
 			add(n)
-		}
-		if s.touchMark[n] != s.settleID {
-			s.touchMark[n] = s.settleID
-			s.touched = append(s.touched, n)
 		}
 	}
 	if len(rec.changed) > start {
@@ -377,14 +384,18 @@ func sameNode(a, b NodeState) bool {
 // although charge that only moved between floating nodes ends where the
 // final connections put it, whatever the order of the changes. A floating
 // part phase B leaves X with no voltage (nodes joined by devices that are
-// on, no source) takes sum(C V) / sum(C) of its nodes' voltages before the
-// step when the charge could not go anywhere else: every device that was
-// on or unknown before the step, after phase A or after phase B joins it
-// only to its own nodes. Where a device between its nodes turned on and
-// off again (a pulse) or a source could reach it, it stays X.
-func (s *Sim) conserveCharge() {
+// on, no source) gets its nodes' charges from before the step back, and
+// phase B goes on from there (physical mode shares them as always), when
+// the charge could not go anywhere else: every device that was on or
+// unknown before the step, after phase A or after phase B joins it only to
+// its own nodes, is on at the end and conducts across the voltages there
+// (one reservoir: no order of connection can leave a different split).
+// Where a device between its nodes turned on and off again (a pulse) or a
+// source could reach it, it stays X. It reports whether it gave any part
+// its charge back.
+func (s *Sim) conserveCharge() bool {
 	if s.mode != Physical {
-		return
+		return false
 	}
 	nl := s.nl
 	a := &s.ana
@@ -402,10 +413,11 @@ func (s *Sim) conserveCharge() {
 		return s.cond[d]
 	}
 	aOf := func(n int32) Value { // a node's value at the end of phase A
-		if i := u.before(n); i >= 0 && i < a.aN {
+		i := u.before(n)
+		switch {
+		case i >= 0 && i < a.aN:
 			return a.aVal[i]
-		}
-		if i := u.before(n); i >= 0 {
+		case i >= 0:
 			return u.nodes[i].val
 		}
 		return s.val[n]
@@ -418,6 +430,7 @@ func (s *Sim) conserveCharge() {
 		return g < 0 || conduction(nl.devKind[d], aOf(g)) != Off
 	}
 	a.partID++
+	gave := false
 	for i := range u.nodes {
 		n := u.nodes[i].n
 		if a.partMark[n] == a.partID || s.source[n] || s.val[n] != VX || !math.IsNaN(s.volts[n]) || !s.str[n].IsCharge() {
@@ -426,6 +439,7 @@ func (s *Sim) conserveCharge() {
 		// The part: everything joined to n through devices that were ever on.
 		a.part = append(a.part[:0], n)
 		a.partMark[n] = a.partID
+		a.partDevs = a.partDevs[:0]
 		ok := true
 		for k := 0; k < len(a.part) && ok; k++ {
 			m := a.part[k]
@@ -438,21 +452,18 @@ func (s *Sim) conserveCharge() {
 					ok = false // a source could reach it, or a connection made during the step is broken at its end
 					break
 				}
+				a.partDevs = append(a.partDevs, d)
 				if a.partMark[o] != a.partID {
 					a.partMark[o] = a.partID
 					a.part = append(a.part, o)
 				}
 			}
 		}
-		if !ok {
-			continue
-		}
-		var sumC, sumQ, lo, hi float64
-		lo, hi = math.Inf(1), math.Inf(-1)
+		lo, hi := math.Inf(1), math.Inf(-1)
 		for _, m := range a.part {
 			j := u.before(m)
-			if j < 0 || !s.str[m].IsCharge() {
-				ok = false
+			if !ok || j < 0 || !u.nodes[j].str.IsCharge() {
+				ok = false // it was driven before the step: its charge came from a source
 				break
 			}
 			v := s.saved(j).Volts
@@ -460,33 +471,20 @@ func (s *Sim) conserveCharge() {
 				ok = false // an unknown charge: the range stands
 				break
 			}
-			c := nl.nodeCap[m]
-			sumC, sumQ = sumC+c, sumQ+c*v
 			lo, hi = min(lo, v), max(hi, v)
+		}
+		for _, d := range a.partDevs {
+			ok = ok && s.conductsAcross(d, lo, hi)
 		}
 		if !ok {
 			continue
 		}
-		v := sumQ / sumC
-		val := VX
-		switch p := &s.phys; {
-		case v <= p.vil:
-			val = V0
-		case v >= p.vih:
-			val = V1
-		}
-		shared := hi-lo > 1e-3
 		for _, m := range a.part {
-			before := s.saved(u.before(m)).Volts
-			s.val[m], s.volts[m], s.state[m] = val, v, StateZ
-			in := &s.phys.info[m]
-			*in = noPhysRec()
-			in.How = howCharge
-			if shared {
-				in.Before = before
-				s.phys.shareMark[m] = s.settleID
-			}
-			s.shared[m], s.fight[m] = shared, false
+			s.restoreNode(u.before(m))
+			s.seed(m)
+			s.gates = append(s.gates, m) // the devices it gates follow its value again
 		}
+		gave = true
 	}
+	return gave
 }

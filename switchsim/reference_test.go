@@ -708,7 +708,7 @@ func (r *refSim) Settle() refResult {
 		}
 	}
 	preCase := r.save()
-	fail := r.cases(&res, solved)
+	fail := r.cases(&res)
 	if analysis {
 		var osc []int
 		for n := 0; n < nn; n++ {
@@ -851,7 +851,7 @@ func (r *refSim) passGate(n int) bool {
 
 // cases is case analysis on the present state; it returns the nodes
 // changed in a split whose two branches both did not settle.
-func (r *refSim) cases(res *refResult, solved map[int]bool) map[int]bool {
+func (r *refSim) cases(res *refResult) map[int]bool {
 	fail := map[int]bool{}
 	if r.splitMax < 0 {
 		return fail
@@ -864,7 +864,7 @@ func (r *refSim) cases(res *refResult, solved map[int]bool) map[int]bool {
 		// least one device and are not tainted, in node order."
 		var cands []int
 		for n := 0; n < nn; n++ {
-			if solved[n] && r.val[n] == sw.VX && !r.isSource(n) && len(r.nl.GatedDevices(n)) > 0 && !r.tainted(n) {
+			if r.solvedAt[n] == r.settleNo && r.val[n] == sw.VX && !r.isSource(n) && len(r.nl.GatedDevices(n)) > 0 && !r.tainted(n) {
 				cands = append(cands, n)
 			}
 		}
@@ -969,15 +969,9 @@ func (r *refSim) cases(res *refResult, solved map[int]bool) map[int]bool {
 			break
 		}
 		r.adopted = true
-		// "the devices those nodes gate take their new state (no group is solved again)"
-		for n, g := range got {
-			if g.conflict {
-				continue
-			}
-			for _, di := range r.nl.GatedDevices(n) {
-				r.cond[di] = r.conductionOf(r.devs[di])
-			}
-		}
+		// "the devices those nodes gate take their new state and rounds run
+		// (limit L, no forcing), as in a branch"
+		visits += r.run(map[int]bool{}, true).visits
 	}
 	return fail
 }

@@ -444,7 +444,7 @@ func (s *Sim) applyInputs(ins []int32, to []Drive) {
 		}
 		if a.was[i] || s.source[n] {
 			for _, d := range nl.chanDev[nl.chanStart[n]:nl.chanStart[n+1]] {
-				if s.cond[d] != Off {
+				if s.cond[d] != Off || s.physLeak(d) {
 					o := nl.other(d, n)
 					if !s.source[o] {
 						s.seed(o)

@@ -113,8 +113,10 @@ func TestSmokeExplainDegrader(t *testing.T) {
 	}
 }
 
-// Physical explanation of a ratioed fight: the divider's resistances give
-// the node's voltage, V = vdd Rdown / (Rup + Rdown) (Ohm's law).
+// Physical explanation of a ratioed fight: the node sits at the
+// resistive-load inverter's VOL (level-1, worked by hand in
+// resistiveLoadVOL), and the effective resistances at that point give it
+// back, V = vdd Rdown / (Rup + Rdown) (Ohm's law): the pull's is its own.
 func TestSmokeExplainDivider(t *testing.T) {
 	b := NewBuilder()
 	b.Input("en")
@@ -129,9 +131,10 @@ func TestSmokeExplainDivider(t *testing.T) {
 		t.Fatalf("no divider: %+v", e)
 	}
 	tech := s.Netlist().Tech
-	rDown := tech.Rn * tech.L / tech.Wn      // R = r_sq L / W (MODEL.md §4)
-	rUp := tech.DefaultResistance(Pull)      // the documented default of an unsized pull
-	want := tech.Vdd * rDown / (rUp + rDown) // Ohm's law
+	rUp := tech.DefaultResistance(Pull) // the documented default of an unsized pull
+	want := resistiveLoadVOL(tech, betaOf(tech.Kn, tech.Wn, tech.L), rUp)
+	cur := (tech.Vdd - want) / rUp // through the pull (Ohm's law)
+	rDown := want / cur
 	if abs(want-e.Volts) > 1e-6 || abs(e.Divider.Up-rUp) > 1e-6*rUp || abs(e.Divider.Down-rDown) > 1e-6*rDown {
 		t.Fatalf("divider %+v at %.4f V, want up %.0f down %.0f ohm, %.4f V", e.Divider, e.Volts, rUp, rDown, want)
 	}

@@ -215,10 +215,7 @@ func (s *Sim) resolveSingle(g *group) {
 		if s.cond[d] != On {
 			continue
 		}
-		src := nl.devA[d]
-		if src == n {
-			src = nl.devB[d]
-		}
+		src := nl.other(d, n)
 		if !s.source[src] {
 			continue // a device from the node to itself
 		}

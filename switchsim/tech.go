@@ -2,10 +2,11 @@ package switchsim
 
 import (
 	"fmt"
+	"math"
 	"sort"
 )
 
-// Tech holds the technology parameters of physical mode (MODEL.md §4).
+// Tech holds the technology parameters of physical mode (DEVELOPERS.md, physical mode).
 // Voltages are in volts, sizes in metres, capacitances in farads,
 // resistances in ohms per square, kn and kp in A/V^2. Vtp is kept as a
 // magnitude. VIL and VIH are zero unless overridden; Derive fills them.
@@ -94,23 +95,83 @@ func (t *Tech) Get(key string) (float64, bool) {
 	return *f(t), true
 }
 
-// Validate reports parameters that make the estimates meaningless.
+// TechError is a technology value out of its range. Key names the
+// technology key at fault (the design format's, FORMAT.md), so that a
+// reader can report the error at that key's position.
+type TechError struct {
+	Key string
+	Msg string
+}
+
+func (e *TechError) Error() string { return "technology: " + e.Msg }
+
+// techRanges are the ranges a technology value must lie in, inclusive:
+// wide bounds around every CMOS process (from 15 V metal-gate logic to
+// deep-submicron), narrow enough that every derived value stays finite.
+// vtn and vtp must also lie below vdd.
+var techRanges = []struct {
+	key    string
+	lo, hi float64
+	unit   string
+}{
+	{"vdd", 0.1, 100, "V"},
+	{"vtn", 0.01, 10, "V"},
+	{"vtp", 0.01, 10, "V"},
+	{"gamma", 0, 5, "V^0.5"},
+	{"phi", 0.05, 5, "V"},
+	{"kn", 1e-9, 1, "A/V^2"},
+	{"kp", 1e-9, 1, "A/V^2"},
+	{"rn", 1e-3, 1e12, "ohm per square"},
+	{"rp", 1e-3, 1e12, "ohm per square"},
+	// Sizes and the node capacitance only need to be positive and finite
+	// here: the estimates use their ratios and products; the design reader
+	// notes values outside a cell's plausible range (README).
+	{"wn", 1e-12, 1e3, "m"},
+	{"wp", 1e-12, 1e3, "m"},
+	{"l", 1e-12, 1e3, "m"},
+	{"cnode", 1e-21, 1, "F"},
+}
+
+// Validate reports a parameter that makes the estimates meaningless, as a
+// *TechError naming its key: a value outside its physical range
+// (techRanges), thresholds not below vdd, a supply at or below Vtn + |Vtp|
+// (the reference inverter then has no gain, so VIL and VIH do not exist)
+// unless both are given, vil/vih out of order, or derived thresholds that
+// are not finite.
 func (t *Tech) Validate() error {
+	for _, r := range techRanges {
+		v, _ := t.Get(r.key)
+		if !(v >= r.lo && v <= r.hi) { // NaN fails too
+			msg := fmt.Sprintf("%s=%g is outside the physical range %g to %g %s", r.key, v, r.lo, r.hi, r.unit)
+			if v <= 0 && r.lo > 0 {
+				msg = r.key + " must be positive: " + msg
+			}
+			return &TechError{r.key, msg}
+		}
+	}
 	switch {
-	case t.Vdd <= 0:
-		return fmt.Errorf("technology: vdd must be positive")
-	case t.Vtn <= 0 || t.Vtn >= t.Vdd || t.Vtp <= 0 || t.Vtp >= t.Vdd:
-		return fmt.Errorf("technology: thresholds must lie between 0 and vdd")
-	case t.Gamma < 0 || t.Phi <= 0:
-		return fmt.Errorf("technology: gamma must be >= 0 and phi > 0")
-	case t.Kn <= 0 || t.Kp <= 0 || t.Rn <= 0 || t.Rp <= 0:
-		return fmt.Errorf("technology: kn, kp, rn and rp must be positive")
-	case t.Wn <= 0 || t.Wp <= 0 || t.L <= 0 || t.Cnode <= 0:
-		return fmt.Errorf("technology: wn, wp, l and cnode must be positive")
-	case t.VIL < 0 || t.VIH < 0 || t.VIL > t.Vdd || t.VIH > t.Vdd:
-		return fmt.Errorf("technology: vil and vih must lie between 0 and vdd")
-	case t.VIL != 0 && t.VIH != 0 && t.VIL >= t.VIH:
-		return fmt.Errorf("technology: vil must be below vih")
+	case t.Vtn >= t.Vdd:
+		return &TechError{"vtn", fmt.Sprintf("thresholds must lie between 0 and vdd: vtn=%g V is not below vdd (%g V)", t.Vtn, t.Vdd)}
+	case t.Vtp >= t.Vdd:
+		return &TechError{"vtp", fmt.Sprintf("thresholds must lie between 0 and vdd: vtp=%g V is not below vdd (%g V)", t.Vtp, t.Vdd)}
+	}
+	for _, k := range []string{"vil", "vih"} {
+		if v, _ := t.Get(k); !(v >= 0 && v < t.Vdd) {
+			return &TechError{k, fmt.Sprintf("%s=%g V must lie between 0 and vdd (%g V)", k, v, t.Vdd)}
+		}
+	}
+	if t.VIL != 0 && t.VIH != 0 && t.VIL >= t.VIH {
+		return &TechError{"vil", fmt.Sprintf("vil=%g V must be below vih (%g V)", t.VIL, t.VIH)}
+	}
+	if t.Vtn+t.Vtp >= t.Vdd && (t.VIL == 0 || t.VIH == 0) {
+		return &TechError{"vdd", fmt.Sprintf("vdd=%g V is not above vtn + vtp (%g V): the reference inverter has no gain, so VIL and VIH do not exist; raise vdd, lower the thresholds, or give vil= and vih=", t.Vdd, t.Vtn+t.Vtp)}
+	}
+	vil, vih, vm := t.Thresholds()
+	switch {
+	case !(vil > 0 && vil < vih && vih < t.Vdd):
+		return &TechError{"vdd", fmt.Sprintf("the thresholds these values give (VIL %g V, VIH %g V) are not between 0 and vdd in order", vil, vih)}
+	case math.IsNaN(vm) || math.IsInf(vm, 0) || math.IsNaN(t.PassHigh(t.Vdd)) || math.IsNaN(t.PassLow(0)):
+		return &TechError{"vdd", "the switching threshold or the pass limits these values give are not finite"}
 	}
 	return nil
 }

@@ -2,7 +2,7 @@ package switchsim
 
 import "math"
 
-// Derived technology values (MODEL.md §4): the reference inverter's
+// Derived technology values (DEVELOPERS.md, physical mode): the reference inverter's
 // thresholds, the body-effect pass limits and the default resistances.
 
 // Thresholds returns the logic thresholds physical mode decides values by:
@@ -114,7 +114,7 @@ func (c refInverter) steep(vi float64) bool {
 // PassHigh is the highest level an nMOS with its gate at vg passes: its
 // source (the output) rises until Vout = vg - Vt(Vout), with the body effect
 // Vt = Vtn + gamma (sqrt(phi + Vout) - sqrt(phi)). With u = sqrt(phi + Vout)
-// this is u^2 + gamma u - (vg - Vtn + gamma sqrt(phi) + phi) = 0 (MODEL.md §4).
+// this is u^2 + gamma u - (vg - Vtn + gamma sqrt(phi) + phi) = 0 (DEVELOPERS.md, physical mode).
 // A gate at or below Vtn passes nothing above 0.
 func (t Tech) PassHigh(vg float64) float64 {
 	return bodyLimit(vg, t.Vtn, t.Gamma, t.Phi)

@@ -6,7 +6,7 @@ import (
 )
 
 // vtBody is the body-effect threshold Vt = Vt0 + gamma (sqrt(phi + Vsb) -
-// sqrt(phi)) (long-channel textbook formula, MODEL.md §4).
+// sqrt(phi)) (long-channel textbook formula, DEVELOPERS.md (physical mode)).
 func vtBody(vt0, gamma, phi, vsb float64) float64 {
 	return vt0 + gamma*(math.Sqrt(phi+vsb)-math.Sqrt(phi))
 }
@@ -55,7 +55,7 @@ func TestPassLimitsWithoutBodyEffect(t *testing.T) {
 }
 
 func TestPassLimitClosedFormAgainstNumeric(t *testing.T) {
-	// The closed form of MODEL.md §4 against a numerical solution of
+	// The closed form of DEVELOPERS.md (physical mode) against a numerical solution of
 	// V = Vg - Vt(V) (and the pMOS mirror image), to 1e-9.
 	for _, tc := range []Tech{Generic(), func() Tech { x := Generic(); x.Gamma, x.Phi = 0.9, 0.55; return x }()} {
 		for vg := tc.Vtn + 0.01; vg <= tc.Vdd; vg += 0.0937 {
@@ -73,12 +73,12 @@ func TestPassLimitClosedFormAgainstNumeric(t *testing.T) {
 
 func TestPassHighWorkedExample(t *testing.T) {
 	// A 2.5 V long-channel technology, vtn0 0.43 V, gamma 0.4 V^0.5,
-	// |2 phi_F| 0.6 V: an nMOS with its gate at 2.5 V passes a high of about
-	// 1.76 V (textbook-style worked example, from memory).
+	// |2 phi_F| 0.6 V: an nMOS with its gate at 2.5 V passes a high of
+	// 1.765 V (textbook-style worked example, from memory).
 	tc := Generic()
 	tc.Vdd, tc.Vtn, tc.Gamma, tc.Phi = 2.5, 0.43, 0.4, 0.6
-	if got := tc.PassHigh(2.5); math.Abs(got-1.76) > 0.01 {
-		t.Errorf("PassHigh(2.5) = %.4f, want about 1.76", got)
+	if got := tc.PassHigh(2.5); math.Abs(got-1.765) > 0.0005 {
+		t.Errorf("PassHigh(2.5) = %.4f, want 1.765", got)
 	}
 }
 
@@ -182,7 +182,7 @@ func TestThresholdOverrides(t *testing.T) {
 }
 
 func TestDefaultResistanceMargin(t *testing.T) {
-	// MODEL.md §4: a default strong device wins against a default pull (and a
+	// DEVELOPERS.md (physical mode): a default strong device wins against a default pull (and a
 	// pull against a weak one) by a clear margin: the divider lands in the
 	// outer half of the 0 or 1 band, never near VIL/VIH.
 	tc := Generic()
@@ -204,6 +204,52 @@ func TestDefaultResistanceMargin(t *testing.T) {
 			}
 		} else if v := tc.Vdd * c.rLose / (c.rWin + c.rLose); v < (vih+tc.Vdd)/2 {
 			t.Errorf("%s: %.3f V, want above %.3f", c.name, v, (vih+tc.Vdd)/2)
+		}
+	}
+}
+
+func TestTechValidateRanges(t *testing.T) {
+	// Values outside physical ranges are refused with the key at fault, so
+	// that a reader can report the error at that key (DEVELOPERS.md lists
+	// the ranges). vdd = 0.8 V is below Vtn + |Vtp| = 0.9 V: the square-law
+	// reference inverter then has no region of gain, so VIL and VIH do not
+	// exist (long-channel textbook result, from memory).
+	for _, c := range []struct {
+		key string
+		v   float64
+	}{
+		{"kn", 1e-320}, {"vdd", 1e308}, {"vdd", math.NaN()}, {"kp", math.Inf(1)}, {"vtn", 0}, {"wn", 1e9},
+		{"vdd", 0.8}, {"vtp", 1.9}, {"gamma", -0.1}, {"l", 5e3}, {"cnode", 1e-30}, {"rn", 0}, {"vil", 1.9},
+	} {
+		tc := Generic()
+		if err := tc.Set(c.key, c.v); err != nil {
+			t.Fatal(err)
+		}
+		err := tc.Validate()
+		te, ok := err.(*TechError)
+		if !ok || te.Key != c.key {
+			t.Errorf("%s=%g: error %v, want a TechError naming %s", c.key, c.v, err, c.key)
+		}
+	}
+	tc := Generic()
+	tc.Vdd = 0.8
+	tc.VIL, tc.VIH = 0.3, 0.5 // given thresholds need no gain
+	if err := tc.Validate(); err != nil {
+		t.Errorf("vdd 0.8 with vil and vih given: %v", err)
+	}
+	if g := Generic(); g.Validate() != nil {
+		t.Errorf("generic refused: %v", g.Validate())
+	}
+	// Every accepted technology has finite thresholds in order.
+	for _, vdd := range []float64{0.95, 1.2, 1.8, 3.3, 5, 15, 20} {
+		tc := Generic()
+		tc.Vdd = vdd
+		if tc.Validate() != nil {
+			continue
+		}
+		vil, vih, vm := tc.Thresholds()
+		if !(0 < vil && vil < vm && vm < vih && vih < vdd) {
+			t.Errorf("vdd %g: VIL %g VM %g VIH %g out of order", vdd, vil, vm, vih)
 		}
 	}
 }

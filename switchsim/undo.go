@@ -22,8 +22,9 @@ type nodeSave struct {
 
 type physSave struct {
 	volts float64
-	phys  physRec // physical mode's record of the node
-	share uint32  // physical mode's charge-sharing stamp
+	phys  physRec    // physical mode's record of the node
+	share uint32     // physical mode's charge-sharing stamp
+	start fightStart // where the node's next fight solve starts
 }
 
 // devSave is a device's state as the log keeps it; physical mode's part is
@@ -34,7 +35,8 @@ type devSave struct {
 }
 
 type physDevSave struct {
-	gv, lim float64 // the gate voltage recorded and the pass limit for it
+	dv   physDev // the gate voltage recorded and the pass limit for it
+	leak bool    // partly on
 }
 
 type undoLog struct {
@@ -115,7 +117,7 @@ func (s *Sim) saveNode(n int32) {
 	u.nodes = append(u.nodes, nodeSave{n, s.val[n], s.str[n], s.state[n], s.drive[n],
 		s.fight[n], s.contest[n], s.shared[n], s.source[n]})
 	if s.mode == Physical {
-		u.phys = append(u.phys, physSave{s.volts[n], s.phys.info[n], s.phys.shareMark[n]})
+		u.phys = append(u.phys, physSave{s.volts[n], s.phys.info[n], s.phys.shareMark[n], s.phys.fightV[n]})
 	}
 }
 
@@ -128,7 +130,7 @@ func (s *Sim) logDevice(d int32) {
 	u.dmark[d] = u.id
 	u.devs = append(u.devs, devSave{d, s.cond[d]})
 	if s.mode == Physical {
-		u.pdevs = append(u.pdevs, physDevSave{s.phys.gv[d], s.phys.lim[d]})
+		u.pdevs = append(u.pdevs, physDevSave{s.phys.dv[d], s.phys.leak[d]})
 	}
 }
 
@@ -140,7 +142,7 @@ func (s *Sim) restoreNode(i int) {
 	s.fight[n], s.contest[n], s.shared[n], s.source[n] = e.fight, e.contest, e.shared, e.source
 	if s.mode == Physical {
 		p := &s.undo.phys[i]
-		s.volts[n], s.phys.info[n], s.phys.shareMark[n] = p.volts, p.phys, p.share
+		s.volts[n], s.phys.info[n], s.phys.shareMark[n], s.phys.fightV[n] = p.volts, p.phys, p.share, p.start
 	}
 }
 
@@ -157,7 +159,8 @@ func (s *Sim) undoTo(m undoMark, drop bool) {
 		e := &u.devs[i]
 		s.cond[e.d] = e.cond
 		if s.mode == Physical {
-			s.phys.gv[e.d], s.phys.lim[e.d] = u.pdevs[i].gv, u.pdevs[i].lim
+			s.phys.dv[e.d] = u.pdevs[i].dv
+			s.setLeak(e.d, u.pdevs[i].leak)
 		}
 	}
 	if !u.devOn {

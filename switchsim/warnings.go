@@ -245,7 +245,7 @@ func (s *Sim) Message(w Warning) string {
 		}
 		return fmt.Sprintf("%s is %s%s: driven %s but a path of the other value also reaches it", node, s.state[w.Node], volts, s.val[w.Node])
 	case WarnChargeSharing:
-		return fmt.Sprintf("%s shares charge with %s and now holds %s%s", node, strings.Join(s.sharingNames(w.Node), ", "), s.val[w.Node], volts)
+		return fmt.Sprintf("%s shares charge with %s and now holds %s%s%s", node, strings.Join(s.sharingNames(w.Node), ", "), s.val[w.Node], volts, s.sharingLostText(w.Node))
 	case WarnHeldByCharge:
 		return fmt.Sprintf("%s holds %s by stored charge alone: nothing drives it", node, s.val[w.Node])
 	case WarnFloatingGate:
@@ -281,9 +281,9 @@ func (s *Sim) Message(w Warning) string {
 	case WarnDegraded:
 		return fmt.Sprintf("%s is a degraded %s%s: a threshold drop through %s", node, s.val[w.Node], volts, dev(w.Device))
 	case WarnLevelLost:
-		return fmt.Sprintf("%s is X: its estimated level%s is in the undefined band, last dropped by %s", node, volts, dev(w.Device))
+		return s.lostText(w)
 	case WarnPartialOn:
-		return fmt.Sprintf("%s is off by logic but its gate %s sits at a degraded level: it conducts partly", dev(w.Device), node)
+		return s.partialOnText(w)
 	}
 	return fmt.Sprintf("%s: %s", node, w.Kind)
 }

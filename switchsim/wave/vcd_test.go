@@ -309,7 +309,9 @@ func TestValuesMatchTheRun(t *testing.T) {
 // effect Vt is above Vt0 (first-order MOS model, any textbook: Vt = Vt0 +
 // gamma (sqrt(phi + Vsb) - sqrt(phi))). With the generic preset (vdd 1.8,
 // vtn 0.45) the sampled st is a 1 on its wire and below 1.8 - 0.45 = 1.35
-// V on its voltage, while q, driven by a full inverter, is at the rails.
+// V on its voltage, while q, driven by an inverter, is at the rails but for
+// the few tens of millivolts its pMOS, partly on under the degraded high,
+// lifts it by (the level-1 DC point of the two devices, about 0.02 V).
 func TestVoltagesShowTheDegradedHigh(t *testing.T) {
 	s, _ := runSession(t, "testdata/plat.sw", switchsim.Physical)
 	f := parseVCD(t, writeVCD(t, s))
@@ -326,8 +328,8 @@ func TestVoltagesShowTheDegradedHigh(t *testing.T) {
 	if v := vol(1, "st_v"); !(v < 1.35 && v > 0.9) {
 		t.Errorf("st_v at #1 = %v V, want a degraded high below 1.35 V (and above vdd/2)", v)
 	}
-	if v := vol(1, "q_v"); v != 0 {
-		t.Errorf("q_v at #1 = %v V, want 0 (a full inverter pulls to ground)", v)
+	if v := vol(1, "q_v"); !(v > 0 && v < 0.05) {
+		t.Errorf("q_v at #1 = %v V, want just above 0 (the inverter pulls to ground against its partly-on pMOS)", v)
 	}
 	if v := vol(3, "q_v"); v != 1.8 {
 		t.Errorf("q_v at #3 = %v V, want vdd = 1.8", v)
