@@ -26,6 +26,8 @@ examples:
   railyard explore
   railyard explore cells/opsel.sw --steps cells/opsel.steps --trace opsel.trace
   railyard explore demo:` + designs.Default + ` --ascii
+  railyard explore demo:opsel_latch
+  railyard explore lib/oplatch.cdl --top oplatch --inputs d,clk
 `
 
 // exploreOptions are the flags of `explore`.

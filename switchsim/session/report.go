@@ -10,7 +10,13 @@ import (
 	"strings"
 
 	"railyard/switchsim"
+	"railyard/switchsim/diag"
 )
+
+// shown is a node's name as the text report shows it: the spelling the
+// design's file gave it (a netlist's Q<0>, not q[0]), made printable. The
+// JSON report keeps the railyard names, which files read back.
+func shown(nl *switchsim.Netlist, n int) string { return diag.Printable(nl.DisplayName(n)) }
 
 // Summary counts what a batch report covers.
 type Summary struct {
@@ -199,7 +205,7 @@ func (r *Report) textEvent(e *Event, node func(int) switchsim.NodeState) {
 				if i > 0 {
 					p(" ")
 				}
-				p("%s=%s", nl.NodeName(in.Node), in.Drive)
+				p("%s=%s", shown(nl, in.Node), in.Drive)
 			}
 			p("\n")
 		}
@@ -212,7 +218,7 @@ func (r *Report) textEvent(e *Event, node func(int) switchsim.NodeState) {
 			if i > 0 {
 				p(", ")
 			}
-			p("%s=%s", nl.NodeName(n), stateText(node(n)))
+			p("%s=%s", shown(nl, n), stateText(node(n)))
 		}
 		p("\n")
 	}
@@ -220,7 +226,7 @@ func (r *Report) textEvent(e *Event, node func(int) switchsim.NodeState) {
 		if !IsCheck(c) {
 			continue
 		}
-		p("  check  %s want %s got %s  %s\n", nl.NodeName(c.Node), c.Want, stateText(c.Got), passFail(c.Pass))
+		p("  check  %s want %s got %s  %s\n", shown(nl, c.Node), c.Want, stateText(c.Got), passFail(c.Pass))
 	}
 	for _, wr := range e.Warnings {
 		p("  warn   %s: %s\n", wr.Kind, wr.Message)

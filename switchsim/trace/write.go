@@ -183,6 +183,20 @@ func (w *Writer) header(path string) string {
 	p("mode %s\n", s.Options().Mode)
 	p("full-swing %s\n", yesNo(s.Options().FullSwing))
 	p("tech %s\n", techString(s.Netlist().Tech))
+	if d := s.Design(); d.Format != "" && d.Format != "sw" {
+		// A netlist's reading depends on options a .sw design has no use for.
+		p("format %s\n", d.Format)
+		if rw := readWords(d.Options); rw != "" {
+			p("read %s\n", rw)
+		}
+		if in := s.Netlist().Inputs(); len(in) > 0 {
+			names := make([]string, len(in))
+			for i, n := range in {
+				names[i] = word(s.Netlist().DisplayName(n))
+			}
+			p("inputs %s\n", strings.Join(names, " "))
+		}
+	}
 	p("created %s\n", w.opt.Created.UTC().Format(time.RFC3339))
 	return b.String()
 }

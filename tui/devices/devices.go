@@ -427,6 +427,8 @@ func size(dv switchsim.Device) string {
 // kindName fits a device kind in w cells (4 or 6).
 func kindName(k switchsim.DeviceKind, w int) string {
 	switch {
+	case k == switchsim.Tran:
+		return "tran" // always on between two nodes: no rail, so no pull
 	case k >= switchsim.PullUp && w < 6:
 		return "pull"
 	case k == switchsim.PullUp:

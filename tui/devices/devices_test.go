@@ -173,3 +173,20 @@ func TestGolden(t *testing.T) {
 		})
 	}
 }
+
+// In the narrow list a pull shows as "pull" (its channel names its rail),
+// and a tran as "tran": it joins two nodes and has no rail.
+func TestKindNames(t *testing.T) {
+	for _, c := range []struct {
+		k    switchsim.DeviceKind
+		w    int
+		want string
+	}{
+		{switchsim.PullUp, 4, "pull"}, {switchsim.PullDown, 4, "pull"}, {switchsim.Tran, 4, "tran"},
+		{switchsim.PullUp, 6, "pullup"}, {switchsim.PullDown, 6, "pulldn"}, {switchsim.Tran, 6, "tran"}, {switchsim.NMOS, 4, "nmos"},
+	} {
+		if got := kindName(c.k, c.w); got != c.want {
+			t.Errorf("kindName(%s, %d) = %q, want %q", c.k, c.w, got, c.want)
+		}
+	}
+}

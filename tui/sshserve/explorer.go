@@ -117,7 +117,7 @@ func servedName(p string) string {
 // demoNames lists the embedded demos (served as demo:NAME).
 func demoNames() []string {
 	var names []string
-	for _, e := range designs.List() {
+	for _, e := range designs.All() {
 		names = append(names, e.Name)
 	}
 	return names
