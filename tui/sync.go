@@ -121,7 +121,7 @@ func (m *Model) sync() {
 			en.Title += fmt.Sprintf(" (%d warnings, details dropped for memory)", e.NumWarnings())
 		}
 		for _, w := range e.Warnings {
-			en.Warnings = append(en.Warnings, logpanel.Warning{Kind: w.Kind, Message: diag.Printable(w.Message)})
+			en.Warnings = append(en.Warnings, logpanel.Warning{Kind: string(w.Kind), Message: diag.Printable(w.Message)})
 		}
 		entries = append(entries, en)
 	}
@@ -183,7 +183,7 @@ func (m *Model) nodeWarnings(n int) []string {
 		var ws []string
 		for _, w := range e.Warnings {
 			if w.Node == n {
-				ws = append(ws, m.th.Warn.Render(m.th.G.Warn+" "+w.Kind)+" "+diag.Printable(w.Message))
+				ws = append(ws, m.th.Warn.Render(m.th.G.Warn+" "+string(w.Kind))+" "+diag.Printable(w.Message))
 			}
 		}
 		touched := len(ws) > 0

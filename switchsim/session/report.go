@@ -376,7 +376,7 @@ func (s *Session) eventJSON(e *Event, node func(int) switchsim.NodeState) string
 	var warns jsonArray
 	for _, wr := range e.Warnings {
 		var wo jsonObject
-		wo.key("kind").str(wr.Kind)
+		wo.key("kind").str(string(wr.Kind))
 		wo.key("node").str(nl.NodeName(wr.Node))
 		wo.key("message").str(wr.Message)
 		warns.add(wo.close())

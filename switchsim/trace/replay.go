@@ -240,7 +240,7 @@ func compareEvent(nl *switchsim.Netlist, a *Action, e *session.Event, differ fun
 	}
 	got = got[:0]
 	for _, w := range e.Warnings {
-		got = append(got, warnKey(w.Kind, nl.NodeName(w.Node)))
+		got = append(got, warnKey(string(w.Kind), nl.NodeName(w.Node)))
 	}
 	if d := firstDiff(got, a.Warnings); d != "" {
 		differ(a, "warnings differ: %s", d)

@@ -154,7 +154,7 @@ func (w *Writer) format(b *bytes.Buffer, e *session.Event) {
 		b.WriteString("  check " + checkKey(nl.NodeName(c.Node), c) + "\n")
 	}
 	for _, wr := range e.Warnings {
-		b.WriteString("  warn " + warnKey(wr.Kind, nl.NodeName(wr.Node)) + " " + diag.Printable(wr.Message) + "\n")
+		b.WriteString("  warn " + warnKey(string(wr.Kind), nl.NodeName(wr.Node)) + " " + diag.Printable(wr.Message) + "\n")
 	}
 }
 
