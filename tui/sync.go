@@ -77,9 +77,8 @@ func (m *Model) sync() {
 			before[c.Node].State = c.Was
 		}
 	}
-	// (the engine's race analysis will say here when it decided the settle:
-	// see rounds.Settle)
-	st := rounds.Settle{Title: m.title(last), Rounds: last.Rounds, Before: before, Oscillated: last.Oscillated}
+	st := rounds.Settle{Title: m.title(last), Rounds: last.Rounds, Before: before, Oscillated: last.Oscillated,
+		Unsettled: last.Unsettled, Decided: last.Decided}
 	if len(hist) == 1 {
 		st.Title = "start: the first settle, every node from X"
 		st.Before = nil

@@ -124,9 +124,14 @@ type Event struct {
 	Action     Action
 	Rounds     int
 	Oscillated bool
-	Changes    []Change
-	Checks     []CheckResult
-	Warnings   []Warning
+	// Unsettled is set when the unit-delay rounds reached the round limit
+	// without settling; Decided when the engine's race analysis then set
+	// the last round's states (switchsim.Result.Settled, Analysis.Decided),
+	// which the rounds before it did not reach.
+	Unsettled, Decided bool
+	Changes            []Change
+	Checks             []CheckResult
+	Warnings           []Warning
 
 	failed   bool
 	warnings int
@@ -514,7 +519,7 @@ func (s *Session) record(a Action, cursor int) *Event {
 // every node's state letter before the action and is brought up to date.
 func buildEvent(sim *switchsim.Sim, a Action, letters []switchsim.State, fullSwing bool) *Event {
 	r := sim.Settle()
-	e := &Event{Action: a, Rounds: r.Rounds, Oscillated: r.Oscillated}
+	e := &Event{Action: a, Rounds: r.Rounds, Oscillated: r.Oscillated, Unsettled: !r.Settled, Decided: r.Analysis.Decided}
 	if len(r.Changed) > 0 {
 		e.Changes = make([]Change, 0, len(r.Changed))
 	}

@@ -297,10 +297,10 @@ func (m Model) View() string {
 		info += "  " + m.names.Node[n] // the cut name, whole
 	}
 	lines = append(lines, t.TitleBar("Nodes", info, m.focused, m.w))
-	// columns: marks(3) name state value strength volts. Waiting for
-	// physical mode's margins: a column after volts will give each node's
-	// margin to the threshold its value depends on (VIL for a 0, VIH for a
-	// 1), where the engine gives one; not built until it does.
+	// columns: marks(3) name state value strength volts. Left for physical
+	// mode's margins (not built here): a column after volts will give each
+	// node's noise margin to the band (switchsim's Sim.Margin, Noise: VIL -
+	// V for a 0, V - VIH for a 1), once the session reads it.
 	lines = append(lines, st.Header.Render(fmt.Sprintf("    %-*s %s %s %-6s %5s", nameW, "name", "s", "v", "str", "volts")))
 	if len(m.rows) == 0 {
 		msg := "no nodes"

@@ -243,13 +243,14 @@ func Lines(nl *switchsim.Netlist, names *panel.Names, e switchsim.Explanation, l
 	if e.Divider != nil {
 		out = append(out, "", fmt.Sprintf("Divider: %s to the 1 side, %s to the 0 side %s %.2f V",
 			panel.Ohms(e.Divider.Up), panel.Ohms(e.Divider.Down), t.G.Arrow, e.Divider.Volts))
-		// Waiting for physical mode (square-law fights and margins): the
-		// node's margin to the threshold it must cross (how far the write
-		// missed, or how much it has to spare) goes on this line, and the
-		// fight is drawn below it: each side's current against the node's
-		// voltage from 0 to vdd, with the point where they cross (the
-		// node's level) and the band between VIL and VIH marked. Both come
-		// from the Explanation once the engine fills them; not built now.
+		// Left for physical mode's margins and a picture of the fight (not
+		// built here): the node's margins (switchsim's Sim.Margin, not yet
+		// read through the session: Noise to the band, Write to the driven
+		// stage's VM) go on this line, and the fight is drawn below it:
+		// each side's current against the node's voltage from 0 to vdd
+		// (the level-1 curves of the devices the divider names), with the
+		// point where they cross (the node's level) and the band between
+		// VIL and VIH marked.
 	}
 	if e.Floating {
 		out = append(out, "")
