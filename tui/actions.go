@@ -125,6 +125,8 @@ func (m *Model) report(e *session.Event) {
 	}
 	if e.Oscillated {
 		msg += ", OSCILLATED"
+	} else if e.Decided {
+		msg += ", decided by race analysis (r)"
 	}
 	if e.Failed() {
 		var bad []string

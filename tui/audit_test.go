@@ -309,7 +309,11 @@ func TestModeSwitch(t *testing.T) {
 func TestTrySizeAndSave(t *testing.T) {
 	s := openDemo(t, "strong_keeper", switchsim.Physical)
 	m := New(s, 120, 40, Options{})
-	press(m, "n", "n", "d", "tab", "tab")
+	press(m, "n", "n", "W")
+	if m.prompt.Active() || !strings.Contains(m.Status(), "W tries a size on a transistor's row of Devices") {
+		t.Errorf("W on the inputs: %q", m.Status())
+	}
+	press(m, "d", "tab", "tab")
 	kn, _ := s.Netlist().LookupDevice("keep.n")
 	press(m, "home")
 	for m.devices.Selected() != kn {

@@ -175,6 +175,9 @@ func (m *Model) resize(d int, w, l float64) {
 		} else {
 			msg += fmt.Sprintf(": step %d passes", e.Action.Step+1)
 		}
+		if e.Decided {
+			msg += ", decided by race analysis (the rounds did not settle: r)"
+		}
 	}
 	msg += "; " + differWords(differ, "before") + "; " + plural(ns.Len()-1, "action") + " re-simulated"
 	if ns.Edited() {

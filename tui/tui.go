@@ -469,6 +469,8 @@ func (m *Model) key(k tea.KeyMsg) tea.Cmd {
 	case key.Matches(k, km.Mode):
 		m.switchMode()
 		return m.resumeAudit()
+	case key.Matches(k, m.devices.KeyMap.Size) && (m.view != ViewDevices || m.focus != focusDetail):
+		m.note("W tries a size on a transistor's row of Devices: d shows them, tab moves there")
 	case m.focus != focusDetail && m.sideways(k):
 		// left and right replay the rounds (or scroll the timeline) from
 		// the lists too, which have no use for them
