@@ -1,6 +1,8 @@
-// Immediate-field selector: which field of the instruction word drives the
-// immediate operand bit, picked by a two-bit format code through a tree of
-// transmission gates, then buffered.
+// immediate-field selector: a two-bit format code picks the field that drives imm
+//
+// Which field of the instruction word drives the immediate operand bit is
+// picked by the format code through a tree of transmission gates, then
+// buffered.
 //
 // railyard demo as an IEEE 1364-2005 switch-level module: cmos switches
 // (out, data, ncontrol, pcontrol), nmos and pmos (out, data, control),

@@ -32,6 +32,7 @@ import (
 var genBenchMax = flag.Int("bench.max", 300000, "largest network (devices) the benchmarks build")
 
 type genBench struct {
+	races  sw.RaceMode // when race analysis runs (the zero value: when needed)
 	build  func() *sw.Builder
 	setup  func(b *testing.B, s *sw.Sim)               // drives before the first Settle
 	after  func(b *testing.B, s *sw.Sim)               // once after the first Settle
@@ -71,14 +72,15 @@ func runGenBench(b *testing.B, bn genBench) {
 	if err != nil {
 		b.Fatal(err)
 	}
-	s := sw.NewSim(nl, sw.Options{Mode: sw.Ideal})
+	opt := sw.Options{Mode: sw.Ideal, Races: bn.races}
+	s := sw.NewSim(nl, opt)
 	h1 := heapNow()
 	devs := float64(nl.NumDevices())
 	reps := max(1, min(20, int(2e6/devs)))
 
 	// The first Settle of a fresh Sim solves every group.
 	first := minDuration(reps, func() time.Duration {
-		f := sw.NewSim(nl, sw.Options{Mode: sw.Ideal})
+		f := sw.NewSim(nl, opt)
 		bn.setup(b, f)
 		t0 := time.Now()
 		f.Settle()
@@ -188,8 +190,12 @@ func BenchmarkMuxTree(b *testing.B) {
 
 // BenchmarkFlipFlopChain clocks a chain of master-slave flip-flops preset
 // to alternating values, so that every edge switches every flip-flop: one
-// step is one clock edge (clk and clkb both change).
-func BenchmarkFlipFlopChain(b *testing.B) {
+// step is one clock edge (clk and clkb both change). It measures the plain
+// unit-delay settle (race analysis off: with clk and clkb two inputs changed
+// together it would run on every edge; BenchmarkRaceAnalysis measures that).
+func BenchmarkFlipFlopChain(b *testing.B) { benchFlipFlopChain(b, sw.RacesOff) }
+
+func benchFlipFlopChain(b *testing.B, races sw.RaceMode) {
 	for _, devices := range []int{1000, 10000, 100000, 1000000} {
 		if devices > *genBenchMax {
 			continue
@@ -203,6 +209,7 @@ func BenchmarkFlipFlopChain(b *testing.B) {
 			var clk, clkb, d, qLast int
 			high := true
 			runGenBench(b, genBench{
+				races: races,
 				build: func() *sw.Builder { return gen.FlipFlopChainPreset(n) },
 				setup: func(b *testing.B, s *sw.Sim) {
 					clk, clkb, d = genInput(b, s, "clk"), genInput(b, s, "clkb"), genInput(b, s, "d")

@@ -71,11 +71,28 @@ type mismatch struct {
 	kind, msg string
 }
 
+// diffCfg is how both simulators are set up: the round limit (0: the
+// default), when race analysis runs, and the case-analysis bound (0: the
+// default).
+type diffCfg struct {
+	limit  int
+	races  sw.RaceMode
+	splits int
+}
+
+func (c diffCfg) String() string {
+	return fmt.Sprintf("round limit %d, races %s, case splits %d", c.limit, c.races, c.splits)
+}
+
 // diffRun applies the vectors to both simulators, settling after each, and
 // returns the first difference.
-func diffRun(nl *sw.Netlist, vs []vector, limit int) *mismatch {
-	eng := sw.NewSim(nl, sw.Options{Mode: sw.Ideal, RoundLimit: limit})
-	ref := newRef(nl, limit)
+func diffRun(nl *sw.Netlist, vs []vector, cfg diffCfg) *mismatch {
+	eng := sw.NewSim(nl, sw.Options{Mode: sw.Ideal, RoundLimit: cfg.limit, Races: cfg.races, CaseSplits: cfg.splits})
+	ref := newRef(nl, cfg.limit)
+	ref.races = cfg.races
+	if cfg.splits != 0 {
+		ref.splitMax = cfg.splits
+	}
 	ins := nl.Inputs()
 	for step, v := range vs {
 		for j, n := range ins {
@@ -95,6 +112,36 @@ func diffRun(nl *sw.Netlist, vs []vector, limit int) *mismatch {
 }
 
 func compareSettle(nl *sw.Netlist, eng *sw.Sim, er *sw.Result, ref *refSim, rr refResult) *mismatch {
+	an := &er.Analysis
+	switch {
+	case er.Settled != rr.Settled:
+		return &mismatch{"settled", fmt.Sprintf("Settled: engine %v, reference %v", er.Settled, rr.Settled)}
+	case an.Ran != rr.Ran || an.Why != rr.Why:
+		return &mismatch{"analysis", fmt.Sprintf("race analysis ran %v why %d: engine, reference ran %v why %d", an.Ran, an.Why, rr.Ran, rr.Why)}
+	case an.Splits != rr.Splits || an.Bounded != rr.Bounded:
+		return &mismatch{"cases", fmt.Sprintf("case analysis: engine %d splits (bounded %v), reference %d (bounded %v)", an.Splits, an.Bounded, rr.Splits, rr.Bounded)}
+	case an.Decided != rr.Decided:
+		return &mismatch{"decided", fmt.Sprintf("decision round: engine %v, reference %v", an.Decided, rr.Decided)}
+	}
+	for p, ph := range []*sw.Phase{&an.A, &an.B} {
+		want := []refRun{rr.A, rr.B}[p]
+		if ph.Rounds != want.rounds {
+			return &mismatch{"phase", fmt.Sprintf("phase %c: engine %d rounds, reference %d (%s)", "AB"[p], ph.Rounds, want.rounds, roundsString(nl, want.changed))}
+		}
+		for i := 0; i < ph.Rounds; i++ {
+			var got []int
+			for _, n := range ph.Round(i) {
+				got = append(got, int(n))
+			}
+			slices.Sort(got)
+			if !slices.Equal(got, want.changed[i]) {
+				return &mismatch{"phase", fmt.Sprintf("phase %c round %d changed: engine %s, reference %s", "AB"[p], i+1, names(nl, got), names(nl, want.changed[i]))}
+			}
+		}
+	}
+	if e, r := analysisWarnings(nl, er.Warnings), refWarnings(nl, rr.Warnings); e != r {
+		return &mismatch{"warnings", fmt.Sprintf("race, glitch and oscillation warnings: engine %s, reference %s", e, r)}
+	}
 	if er.Oscillated != rr.Oscillated {
 		return &mismatch{"oscillated", fmt.Sprintf("Oscillated: engine %v, reference %v", er.Oscillated, rr.Oscillated)}
 	}
@@ -135,6 +182,29 @@ func compareSettle(nl *sw.Netlist, eng *sw.Sim, er *sw.Result, ref *refSim, rr r
 		}
 	}
 	return nil
+}
+
+// analysisWarnings lists the warnings of race analysis (and forcing rounds)
+// as sorted "kind node" words.
+func analysisWarnings(nl *sw.Netlist, ws []sw.Warning) string {
+	var out []string
+	for _, w := range ws {
+		switch w.Kind {
+		case sw.WarnRace, sw.WarnGlitch, sw.WarnOscillation:
+			out = append(out, string(w.Kind)+" "+nl.NodeName(w.Node))
+		}
+	}
+	slices.Sort(out)
+	return strings.Join(out, ", ")
+}
+
+func refWarnings(nl *sw.Netlist, ws []refWarning) string {
+	var out []string
+	for _, w := range ws {
+		out = append(out, string(w.kind)+" "+nl.NodeName(w.node))
+	}
+	slices.Sort(out)
+	return strings.Join(out, ", ")
 }
 
 // sameState compares what ideal mode defines (not Volts, NaN there).
@@ -190,13 +260,13 @@ func dropUnused(s *gen.Spec) {
 }
 
 // failsAs returns a predicate for shrink: the run differs with this kind.
-func failsAs(limit int, kind string) func(*gen.Spec, []vector) *mismatch {
+func failsAs(cfg diffCfg, kind string) func(*gen.Spec, []vector) *mismatch {
 	return func(s *gen.Spec, vs []vector) *mismatch {
 		nl, err := compileSpec(s)
 		if err != nil {
 			return nil
 		}
-		if m := diffRun(nl, vs, limit); m != nil && m.kind == kind {
+		if m := diffRun(nl, vs, cfg); m != nil && m.kind == kind {
 			return m
 		}
 		return nil
@@ -241,16 +311,35 @@ func shrink(s *gen.Spec, vs []vector, fails func(*gen.Spec, []vector) *mismatch)
 	return s, vs, last
 }
 
+// walkVectors is a random walk over 0 1 x z changing one input a step
+// (sometimes none): single-input steps, whose rounds race analysis decides
+// only when they do not settle.
+func walkVectors(rng *rand.Rand, inputs, n int) []vector {
+	vs := randomVectors(rng, inputs, 1)
+	for len(vs) < n {
+		v := slices.Clone(vs[len(vs)-1])
+		if inputs > 0 && rng.IntN(8) != 0 {
+			v[rng.IntN(inputs)] = randomDrive(rng)
+		}
+		vs = append(vs, v)
+	}
+	return vs
+}
+
 // TestDiffRandom compares engine and reference on random small networks:
-// 2-12 nodes, 1-16 devices, six vectors each (with x and z), one network
-// in eight with a small round limit so the oscillation rule is exercised.
+// 2-12 nodes, 1-16 devices, six vectors each (with x and z). Half the
+// networks change every input at random each step (multi-input steps: race
+// analysis), half walk one input at a time. One network in eight has a
+// small round limit (forcing rounds and unsettled steps), one in eight
+// race analysis on every step, one in sixteen race analysis off, one in
+// eight a case-analysis bound of 1 to 3 splits.
 func TestDiffRandom(t *testing.T) {
 	rng := rand.New(rand.NewPCG(*diffSeed, 2))
 	type failure struct {
 		count int
 		spec  *gen.Spec
 		vs    []vector
-		limit int
+		cfg   diffCfg
 	}
 	fails := map[string]*failure{}
 	var idle []string
@@ -260,33 +349,45 @@ func TestDiffRandom(t *testing.T) {
 		if err != nil {
 			t.Fatalf("network %d does not compile: %v\n%s", i, err, spec)
 		}
-		limit := 0
+		var cfg diffCfg
 		if rng.IntN(8) == 0 {
-			limit = 1 + rng.IntN(12)
+			cfg.limit = 1 + rng.IntN(12)
+		}
+		switch rng.IntN(16) {
+		case 0, 1:
+			cfg.races = sw.RacesEveryStep
+		case 2:
+			cfg.races = sw.RacesOff
+		}
+		if rng.IntN(8) == 0 {
+			cfg.splits = 1 + rng.IntN(3)
 		}
 		vs := randomVectors(rng, len(nl.Inputs()), 6)
-		m := diffRun(nl, vs, limit)
+		if rng.IntN(2) == 0 {
+			vs = walkVectors(rng, len(nl.Inputs()), 6)
+		}
+		m := diffRun(nl, vs, cfg)
 		if m == nil {
-			if f := idleFindings(nl, vs, limit); f != nil && len(idle) < 2 {
+			if f := idleFindings(nl, vs, cfg); f != nil && len(idle) < 2 {
 				s, vs, f := shrink(spec, vs, func(s *gen.Spec, vs []vector) *mismatch {
 					nl, err := compileSpec(s)
 					if err != nil {
 						return nil
 					}
-					return idleFindings(nl, vs, limit)
+					return idleFindings(nl, vs, cfg)
 				})
-				idle = append(idle, fmt.Sprintf("round limit %d\n%svectors %s: %s", limit, s, vectorsString(vs), f.msg))
+				idle = append(idle, fmt.Sprintf("%s\n%svectors %s: %s", cfg, s, vectorsString(vs), f.msg))
 			}
 			continue
 		}
 		f := fails[m.kind]
 		if f == nil {
-			f = &failure{spec: spec, vs: vs, limit: limit}
+			f = &failure{spec: spec, vs: vs, cfg: cfg}
 			fails[m.kind] = f
 		}
 		f.count++
 		if len(spec.Devices) < len(f.spec.Devices) {
-			f.spec, f.vs, f.limit = spec, vs, limit
+			f.spec, f.vs, f.cfg = spec, vs, cfg
 		}
 	}
 	kinds := make([]string, 0, len(fails))
@@ -296,10 +397,10 @@ func TestDiffRandom(t *testing.T) {
 	slices.Sort(kinds)
 	for _, k := range kinds {
 		f := fails[k]
-		s, vs, m := shrink(f.spec, f.vs, failsAs(f.limit, k))
+		s, vs, m := shrink(f.spec, f.vs, failsAs(f.cfg, k))
 		nl, _ := compileSpec(s)
-		t.Errorf("%d of %d networks differ (%s); smallest, shrunk (round limit %d, inputs %v):\n%svectors: %s\n%s",
-			f.count, *diffN, k, f.limit, names(nl, nl.Inputs()), s, vectorsString(vs), m.msg)
+		t.Errorf("%d of %d networks differ (%s); smallest, shrunk (%s, inputs %v):\n%svectors: %s\n%s",
+			f.count, *diffN, k, f.cfg, names(nl, nl.Inputs()), s, vectorsString(vs), m.msg)
 	}
 	for _, s := range idle {
 		t.Logf("engine and reference agree, but a group the rules did not re-solve is not a fixpoint of them:\n%s", s)
@@ -308,8 +409,12 @@ func TestDiffRandom(t *testing.T) {
 
 // idleFindings reruns the reference and reports unseeded groups whose
 // fresh solve would change them (the rules assume it never happens).
-func idleFindings(nl *sw.Netlist, vs []vector, limit int) *mismatch {
-	ref := newRef(nl, limit)
+func idleFindings(nl *sw.Netlist, vs []vector, cfg diffCfg) *mismatch {
+	ref := newRef(nl, cfg.limit)
+	ref.races = cfg.races
+	if cfg.splits != 0 {
+		ref.splitMax = cfg.splits
+	}
 	for step, v := range vs {
 		for j, n := range nl.Inputs() {
 			ref.SetInput(n, v[j])
@@ -397,7 +502,7 @@ func TestDiffDemos(t *testing.T) {
 			}
 			d, st := ld.Design, ld.Steps
 			for i, seq := range demoSequences(rng, d.Netlist, st) {
-				if m := diffRun(d.Netlist, seq, 0); m != nil {
+				if m := diffRun(d.Netlist, seq, diffCfg{}); m != nil {
 					t.Errorf("sequence %d (%s): %s", i, m.kind, m.msg)
 				}
 			}
@@ -431,9 +536,12 @@ func ringWithChain(c int) *gen.Spec {
 	return s
 }
 
-// TestDiffOscillationWindow aims at the oscillation rule's window: chains
+// TestDiffOscillationWindow aims at the forcing round's window: chains
 // whose last stage stops changing near the window's edge, under round
-// limits where W = max(16, L/8) is 16 and where it is L/8 (L >= 136).
+// limits where W = max(16, L/8) is 16 and where it is L/8 (L >= 136). With
+// race analysis off the unit-delay rounds force; with it, a chain longer
+// than the limit makes phase A and phase B force (the enable and a second
+// input change together).
 func TestDiffOscillationWindow(t *testing.T) {
 	rng := rand.New(rand.NewPCG(9, 9))
 	limits := []int{17, 30, 136, 150, 170}
@@ -449,8 +557,24 @@ func TestDiffOscillationWindow(t *testing.T) {
 			t.Fatal(err)
 		}
 		vs := []vector{{sw.Drive0}, {sw.Drive1}, {sw.Drive0}, {sw.Drive1}}
-		if m := diffRun(nl, vs, limit); m != nil {
+		if m := diffRun(nl, vs, diffCfg{limit: limit, races: sw.RacesOff}); m != nil {
 			t.Fatalf("ring with a chain of %d, round limit %d (%s): %s", c, limit, m.kind, m.msg)
+		}
+	}
+	for _, limit := range []int{17, 24, 40} {
+		w := max(16, limit/8)
+		c := limit + w - 3 + rng.IntN(6) // longer than the limit: the phase forces
+		spec := ringWithChain(c)
+		spec.Inputs = append(spec.Inputs, "b")
+		spec.Devices = append(spec.Devices, gen.DeviceSpec{Name: "pb", Kind: sw.PMOS, Gate: "b", A: "vdd", B: "yb"},
+			gen.DeviceSpec{Name: "nb", Kind: sw.NMOS, Gate: "b", A: "yb", B: "gnd"})
+		nl, err := compileSpec(spec)
+		if err != nil {
+			t.Fatal(err)
+		}
+		vs := []vector{{sw.Drive0, sw.Drive0}, {sw.Drive1, sw.Drive1}, {sw.Drive0, sw.Drive0}}
+		if m := diffRun(nl, vs, diffCfg{limit: limit}); m != nil {
+			t.Fatalf("ring with a chain of %d, round limit %d, phases (%s): %s", c, limit, m.kind, m.msg)
 		}
 	}
 }

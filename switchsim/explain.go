@@ -1,6 +1,10 @@
 package switchsim
 
-import "math"
+import (
+	"cmp"
+	"math"
+	"slices"
+)
 
 // Explanation says why a node holds its state (MODEL.md §6).
 type Explanation struct {
@@ -27,7 +31,29 @@ type Explanation struct {
 	Lost     *LostLevel    // for a node that is X because its level was lost: where it fell
 	Share    []ShareMember // for a floating node: the group's capacitances and voltages
 	Delay    float64       // the Elmore delay estimate of the node's last change, seconds
+
+	// Analysis says how race or case analysis decided the node's present
+	// state (the zero value where the rounds alone did).
+	Analysis AnalysisNote
 }
+
+// AnalysisNote is what an explanation says of race and case analysis.
+type AnalysisNote struct {
+	// Kind is race, oscillation or glitch when the node has that warning.
+	Kind WarnKind
+	// Decided: race analysis set this state, not the unit-delay rounds
+	// (they ended elsewhere, or did not settle).
+	Decided bool
+	// Case: case analysis resolved the node by splitting on node Split.
+	Case  bool
+	Split int
+	// Inputs are the inputs changed in the step that decided it (nil when
+	// that was not the last settle).
+	Inputs []int
+}
+
+// Any reports whether the note says anything.
+func (a AnalysisNote) Any() bool { return a.Kind != "" || a.Decided || a.Case }
 
 // Divider describes a node of a fight at its DC operating point (the
 // level-1 solve, physical_fight.go) by the effective resistances of its two
@@ -100,12 +126,13 @@ func (s *Sim) Explain(n int) Explanation {
 	nl := s.nl
 	if e.Source {
 		for _, d := range nl.chanDev[nl.chanStart[n]:nl.chanStart[n+1]] {
-			if s.cond[d] != Off && !containsInt(e.Devices, int(d)) {
+			if s.cond[d] != Off && !slices.Contains(e.Devices, int(d)) {
 				e.Devices = append(e.Devices, int(d))
 			}
 		}
 		return e
 	}
+	e.Analysis = s.analysisNote(n)
 	members := s.joined(n, true)
 	e.Group = members
 	seen := map[int32]bool{}
@@ -272,28 +299,92 @@ func (s *Sim) opposingPaths(n int) []Path {
 		}
 		paths = append(paths, p)
 	}
-	sortPaths(paths)
+	slices.SortFunc(paths, func(a, b Path) int { // strongest first, then by source
+		return cmp.Or(cmp.Compare(b.Strength, a.Strength), cmp.Compare(a.Source, b.Source))
+	})
 	if len(paths) > 3 {
 		paths = paths[:3]
 	}
 	return paths
 }
 
-func sortPaths(p []Path) {
-	for i := 1; i < len(p); i++ {
-		for j := i; j > 0 && (p[j].Strength > p[j-1].Strength || (p[j].Strength == p[j-1].Strength && p[j].Source < p[j-1].Source)); j-- {
-			p[j], p[j-1] = p[j-1], p[j]
+// analysisNote returns what race or case analysis said of node n when it
+// last decided n's state.
+func (s *Sim) analysisNote(n int) AnalysisNote {
+	nt := s.note[n]
+	an := AnalysisNote{Split: -1}
+	if nt.kind == noteNone {
+		return an
+	}
+	switch nt.kind {
+	case noteRace:
+		an.Kind = WarnRace
+	case noteOscillation:
+		an.Kind = WarnOscillation
+	case noteGlitch:
+		an.Kind = WarnGlitch
+	case noteDecided:
+		an.Decided = true
+	case noteCase:
+		an.Case, an.Split = true, int(nt.split)
+	}
+	if nt.kind != noteCase && nt.settle == s.ana.lastSettle {
+		for _, in := range s.ana.lastInputs {
+			an.Inputs = append(an.Inputs, int(in))
 		}
 	}
+	return an
 }
 
-func containsInt(s []int, x int) bool {
-	for _, v := range s {
-		if v == x {
-			return true
-		}
+// AnalysisText words an explanation's analysis note for a person, or
+// returns "" where there is none: which phase made the node X and why, or
+// which node case analysis split on.
+func (s *Sim) AnalysisText(e Explanation) string {
+	an := e.Analysis
+	if !an.Any() {
+		return ""
 	}
-	return false
+	nl := s.nl
+	ins := "the inputs changed together in an earlier step"
+	if len(an.Inputs) > 0 {
+		var names []string
+		for _, in := range an.Inputs {
+			names = append(names, nl.DisplayName(in))
+		}
+		ins = joinAnd(names)
+	}
+	switch {
+	case an.Kind == WarnRace:
+		return "race analysis: phase A (" + ins + " at X) made it X, and phase B (their new values) left it X: its value depends on the order in which they arrive"
+	case an.Kind == WarnOscillation:
+		return "race analysis: phase A (" + ins + " at X) made it X, phase B left it X, and with either value stored in its loop the rounds never settle: it keeps changing"
+	case an.Kind == WarnGlitch:
+		return "race analysis: phase A (" + ins + " at X) made it X, and phase B brought it back to its value: it may pulse while the step settles"
+	case an.Decided:
+		return "race analysis decided this state (" + ins + "): the unit-delay rounds, which assume every device switches in the same time, ended elsewhere or did not settle"
+	case an.Case:
+		return "resolved by case analysis on " + nl.DisplayName(an.Split) + ": the ternary rules leave it X only because X nodes gate the devices around it; settled with " +
+			nl.DisplayName(an.Split) + " stored as 0 and as 1, it ends at this value both times"
+	}
+	return ""
+}
+
+// joinAnd lists names as "a", "a and b", "a, b and c".
+func joinAnd(names []string) string {
+	switch len(names) {
+	case 0:
+		return "no input"
+	case 1:
+		return names[0]
+	}
+	out := ""
+	for i, n := range names[:len(names)-1] {
+		if i > 0 {
+			out += ", "
+		}
+		out += n
+	}
+	return out + " and " + names[len(names)-1]
 }
 
 // physExplain adds physical-mode facts to an explanation.

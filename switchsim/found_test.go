@@ -134,7 +134,8 @@ func TestFoundOscillationForcesUnchangedNode(t *testing.T) {
 		b.NMOS(z+"n", prev, z, "gnd", sw.DeviceOpts{})
 		prev = z
 	}
-	s := sw.NewSim(foundCompile(t, b), sw.Options{Mode: sw.Ideal, RoundLimit: 2})
+	// Race analysis off: the case is the forcing round's rule.
+	s := sw.NewSim(foundCompile(t, b), sw.Options{Mode: sw.Ideal, RoundLimit: 2, Races: sw.RacesOff})
 	foundSet(t, s, "a", sw.Drive1)
 	foundSet(t, s, "b", sw.DriveX)
 	if r := s.Settle(); r.Oscillated {
@@ -169,7 +170,7 @@ func TestFoundDeviceStateStaleAfterStop(t *testing.T) {
 	// Limit 2: rounds 1-2 solve, round 3 forces n m t to X, round 4 solves
 	// the fan-out (n is 1 again), round 5 passes the second limit: n is set
 	// to X and the settle stops.
-	s := sw.NewSim(foundCompile(t, b), sw.Options{Mode: sw.Ideal, RoundLimit: 2})
+	s := sw.NewSim(foundCompile(t, b), sw.Options{Mode: sw.Ideal, RoundLimit: 2}) // the first settle forces
 	r := s.Settle()
 	if !r.Oscillated {
 		t.Fatalf("the limit was not passed (%d rounds); the case is wrong", r.Rounds)
@@ -212,7 +213,8 @@ func TestFoundOscillationWindowOffByOne(t *testing.T) {
 		b.NMOS(x+"n", prev, x, "gnd", sw.DeviceOpts{})
 		prev = x
 	}
-	s := sw.NewSim(foundCompile(t, b), sw.Options{Mode: sw.Ideal, RoundLimit: 20})
+	// Race analysis off: the case is the forcing round's window.
+	s := sw.NewSim(foundCompile(t, b), sw.Options{Mode: sw.Ideal, RoundLimit: 20, Races: sw.RacesOff})
 	foundSet(t, s, "en", sw.Drive0)
 	s.Settle()
 	foundSet(t, s, "en", sw.Drive1)

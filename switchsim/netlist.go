@@ -41,6 +41,11 @@ type Netlist struct {
 	gateStart []int32 // CSR: devices gated by node n
 	gateDev   []int32
 
+	// structure (structure.go)
+	nodeFlag []uint8
+	devFlag  []uint8
+	top      Strength // the strongest signal a device passes: min(supply, cap) at most
+
 	// original spellings (Builder.Original), nil when every name is its own
 	nodeOrig, devOrig     []string
 	nodeByOrig, devByOrig []int32
@@ -179,6 +184,7 @@ func (b *Builder) Compile() (*Netlist, error) {
 			emit(nl.devGate[d])
 		}
 	})
+	nl.structure()
 	return nl, nil
 }
 

@@ -34,7 +34,7 @@ func phDev(t *testing.T, s *Sim, name string) int {
 }
 
 // phWarning returns the warnings of kind on node name.
-func phWarning(s *Sim, r *Result, kind, name string) []Warning {
+func phWarning(s *Sim, r *Result, kind WarnKind, name string) []Warning {
 	n, _ := s.Netlist().Lookup(name)
 	var out []Warning
 	for _, w := range r.Warnings {

@@ -10,7 +10,7 @@ import (
 // matters (levelMatters): the inner node of a series stack keeps its facts
 // in the explanation without one. partial-on is given on a gate node, where
 // the level always matters.
-func (s *Sim) physWarnings(n int, add func(kind string, n, d, o int)) {
+func (s *Sim) physWarnings(n int, add func(kind WarnKind, n, d, o int)) {
 	if s.mode != Physical {
 		return
 	}
@@ -86,7 +86,7 @@ func (s *Sim) levelMatters(n int) bool {
 // their gate voltage still exceeds the threshold (with the body effect) from
 // the channel terminal acting as source: the lower one for an nMOS, the
 // higher for a pMOS. They leak static current (common practice).
-func (s *Sim) partialOn(n int, add func(kind string, n, d, o int)) {
+func (s *Sim) partialOn(n int, add func(kind WarnKind, n, d, o int)) {
 	nl := s.nl
 	vg := s.volts[n]
 	if math.IsNaN(vg) {

@@ -15,16 +15,45 @@ func (m Mode) String() string { return [...]string{"physical", "ideal"}[m] }
 // Options configure a Sim.
 type Options struct {
 	Mode Mode
-	// RoundLimit bounds the rounds of one settle before the design is
-	// reported as oscillating; 0 takes DefaultRoundLimit(netlist).
+	// RoundLimit bounds the unit-delay rounds of one settle; 0 takes
+	// DefaultRoundLimit(netlist). Rounds that pass it did not settle: race
+	// analysis decides the step.
 	RoundLimit int
+	// Races says when race analysis runs (DEVELOPERS.md "Race analysis").
+	Races RaceMode
+	// CaseSplits bounds case analysis: the X nodes split on in one settle.
+	// 0 takes DefaultCaseSplits; a negative value turns case analysis off.
+	CaseSplits int
 }
 
-// DefaultRoundLimit is 2 x nodes + 64. Every round of a settle that has not
-// ended changes at least one node, and in logic without feedback a node
-// changes at most once per level of depth, so acyclic logic settles in at
-// most (nodes + 1) rounds and is never mistaken for an oscillation.
-func DefaultRoundLimit(nl *Netlist) int { return 2*nl.NumNodes() + 64 }
+// DefaultRoundLimit is 2 x nodes + 2. Every round of a settle that has not
+// ended changes at least one node, and logic without feedback changes a
+// node only in the round after a node gating its group changed, so it
+// settles within nodes + 1 rounds and is never stopped by the limit. The
+// second share leaves room for feedback logic that does settle (a write
+// through a keeper loop takes a round or two per loop). Rounds that pass
+// the limit are not called an oscillation: race analysis decides.
+func DefaultRoundLimit(nl *Netlist) int { return 2*nl.NumNodes() + 2 }
+
+// RaceMode says when race analysis runs.
+type RaceMode uint8
+
+const (
+	// RacesWhenNeeded: on every settle but the first that changes more than
+	// one input or whose unit-delay rounds do not settle.
+	RacesWhenNeeded RaceMode = iota
+	// RacesEveryStep: on every settle but the first that changes an input.
+	RacesEveryStep
+	// RacesOff: never; rounds that pass the limit end in forcing rounds
+	// (the plain unit-delay settle, for comparison and benchmarks).
+	RacesOff
+)
+
+func (m RaceMode) String() string { return [...]string{"when-needed", "every-step", "off"}[m] }
+
+// DefaultCaseSplits is the number of X nodes case analysis splits on in
+// one settle: each split is two settles of the nodes it reaches.
+const DefaultCaseSplits = 32
 
 // NodeState is one node's resolved state.
 type NodeState struct {
@@ -35,31 +64,14 @@ type NodeState struct {
 	Floating bool    // no driving path: the value is stored charge
 }
 
-// Warning is one finding of a settle. Kind is one of the Warn* constants;
-// Device and Other are -1 where they do not apply. Sim.Message words it.
-type Warning struct {
-	Kind   string
-	Node   int
-	Device int
-	Other  int // a second device or node, by kind
-	Volts  float64
-}
-
-// Warning kinds (FORMAT.md).
-const (
-	WarnDegraded      = "degraded"
-	WarnLevelLost     = "level-lost"
-	WarnContention    = "contention"
-	WarnConflict      = "conflict"
-	WarnChargeSharing = "charge-sharing"
-	WarnHeldByCharge  = "held-by-charge"
-	WarnPartialOn     = "partial-on"
-	WarnFloatingGate  = "floating-gate"
-	WarnOscillation   = "oscillation"
-)
-
 // Result is what one settle did. Its slices belong to the Sim and are
 // overwritten by the next Settle; copy what must be kept.
+//
+// Rounds, Changed, RoundEnd, Delay and After are the rounds a person
+// watches: the unit-delay rounds, and after them, when race or case
+// analysis gave some node another state than the rounds left it in, one
+// decision round with those nodes (Analysis.Decided). The node states
+// after Settle are the analysis's wherever it ran.
 type Result struct {
 	Rounds   int
 	Changed  []int32     // node numbers, round after round
@@ -67,9 +79,13 @@ type Result struct {
 	Delay    []float64   // parallel to Changed: Elmore delay estimate in seconds, NaN in ideal mode
 	After    []NodeState // parallel to Changed: the node's state as that round left it
 	Warnings []Warning
-	// Oscillated is set when the round limit was reached; the nodes still
-	// changing were set to X and settling went on.
+	// Settled is set when the unit-delay rounds ended by themselves, before
+	// the round limit.
+	Settled bool
+	// Oscillated is set when some node was found to keep changing (an
+	// oscillation warning): it is X.
 	Oscillated bool
+	Analysis   Analysis
 }
 
 // Round returns the nodes changed in round r (0-based).
@@ -84,9 +100,11 @@ func (r *Result) Round(i int) []int32 {
 // Sim simulates one compiled netlist. It is not safe for concurrent use;
 // run one Sim per goroutine (they may share the Netlist).
 type Sim struct {
-	nl    *Netlist
-	mode  Mode
-	limit int
+	nl     *Netlist
+	mode   Mode
+	limit  int
+	races  RaceMode
+	splits int // case analysis bound; < 0: off
 
 	// node state
 	val     []Value
@@ -99,12 +117,12 @@ type Sim struct {
 	contest []bool  // driven, but the group holds a source of the other value
 	shared  []bool  // floating, and charge of another value joined it in the last solve
 	cond    []Conduction
+	note    []nodeNote // how the analyses decided the node (explain)
 
 	// pending work between Settle calls
 	initial   bool
 	dirtyIn   []int32
 	dirtyMark []bool
-	wasSrc    []bool
 
 	// scratch, reused by every settle
 	epoch      uint32
@@ -117,14 +135,25 @@ type Sim struct {
 	gid        uint32
 	seeds      []int32
 	gates      []int32
-	lastChange []int32
+	lastChange []int32 // node -> the settle's round count when it last changed (0: not in this settle)
+	roundNo    int32   // rounds run in this settle so far, phases and branches included
+	runStart   int32   // roundNo when the present run of rounds began
 	touched    []int32
 	g          group
 	res        Result
 	warnMark   []uint32
+	rec        *roundLog // where commit records changes; nil in a case-analysis branch
+	unit       roundLog
+	shorts     []int32  // devices joining two sources to check at the end of the settle
+	shortMark  []uint32 // device -> settle stamp: listed in shorts
+
+	undo       undoLog
+	ana        analysis
+	wpar, wdev []int32 // pathSides' search tree, made on first use
 
 	best    []Strength
 	inj     []Value
+	arr     []uint8 // resolve: the values (bit 1<<v) that arrived at a node's best strength
 	done    []uint32
 	pot     [2][]Strength
 	pdone   [2][]uint32
@@ -132,6 +161,20 @@ type Sim struct {
 	comp    []int32
 
 	phys physState
+}
+
+// roundLog records the changes of a run of rounds.
+type roundLog struct {
+	rounds   int
+	changed  []int32
+	roundEnd []int32
+	delay    []float64
+	after    []NodeState
+}
+
+func (l *roundLog) reset() {
+	l.rounds = 0
+	l.changed, l.roundEnd, l.delay, l.after = l.changed[:0], l.roundEnd[:0], l.delay[:0], l.after[:0]
 }
 
 // group is the scratch of one group being solved.
@@ -152,23 +195,29 @@ type group struct {
 // The first Settle resolves the whole design.
 func NewSim(nl *Netlist, opt Options) *Sim {
 	nn, nd := nl.NumNodes(), nl.NumDevices()
-	s := &Sim{nl: nl, mode: opt.Mode, limit: opt.RoundLimit, initial: true}
+	s := &Sim{nl: nl, mode: opt.Mode, limit: opt.RoundLimit, races: opt.Races, splits: opt.CaseSplits, initial: true}
 	if s.limit <= 0 {
 		s.limit = DefaultRoundLimit(nl)
+	}
+	if s.splits == 0 {
+		s.splits = DefaultCaseSplits
 	}
 	s.val, s.str, s.state = make([]Value, nn), make([]Strength, nn), make([]State, nn)
 	s.volts, s.drive, s.source, s.fight = make([]float64, nn), make([]Drive, nn), make([]bool, nn), make([]bool, nn)
 	s.cond = make([]Conduction, nd)
 	s.contest, s.shared = make([]bool, nn), make([]bool, nn)
+	s.note = make([]nodeNote, nn)
 	s.dirtyMark = make([]bool, nn)
 	s.gmark, s.smark, s.seedMark, s.touchMark = make([]uint32, nn), make([]uint32, nn), make([]uint32, nn), make([]uint32, nn)
 	s.warnMark = make([]uint32, nn)
-	s.dmark = make([]uint32, nd)
+	s.dmark, s.shortMark = make([]uint32, nd), make([]uint32, nd)
 	s.lastChange = make([]int32, nn)
-	s.best, s.inj, s.done = make([]Strength, nn), make([]Value, nn), make([]uint32, nn)
+	s.best, s.inj, s.done, s.arr = make([]Strength, nn), make([]Value, nn), make([]uint32, nn), make([]uint8, nn)
 	for v := 0; v < 2; v++ {
 		s.pot[v], s.pdone[v] = make([]Strength, nn), make([]uint32, nn)
 	}
+	s.undo.init(nn, nd)
+	s.ana.init(nn)
 	for n := 0; n < nn; n++ {
 		s.val[n], s.str[n], s.state[n], s.volts[n] = VX, nl.nodeCharge[n], StateZ, math.NaN()
 		switch nl.nodeKind[n] {
@@ -198,6 +247,12 @@ func (s *Sim) Mode() Mode { return s.mode }
 
 // RoundLimit returns the round limit in force.
 func (s *Sim) RoundLimit() int { return s.limit }
+
+// SetRaces says when race analysis runs from the next Settle on (Options.Races).
+func (s *Sim) SetRaces(m RaceMode) { s.races = m }
+
+// Races returns when race analysis runs.
+func (s *Sim) Races() RaceMode { return s.races }
 
 func (s *Sim) condOf(d int) Conduction {
 	g := s.nl.devGate[d]
@@ -244,6 +299,7 @@ type Snapshot struct {
 	src   []bool
 	fight []bool
 	cond  []Conduction
+	note  []nodeNote
 	phys  physSnapshot
 }
 
@@ -253,7 +309,8 @@ func (s *Sim) Snapshot() *Snapshot {
 		append([]Value(nil), s.val...), append([]Strength(nil), s.str...),
 		append([]State(nil), s.state...), append([]float64(nil), s.volts...),
 		append([]Drive(nil), s.drive...), append([]bool(nil), s.source...),
-		append([]bool(nil), s.fight...), append([]Conduction(nil), s.cond...), s.physSave(),
+		append([]bool(nil), s.fight...), append([]Conduction(nil), s.cond...),
+		append([]nodeNote(nil), s.note...), s.physSave(),
 	}
 }
 
@@ -267,27 +324,46 @@ func (s *Sim) Restore(sn *Snapshot) {
 	copy(s.source, sn.src)
 	copy(s.fight, sn.fight)
 	copy(s.cond, sn.cond)
+	copy(s.note, sn.note)
 	s.physRestore(sn.phys)
 	for _, n := range s.dirtyIn {
 		s.dirtyMark[n] = false
 	}
 	s.dirtyIn = s.dirtyIn[:0]
+	s.gates = s.gates[:0]
 	s.initial = false
 }
 
-// Settle advances unit-delay rounds until no node changes (MODEL.md §5).
-func (s *Sim) Settle() *Result {
-	nl := s.nl
-	r := &s.res
-	r.Rounds, r.Oscillated = 0, false
-	r.Changed, r.RoundEnd, r.Delay, r.Warnings = r.Changed[:0], r.RoundEnd[:0], r.Delay[:0], r.Warnings[:0]
-	r.After = r.After[:0]
-	s.settleID++
-	s.touched = s.touched[:0]
-	s.seeds = s.seeds[:0] // s.gates may hold fan-out left queued by a stopped settle
-	s.nextEpoch()
+// inForce reports whether drive d is what input n is already given.
+func (s *Sim) inForce(n int32, d Drive) bool {
+	if d == DriveZ {
+		return !s.source[n]
+	}
+	return s.source[n] && s.val[n] == d.Value()
+}
 
-	if s.initial {
+// Settle advances unit-delay rounds until no node changes (DEVELOPERS.md
+// "Rounds"); where the step changed more than one input, the rounds did
+// not settle, or it is asked for, race analysis decides the result (race.go),
+// and case analysis resolves X sustained only by an unknown start (cases.go).
+func (s *Sim) Settle() *Result {
+	r := &s.res
+	r.Rounds, r.Settled, r.Oscillated, r.Warnings = 0, false, false, r.Warnings[:0]
+	r.Analysis.reset()
+	s.settleID++
+	s.touched, s.shorts = s.touched[:0], s.shorts[:0]
+	s.seeds = s.seeds[:0] // s.gates may hold fan-out left queued by a stopped settle
+	s.roundNo = 0
+	s.nextEpoch()
+	s.rec = &s.unit
+	s.unit.reset()
+	s.ana.sawX = false
+
+	first := s.initial
+	// Segment 0 of the undo log is kept where race analysis may go back to
+	// the state before the step.
+	s.undo.reset(!first && len(s.dirtyIn) > 0 && s.races != RacesOff, s.mode == Physical || len(s.gates) > 0)
+	if first {
 		s.initial = false
 		for n := range s.val {
 			if s.nl.nodeKind[n] == Input {
@@ -299,32 +375,74 @@ func (s *Sim) Settle() *Result {
 		}
 		for d := range s.cond {
 			s.cond[d] = s.condOf(d)
+			if s.nl.devFlag[d]&devShort != 0 {
+				s.checkShort(int32(d))
+			}
 		}
 	}
-	// Inputs changed by the user: their new value is in place before round 1,
-	// so the devices they gate switch in round 1. All drives are applied
-	// before any seeding, so that seeding sees every input's new role.
-	wasSource := s.wasSrc[:0]
-	changedIn := s.dirtyIn[:0]
+	// The inputs whose drive differs from the one in force, and what they go to.
+	a := &s.ana
+	a.inputs, a.to = a.inputs[:0], a.to[:0]
 	for _, n := range s.dirtyIn {
 		s.dirtyMark[n] = false
-		if d := s.drive[n]; (d == DriveZ && !s.source[n]) || (d != DriveZ && s.source[n] && s.val[n] == d.Value()) {
-			continue // set and set back since the last Settle: nothing changed
-		}
-		changedIn = append(changedIn, n)
-		wasSource = append(wasSource, s.source[n])
-		old := s.val[n]
-		s.applyDrive(int(n))
-		if s.val[n] != old || s.source[n] != wasSource[len(wasSource)-1] {
-			s.gates = append(s.gates, n)
+		if !s.inForce(n, s.drive[n]) {
+			a.inputs, a.to = append(a.inputs, n), append(a.to, s.drive[n])
 		}
 	}
-	s.wasSrc = wasSource
-	for i, n := range changedIn {
+	s.dirtyIn = s.dirtyIn[:0]
+	a.pending = append(a.pending[:0], s.gates...)
+	s.applyInputs(a.inputs, a.to)
+
+	may := !first && len(a.inputs) > 0 && s.races != RacesOff
+	settled := s.rounds(may)
+	r.Settled = settled
+	if may && (len(a.inputs) > 1 || !settled || s.races == RacesEveryStep) {
+		s.raceAnalysis(settled)
+	} else {
+		s.ana.ran = false
+		s.caseAnalysis()
+	}
+	s.decide()
+	s.settleWarnings()
+	r.Rounds = s.unit.rounds
+	r.Changed, r.RoundEnd, r.Delay, r.After = s.unit.changed, s.unit.roundEnd, s.unit.delay, s.unit.after
+	return r
+}
+
+// applyInputs gives each input its drive (the ones already in force are
+// skipped), logging them first, and queues what the change affects: their
+// new values are in place before round 1, so the devices they gate switch
+// in round 1. All drives are applied before any seeding, so that seeding
+// sees every input's new role.
+func (s *Sim) applyInputs(ins []int32, to []Drive) {
+	nl := s.nl
+	a := &s.ana
+	a.was = a.was[:0]
+	a.moved = a.moved[:0]
+	for i, n := range ins {
+		if s.inForce(n, to[i]) {
+			continue
+		}
+		s.logNode(n)
+		a.moved = append(a.moved, n)
+		a.was = append(a.was, s.source[n])
+		old := s.val[n]
+		s.drive[n] = to[i]
+		s.applyDrive(int(n))
+		if s.val[n] != old || s.source[n] != a.was[len(a.was)-1] {
+			s.gates = append(s.gates, n)
+		}
+		for _, d := range nl.chanDev[nl.chanStart[n]:nl.chanStart[n+1]] {
+			if nl.devFlag[d]&devShort != 0 {
+				s.checkShort(d)
+			}
+		}
+	}
+	for i, n := range a.moved {
 		if !s.source[n] {
 			s.seed(n)
 		}
-		if wasSource[i] || s.source[n] {
+		if a.was[i] || s.source[n] {
 			for _, d := range nl.chanDev[nl.chanStart[n]:nl.chanStart[n+1]] {
 				if s.cond[d] != Off || s.physLeak(d) {
 					o := nl.other(d, n)
@@ -335,16 +453,30 @@ func (s *Sim) Settle() *Result {
 			}
 		}
 	}
-	s.dirtyIn = s.dirtyIn[:0]
+}
 
-	limit, extra := s.limit, false
-	for round := int32(1); ; round++ {
+// rounds runs unit-delay rounds from the queued work until a round has no
+// seeds (it returns true: settled) or round limit + 1 would start. There,
+// with stop the rounds end (false: not settled; race analysis decides);
+// without, that round is a forcing round (forceOscillating), the rounds go
+// on, and at twice the limit a second forcing round ends them.
+func (s *Sim) rounds(stop bool) bool {
+	nl := s.nl
+	rec := s.rec
+	limit, extra, forced := s.limit, false, false
+	s.runStart = s.roundNo
+	for round := 1; ; round++ {
 		// Devices whose gate changed in the round before switch now.
 		for _, gn := range s.gates {
 			for _, d := range nl.gateDev[nl.gateStart[gn]:nl.gateStart[gn+1]] {
 				c := s.condOf(int(d))
-				moved := s.physGateMoved(d) // always called: it records the gate's voltage for this round
+				moved := false
+				if s.mode == Physical {
+					s.logDevice(d)             // physGateMoved records the gate's voltage
+					moved = s.physGateMoved(d) // always called: it records the gate's voltage for this round
+				}
 				if c != s.cond[d] || moved {
+					s.logDevice(d)
 					s.cond[d] = c
 					if a := nl.devA[d]; !s.source[a] {
 						s.seed(a)
@@ -352,43 +484,56 @@ func (s *Sim) Settle() *Result {
 					if b := nl.devB[d]; !s.source[b] {
 						s.seed(b)
 					}
+					if nl.devFlag[d]&devShort != 0 {
+						s.checkShort(d)
+					}
 				}
 			}
 		}
 		s.gates = s.gates[:0]
 		if len(s.seeds) == 0 {
-			break
+			return !forced
 		}
-		if int(round) > limit {
+		s.roundNo++
+		if round > limit {
+			if stop {
+				s.seeds = s.seeds[:0]
+				s.nextEpoch()
+				return false
+			}
 			// The forcing is a round of its own: the nodes set to X are its changes.
-			r.Oscillated = true
-			r.Rounds = int(round)
-			s.forceOscillating(round)
-			r.RoundEnd = append(r.RoundEnd, int32(len(r.Changed)))
+			forced = true
+			s.forceOscillating()
+			if rec != nil {
+				rec.rounds = round
+				rec.roundEnd = append(rec.roundEnd, int32(len(rec.changed)))
+			}
 			s.seeds = s.seeds[:0]
 			s.nextEpoch()
 			if extra {
 				// Still changing after the nodes were set to X: stop here. The
 				// fan-out of the forced nodes stays queued in s.gates and is
 				// taken up by the next Settle, so device states never go stale.
-				break
+				return false
 			}
 			extra = true
 			limit += s.limit
 			continue
 		}
-		r.Rounds = int(round)
+		if rec != nil {
+			rec.rounds = round
+		}
 		for _, n := range s.seeds {
 			if s.gmark[n] != s.epoch {
-				s.solveGroup(n, round)
+				s.solveGroup(n)
 			}
 		}
 		s.seeds = s.seeds[:0]
-		r.RoundEnd = append(r.RoundEnd, int32(len(r.Changed)))
+		if rec != nil {
+			rec.roundEnd = append(rec.roundEnd, int32(len(rec.changed)))
+		}
 		s.nextEpoch()
 	}
-	s.settleWarnings()
-	return r
 }
 
 func (s *Sim) nextEpoch() {
@@ -421,31 +566,30 @@ func (s *Sim) applyDrive(n int) {
 }
 
 // forceOscillating sets to X every node that changed in the last W rounds
-// before this one (W is an eighth of the limit, at least 16), records them as
-// this round's changes and queues their fan-out.
-func (s *Sim) forceOscillating(round int32) {
-	window := int32(s.limit / 8)
-	if window < 16 {
-		window = 16
-	}
+// of this run before this one (W is an eighth of the limit, at least 16),
+// records them as this round's changes and queues their fan-out.
+func (s *Sim) forceOscillating() {
+	window := int32(max(16, s.limit/8))
+	round := s.roundNo
 	for _, n := range s.touched {
-		if lc := s.lastChange[n]; lc > 0 && lc >= round-window && !s.source[n] {
+		if lc := s.lastChange[n]; lc > s.runStart && lc >= round-window && !s.source[n] {
 			st := StateX
 			if s.str[n].IsCharge() {
 				st = StateZ
 			}
+			s.logNode(n)
 			if s.val[n] != VX || s.state[n] != st {
 				s.val[n], s.state[n], s.volts[n] = VX, st, math.NaN()
 				s.lastChange[n] = round
-				s.res.Changed = append(s.res.Changed, n)
-				s.res.Delay = append(s.res.Delay, math.NaN())
-				s.res.After = append(s.res.After, s.Node(int(n)))
+				if rec := s.rec; rec != nil {
+					rec.changed = append(rec.changed, n)
+					rec.delay = append(rec.delay, math.NaN())
+					rec.after = append(rec.after, s.Node(int(n)))
+				}
 			}
 			s.gates = append(s.gates, n)
-			if s.warnMark[n] != s.settleID {
-				s.res.Warnings = append(s.res.Warnings, Warning{Kind: WarnOscillation, Node: int(n), Device: -1, Other: -1, Volts: math.NaN()})
-				s.warnMark[n] = s.settleID
-			}
+			s.note[n] = nodeNote{kind: noteOscillation, settle: s.settleID}
+			s.ana.forced(n)
 		}
 	}
 }

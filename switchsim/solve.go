@@ -3,9 +3,9 @@ package switchsim
 import "math"
 
 // solveGroup collects the group of seed (nodes joined by devices that are
-// not off, bounded by sources), resolves it (MODEL.md §3) and writes the
-// results, recording changes for round.
-func (s *Sim) solveGroup(seed int32, round int32) {
+// not off, bounded by sources), resolves it (DEVELOPERS.md "Resolving a
+// group") and writes the results, recording the changes.
+func (s *Sim) solveGroup(seed int32) {
 	nl := s.nl
 	g := &s.g
 	s.gid++
@@ -20,8 +20,16 @@ func (s *Sim) solveGroup(seed int32, round int32) {
 	g.srcHas = [3]bool{}
 	g.nodes = append(g.nodes, seed)
 	s.gmark[seed] = s.epoch
+	log, rec := s.undo.on, s.rec != nil
 	for i := 0; i < len(g.nodes); i++ {
 		n := g.nodes[i]
+		// log before the solve that may change it; mark it solved in this settle
+		if log && s.undo.nmark[n] != s.undo.id {
+			s.saveNode(n)
+		}
+		if rec && s.touchMark[n] != s.settleID {
+			s.touch(n)
+		}
 		for _, d := range nl.chanDev[nl.chanStart[n]:nl.chanStart[n+1]] {
 			c := s.cond[d]
 			if c == Off {
@@ -47,9 +55,21 @@ func (s *Sim) solveGroup(seed int32, round int32) {
 			}
 		}
 	}
+	s.ana.visits += len(g.nodes)
 	s.resolve(g)
 	s.physGroup(g)
-	s.commit(g, round)
+	s.commit(g)
+}
+
+// touch marks node n solved in this settle (outside case-analysis branches,
+// which are undone): its last change and its analysis note start afresh.
+func (s *Sim) touch(n int32) {
+	s.touchMark[n] = s.settleID
+	s.touched = append(s.touched, n)
+	s.lastChange[n] = 0
+	if s.note[n].kind != noteNone {
+		s.note[n] = nodeNote{}
+	}
 }
 
 // resolve computes the ideal-mode result of g into g.nval, g.nstr, g.nstate.
@@ -74,8 +94,8 @@ func (s *Sim) resolve(g *group) {
 		s.buckets[i] = s.buckets[i][:0]
 	}
 	for _, n := range g.nodes {
-		s.best[n], s.inj[n] = nl.nodeCharge[n], s.val[n]
-		s.fight[n], s.shared[n] = false, false
+		s.best[n], s.inj[n], s.arr[n] = nl.nodeCharge[n], s.val[n], 1<<s.val[n]
+		s.shared[n] = false
 		s.done[n] = 0
 		s.buckets[s.best[n]] = append(s.buckets[s.best[n]], n)
 	}
@@ -103,7 +123,7 @@ func (s *Sim) resolve(g *group) {
 			s.comp = append(s.comp[:0], t)
 			s.done[t] = stamp
 			cv := s.inj[t]
-			mixed := s.fight[t] // a 0 and a 1 arrived at this level: a fight, not an unknown
+			arrived := s.arr[t] // the values that arrived at this level; a 0 and a 1 are a fight, not an unknown
 			for ci := 0; ci < len(s.comp); ci++ {
 				m := s.comp[ci]
 				for _, d := range nl.chanDev[nl.chanStart[m]:nl.chanStart[m+1]] {
@@ -116,9 +136,7 @@ func (s *Sim) resolve(g *group) {
 					}
 					s.done[o] = stamp
 					if s.best[o] == lvl {
-						if s.fight[o] || (cv != s.inj[o] && cv != VX && s.inj[o] != VX) {
-							mixed = true
-						}
+						arrived |= s.arr[o]
 						cv = lub(cv, s.inj[o])
 					}
 					s.comp = append(s.comp, o)
@@ -130,6 +148,7 @@ func (s *Sim) resolve(g *group) {
 					shared = shared || s.val[m] != cv
 				}
 			}
+			mixed := arrived&3 == 3
 			for _, m := range s.comp {
 				s.best[m], s.inj[m] = lvl, cv
 				s.fight[m], s.shared[m] = mixed, shared
@@ -191,7 +210,7 @@ func (s *Sim) resolve(g *group) {
 func (s *Sim) resolveSingle(g *group) {
 	nl := s.nl
 	n := g.nodes[0]
-	best, v, fight := nl.nodeCharge[n], s.val[n], false
+	best, v, arrived := nl.nodeCharge[n], s.val[n], uint8(1)<<s.val[n]
 	for _, d := range g.devs {
 		if s.cond[d] != On {
 			continue
@@ -203,13 +222,13 @@ func (s *Sim) resolveSingle(g *group) {
 		sv := s.val[src]
 		switch st := nl.pass(d, Supply); {
 		case st > best:
-			best, v, fight = st, sv, false
+			best, v, arrived = st, sv, 1<<sv
 		case st == best:
-			fight = fight || (v != sv && v != VX && sv != VX)
+			arrived |= 1 << sv
 			v = lub(v, sv)
 		}
 	}
-	s.fight[n], s.shared[n] = fight && v == VX, false
+	s.fight[n], s.shared[n] = arrived&3 == 3, false
 	contested := (v == V0 && (g.srcHas[V1] || g.srcHas[VX])) || (v == V1 && (g.srcHas[V0] || g.srcHas[VX]))
 	g.nval[0], g.nstr[0], g.nvolts[0], g.contested[0] = v, best, math.NaN(), contested
 	s.contest[n] = contested
@@ -228,12 +247,10 @@ func (s *Sim) resolveSingle(g *group) {
 func (s *Sim) relax(o int32, st Strength, v Value, stamp uint32) {
 	switch {
 	case st > s.best[o]:
-		s.best[o], s.inj[o], s.fight[o] = st, v, false
+		s.best[o], s.inj[o], s.arr[o] = st, v, 1<<v
 		s.buckets[st] = append(s.buckets[st], o)
 	case st == s.best[o]:
-		if s.inj[o] != v && s.inj[o] != VX && v != VX {
-			s.fight[o] = true
-		}
+		s.arr[o] |= 1 << v
 		s.inj[o] = lub(s.inj[o], v)
 	}
 }
@@ -299,22 +316,26 @@ func (s *Sim) potential(g *group, v Value) {
 }
 
 // commit writes g's results and records the nodes that changed.
-func (s *Sim) commit(g *group, round int32) {
-	r := &s.res
+func (s *Sim) commit(g *group) {
+	rec := s.rec
 	for i, n := range g.nodes {
-		if s.touchMark[n] != s.settleID {
-			s.touchMark[n] = s.settleID
-			s.touched = append(s.touched, n)
-			s.lastChange[n] = 0 // rounds count from 1 in each settle
-		}
 		v, st, state, vo := g.nval[i], g.nstr[i], g.nstate[i], g.nvolts[i]
+		if v == VX {
+			s.ana.sawX = true
+		}
 		moved := s.val[n] != v || s.str[n] != st || s.state[n] != state || voltsMoved(s.volts[n], vo)
 		s.val[n], s.str[n], s.state[n], s.volts[n] = v, st, state, vo
+		if rec == nil && s.fight[n] && st >= s.nl.top {
+			s.ana.contradicted = true // a fight no stronger signal can override: not a real state
+		}
 		if moved {
-			s.lastChange[n] = round
-			r.Changed = append(r.Changed, n)
-			r.Delay = append(r.Delay, s.physDelay(g, i))
-			r.After = append(r.After, NodeState{v, st, state, vo, st.IsCharge()})
+			delay := s.physDelay(g, i)
+			if rec != nil {
+				s.lastChange[n] = s.roundNo
+				rec.changed = append(rec.changed, n)
+				rec.delay = append(rec.delay, delay)
+				rec.after = append(rec.after, NodeState{v, st, state, vo, st.IsCharge()})
+			}
 			s.gates = append(s.gates, n)
 		}
 	}

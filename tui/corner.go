@@ -2,9 +2,10 @@ package tui
 
 // The corner key: the same history re-simulated at the design's next
 // technology corner (nominal, then each corner statement in order, then
-// nominal again). The root swaps the session it explores for the new one,
-// which records a trace of its own from its start (with a corner line, so
-// that it replays at that corner).
+// nominal again). The root swaps the session it explores for the new one
+// (rebuild, setSession, as for a mode switch), which records a trace of its
+// own from its start (with a corner line, so that it replays at that
+// corner), and marks the nodes whose logic value differs.
 
 import (
 	"fmt"
@@ -13,7 +14,6 @@ import (
 	"railyard/switchsim"
 	"railyard/switchsim/diag"
 	"railyard/switchsim/session"
-	"railyard/switchsim/trace"
 )
 
 // nextCorner moves the session to the next corner of the cycle.
@@ -34,40 +34,19 @@ func (m *Model) nextCorner() {
 			next = names[i+1]
 		}
 	}
-	opt := trace.Options{}
-	if w := trace.Of(m.sess); w != nil {
-		opt = w.Options()
-	}
-	var made *trace.Writer
-	ns, err := session.Recorner(m.sess, next, func(ns *session.Session) error {
-		w, err := trace.Start(ns, "", opt)
-		made = w
-		return err
-	})
+	ns, err := m.rebuild(func(a session.Attach) (*session.Session, error) { return session.Recorner(m.sess, next, a) })
 	if err != nil {
-		if made != nil {
-			made.Close()
-		}
 		m.fail(fmt.Sprintf("could not switch to corner %s: %v", diag.Printable(session.CornerLabel(next)), diag.Printable(err.Error())))
 		return
 	}
+	old := m.sess
 	wasFailed := m.failedChecks()
-	m.swapSession(ns)
+	m.setSession(ns)
+	differ := m.markDiffers(old, "vs "+diag.Printable(old.CornerName()))
 	tech := ns.Netlist().Tech
-	m.say(fmt.Sprintf("corner %s (vdd %.2f V, vtn %.3f V, vtp %.3f V): %s re-simulated; %s",
+	m.say(fmt.Sprintf("corner %s (vdd %.2f V, vtn %.3f V, vtp %.3f V): %s re-simulated; %s; %s",
 		diag.Printable(ns.CornerName()), tech.Vdd, tech.Vtn, tech.Vtp, plural(ns.Len()-1, "action"),
-		failedWords(m.failedChecks(), wasFailed)))
-}
-
-// swapSession makes ns the session explored and releases the old one's
-// trace (the new one records the history again from its start).
-func (m *Model) swapSession(ns *session.Session) {
-	if w := trace.Of(m.sess); w != nil {
-		w.Close()
-	}
-	m.sess = ns
-	m.why.SetNetlist(ns.Netlist())
-	m.devices.SetNetlist(ns.Netlist())
+		failedWords(m.failedChecks(), wasFailed), differWords(differ, diag.Printable(old.CornerName()))))
 }
 
 // failedChecks counts the failed checks of the history in force.

@@ -12,6 +12,8 @@ type KeyMap struct {
 	Filter                 key.Binding
 	Rounds, Vectors, Why   key.Binding
 	Devices, Timeline, Log key.Binding
+	Audit                  key.Binding
+	Mode                   key.Binding
 	Corner                 key.Binding
 }
 
@@ -31,7 +33,7 @@ func DefaultKeyMap() KeyMap {
 		Jump:      b([]string{"g"}, "g", "go to step…"),
 		RunToFail: b([]string{"f"}, "f", "run to first failing check"),
 		RunToEnd:  b([]string{"e"}, "e", "run to the end"),
-		Save:      b([]string{"s"}, "s", "save trace / VCD"),
+		Save:      b([]string{"s"}, "s", "save trace / VCD / design"),
 		Filter:    b([]string{"/"}, "/", "filter"),
 		Rounds:    b([]string{"r"}, "r", "rounds of the last settle"),
 		Vectors:   b([]string{"v"}, "v", "vectors: the steps file"),
@@ -39,6 +41,8 @@ func DefaultKeyMap() KeyMap {
 		Devices:   b([]string{"d"}, "d", "devices"),
 		Timeline:  b([]string{"t"}, "t", "timeline"),
 		Log:       b([]string{"l"}, "l", "warnings log"),
+		Audit:     b([]string{"a"}, "a", "audit: every reachable state"),
+		Mode:      b([]string{"i"}, "i", "ideal / physical mode"),
 		Corner:    b([]string{"c"}, "c", "next technology corner"),
 	}
 }
@@ -51,7 +55,7 @@ func (k KeyMap) ShortHelp() []key.Binding {
 func (k KeyMap) FullHelp() [][]key.Binding {
 	return [][]key.Binding{
 		{k.Next, k.Prev, k.Jump, k.RunToFail, k.RunToEnd},
-		{k.Rounds, k.Vectors, k.Why, k.Devices, k.Timeline, k.Log},
-		{k.Corner, k.FocusNext, k.FocusPrev, k.Filter, k.Save, k.Help, k.Close, k.Quit},
+		{k.Rounds, k.Vectors, k.Why, k.Devices, k.Timeline, k.Log, k.Audit},
+		{k.Mode, k.Corner, k.FocusNext, k.FocusPrev, k.Filter, k.Save, k.Help, k.Close, k.Quit},
 	}
 }

@@ -13,6 +13,7 @@ import (
 	"github.com/charmbracelet/x/exp/teatest"
 
 	"railyard/switchsim"
+	"railyard/switchsim/session"
 )
 
 // waitFor waits until the program has drawn text.
@@ -88,13 +89,33 @@ func TestProgramFlows(t *testing.T) {
 func TestRunWritesTraceOnQuit(t *testing.T) {
 	s := openFixture(t)
 	trace := filepath.Join(t.TempDir(), "quit.trace")
+	note := runKeys(t, s, Options{TracePath: trace}, "n", "n", "p", "q")
+	b, err := os.ReadFile(trace)
+	if err != nil {
+		t.Fatal(err)
+	}
+	// start, two steps and a back: four actions (switchsim/trace writes each as "action N ...")
+	if n := bytes.Count(b, []byte("\naction ")); n != 4 {
+		t.Errorf("trace holds %d actions, want 4:\n%s", n, b)
+	}
+	// quitting says where the trace went (issue 18 item 14)
+	if want := "trace of 4 actions saved to " + trace; !strings.Contains(note, want) {
+		t.Errorf("quit note %q lacks %q", note, want)
+	}
+}
+
+// runKeys runs the real program on s at 80x24, types keys into it (the
+// last must quit) and returns what it wrote to the terminal after.
+func runKeys(t *testing.T, s *session.Session, opt Options, keys ...string) string {
+	t.Helper()
 	in, feed := io.Pipe()
+	defer feed.Close()
 	var note bytes.Buffer
 	done := make(chan error, 1)
 	go func() {
-		done <- runProgram(s, Options{TracePath: trace}, 80, 24, &note, tea.WithInput(in), tea.WithOutput(io.Discard), tea.WithoutSignals())
+		done <- runProgram(s, opt, 80, 24, &note, tea.WithInput(in), tea.WithOutput(io.Discard), tea.WithoutSignals())
 	}()
-	for _, k := range []string{"n", "n", "p", "q"} {
+	for _, k := range keys {
 		time.Sleep(30 * time.Millisecond)
 		if _, err := feed.Write([]byte(k)); err != nil {
 			t.Fatal(err)
@@ -106,19 +127,23 @@ func TestRunWritesTraceOnQuit(t *testing.T) {
 			t.Fatalf("run: %v", err)
 		}
 	case <-time.After(10 * time.Second):
-		t.Fatal("q did not quit")
+		t.Fatal("the program did not quit")
 	}
-	feed.Close()
+	return note.String()
+}
+
+// --trace after a mode switch: what is written on quit is the session in
+// force, the history re-simulated in the other mode (its header says so),
+// not the session the explorer was started on.
+func TestRunWritesTheSwitchedSession(t *testing.T) {
+	s := openFixture(t) // ideal
+	trace := filepath.Join(t.TempDir(), "switched.trace")
+	runKeys(t, s, Options{TracePath: trace}, "n", "i", "q")
 	b, err := os.ReadFile(trace)
 	if err != nil {
 		t.Fatal(err)
 	}
-	// start, two steps and a back: four actions (switchsim/trace writes each as "action N ...")
-	if n := bytes.Count(b, []byte("\naction ")); n != 4 {
-		t.Errorf("trace holds %d actions, want 4:\n%s", n, b)
-	}
-	// quitting says where the trace went (issue 18 item 14)
-	if want := "trace of 4 actions saved to " + trace; !strings.Contains(note.String(), want) {
-		t.Errorf("quit note %q lacks %q", note.String(), want)
+	if !bytes.Contains(b, []byte("\nmode physical\n")) || bytes.Count(b, []byte("\naction ")) != 2 {
+		t.Errorf("the trace is not the physical session of 2 actions:\n%s", b)
 	}
 }

@@ -61,6 +61,11 @@ func (m *Model) sync() {
 		cond[d] = s.Conduction(d)
 	}
 	m.devices.SetStates(cond, states, m.vdd(states))
+	tried := map[int]switchsim.Device{}
+	for _, e := range s.Edits() {
+		tried[e.Device] = s.Original().Netlist.Device(e.Device)
+	}
+	m.devices.SetTried(tried)
 	m.devices.SetOhms(m.ohms())
 	m.devices.SetBias(m.biases())
 
@@ -72,7 +77,8 @@ func (m *Model) sync() {
 			before[c.Node].State = c.Was
 		}
 	}
-	st := rounds.Settle{Title: m.title(last), Rounds: last.Rounds, Before: before, Oscillated: last.Oscillated}
+	st := rounds.Settle{Title: m.title(last), Rounds: last.Rounds, Before: before, Oscillated: last.Oscillated,
+		Unsettled: last.Unsettled, Decided: last.Decided}
 	if len(hist) == 1 {
 		st.Title = "start: the first settle, every node from X"
 		st.Before = nil
@@ -114,7 +120,7 @@ func (m *Model) sync() {
 			en.Title += fmt.Sprintf(" (%d warnings, details dropped for memory)", e.NumWarnings())
 		}
 		for _, w := range e.Warnings {
-			en.Warnings = append(en.Warnings, logpanel.Warning{Kind: w.Kind, Message: diag.Printable(w.Message)})
+			en.Warnings = append(en.Warnings, logpanel.Warning{Kind: string(w.Kind), Message: diag.Printable(w.Message)})
 		}
 		entries = append(entries, en)
 	}
@@ -224,7 +230,7 @@ func (m *Model) nodeWarnings(n int) []string {
 		var ws []string
 		for _, w := range e.Warnings {
 			if w.Node == n {
-				ws = append(ws, m.th.Warn.Render(m.th.G.Warn+" "+w.Kind)+" "+diag.Printable(w.Message))
+				ws = append(ws, m.th.Warn.Render(m.th.G.Warn+" "+string(w.Kind))+" "+diag.Printable(w.Message))
 			}
 		}
 		touched := len(ws) > 0

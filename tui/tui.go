@@ -2,7 +2,7 @@
 // a session. The root model here only routes messages and lays out the
 // panels, each of which is its own small model in a package below: the input
 // bank and the node board on the left, and on the right one detail view at a
-// time (rounds, vectors, why, devices, timeline, log).
+// time (rounds, vectors, why, devices, timeline, log, audit).
 //
 // A Model is built from a session and a terminal size alone, with no globals
 // and no direct use of the process's terminal, so a server can run one per
@@ -10,6 +10,7 @@
 package tui
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"io"
@@ -22,10 +23,13 @@ import (
 	tea "github.com/charmbracelet/bubbletea"
 	"github.com/charmbracelet/lipgloss"
 
+	"railyard/switchsim"
 	"railyard/switchsim/diag"
 	"railyard/switchsim/outfile"
+	"railyard/switchsim/reach"
 	"railyard/switchsim/session"
 	"railyard/switchsim/trace"
+	"railyard/tui/audit"
 	"railyard/tui/devices"
 	"railyard/tui/inputs"
 	"railyard/tui/logpanel"
@@ -43,8 +47,9 @@ import (
 type SaveKind = panel.SaveKind
 
 const (
-	SaveTrace = panel.SaveTrace
-	SaveVCD   = panel.SaveVCD
+	SaveTrace  = panel.SaveTrace
+	SaveVCD    = panel.SaveVCD
+	SaveDesign = panel.SaveDesign
 )
 
 // SaveFunc keeps a file for the explorer's owner: it is given what to save
@@ -78,6 +83,10 @@ type Options struct {
 	Save SaveFunc
 	// MinWidth and MinHeight are the smallest size drawn (0: 80 x 24).
 	MinWidth, MinHeight int
+	// Context is the explorer's life (nil: until it quits): work it runs in
+	// the background (the reachable-state search) stops when it is done, as
+	// it does when the user quits. A server passes the connection's.
+	Context context.Context
 }
 
 // SaveInDir is a SaveFunc that writes into the folder dir, atomically,
@@ -114,10 +123,15 @@ const (
 	ViewDevices
 	ViewTimeline
 	ViewLog
+	ViewAudit
 	numViews
 )
 
-var viewNames = [numViews]string{"Rounds", "Vectors", "Why", "Devices", "Timeline", "Log"}
+var viewNames = [numViews]string{"Rounds", "Vectors", "Why", "Devices", "Timeline", "Log", "Audit"}
+
+// shortNames are the names of the views not shown where the full names
+// do not fit (80 columns).
+var shortNames = [numViews]string{"Rnds", "Vecs", "Why", "Devs", "Time", "Log", "Audit"}
 
 func (v View) String() string { return viewNames[v] }
 
@@ -146,6 +160,7 @@ type Model struct {
 	devices  devices.Model
 	timeline timeline.Model
 	log      logpanel.Model
+	audit    audit.Model
 	prompt   prompt.Model
 
 	w, h     int
@@ -162,11 +177,30 @@ type Model struct {
 	inspect  int // the node the why view and the device marks follow
 	lastFail string
 	written  map[string]bool // files this model saved: replacing them needs no question
+
+	ctx     context.Context // the explorer's life: background work stops with it
+	cancel  context.CancelFunc
+	search  *searchRun    // the reachable-state search under way, or nil
+	found   *reach.Report // the last search's report, while it describes the session
+	foundOf searchKey     // the netlist and mode it was of
+	// auditOrder maps the Audit view's rows to the report's findings
+	auditOrder []int
+	// findingSteps names the steps when they are a finding's sequence
+	findingSteps string
+	auditStale   bool // the search shown was dropped: search again when Audit is shown
+	quietSearch  bool // a search started on its own: the status line keeps what it says
+	designSaved  bool // the design with the sizes tried in force was saved as .sw (SavedAs)
 	// copied from the session, printable, for View
 	designName, designDesc string
 	numSteps, nextStep     int
 	failed                 int
 	ascii                  *strings.Replacer
+}
+
+// searchKey is what a search's report is of: a netlist in a mode.
+type searchKey struct {
+	nl   *switchsim.Netlist
+	mode switchsim.Mode
 }
 
 // New builds the explorer on a session for a terminal of width x height.
@@ -215,6 +249,12 @@ func New(s *session.Session, width, height int, opt Options) *Model {
 	m.devices = devices.New(nl, m.names, devices.DefaultStyles(th))
 	m.timeline = timeline.New(m.names, timeline.DefaultStyles(th))
 	m.log = logpanel.New(logpanel.DefaultStyles(th))
+	m.audit = audit.New(audit.DefaultStyles(th))
+	parent := opt.Context
+	if parent == nil {
+		parent = context.Background()
+	}
+	m.ctx, m.cancel = context.WithCancel(parent)
 
 	m.watchSet = make([]bool, nl.NumNodes())
 	for _, n := range firstWatched(s) {
@@ -283,6 +323,11 @@ func (m *Model) welcome() string {
 // Init starts nothing: the model is ready as built.
 func (m *Model) Init() tea.Cmd { return nil }
 
+// Close stops the explorer's background work (a search under way). Run
+// calls it when the program ends; an owner running the model itself
+// calls it when done with it, or passes Options.Context.
+func (m *Model) Close() { m.cancel() }
+
 // Update routes a message: keys to the focused panel (or the prompt, the
 // help, a filter being typed), and the panels' intents to the actions.
 func (m *Model) Update(msg tea.Msg) (tea.Model, tea.Cmd) {
@@ -315,6 +360,21 @@ func (m *Model) Update(msg tea.Msg) (tea.Model, tea.Cmd) {
 		m.say(msg.What)
 	case panel.Note:
 		m.note(msg.Text)
+	case panel.AskSize:
+		m.openSize(msg.Device)
+	case panel.Resize:
+		m.resize(msg.Device, msg.W, msg.L)
+		return m, m.resumeAudit()
+	case panel.Search:
+		if msg.Stop {
+			m.stopSearch()
+			return m, nil
+		}
+		return m, m.startSearch()
+	case panel.OpenFinding:
+		m.openFinding(msg.Index)
+	case searchMsg:
+		return m, m.searchNews(msg.run)
 	}
 	return m, nil
 }
@@ -324,11 +384,11 @@ func (m *Model) tooSmall() bool { return m.w < m.opt.MinWidth || m.h < m.opt.Min
 func (m *Model) key(k tea.KeyMsg) tea.Cmd {
 	km := m.keys
 	if k.Type == tea.KeyCtrlC {
-		return tea.Quit
+		return m.quit()
 	}
 	if m.tooSmall() {
 		if key.Matches(k, km.Quit) {
-			return tea.Quit
+			return m.quit()
 		}
 		return nil
 	}
@@ -340,7 +400,7 @@ func (m *Model) key(k tea.KeyMsg) tea.Cmd {
 	if m.showHelp {
 		switch {
 		case key.Matches(k, km.Quit):
-			return tea.Quit
+			return m.quit()
 		case key.Matches(k, km.Help), key.Matches(k, km.Close):
 			m.showHelp = false
 		case k.Type == tea.KeyRight || k.Type == tea.KeyDown || k.Type == tea.KeyPgDown || k.Type == tea.KeySpace:
@@ -367,7 +427,7 @@ func (m *Model) key(k tea.KeyMsg) tea.Cmd {
 
 	switch {
 	case key.Matches(k, km.Quit):
-		return tea.Quit
+		return m.quit()
 	case key.Matches(k, km.Help):
 		m.showHelp, m.helpPage = true, 0
 	case key.Matches(k, km.Close):
@@ -406,6 +466,13 @@ func (m *Model) key(k tea.KeyMsg) tea.Cmd {
 		m.show(ViewLog)
 	case key.Matches(k, km.Corner):
 		m.change(m.nextCorner)
+	case key.Matches(k, km.Audit):
+		return m.showAudit()
+	case key.Matches(k, km.Mode):
+		m.switchMode()
+		return m.resumeAudit()
+	case key.Matches(k, m.devices.KeyMap.Size) && (m.view != ViewDevices || m.focus != focusDetail):
+		m.note("W tries a size on a transistor's row of Devices: d shows them, tab moves there")
 	case m.focus != focusDetail && m.sideways(k):
 		// left and right replay the rounds (or scroll the timeline) from
 		// the lists too, which have no use for them
@@ -459,8 +526,35 @@ func (m *Model) detailKey(k tea.KeyMsg) tea.Cmd {
 		m.timeline, cmd = m.timeline.Update(k)
 	case ViewLog:
 		m.log, cmd = m.log.Update(k)
+	case ViewAudit:
+		m.audit, cmd = m.audit.Update(k)
 	}
 	return cmd
+}
+
+// quit stops the background work and ends the program.
+func (m *Model) quit() tea.Cmd {
+	m.cancel()
+	return tea.Quit
+}
+
+// showAudit shows the Audit view with the focus on its list, starting the
+// search when it has not run on the design and mode in force; pressed
+// again there, it runs the search again.
+func (m *Model) showAudit() tea.Cmd {
+	again := m.view == ViewAudit
+	m.show(ViewAudit)
+	// the list is what the view is for: enter must open a finding, not
+	// toggle the input under the cursor
+	m.focus = focusDetail
+	m.applyFocus()
+	if m.search != nil {
+		return nil
+	}
+	if m.found == nil || again || m.foundOf != (searchKey{m.sess.Netlist(), m.sess.Options().Mode}) {
+		return m.startSearch()
+	}
+	return nil
 }
 
 // escape closes the innermost thing open: a filter, then the detail focus.
@@ -506,7 +600,7 @@ func (m *Model) show(v View) {
 
 // panels lists every panel by its focus part, the lists first.
 func (m *Model) panels() []panel.Focuser {
-	return []panel.Focuser{&m.inputs, &m.nodes, &m.rounds, &m.vectors, &m.why, &m.devices, &m.timeline, &m.log}
+	return []panel.Focuser{&m.inputs, &m.nodes, &m.rounds, &m.vectors, &m.why, &m.devices, &m.timeline, &m.log, &m.audit}
 }
 
 func (m *Model) applyFocus() {
@@ -602,7 +696,8 @@ func runProgram(s *session.Session, opt Options, w, h int, note io.Writer, popts
 	m := New(s, w, h, opt)
 	p := tea.NewProgram(m, popts...)
 	_, err := p.Run()
-	s = m.Session() // a corner switch makes a new one
+	m.Close()
+	s = m.Session() // another mode, a size tried, a corner or a finding's steps make a new one
 	if opt.TracePath != "" {
 		saved, terr := trace.Save(s, opt.TracePath)
 		if terr != nil {

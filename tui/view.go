@@ -33,6 +33,7 @@ func (m *Model) layout() {
 	m.devices.SetSize(rw, dh)
 	m.timeline.SetSize(rw, dh)
 	m.log.SetSize(rw, dh)
+	m.audit.SetSize(rw, dh)
 	m.prompt.SetSize(m.w, 1)
 	m.help.Width = m.w
 }
@@ -128,6 +129,9 @@ func (m *Model) header() string {
 		left += " " + t.Dim.Render(d)
 	}
 	var right []string
+	if m.sess.Edited() {
+		right = append(right, t.Accent.Render(fmt.Sprintf("edited (%s)", plural(len(m.sess.Edits()), "size"))))
+	}
 	mode := m.sess.Options().Mode.String()
 	if c := m.sess.Corner(); c != "" {
 		mode += " @" + diag.Printable(c) // a technology corner, not the design's own
@@ -152,38 +156,77 @@ func (m *Model) header() string {
 	return theme.Fit(theme.Fit(left, max(room, 0))+" "+r, m.w)
 }
 
+// viewBar names the detail views, the one shown in brackets, with the
+// marks that call for a look: Vectors a failed check, Log the warnings of
+// the last settle, Audit the findings (failing or not) or a search under
+// way. Where the names do not fit (80 columns), the views not shown take
+// their short names.
 func (m *Model) viewBar() string {
 	t := m.th
-	labels := make([]string, numViews)
-	width := 0
-	for v := View(0); v < numViews; v++ {
-		name := viewNames[v]
-		if v == ViewLog {
-			if n := m.log.Last(); n > 0 {
-				name += fmt.Sprintf("%s%d", t.G.Warn, n)
-			}
-		}
-		if v == ViewVectors && m.failed > 0 {
-			name += t.G.Fail
-		}
-		if v == m.view {
-			mark := " "
-			if m.focus == focusDetail {
-				mark = t.G.Cursor
-			}
-			name = mark + "[" + name + "]"
-			labels[v] = t.TitleFocus.Render(name)
-		} else {
-			labels[v] = t.Dim.Render(name)
-		}
-		width += lipgloss.Width(name)
-	}
 	rw := m.w - m.leftWidth() - 1
-	sep := "  "
-	if width+2*int(numViews-1)+1 > rw {
-		sep = " " // narrow terminals
+	bar := func(names *[numViews]string, sep string) (string, int) {
+		labels := make([]string, numViews)
+		width := 0
+		for v := View(0); v < numViews; v++ {
+			name := names[v]
+			if v == m.view {
+				name = viewNames[v]
+			}
+			name += m.viewMark(v)
+			if v == m.view {
+				mark := " "
+				if m.focus == focusDetail {
+					mark = t.G.Cursor
+				}
+				name = mark + "[" + name + "]"
+				labels[v] = t.TitleFocus.Render(name)
+			} else {
+				labels[v] = t.Dim.Render(name)
+			}
+			width += lipgloss.Width(name)
+		}
+		return " " + strings.Join(labels, sep), width + len(sep)*int(numViews-1) + 1
 	}
-	return theme.Fit(" "+strings.Join(labels, sep), rw)
+	if b, w := bar(&viewNames, "  "); w <= rw {
+		return theme.Fit(b, rw)
+	}
+	// one space apart, then the longest names not shown cut short one by one
+	names := viewNames
+	b, w := bar(&names, " ")
+	for _, v := range []View{ViewTimeline, ViewDevices, ViewVectors, ViewRounds} {
+		if w <= rw {
+			break
+		}
+		names[v] = shortNames[v]
+		b, w = bar(&names, " ")
+	}
+	return theme.Fit(b, rw)
+}
+
+// viewMark is what a view's name carries in the bar.
+func (m *Model) viewMark(v View) string {
+	t := m.th
+	switch v {
+	case ViewLog:
+		if n := m.log.Last(); n > 0 {
+			return fmt.Sprintf("%s%d", t.G.Warn, n)
+		}
+	case ViewVectors:
+		if m.failed > 0 {
+			return t.G.Fail
+		}
+	case ViewAudit:
+		all, failing := m.audit.Findings()
+		switch {
+		case m.search != nil:
+			return t.G.Ellipsis
+		case failing > 0:
+			return fmt.Sprintf("%s%d", t.G.Fail, failing)
+		case all > 0:
+			return fmt.Sprintf("%s%d", t.G.Warn, all)
+		}
+	}
+	return ""
 }
 
 func (m *Model) detailView() string {
@@ -198,6 +241,8 @@ func (m *Model) detailView() string {
 		return m.timeline.View()
 	case ViewLog:
 		return m.log.View()
+	case ViewAudit:
+		return m.audit.View()
 	}
 	return m.rounds.View()
 }
@@ -227,6 +272,10 @@ func (m *Model) hints() string {
 			bs = []key.Binding{pk.Accept, pk.Cancel}
 		case prompt.Confirm:
 			bs = []key.Binding{pk.Yes, pk.No}
+		case prompt.Size:
+			h("enter", "try it")
+			h("tab", "W or L")
+			h("esc", "cancel")
 		default:
 			bs = pk.ShortHelp()
 		}
@@ -260,8 +309,15 @@ func (m *Model) hints() string {
 				h("↑↓", "scroll")
 			case ViewDevices:
 				h("enter", "why gate")
+				h("W", "size")
 				h("/", "filter")
-				h("o", "group only")
+				h("o", "group")
+			case ViewAudit:
+				h("↑↓", "select")
+				h("enter", "walk it")
+				if m.search != nil {
+					h("x", "stop")
+				}
 			case ViewTimeline:
 				h("← →", "scroll")
 				h("m", "unwatch")
@@ -276,6 +332,21 @@ func (m *Model) hints() string {
 		h("tab", "panel")
 		h("?", "keys")
 		h("q", "quit")
+	}
+	// where the line does not fit, the keys that work everywhere and are
+	// in the help go first, so that "? keys" and "q quit" stay in sight
+	whole := m.help
+	whole.Width = 0 // measured uncut
+	for _, drop := range []string{"esc", "tab", "p", "n"} {
+		if lipgloss.Width(whole.ShortHelpView(bs)) <= m.w || len(bs) < 4 {
+			break
+		}
+		for i, b := range bs {
+			if b.Help().Key == drop && i < len(bs)-2 {
+				bs = append(bs[:i:i], bs[i+1:]...)
+				break
+			}
+		}
 	}
 	return theme.Fit(m.help.ShortHelpView(bs), m.w)
 }
@@ -325,13 +396,15 @@ func (m *Model) helpColumns(h int) (cols [][]string, perPage, colW int) {
 		title string
 		keys  []key.Binding
 	}{
-		{"Steps and actions", []key.Binding{m.keys.Next, m.keys.Prev, m.keys.Jump, m.keys.RunToFail, m.keys.RunToEnd, m.keys.Save, m.keys.Corner}},
-		{"Views on the right", []key.Binding{m.keys.Rounds, m.keys.Vectors, m.keys.Why, m.keys.Devices, m.keys.Timeline, m.keys.Log}},
+		{"Steps and actions", []key.Binding{m.keys.Next, m.keys.Prev, m.keys.Jump, m.keys.RunToFail, m.keys.RunToEnd, m.keys.Save}},
+		{"Views on the right", []key.Binding{m.keys.Rounds, m.keys.Vectors, m.keys.Why, m.keys.Devices, m.keys.Timeline, m.keys.Log, m.keys.Audit}},
+		{"Design", []key.Binding{m.keys.Mode, m.keys.Corner, m.devices.KeyMap.Size}},
 		{"Inputs (left, top)", []key.Binding{m.inputs.KeyMap.Toggle, m.inputs.KeyMap.Set0, m.inputs.KeyMap.Set1, m.inputs.KeyMap.SetX, m.inputs.KeyMap.SetZ, m.inputs.KeyMap.Watch, m.inputs.KeyMap.Filter}},
 		{"Nodes (left)", []key.Binding{m.nodes.KeyMap.Inspect, m.nodes.KeyMap.Filter, m.nodes.KeyMap.Watch}},
 		{"Rounds: replay the settle", []key.Binding{m.rounds.KeyMap.Prev, m.rounds.KeyMap.Next, m.rounds.KeyMap.First, m.rounds.KeyMap.Last}},
 		{"Vectors", []key.Binding{m.vectors.KeyMap.Jump, pair(m.vectors.KeyMap.Left, m.vectors.KeyMap.Right, "scroll the values")}},
-		{"Devices", []key.Binding{m.devices.KeyMap.Inspect, m.devices.KeyMap.Filter, m.devices.KeyMap.GroupOnly}},
+		{"Devices", []key.Binding{m.devices.KeyMap.Inspect, m.devices.KeyMap.Size, m.devices.KeyMap.Filter, m.devices.KeyMap.GroupOnly}},
+		{"Audit", []key.Binding{m.audit.KeyMap.Open, m.audit.KeyMap.Stop}},
 		{"Timeline", []key.Binding{pair(m.timeline.KeyMap.Left, m.timeline.KeyMap.Right, "earlier / later"), m.timeline.KeyMap.Unwatch}},
 		{"Save prompt", prompt.DefaultKeyMap().ShortHelp()},
 		{"Lists", []key.Binding{nav.Up, nav.Down, nav.PageUp, nav.PageDown, nav.Home, nav.End}},
@@ -356,6 +429,7 @@ func (m *Model) helpColumns(h int) (cols [][]string, perPage, colW int) {
 		" "+t.G.Watched+" on the timeline  "+t.G.Group+" of the group",
 		" "+t.G.Fail+" failed check  "+t.G.Pass+" passed",
 		" "+t.G.Warn+" warning  "+t.G.Set+" input set by hand",
+		" "+t.G.Differs+"1 differs after i or W: was 1",
 		" Waveforms: "+t.Legend())
 	// flow into columns of ch lines, as many side by side as fit
 	ch := h - 1
@@ -398,7 +472,7 @@ func asciiReplacer() *strings.Replacer {
 	// one cell for one cell, so that the widths the layout computed still hold
 	return strings.NewReplacer(
 		"↑", "^", "↓", "v", "←", "<", "→", ">", "…", "~", "•", "*", "·", ".",
-		"─", "-", "│", "|", "▸", ">", "▶", ">", "✓", "+", "✗", "F", "◆", "@", "◇", "&", "▏", "_",
+		"─", "-", "│", "|", "▸", ">", "▶", ">", "✓", "+", "✗", "F", "◆", "@", "◇", "&", "▏", "_", "≠", "%",
 	)
 }
 

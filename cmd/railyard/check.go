@@ -62,6 +62,7 @@ examples:
   railyard check cells/opsel.sw --exhaustive --pairs --save-steps found
   railyard check cells/ --exhaustive -j 4 --junit check.xml
   railyard check cells/ --exhaustive --shard 2/4 --cache .railyard-cache --json
+  railyard check lib/oplatch.cdl --top oplatch --power vpwr --ground vgnd --exhaustive
   railyard check cells/ --exhaustive --corners --junit check.xml
 `
 

@@ -108,7 +108,7 @@ func loadCheck(files *load.Loader, path, corner string, o checkOptions) (*loaded
 		}
 		sp = p
 	}
-	st, src, err := files.Steps(sp, d.Netlist)
+	st, src, err := files.Steps(sp, d)
 	if err != nil {
 		return nil, err
 	}
@@ -278,5 +278,11 @@ func cacheKey(l *loaded, corner string, o checkOptions) string {
 	fmt.Fprintf(h, "\nsteps %d\n", len(l.stepsSrc))
 	h.Write(l.stepsSrc)
 	fmt.Fprintf(h, "\ntech %+v\n", l.d.Netlist.Tech)
+	// A netlist's reading also depends on its includes and the reader
+	// options (rails, inputs): the compiled netlist, written flat, holds
+	// all of what they decide.
+	if err := netfile.WriteNetlist(h, l.d.Netlist); err != nil {
+		fmt.Fprintf(h, "unwritable %v %+v %q\n", err, l.d.Options, l.d.Includes)
+	}
 	return hex.EncodeToString(h.Sum(nil))
 }

@@ -15,27 +15,34 @@ import (
 )
 
 const exploreUsage = `
-usage: railyard explore [DESIGN] [--steps FILE] [--trace FILE] [--ascii] [--corner NAME]
+usage: railyard explore [DESIGN] [--steps FILE] [--trace FILE] [--ideal] [--full-swing] [--ascii]
+                        [--corner NAME]
 
 The interactive explorer: toggle inputs, step through the steps file, watch
-values settle round by round, ask why a node holds its value. DESIGN
-defaults to the embedded demo. With --trace the session's trace is saved
-to FILE when the explorer quits. --corner NAME starts at one of the
-design's technology corners; the c key moves to the next one (nominal,
-then each corner), re-simulating the history.
+values settle round by round, ask why a node holds its value, search every
+reachable state (a), switch ideal and physical mode on the live session
+(i), try another size on a transistor (W in Devices), move to the design's
+next technology corner (c: nominal, then each corner, the history
+re-simulated). DESIGN defaults to the embedded demo. With --trace the
+session's trace is saved to FILE when the explorer quits. --ideal and
+--full-swing are those of run; --corner NAME starts at one of the design's
+corners.
 
 examples:
   railyard explore
   railyard explore cells/opsel.sw --steps cells/opsel.steps --trace opsel.trace
+  railyard explore demo:strong_keeper --ideal
   railyard explore demo:` + designs.Default + ` --ascii
+  railyard explore demo:opsel_latch
+  railyard explore lib/oplatch.cdl --top oplatch --inputs d,clk
 `
 
 // exploreOptions are the flags of `explore`.
 type exploreOptions struct {
-	steps, trace string
-	corner       string
-	ascii        bool
-	load         *loadFlags
+	steps, trace            string
+	corner                  string
+	ascii, ideal, fullSwing bool
+	load                    *loadFlags
 }
 
 func cmdExplore(args []string, stdout, stderr io.Writer) int {
@@ -44,6 +51,8 @@ func cmdExplore(args []string, stdout, stderr io.Writer) int {
 	fs.StringVar(&o.steps, "steps", "", "the steps `FILE` (default: DESIGN's same-named .steps file)")
 	fs.StringVar(&o.trace, "trace", "", "save the session trace to `FILE` on quitting")
 	fs.BoolVar(&o.ascii, "ascii", false, "draw with ASCII only")
+	fs.BoolVar(&o.ideal, "ideal", false, "start in ideal mode: strengths only, no voltage estimates (i switches)")
+	fs.BoolVar(&o.fullSwing, "full-swing", false, "0 and 1 checks also require the strong full-level states")
 	fs.StringVar(&o.corner, "corner", "", "start at the design's technology corner `NAME` (nominal: its own technology)")
 	o.load = addLoadFlags(fs)
 	pos, code := parseArgs(fs, args, stdout, stderr)
@@ -72,7 +81,7 @@ func cmdExplore(args []string, stdout, stderr io.Writer) int {
 			return exitUsage
 		}
 	}
-	s, err := session.OpenFrom(files, design, o.steps, session.Options{Mode: switchsim.Physical, Corner: o.corner})
+	s, err := session.OpenFrom(files, design, o.steps, o.sessionOptions())
 	if err != nil {
 		return loadError(stderr, err)
 	}
@@ -90,6 +99,16 @@ func cmdExplore(args []string, stdout, stderr io.Writer) int {
 	}
 	defer w.Close()
 	return startExplorer(s, o, stderr)
+}
+
+// sessionOptions are the session's options from the flags: physical mode
+// unless --ideal, as run.
+func (o exploreOptions) sessionOptions() session.Options {
+	opt := session.Options{Mode: switchsim.Physical, FullSwing: o.fullSwing, Corner: o.corner}
+	if o.ideal {
+		opt.Mode = switchsim.Ideal
+	}
+	return opt
 }
 
 // startExplorer hands the session to the explorer, which saves the trace

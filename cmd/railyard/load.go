@@ -20,13 +20,31 @@ type loadFlags struct {
 func addLoadFlags(fs *flags) *loadFlags {
 	var f loadFlags
 	fs.StringVar(&f.format, "format", "", "read DESIGN as `FORMAT`: "+strings.Join(load.FormatNames(), ", ")+" (default: by its extension)")
+	f.addReader(fs)
+	return &f
+}
+
+// addReaderFlags are the netlist flags without --format, for a command
+// that reads many designs of their own extensions (serve).
+func addReaderFlags(fs *flags) *loadFlags {
+	var f loadFlags
+	f.addReader(fs)
+	return &f
+}
+
+func (f *loadFlags) addReader(fs *flags) {
 	fs.StringVar(&f.top, "top", "", "netlists: the subcircuit or module `NAME` to read (default: the only one)")
 	fs.StringVar(&f.power, "power", "", "netlists: the power rails' `NAMES`, comma-separated")
 	fs.StringVar(&f.ground, "ground", "", "netlists: the ground rails' `NAMES`, comma-separated")
 	fs.StringVar(&f.inputs, "inputs", "", "netlists: the input ports' `NAMES`, comma-separated (default: the steps' apply columns)")
 	fs.StringVar(&f.nmos, "nmos-models", "", "netlists: nMOS model `NAMES` or * patterns, comma-separated")
 	fs.StringVar(&f.pmos, "pmos-models", "", "netlists: pMOS model `NAMES` or * patterns, comma-separated")
-	return &f
+}
+
+// readOptions are the netlist readers' options the flags give.
+func (f *loadFlags) readOptions() netfile.ReadOptions {
+	return netfile.ReadOptions{Top: f.top, Power: commaList(f.power), Ground: commaList(f.ground), Inputs: commaList(f.inputs),
+		NMOSModels: commaList(f.nmos), PMOSModels: commaList(f.pmos)}
 }
 
 // loader makes the command line's loader from the flags; an unknown
@@ -37,10 +55,7 @@ func (f *loadFlags) loader() (*load.Loader, error) {
 			return nil, fmt.Errorf("--format: %v", err)
 		}
 	}
-	return load.Host(load.Options{Format: f.format, ReadOptions: netfile.ReadOptions{
-		Top: f.top, Power: commaList(f.power), Ground: commaList(f.ground), Inputs: commaList(f.inputs),
-		NMOSModels: commaList(f.nmos), PMOSModels: commaList(f.pmos),
-	}}), nil
+	return load.Host(load.Options{Format: f.format, ReadOptions: f.readOptions()}), nil
 }
 
 // commaList splits a flag's comma-separated names; nil when it is empty.

@@ -31,6 +31,8 @@ var commands = []command{
 	{"run", "settle each step of a design and report its checks", cmdRun},
 	{"check", "static checks, and every reachable state with --exhaustive; many designs at once", cmdCheck},
 	{"replay", "re-run a saved trace and compare every result", cmdReplay},
+	{"convert", "write a netlist (or any design) as a flat .sw design", cmdConvert},
+	{"export", "write a testbench deck for a circuit simulator from a design and its steps", cmdExport},
 	{"designs", "list the embedded demo designs", cmdDesigns},
 	{"explore", "the interactive explorer", cmdExplore},
 	{"serve", "serve the explorer over SSH", cmdServe},
@@ -101,7 +103,9 @@ commands:
 		fmt.Fprintf(w, "  %-8s %s\n", c.name, c.summary)
 	}
 	fmt.Fprintf(w, `
-DESIGN is a design file (.sw) or demo:NAME for an embedded design.
+DESIGN is a design file (.sw), a transistor netlist (.sp .spice .cir .cdl
+.net .ckt), an IEEE 1364 switch-level module (.v .vg), or demo:NAME for an
+embedded design; --format sw|netlist|verilog overrides the extension.
 Exit codes: 0 success, 1 a check failed (or a replay differed), 2 bad input.
 
 Run 'railyard COMMAND --help' for a command's flags and examples.

@@ -232,9 +232,18 @@ func TestCornerTraceReplays(t *testing.T) {
 func TestCheckCornersJUnit(t *testing.T) {
 	dir := t.TempDir()
 	xml := filepath.Join(dir, "c.xml")
+	// keeper_corner fails at slow alone: its write of a 1 is a write-fail there.
 	code, out, _ := call("check", "demo:keeper_corner", "demo:mux2_tgate", "--exhaustive", "--corners", "--junit", xml, "--json")
-	if code != exitOK {
-		t.Fatalf("exit %d\n%s", code, out)
+	if code != exitFail {
+		t.Fatalf("exit %d, want %d\n%s", code, exitFail, out)
+	}
+	for _, l := range jsonLines(t, out) {
+		if l["finding"] == "write-fail" && l["corner"] != "slow" {
+			t.Errorf("a write-fail at %v", l["corner"])
+		}
+		if l["finding"] == nil && l["design"] != nil && (l["pass"] == false) != (l["corner"] == "slow") {
+			t.Errorf("design line %v: only slow fails", l)
+		}
 	}
 	var corners []string
 	for _, l := range jsonLines(t, out) {
@@ -258,10 +267,13 @@ func TestCheckCornersJUnit(t *testing.T) {
 	if strings.Join(got, " ") != "keeper_corner keeper_corner@slow keeper_corner@fast mux2_tgate" {
 		t.Errorf("testcases %v: one per design and corner", got)
 	}
+	if n := strings.Count(string(b), "<failure "); n != 1 || !strings.Contains(string(b), `type="write-fail"`) {
+		t.Errorf("%d failures, want the one write-fail at slow:\n%s", n, b)
+	}
 	// keeper_corner's worst margin at slow: s held at 0.66 V against slow
 	// VIL 0.696 V: about 0.035 V, the smallest of its three.
 	_, text, _ := call("check", "demo:keeper_corner", "--exhaustive", "--corners")
-	if !regexp.MustCompile(`(?m)^  demo:keeper_corner slow +static, 9 states +1 +0 +0\.0[34] V `).MatchString(text) {
+	if !regexp.MustCompile(`(?m)^  demo:keeper_corner slow +static, 9 states +2 +1 +0\.0[34] V .* FAIL$`).MatchString(text) {
 		t.Errorf("the slow row's margin:\n%s", text)
 	}
 	if code, _, _ := call("check", "demo:mux2_tgate", "--corner", "slow"); code != exitUsage {

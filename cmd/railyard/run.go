@@ -21,7 +21,9 @@ usage: railyard run DESIGN [--steps FILE] [--json] [--ideal] [--full-swing] [--t
 
 Settle the design, apply each row of its steps file (FILE, or DESIGN's
 same-named .steps file), check the nodes the steps name, and print a report.
-Without steps the report shows the design's initial settle.
+Without steps the report shows the design's initial settle. DESIGN may be
+a .sw design or a netlist (cards, an IEEE 1364 module); the netlist flags
+say how to read one.
 
 Exit status: 0 when every check passes, 1 when one fails, 2 on bad input
 (nothing is written to --trace or --vcd then). --trace and --vcd never
@@ -46,6 +48,8 @@ examples:
   railyard run cells/opsel.sw --json > run.jsonl
   railyard run cells/opsel.sw --trace opsel.trace --vcd opsel.vcd
   railyard run cells/opsel.sw --ideal --full-swing
+  railyard run demo:opsel_latch
+  railyard run lib/oplatch.cdl --top oplatch --power vpwr --ground vgnd --steps oplatch.steps
   railyard run demo:keeper_corner --corners
   railyard run cells/opsel.sw --corner slow --min-margin 0.1
 `

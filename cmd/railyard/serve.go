@@ -29,12 +29,14 @@ usage: railyard serve --authorized-keys FILE --designs DIR [--listen ADDR]
 
 Serve the explorer over SSH. Designers connect with a plain SSH client and
 a key listed in --authorized-keys (public keys only: no passwords). The SSH
-command chooses the design: NAME for DIR/NAME.sw (with its .steps beside
-it), demo:NAME for an embedded demo, nothing for a picker, and
-'join SESSION-ID' to watch someone's session read-only. The save key
-writes the trace or a VCD under --traces/USER/ with a name the server
-chooses; each session's trace is kept there too. Connections are logged to
-stderr as JSON lines.
+command chooses the design: NAME for DIR/NAME.sw, or a file name of DIR
+with its extension (opsel_latch.sp, imm_select.v), each with its .steps
+beside it; demo:NAME for an embedded demo; nothing for a picker; and
+'join SESSION-ID' to watch someone's session read-only. The netlist flags
+apply to every netlist served; a netlist's includes never leave DIR. The
+save key writes the trace or a VCD under --traces/USER/ with a name the
+server chooses; each session's trace is kept there too. Connections are
+logged to stderr as JSON lines.
 
 Each session's trace is capped at --max-trace: past it later actions are
 not recorded and the explorer says so; what was recorded is still saved
@@ -50,7 +52,9 @@ to let the new one in, so a flood from one address cannot keep others out.
 
 examples:
   railyard serve --authorized-keys team_keys --designs cells --traces traces
+  railyard serve --authorized-keys team_keys --designs lib --power vpwr --ground vgnd
   ssh -t -p 2222 alice@127.0.0.1 opsel
+  ssh -t -p 2222 alice@127.0.0.1 opsel_latch.sp
   ssh -t -p 2222 bob@127.0.0.1 join k3m9qa
 `
 
@@ -70,6 +74,13 @@ var serveFlags = map[string]string{
 	"NoAuth":            "--no-auth",
 	"MaxTrace":          "--max-trace",
 	"MaxWave":           "--max-wave",
+	// the netlist flags, fields of Config.Read
+	"Read.Top":        "--top",
+	"Read.Power":      "--power",
+	"Read.Ground":     "--ground",
+	"Read.Inputs":     "--inputs",
+	"Read.NMOSModels": "--nmos-models",
+	"Read.PMOSModels": "--pmos-models",
 }
 
 // serveError says err in flags: a ConfigError's fields become the flags
@@ -107,7 +118,7 @@ func cmdServe(args []string, stdout, stderr io.Writer) int {
 	fs.StringVar(&cfg.Listen, "listen", sshserve.DefaultListen, "the `ADDR`ess to listen on (loopback unless you mean otherwise)")
 	fs.StringVar(&cfg.AuthorizedKeys, "authorized-keys", "", "the public keys let in, one a line (`FILE`, as ssh-keygen writes them)")
 	fs.StringVar(&cfg.HostKey, "host-key", defaultHostKey(), "the server's private key `FILE`; an ed25519 key is made there (mode 600) if missing")
-	fs.StringVar(&cfg.Designs, "designs", "", "the `DIR` of .sw designs served")
+	fs.StringVar(&cfg.Designs, "designs", "", "the `DIR` of designs served: .sw, netlists (.sp .cir .cdl ...) and IEEE 1364 modules (.v)")
 	fs.StringVar(&cfg.Traces, "traces", "", "keep each session's trace and what users save (trace, VCD) under `DIR`/USER/ (nothing kept without it)")
 	fs.IntVar(&cfg.MaxSessions, "max-sessions", sshserve.DefaultMaxSessions, "sessions open at once (`N`); more are refused")
 	fs.DurationVar(&cfg.IdleTimeout, "idle-timeout", sshserve.DefaultIdleTimeout, "close a session after this long (`D`) without input; 0 never")
@@ -125,6 +136,7 @@ func cmdServe(args []string, stdout, stderr io.Writer) int {
 	fs.StringVar(&sizes[0].text, sizes[0].flag, sizes[0].text, "cap each session's trace at `SIZE` (bytes, or with K, M, G); later actions are not recorded")
 	fs.StringVar(&sizes[1].text, sizes[1].flag, sizes[1].text, "refuse to save a VCD larger than `SIZE` (bytes, or with K, M, G)")
 	fs.BoolVar(&cfg.NoAuth, "no-auth", false, "let anyone in: only on a loopback address, for trying it out")
+	rf := addReaderFlags(fs)
 	pos, code := parseArgs(fs, args, stdout, stderr)
 	if code >= 0 {
 		return code
@@ -154,6 +166,7 @@ func cmdServe(args []string, stdout, stderr io.Writer) int {
 		}
 		*sz.v = n
 	}
+	cfg.Read = rf.readOptions()
 	cfg.Logger = slog.New(slog.NewJSONHandler(stderr, nil))
 	srv, err := sshserve.New(cfg)
 	if err != nil {

@@ -99,7 +99,15 @@ func TestServeFlagsAreConfigFields(t *testing.T) {
 	cfg := reflect.TypeOf(sshserve.Config{})
 	flags := map[string]bool{}
 	for field, flag := range serveFlags {
-		if _, ok := cfg.FieldByName(field); !ok {
+		typ, ok := cfg, true
+		for _, part := range strings.Split(field, ".") { // Read.Top: a field of a field
+			var f reflect.StructField
+			if f, ok = typ.FieldByName(part); !ok {
+				break
+			}
+			typ = f.Type
+		}
+		if !ok {
 			t.Errorf("serveFlags maps %s, which is no sshserve.Config field", field)
 		}
 		flags[flag] = true

@@ -119,7 +119,7 @@ func Read(file string, src []byte, opt Options) (*netfile.Design, error) {
 		}
 		return nil, errs.Err()
 	}
-	return &netfile.Design{Name: nl.Name, Desc: nl.Desc, Netlist: nl, Source: src, File: file, Notes: notes.List()}, nil
+	return &netfile.Design{Name: nl.Name, Desc: nl.Desc, Netlist: nl, Source: src, File: file, Notes: notes.List(), FoldCase: true}, nil
 }
 
 // ReadWith is Read with the options the loader fills (the Reader of

@@ -62,6 +62,15 @@ func byExt(ext string) (*Format, bool) {
 	return nil, false
 }
 
+// FormatOf is the format name's extension chooses.
+func FormatOf(name string) (Format, bool) {
+	f, ok := byExt(path.Ext(filepath.ToSlash(name)))
+	if !ok {
+		return Format{}, false
+	}
+	return *f, true
+}
+
 // Known reports whether name's extension is that of a design format
 // (whether or not its reader is there yet).
 func Known(name string) bool {

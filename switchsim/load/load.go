@@ -26,7 +26,6 @@ import (
 	"time"
 
 	"railyard/designs"
-	"railyard/switchsim"
 	"railyard/switchsim/diag"
 	"railyard/switchsim/netfile"
 	"railyard/switchsim/steps"
@@ -111,6 +110,14 @@ func Root(root *os.Root, opt Options) *Loader {
 
 // Options returns the loader's options.
 func (l *Loader) Options() Options { return l.opt }
+
+// WithOptions is a loader over the same files with other options (a
+// replay reads a netlist with the reader options its trace records).
+func (l *Loader) WithOptions(opt Options) *Loader {
+	c := *l
+	c.opt = opt
+	return &c
+}
 
 func (l *Loader) maxBytes() int {
 	if l.opt.MaxBytes > 0 {
@@ -304,7 +311,7 @@ func (l *Loader) Stat(name string) (fs.FileInfo, error) {
 
 func demoNames() []string {
 	var names []string
-	for _, e := range designs.List() {
+	for _, e := range designs.All() {
 		names = append(names, e.Name)
 	}
 	return names
@@ -372,12 +379,21 @@ func (l *Loader) design(name string, inputs []string) (*netfile.Design, error) {
 	if opt.Inputs == nil {
 		opt.Inputs = inputs
 	}
-	opt.Include = l.includer(label, name)
+	inc := l.includer(label, name)
+	var included []string
+	opt.Include = func(file, name string) (string, []byte, error) {
+		tl, src, err := inc(file, name)
+		if err == nil {
+			included = append(included, tl)
+		}
+		return tl, src, err
+	}
 	d, err := f.Read(label, src, opt)
 	if err != nil {
 		return nil, err
 	}
-	d.File = label
+	d.File, d.Format, d.Includes = label, f.Name, included
+	d.Options, d.Options.Include = opt, nil
 	return d, nil
 }
 
@@ -469,7 +485,7 @@ func (l *Loader) Open(design, stepsName string) (*Loaded, error) {
 	}
 	out.Design = d
 	if out.StepsSource != nil {
-		st, err := steps.Read(l.Path(out.StepsName), out.StepsSource, d.Netlist)
+		st, err := readSteps(l.Path(out.StepsName), out.StepsSource, d)
 		if err != nil {
 			return nil, err
 		}
@@ -478,14 +494,19 @@ func (l *Loader) Open(design, stepsName string) (*Loaded, error) {
 	return out, nil
 }
 
-// Steps reads a steps file against a netlist.
-func (l *Loader) Steps(name string, nl *switchsim.Netlist) (*steps.Steps, []byte, error) {
+// Steps reads a steps file against a design: its names exact, or in any
+// case for a design whose names are case-insensitive (netlist cards).
+func (l *Loader) Steps(name string, d *netfile.Design) (*steps.Steps, []byte, error) {
 	src, err := l.ReadFile(name)
 	if err != nil {
 		return nil, nil, err
 	}
-	st, err := steps.Read(l.Path(name), src, nl)
+	st, err := readSteps(l.Path(name), src, d)
 	return st, src, err
+}
+
+func readSteps(label string, src []byte, d *netfile.Design) (*steps.Steps, error) {
+	return steps.ReadWith(label, src, d.Netlist, steps.Options{FoldCase: d.FoldCase})
 }
 
 // join puts two errors' lists together, in order of position.

@@ -32,9 +32,20 @@ func DefaultLimits() Limits {
 const MaxCorners = 16
 
 var (
-	topKinds  = []string{"design", "tech", "corner", "power", "ground", "input", "output", "node", "nmos", "pmos", "tgate", "pullup", "pulldown", "cell", "use", "alias"}
-	cellKinds = []string{"node", "nmos", "pmos", "tgate", "pullup", "pulldown", "use"}
+	topKinds = []string{"design", "tech", "corner", "power", "ground", "input", "output", "node", "nmos", "pmos", "tgate",
+		"rnmos", "rpmos", "rtgate", "tran", "rtran", "pullup", "pulldown", "cell", "use", "alias"}
+	cellKinds = []string{"node", "nmos", "pmos", "tgate", "rnmos", "rpmos", "rtgate", "tran", "rtran", "pullup", "pulldown", "use"}
 )
+
+// resistive reports whether a device statement is of the resistive kinds
+// of IEEE 1364-2005 §7.12 (rnmos, rpmos, rtgate for rcmos, rtran).
+func resistive(kind string) bool {
+	switch kind {
+	case "rnmos", "rpmos", "rtgate", "rtran":
+		return true
+	}
+	return false
+}
 
 // cellDef is a checked cell, ready to expand.
 type cellDef struct {
@@ -62,7 +73,7 @@ type cellDef struct {
 
 // item is one checked statement of a scope.
 type item struct {
-	kind      string // input output node nmos pmos tgate pullup pulldown use
+	kind      string // input output node, a device statement's keyword, use
 	line, col int
 	name      string
 	terms     []string
@@ -70,6 +81,7 @@ type item struct {
 	w, l      float64
 	wn, wp    float64
 	cap       float64
+	ohms      float64            // r=: a resistance in ohms for physical mode; 0 none given
 	strength  switchsim.Strength // HighZ: the device's default
 	charge    switchsim.Strength // HighZ: the default
 	cell      *cellDef
@@ -108,9 +120,9 @@ func (cd *cellDef) bad(lim Limits) bool { return cd.cycle || cd.height > lim.Dep
 
 func (it *item) devices() int {
 	switch it.kind {
-	case "nmos", "pmos", "pullup", "pulldown":
+	case "nmos", "pmos", "rnmos", "rpmos", "tran", "rtran", "pullup", "pulldown":
 		return 1
-	case "tgate":
+	case "tgate", "rtgate":
 		return 2
 	}
 	return 0
@@ -684,17 +696,23 @@ func (c *checker) body(stmts []*Stmt, cd *cellDef) []item {
 				it.charge, good = c.charge(v)
 				ok = ok && good
 			}
-		case "nmos", "pmos", "tgate", "pullup", "pulldown":
+		case "nmos", "pmos", "rnmos", "rpmos", "tgate", "rtgate", "tran", "rtran", "pullup", "pulldown":
 			var o map[string]Opt
 			switch s.Kind {
-			case "nmos", "pmos":
+			case "nmos", "pmos", "rnmos", "rpmos":
 				o = c.opts(s, "w", "l", "strength")
 				ok = c.arity(s, 4, 4, "NAME GATE A B")
-			case "tgate":
+			case "tgate", "rtgate":
 				o = c.opts(s, "wn", "wp", "l", "strength")
 				ok = c.arity(s, 5, 5, "NAME NGATE PGATE A B")
-			default:
+			case "tran":
 				o = c.opts(s, "strength")
+				ok = c.arity(s, 3, 3, "NAME A B")
+			case "rtran":
+				o = c.opts(s, "r", "strength")
+				ok = c.arity(s, 3, 3, "NAME A B")
+			default:
+				o = c.opts(s, "r", "strength")
 				ok = c.arity(s, 2, 2, "NAME NODE")
 			}
 			if !ok {
@@ -710,13 +728,19 @@ func (c *checker) body(stmts []*Stmt, cd *cellDef) []item {
 			for _, size := range []struct {
 				key string
 				dst *float64
-			}{{"w", &it.w}, {"l", &it.l}, {"wn", &it.wn}, {"wp", &it.wp}} {
+			}{{"w", &it.w}, {"l", &it.l}, {"wn", &it.wn}, {"wp", &it.wp}, {"r", &it.ohms}} {
 				if v, has := o[size.key]; has {
 					*size.dst, ok = c.numberOK(v, ok)
 				}
 			}
 			if v, has := o["strength"]; has {
 				it.strength, good = c.strength(v)
+				if good && resistive(s.Kind) && it.strength > switchsim.Pull {
+					// Such a device never passes more than pull (resistive.go).
+					c.errAt(v.Line, v.ValCol, "strength=%s on %s: a resistive device passes at most pull (IEEE 1364-2005 §7.12), so give pull or weak",
+						strings.ToLower(v.Val), s.Kind)
+					good = false
+				}
 				ok = ok && good
 			}
 		case "use":
@@ -915,7 +939,7 @@ func (c *checker) finish(cd *cellDef) {
 			devs = sat(devs + sub.devs)
 			names = sat(names + sub.names)
 			bytes = sat(bytes + sub.bytes + sub.names*int64(len(it.name)+1))
-		case "tgate":
+		case "tgate", "rtgate":
 			devs += 2
 			names += 2
 			bytes = sat(bytes + 2*int64(len(it.name)+2))
@@ -1011,6 +1035,6 @@ func (c *checker) total(p *program) {
 		}
 	}
 	if devs == 0 && !p.dropped && !skipped && !c.lib {
-		c.errAt(1, 0, "the design has no devices: nothing to simulate (add nmos, pmos, tgate, pullup, pulldown or use statements)")
+		c.errAt(1, 0, "the design has no devices: nothing to simulate (add nmos, pmos, tgate, tran, pullup, pulldown or use statements)")
 	}
 }

@@ -21,23 +21,14 @@ import (
 // of the reading come first as comments. Reading the output gives the
 // same netlist.
 //
-// Devices the .sw statements of today cannot say are written with the
-// statements proposed for them: tran and rtran (always-on links, rtran
-// resistive with r= its resistance), rnmos and rpmos (resistive
-// transistors), and r= on pullup and pulldown (a netlist's resistor to a
-// rail).
+// Resistive devices are written with the statements of their kinds (README,
+// "Designs"): rnmos and rpmos, tran and rtran (a netlist's resistor between
+// two nodes, r= its resistance), and r= on a pullup or pulldown (a
+// resistor to a rail).
 func WriteConverted(w io.Writer, d *Design) error {
-	nl := d.Netlist
-	if nl == nil {
+	if d.Netlist == nil {
 		return fmt.Errorf("no netlist to write")
 	}
-	name := func(s, what string) (string, error) {
-		if !isName(s) {
-			return "", fmt.Errorf("%s %q cannot be written: it is not a name in the design format", what, s)
-		}
-		return s, nil
-	}
-	node := func(n int) (string, error) { return name(nl.NodeName(n), "node") }
 	bw := bufio.NewWriter(w)
 	if d.File != "" {
 		fmt.Fprintf(bw, "# converted from %s: every instance expanded\n", diag.Printable(d.File))
@@ -45,8 +36,20 @@ func WriteConverted(w io.Writer, d *Design) error {
 	for _, n := range d.Notes {
 		fmt.Fprintf(bw, "# note: %s\n", diag.Printable(strings.ReplaceAll(n.Error(), "\n", " ")))
 	}
+	if err := writeFlat(bw, d.Netlist, true); err != nil {
+		return err
+	}
+	return bw.Flush()
+}
+
+// writeFlat writes a compiled netlist as flat statements: the design line,
+// the technology, rails, inputs, outputs, node annotations, every device
+// and the alias lines. sizes writes every transistor's w and l; without
+// it only those that differ from the technology's defaults.
+func writeFlat(bw *bufio.Writer, nl *switchsim.Netlist, sizes bool) error {
+	node := func(n int) (string, error) { return flatName(nl.NodeName(n), "node") }
 	if nl.Name != "" {
-		if _, err := name(nl.Name, "design name"); err != nil {
+		if _, err := flatName(nl.Name, "design name"); err != nil {
 			return err
 		}
 		bw.WriteString("design " + nl.Name)
@@ -119,7 +122,7 @@ func WriteConverted(w io.Writer, d *Design) error {
 		bw.WriteString(line + "\n")
 	}
 	for i := 0; i < nl.NumDevices(); i++ {
-		line, err := deviceLine(nl, i, node)
+		line, err := deviceLine(nl, i, sizes, node)
 		if err != nil {
 			return err
 		}
@@ -128,26 +131,35 @@ func WriteConverted(w io.Writer, d *Design) error {
 	for _, a := range aliases(nl) {
 		bw.WriteString("alias " + a[0] + " " + strconv.Quote(a[1]) + "\n")
 	}
-	return bw.Flush()
+	return nil
 }
 
-// deviceLine is one device's statement, sizes always written.
-func deviceLine(nl *switchsim.Netlist, i int, node func(int) (string, error)) (string, error) {
+// flatName refuses a name the design format cannot hold.
+func flatName(s, what string) (string, error) {
+	if !isName(s) {
+		return "", fmt.Errorf("%s %q cannot be written: it is not a name in the design format", what, s)
+	}
+	return s, nil
+}
+
+// deviceLine is one device's statement; sizes writes w and l even where
+// they are the technology's defaults.
+func deviceLine(nl *switchsim.Netlist, i int, sizes bool, node func(int) (string, error)) (string, error) {
 	dv := nl.Device(i)
-	if !isName(dv.Name) {
-		return "", fmt.Errorf("device %q cannot be written: it is not a name in the design format", dv.Name)
+	if _, err := flatName(dv.Name, "device"); err != nil {
+		return "", err
 	}
 	kw, def := dv.Kind.String(), switchsim.Strong
 	var terms []int
 	switch dv.Kind {
 	case switchsim.NMOS, switchsim.PMOS:
-		if dv.Resistive {
-			kw = "r" + kw
+		if dv.Ohms > 0 {
+			return "", fmt.Errorf("device %s cannot be written: a transistor with a resistance of its own has no statement", dv.Name)
 		}
 		terms = []int{dv.Gate, dv.A, dv.B}
 	case switchsim.Tran:
-		if dv.Resistive {
-			kw = "rtran"
+		if dv.Ohms > 0 && !dv.Resistive {
+			return "", fmt.Errorf("device %s cannot be written: a tran with a resistance of its own has no statement (rtran has)", dv.Name)
 		}
 		terms = []int{dv.A, dv.B}
 	default:
@@ -155,7 +167,10 @@ func deviceLine(nl *switchsim.Netlist, i int, node func(int) (string, error)) (s
 		terms = []int{dv.B}
 	}
 	if dv.Resistive {
-		def = switchsim.Pull
+		if dv.Kind == switchsim.PullUp || dv.Kind == switchsim.PullDown {
+			return "", fmt.Errorf("device %s cannot be written: a resistive pull has no statement", dv.Name)
+		}
+		kw, def = "r"+kw, switchsim.Pull
 	}
 	parts := []string{kw, dv.Name}
 	for _, n := range terms {
@@ -166,7 +181,16 @@ func deviceLine(nl *switchsim.Netlist, i int, node func(int) (string, error)) (s
 		parts = append(parts, s)
 	}
 	if dv.Kind == switchsim.NMOS || dv.Kind == switchsim.PMOS {
-		parts = append(parts, "w="+FormatNumber(dv.W), "l="+FormatNumber(dv.L))
+		wdef := nl.Tech.Wn
+		if dv.Kind == switchsim.PMOS {
+			wdef = nl.Tech.Wp
+		}
+		if sizes || dv.W != wdef {
+			parts = append(parts, "w="+FormatNumber(dv.W))
+		}
+		if sizes || dv.L != nl.Tech.L {
+			parts = append(parts, "l="+FormatNumber(dv.L))
+		}
 	}
 	if dv.Ohms > 0 {
 		parts = append(parts, "r="+FormatNumber(dv.Ohms))

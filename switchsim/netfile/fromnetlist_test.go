@@ -9,6 +9,7 @@ import (
 
 	"railyard/switchsim"
 	"railyard/switchsim/cardfile"
+	"railyard/switchsim/internal/simtest"
 	"railyard/switchsim/netfile"
 	"railyard/switchsim/vfile"
 )
@@ -35,23 +36,14 @@ MP Y A VDD VDD pch W=0.8u L=0.18u
 .ends
 `
 
-// readsBack reads a converted design; when the .sw reader refuses only a
-// statement proposed for netlists' devices (tran, rtran, rnmos, rpmos, r=
-// on pulls), the test is skipped with that said.
+// readsBack reads a converted design.
 func readsBack(t *testing.T, src []byte) *netfile.Design {
 	t.Helper()
 	d, err := netfile.Read("conv.sw", src)
-	if err == nil {
-		return d
+	if err != nil {
+		t.Fatalf("the converted design does not read: %v\n%s", err, src)
 	}
-	msg := err.Error()
-	for _, kw := range []string{`"alias"`, `"tran"`, `"rtran"`, `"rnmos"`, `"rpmos"`, `"r"`} {
-		if strings.Contains(msg, "unknown statement "+kw) || strings.Contains(msg, "unknown option "+kw) {
-			t.Skipf("the .sw reader does not read %s yet (a statement proposed for the netlists' resistive devices and links); round trip not checked:\n%v", kw, err)
-		}
-	}
-	t.Fatalf("the converted design does not read: %v\n%s", err, src)
-	return nil
+	return d
 }
 
 // A netlist and its .sw conversion give the same netlist: node and device
@@ -142,8 +134,9 @@ func TestConvertGolden(t *testing.T) {
 	}
 }
 
-// Resistive devices and links convert to the statements proposed for
-// them, and read back the same once the .sw reader takes them.
+// Resistive devices and links convert to their statements (tran, rtran,
+// rnmos, rpmos, r= on pulls), and read back as the same netlist: kinds,
+// terminals, sizes, strengths, resistances and shown names.
 func TestConvertResistive(t *testing.T) {
 	src := []byte(`module m (input a, input g, output y, output z);
   supply1 vdd;
@@ -167,6 +160,9 @@ endmodule
 			t.Errorf("converted file lacks %q:\n%s", want, out)
 		}
 	}
+	if diff := simtest.Diff(d.Netlist, readsBack(t, buf.Bytes()).Netlist, false); len(diff) > 0 {
+		t.Errorf("converted module differs:\n%s\n%s", strings.Join(diff, "\n"), out)
+	}
 	c, err := cardfile.Read("r.sp", []byte(".subckt r a y\nr1 a y 4.7k\nr2 y 0 22k\n.ends\n"), cardfile.Options{})
 	if err != nil {
 		t.Fatal(err)
@@ -179,7 +175,7 @@ endmodule
 		}
 	}
 	back := readsBack(t, buf.Bytes())
-	if diff := append(diffNetlists(c.Netlist, back.Netlist), diffShown(c.Netlist, back.Netlist)...); len(diff) > 0 {
+	if diff := simtest.Diff(c.Netlist, back.Netlist, false); len(diff) > 0 {
 		t.Errorf("converted netlist differs:\n%s", strings.Join(diff, "\n"))
 	}
 }

@@ -25,6 +25,7 @@ func seedDesigns(f *testing.F) {
 	f.Add([]byte("design x \"d\"\ntech generic vdd=1.2 vtp=-0.3\npower vcc\nground vss\ninput a\nnode a cap=1f charge=small\npulldown p a strength=weak\n"))
 	f.Add([]byte("tech generic vdd=1.8\ncorner slow vdd=1.62 vtn=0.5 kn=150u\ncorner fast vdd=1.98\ninput a\nuse inv u a y\nalias u.n \"MN<0>\"\nalias y \"net\\\"3\"\n"))
 	f.Add([]byte("input a\nnmos n a y gnd w=0.5 l=2m\nnode y cap=5\ncorner k vdd=0.3\nalias q \"Q\"\n"))
+	f.Add([]byte(resistiveDesign))
 }
 
 // FuzzRead: no input panics; every error is a diag.List with a position in

@@ -34,6 +34,19 @@ type Design struct {
 	// skipped, delays ignored, sizes that look scaled), with positions; the
 	// commands print them to stderr.
 	Notes diag.List
+	// Format is the format the loader read it in (sw, netlist, verilog:
+	// switchsim/load's names), "" when it was read directly; Options are the
+	// reader options it was read with (Include cleared). A trace records
+	// both for a netlist, so that a replay reads it the same way.
+	Format  string
+	Options ReadOptions
+	// Includes are the files a netlist included, as the loader names them
+	// (so that an output is never written over one).
+	Includes []string
+	// FoldCase says the design's names match whatever their case, as a
+	// netlist's cards do: a steps file's names are looked up so. A .sw
+	// design's names are exact.
+	FoldCase bool
 }
 
 // Corner is one named technology corner of a design.
@@ -208,7 +221,7 @@ func (f *flattener) posOf(pr switchsim.Problem) diag.Pos {
 			switch {
 			case it.name == "":
 			case it.kind == "use" && strings.HasPrefix(name, it.name+"."),
-				name == it.name, it.kind == "tgate" && (name == it.name+".n" || name == it.name+".p"):
+				name == it.name, (it.kind == "tgate" || it.kind == "rtgate") && (name == it.name+".n" || name == it.name+".p"):
 				return at(f.file, it.line, it.col)
 			}
 		}
@@ -226,6 +239,15 @@ func effective(s, def, limit switchsim.Strength) switchsim.Strength {
 		s = limit
 	}
 	return s
+}
+
+// deviceDefault is a device's strength when none is given: strong, and
+// pull for a resistive one (which passes no more).
+func deviceDefault(resistive bool) switchsim.Strength {
+	if resistive {
+		return switchsim.Pull
+	}
+	return switchsim.Strong
 }
 
 // scope expands one scope: the top level (cd nil) or an instance of cd
@@ -284,9 +306,10 @@ func (f *flattener) scope(items []item, cd *cellDef, prefix string, ports []stri
 				f.declare(m, it.words[j], cd == nil)
 				fail(f.b.Node(m, it.cap, it.charge))
 			}
-		case "nmos", "pmos":
-			o := switchsim.DeviceOpts{W: it.w, L: it.l, Strength: effective(it.strength, switchsim.Strong, limit)}
-			if it.kind == "nmos" {
+		case "nmos", "pmos", "rnmos", "rpmos":
+			res := resistive(it.kind)
+			o := switchsim.DeviceOpts{W: it.w, L: it.l, Strength: effective(it.strength, deviceDefault(res), limit), Resistive: res}
+			if it.kind == "nmos" || it.kind == "rnmos" {
 				fail(f.b.NMOS(prefix+it.name, mapn(t[0]), mapn(t[1]), mapn(t[2]), o))
 			} else {
 				fail(f.b.PMOS(prefix+it.name, mapn(t[0]), mapn(t[1]), mapn(t[2]), o))
@@ -294,8 +317,23 @@ func (f *flattener) scope(items []item, cd *cellDef, prefix string, ports []stri
 		case "tgate":
 			fail(f.b.TGate(prefix+it.name, mapn(t[0]), mapn(t[1]), mapn(t[2]), mapn(t[3]), it.wn, it.wp, it.l,
 				effective(it.strength, switchsim.Strong, limit)))
+		case "rtgate":
+			// Two resistive transistors, named as a tgate's are.
+			s := effective(it.strength, switchsim.Pull, limit)
+			n, p := prefix+it.name+".n", prefix+it.name+".p"
+			if f.b.HasDevice(n) || f.b.HasDevice(p) {
+				fail(fmt.Errorf("duplicate device name %q", prefix+it.name))
+				break
+			}
+			fail(f.b.NMOS(n, mapn(t[0]), mapn(t[2]), mapn(t[3]), switchsim.DeviceOpts{W: it.wn, L: it.l, Strength: s, Resistive: true}))
+			fail(f.b.PMOS(p, mapn(t[1]), mapn(t[2]), mapn(t[3]), switchsim.DeviceOpts{W: it.wp, L: it.l, Strength: s, Resistive: true}))
+		case "tran", "rtran":
+			res := it.kind == "rtran"
+			fail(f.b.Tran(prefix+it.name, mapn(t[0]), mapn(t[1]),
+				switchsim.DeviceOpts{Strength: effective(it.strength, deviceDefault(res), limit), Resistive: res, Ohms: it.ohms}))
 		case "pullup", "pulldown":
-			fail(f.b.Pull(prefix+it.name, mapn(t[0]), it.kind == "pullup", effective(it.strength, switchsim.Pull, limit)))
+			fail(f.b.PullWith(prefix+it.name, mapn(t[0]), it.kind == "pullup",
+				switchsim.DeviceOpts{Strength: effective(it.strength, switchsim.Pull, limit), Ohms: it.ohms}))
 		case "use":
 			if it.cell.bad(f.p.lim) {
 				continue // on a cycle or too deep: reported, never expanded

@@ -2,7 +2,6 @@ package netfile
 
 import (
 	"bufio"
-	"fmt"
 	"io"
 	"strconv"
 	"strings"
@@ -13,7 +12,10 @@ import (
 // canonical option order for each statement.
 var optOrder = map[string][]string{
 	"nmos": {"w", "l", "strength"}, "pmos": {"w", "l", "strength"},
-	"tgate": {"wn", "wp", "l", "strength"}, "pullup": {"strength"}, "pulldown": {"strength"},
+	"rnmos": {"w", "l", "strength"}, "rpmos": {"w", "l", "strength"},
+	"tgate": {"wn", "wp", "l", "strength"}, "rtgate": {"wn", "wp", "l", "strength"},
+	"tran": {"strength"}, "rtran": {"r", "strength"},
+	"pullup": {"r", "strength"}, "pulldown": {"r", "strength"},
 	"node": {"cap", "charge"}, "use": {"strength"},
 }
 
@@ -114,123 +116,13 @@ func canonValue(key, v string) string {
 
 // WriteNetlist prints a compiled netlist as a flat design: every device by
 // its full name, sizes and strengths only where they differ from the
-// technology's defaults. Reading the output gives the same netlist.
+// technology's defaults, original spellings as alias lines. Reading the
+// output gives the same netlist.
 func WriteNetlist(w io.Writer, nl *switchsim.Netlist) error {
 	bw := bufio.NewWriter(w)
-	name := func(n int) (string, error) {
-		s := nl.NodeName(n)
-		if !isName(s) {
-			return "", fmt.Errorf("node %q cannot be written: it is not a name in the design format", s)
-		}
-		return s, nil
-	}
 	bw.WriteString("# written from a compiled netlist: cells are expanded\n")
-	if nl.Name != "" && isName(nl.Name) {
-		bw.WriteString("design " + nl.Name)
-		if nl.Desc != "" {
-			bw.WriteString(" " + strconv.Quote(nl.Desc))
-		}
-		bw.WriteByte('\n')
-	}
-	tech := nl.Tech
-	base, ok := switchsim.Preset(tech.Name)
-	if !ok {
-		base = switchsim.Generic()
-	}
-	line := "tech " + base.Name
-	for _, k := range switchsim.TechKeys() {
-		v, _ := tech.Get(k)
-		if bv, _ := base.Get(k); v != bv {
-			line += " " + k + "=" + FormatNumber(v)
-		}
-	}
-	bw.WriteString(line + "\n")
-	pw, gn := nl.NodeName(nl.Power()), nl.NodeName(nl.Ground())
-	if pw != "vdd" {
-		bw.WriteString("power " + pw + "\n")
-	}
-	if gn != "gnd" {
-		bw.WriteString("ground " + gn + "\n")
-	}
-	list := func(kw string, nodes []int) error {
-		for i := 0; i < len(nodes); i += 16 {
-			parts := []string{kw}
-			for _, n := range nodes[i:min(i+16, len(nodes))] {
-				s, err := name(n)
-				if err != nil {
-					return err
-				}
-				parts = append(parts, s)
-			}
-			bw.WriteString(strings.Join(parts, " ") + "\n")
-		}
-		return nil
-	}
-	if err := list("input", nl.Inputs()); err != nil {
+	if err := writeFlat(bw, nl, false); err != nil {
 		return err
-	}
-	if err := list("output", nl.Outputs()); err != nil {
-		return err
-	}
-	for n := 0; n < nl.NumNodes(); n++ {
-		if n == nl.Power() || n == nl.Ground() {
-			continue
-		}
-		c, q := nl.NodeCap(n), nl.NodeCharge(n)
-		if c == tech.Cnode && q == switchsim.Medium {
-			continue
-		}
-		s, err := name(n)
-		if err != nil {
-			return err
-		}
-		line := "node " + s
-		if c != tech.Cnode {
-			line += " cap=" + FormatNumber(c)
-		}
-		if q != switchsim.Medium {
-			line += " charge=" + q.String()
-		}
-		bw.WriteString(line + "\n")
-	}
-	for d := 0; d < nl.NumDevices(); d++ {
-		dv := nl.Device(d)
-		if !isName(dv.Name) {
-			return fmt.Errorf("device %q cannot be written: it is not a name in the design format", dv.Name)
-		}
-		parts := []string{dv.Kind.String(), dv.Name}
-		def := switchsim.Strong
-		switch dv.Kind {
-		case switchsim.NMOS, switchsim.PMOS:
-			for _, n := range []int{dv.Gate, dv.A, dv.B} {
-				s, err := name(n)
-				if err != nil {
-					return err
-				}
-				parts = append(parts, s)
-			}
-			wdef := tech.Wn
-			if dv.Kind == switchsim.PMOS {
-				wdef = tech.Wp
-			}
-			if dv.W != wdef {
-				parts = append(parts, "w="+FormatNumber(dv.W))
-			}
-			if dv.L != tech.L {
-				parts = append(parts, "l="+FormatNumber(dv.L))
-			}
-		default:
-			def = switchsim.Pull
-			s, err := name(dv.B)
-			if err != nil {
-				return err
-			}
-			parts = append(parts, s)
-		}
-		if dv.Strength != def {
-			parts = append(parts, "strength="+dv.Strength.String())
-		}
-		bw.WriteString(strings.Join(parts, " ") + "\n")
 	}
 	return bw.Flush()
 }

@@ -193,60 +193,22 @@ func CornerNames(d *netfile.Design) []string {
 	return out
 }
 
-// Recorner returns a session on s's design at corner (a name of the
-// design's corners, "" or Nominal for its own technology), with the
-// actions in force replayed on it, so that it stands where s stands as the
-// other technology sees it. attach, if not nil, is called on the new
-// session before the replay (to attach a trace). s is left as it was.
-func Recorner(s *Session, corner string, attach func(*Session) error) (*Session, error) {
+// Recorner returns a session on s's design (with its sizes tried) at
+// corner (a name of the design's corners, "" or Nominal for its own
+// technology), with the actions in force replayed on it, so that it stands
+// where s stands as the other technology sees it. attach, if not nil, is
+// called on the new session before the replay (to attach a trace). s is
+// left as it was.
+func Recorner(s *Session, corner string, attach Attach) (*Session, error) {
 	if corner == Nominal {
 		corner = ""
 	}
-	base := s.base
-	if base == nil {
-		base = s.design
-	}
-	d, err := AtCorner(base, corner)
-	if err != nil {
+	if _, err := AtCorner(s.nominal(), corner); err != nil {
 		return nil, err
 	}
 	opt := s.opts
 	opt.Corner = corner
-	return s.replayOnto(d, opt, attach)
-}
-
-// replayOnto starts a session on d with opt and s's steps, and takes again
-// every input set and step of s's history in force (not the actions
-// undone, nor their backs).
-func (s *Session) replayOnto(d *netfile.Design, opt Options, attach func(*Session) error) (*Session, error) {
-	if s.folded > 0 {
-		return nil, fmt.Errorf("the first %d actions have left the history (it keeps %d): it cannot be re-simulated from the start", s.folded, s.opts.MaxHistory)
-	}
-	ns := newAt(d, s.designPath, s.steps, opt)
-	ns.base = s.base
-	if ns.base == nil {
-		ns.base = s.design
-	}
-	ns.stepsPath, ns.stepsHash = s.stepsPath, s.stepsHash
-	if attach != nil {
-		if err := attach(ns); err != nil {
-			return nil, err
-		}
-	}
-	for _, en := range s.hist[1:] {
-		a := en.ev.Action
-		var err error
-		switch a.Kind {
-		case Set:
-			_, err = ns.SetInput(a.Node, a.Drive)
-		case Step:
-			_, err = ns.ApplyAction(a)
-		}
-		if err != nil {
-			return nil, fmt.Errorf("replaying %s: %v", s.ActionString(a), err)
-		}
-	}
-	return ns, nil
+	return s.rebuild(s.nominal(), s.edits, opt, attach)
 }
 
 // WalkStates is Walk with a Reader of the state just after each event:

@@ -10,7 +10,13 @@ import (
 	"strings"
 
 	"railyard/switchsim"
+	"railyard/switchsim/diag"
 )
+
+// shown is a node's name as the text report shows it: the spelling the
+// design's file gave it (a netlist's Q<0>, not q[0]), made printable. The
+// JSON report keeps the railyard names, which files read back.
+func shown(nl *switchsim.Netlist, n int) string { return diag.Printable(nl.DisplayName(n)) }
 
 // Summary counts what a batch report covers.
 type Summary struct {
@@ -226,7 +232,7 @@ func (r *Report) textEvent(e *Event, rd Reader) {
 				if i > 0 {
 					p(" ")
 				}
-				p("%s=%s", nl.NodeName(in.Node), in.Drive)
+				p("%s=%s", shown(nl, in.Node), in.Drive)
 			}
 			p("\n")
 		}
@@ -239,7 +245,7 @@ func (r *Report) textEvent(e *Event, rd Reader) {
 			if i > 0 {
 				p(", ")
 			}
-			p("%s=%s%s", nl.NodeName(n), stateText(rd.Node(n)), marginText(rd.Margin(n)))
+			p("%s=%s%s", shown(nl, n), stateText(rd.Node(n)), marginText(rd.Margin(n)))
 		}
 		p("\n")
 		if g := gatesText(nl, rd); g != "" {
@@ -254,7 +260,7 @@ func (r *Report) textEvent(e *Event, rd Reader) {
 		if c.LowMargin {
 			verdict = "FAIL (margin below " + voltsText(s.opts.MinMargin) + ")"
 		}
-		p("  check  %s want %s got %s%s  %s\n", nl.NodeName(c.Node), c.Want, stateText(c.Got),
+		p("  check  %s want %s got %s%s  %s\n", shown(nl, c.Node), c.Want, stateText(c.Got),
 			checkMarginText(c, rd.Margin(c.Node)), verdict)
 	}
 	for _, wr := range e.Warnings {
@@ -338,7 +344,7 @@ func gatesText(nl *switchsim.Netlist, rd Reader) string {
 		if g := b.GateVolts; math.IsNaN(g) || b.FullGate || math.Abs(g) < 0.01 || math.Abs(g-vdd) < 0.01 {
 			continue
 		}
-		t := fmt.Sprintf("%s: %s at %s V", dv.Name, nl.NodeName(dv.Gate), strconv.FormatFloat(b.GateVolts, 'f', 2, 64))
+		t := fmt.Sprintf("%s: %s at %s V", diag.Printable(nl.DeviceDisplayName(d)), shown(nl, dv.Gate), strconv.FormatFloat(b.GateVolts, 'f', 2, 64))
 		limit := strconv.FormatFloat(b.Limit, 'f', 2, 64)
 		switch {
 		case b.PartlyOn:
@@ -519,7 +525,7 @@ func (r *Report) eventJSON(e *Event, rd Reader) string {
 	var warns jsonArray
 	for _, wr := range e.Warnings {
 		var wo jsonObject
-		wo.key("kind").str(wr.Kind)
+		wo.key("kind").str(string(wr.Kind))
 		wo.key("node").str(nl.NodeName(wr.Node))
 		wo.key("message").str(wr.Message)
 		warns.add(wo.close())

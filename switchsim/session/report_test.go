@@ -254,13 +254,13 @@ func TestJSONStepValues(t *testing.T) {
 	if len(lines) != 6 {
 		t.Fatalf("%d lines, want header + 4 steps + summary", len(lines))
 	}
-	// Row 2 of plat.steps: clk=0 d=0, st keeps its 1 as charge (FORMAT.md:
+	// Row 2 of plat.steps: clk=0 d=1, st keeps its 1 as charge (FORMAT.md:
 	// a stored value counts for a 1 check) and q stays 0.
 	st := lines[2]
-	if st["step"] != 2.0 || st["label"] != "hold: st keeps its charge while d changes" {
+	if st["step"] != 2.0 || st["label"] != "hold: st keeps its charge (d steady: with clk, a change would race)" {
 		t.Errorf("step %v label %v", st["step"], st["label"])
 	}
-	if a := st["apply"].(map[string]any); a["clk"] != "0" || a["d"] != "0" {
+	if a := st["apply"].(map[string]any); a["clk"] != "0" || a["d"] != "1" {
 		t.Errorf("apply %v", a)
 	}
 	node := st["nodes"].(map[string]any)["st"].(map[string]any)

@@ -139,9 +139,14 @@ type Event struct {
 	Action     Action
 	Rounds     int
 	Oscillated bool
-	Changes    []Change
-	Checks     []CheckResult
-	Warnings   []Warning
+	// Unsettled is set when the unit-delay rounds reached the round limit
+	// without settling; Decided when the engine's race analysis then set
+	// the last round's states (switchsim.Result.Settled, Analysis.Decided),
+	// which the rounds before it did not reach.
+	Unsettled, Decided bool
+	Changes            []Change
+	Checks             []CheckResult
+	Warnings           []Warning
 
 	failed   bool
 	warnings int
@@ -210,6 +215,11 @@ type Session struct {
 	watch       []int           // the nodes whose levels are checked besides the outputs (Watched)
 	th          Thresholds      // the technology's, for check margins
 	base        *netfile.Design // the design at its own technology, when design is at a corner
+
+	// sizes tried (Resize): the design as loaded, and the edits that made
+	// design from it; both nil for the design as loaded
+	orig  *netfile.Design
+	edits []Edit
 }
 
 // Hash returns the hex sha256 of b.
@@ -550,7 +560,7 @@ func (s *Session) record(a Action, cursor int) *Event {
 // every node's state letter before the action and is brought up to date.
 func (s *Session) buildEvent(sim *switchsim.Sim, a Action, letters []switchsim.State) *Event {
 	r := sim.Settle()
-	e := &Event{Action: a, Rounds: r.Rounds, Oscillated: r.Oscillated}
+	e := &Event{Action: a, Rounds: r.Rounds, Oscillated: r.Oscillated, Unsettled: !r.Settled, Decided: r.Analysis.Decided}
 	if len(r.Changed) > 0 {
 		e.Changes = make([]Change, 0, len(r.Changed))
 	}

@@ -1,6 +1,7 @@
 package steps_test
 
 import (
+	"slices"
 	"testing"
 
 	"railyard/designs"
@@ -9,8 +10,9 @@ import (
 	"railyard/switchsim/steps"
 )
 
-// FuzzRead reads arbitrary steps against the static latch: no panic, and
-// a file that reads has rows of the right widths.
+// FuzzRead reads arbitrary steps against the static latch, with names
+// exact and in any case: no panic, a file that reads has rows of the right
+// widths, and one that reads with exact names reads the same in any case.
 func FuzzRead(f *testing.F) {
 	for _, e := range designs.List() {
 		st, _ := designs.FS.ReadFile(e.Name + ".steps")
@@ -26,8 +28,18 @@ func FuzzRead(f *testing.F) {
 	if err != nil {
 		f.Fatal(err)
 	}
+	f.Add([]byte("apply CLK D\ncheck S q\n1 0 | 0 0\n"))
 	f.Fuzz(func(t *testing.T, src []byte) {
+		folded, ferr := steps.ReadWith("f.steps", src, d.Netlist, steps.Options{Limits: steps.Limits{FileSize: 64 << 10}, FoldCase: true})
+		if ferr != nil {
+			if _, ok := ferr.(diag.List); !ok {
+				t.Fatalf("error %T: %v", ferr, ferr)
+			}
+		}
 		st, err := steps.ReadLimits("f.steps", src, d.Netlist, steps.Limits{FileSize: 64 << 10})
+		if err == nil && (ferr != nil || !slices.Equal(folded.Apply, st.Apply) || !slices.Equal(folded.Check, st.Check)) {
+			t.Fatalf("exact names read (%v %v), in any case they read otherwise: %v", st.Apply, st.Check, ferr)
+		}
 		if err != nil {
 			if _, ok := err.(diag.List); !ok {
 				t.Fatalf("error %T: %v", err, err)

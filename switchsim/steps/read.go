@@ -46,6 +46,41 @@ type reader struct {
 	colName map[string][]string // apply, check: the column names as written
 	nl      *switchsim.Netlist
 	errs    *diag.Sink
+	fold    bool
+	folded  map[string]int // lower-case name -> node (-1: several), made at the first miss
+}
+
+// Options are how a steps file is read: its limits, and whether its names
+// match the design's whatever their case (FoldCase: a design read from
+// netlist cards, whose names are case-insensitive).
+type Options struct {
+	Limits
+	FoldCase bool
+}
+
+// lookup finds a column's node: by either spelling the netlist knows, and
+// with FoldCase in any case. several reports a name that, case folded,
+// is more than one node's.
+func (r *reader) lookup(name string) (n int, ok, several bool) {
+	if n, ok := r.nl.Lookup(name); ok || !r.fold {
+		return n, ok, false
+	}
+	if r.folded == nil {
+		r.folded = map[string]int{}
+		add := func(s string, n int) {
+			k := strings.ToLower(s)
+			if m, dup := r.folded[k]; dup && m != n {
+				n = -1
+			}
+			r.folded[k] = n
+		}
+		for n := 0; n < r.nl.NumNodes(); n++ {
+			add(r.nl.NodeName(n), n)
+			add(r.nl.DisplayName(n), n)
+		}
+	}
+	n, ok = r.folded[strings.ToLower(name)]
+	return n, ok && n >= 0, ok && n < 0
 }
 
 func (r *reader) errAt(line, col int, format string, args ...any) {
@@ -54,6 +89,12 @@ func (r *reader) errAt(line, col int, format string, args ...any) {
 
 // ReadLimits is Read with the given limits.
 func ReadLimits(filename string, src []byte, nl *switchsim.Netlist, lim Limits) (*Steps, error) {
+	return ReadWith(filename, src, nl, Options{Limits: lim})
+}
+
+// ReadWith is Read with the given options.
+func ReadWith(filename string, src []byte, nl *switchsim.Netlist, opt Options) (*Steps, error) {
+	lim := opt.Limits
 	d := DefaultLimits()
 	if lim.FileSize <= 0 {
 		lim.FileSize = d.FileSize
@@ -73,7 +114,7 @@ func ReadLimits(filename string, src []byte, nl *switchsim.Netlist, lim Limits) 
 	if len(src) >= 3 && src[0] == 0xEF && src[1] == 0xBB && src[2] == 0xBF {
 		src = src[3:]
 	}
-	r := &reader{file: filename, nl: nl, errs: diag.NewSink(lim.Errors), colName: map[string][]string{}}
+	r := &reader{file: filename, nl: nl, errs: diag.NewSink(lim.Errors), colName: map[string][]string{}, fold: opt.FoldCase}
 	st := &Steps{File: filename}
 	applyLine, checkLine := 0, 0
 	var drives []switchsim.Drive // one backing array for every row's drives
@@ -254,15 +295,18 @@ func (r *reader) inputs() string {
 // line as written (the -1 never leaves the reader: there are errors).
 func (r *reader) columns(num int, kw string, toks []token) []int {
 	var cols []int
-	seen := map[string]int{}
+	seen := map[int]int{} // node -> the column that named it first
 	for _, t := range toks {
 		if t.text == "|" {
 			r.errAt(num, t.col, "unexpected | in the %s line", kw)
 			continue
 		}
 		r.colName[kw] = append(r.colName[kw], t.text)
-		n, ok := r.nl.Lookup(t.text)
+		n, ok, several := r.lookup(t.text)
 		switch {
+		case several:
+			r.errAt(num, t.col, "%s column %q names more than one node of design %s when case is ignored: give its exact name", kw, t.text, r.nl.Name)
+			n = -1
 		case !ok:
 			r.errAt(num, t.col, "%s column %q is no node of design %s", kw, t.text, r.nl.Name)
 			n = -1
@@ -270,13 +314,13 @@ func (r *reader) columns(num int, kw string, toks []token) []int {
 			r.errAt(num, t.col, "apply column %q is not an input of design %s (inputs: %s)", t.text, r.nl.Name, r.inputs())
 			n = -1
 		default:
-			if c, dup := seen[t.text]; dup && kw == "apply" {
+			if c, dup := seen[n]; dup && kw == "apply" {
 				r.errAt(num, t.col, "apply column %q given twice (first at column %d)", t.text, c)
 				n = -1
 			}
 		}
-		if _, dup := seen[t.text]; !dup {
-			seen[t.text] = t.col
+		if _, dup := seen[n]; !dup && n >= 0 {
+			seen[n] = t.col
 		}
 		cols = append(cols, n)
 	}

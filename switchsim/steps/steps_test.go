@@ -213,3 +213,38 @@ func TestApplyNames(t *testing.T) {
 		}
 	}
 }
+
+// With FoldCase (a design read from netlist cards, whose names are
+// case-insensitive: common practice of the card format) a column matches
+// a node's railyard name or shown spelling in any case; without it (a .sw
+// design) names are exact. A folded name that is two nodes' is refused,
+// and so is one node named twice in the apply line in two spellings.
+func TestFoldCase(t *testing.T) {
+	d, err := netfile.Read("f.sw", []byte("input clk d\noutput ab AB\nalias q2 \"Q<2>\"\nnmos n clk d ab\nnmos m clk d AB\nnmos k clk d q2\n"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	nl := d.Netlist
+	src := []byte("apply CLK D\ncheck q<2>\n1 1 | 1\n")
+	if _, err := steps.Read("f.steps", src, nl); err == nil || !strings.Contains(err.Error(), `f.steps:1:7: apply column "CLK" is no node`) {
+		t.Errorf("exact names: %v", err)
+	}
+	st, err := steps.ReadWith("f.steps", src, nl, steps.Options{FoldCase: true})
+	if err != nil {
+		t.Fatalf("folded names: %v", err)
+	}
+	clk, _ := nl.Lookup("clk")
+	q2, _ := nl.Lookup("q2")
+	if st.Apply[0] != clk || st.Check[0] != q2 {
+		t.Errorf("folded columns %v %v, want clk=%d and q2 (shown Q<2>)=%d", st.Apply, st.Check, clk, q2)
+	}
+	for src, want := range map[string]string{
+		"apply clk\ncheck Ab\n1 | 1\n":  `f.steps:2:7: check column "Ab" names more than one node`,
+		"apply clk CLK\n1 1\n":          `f.steps:1:11: apply column "CLK" given twice (first at column 7)`,
+		"apply clk\ncheck nothere\n1\n": `f.steps:2:7: check column "nothere" is no node`,
+	} {
+		if _, err := steps.ReadWith("f.steps", []byte(src), nl, steps.Options{FoldCase: true}); err == nil || !strings.Contains(err.Error(), want) {
+			t.Errorf("%q: %v, want %s", src, err, want)
+		}
+	}
+}

@@ -11,6 +11,9 @@
 //	mode physical | ideal
 //	full-swing no | yes
 //	tech KEY=VALUE ...     the values in force (vil and vih as computed)
+//	format netlist|verilog  a design read from a netlist: the reader that read it,
+//	read KEY=VALUE ...      the reader options given (top power ground nmos-models pmos-models),
+//	inputs NAME ...         and the design's inputs as the netlist spells them
 //	corner NAME            when the session ran at a technology corner
 //	min-margin VOLTS       when checks failed below a margin (run --min-margin)
 //	watch NODE ...         the nodes whose levels were checked besides the outputs
@@ -30,10 +33,13 @@
 // actions" means the same thing wherever it is said. Step actions carry
 // their drives and wanted values, so a trace replays without its steps
 // file. Version 1 traces (design paths as given, tech vil/vih as set) are
-// still read, and so are traces without the corner, min-margin and watch
-// lines or the check lines' margin (MARGIN in volts, - where unknown),
-// which later version 2 traces added: the replay compares a margin only
-// where the trace has one.
+// still read. The format, read and inputs lines are optional (a .sw
+// design has none): they make a replay read a netlist as the session did.
+// A word of them that is not plain printable ASCII is a Go-quoted string
+// with its spaces written \x20, so that it stays one word. So are the
+// corner, min-margin and watch lines, and the check lines' margin (MARGIN
+// in volts, - where unknown), which later version 2 traces added: the
+// replay compares a margin only where the trace has one.
 //
 // The session streams its trace as actions happen (Writer, a
 // session.Recorder) to a spool file, and Save writes the whole trace
@@ -48,6 +54,7 @@ import (
 	"strings"
 
 	"railyard/switchsim"
+	"railyard/switchsim/netfile"
 	"railyard/switchsim/session"
 )
 
@@ -105,6 +112,75 @@ func passFail(b bool) string {
 		return "pass"
 	}
 	return "FAIL"
+}
+
+// word writes s as one word of a header line: as it is when it is plain
+// printable ASCII, else Go-quoted with its spaces escaped.
+func word(s string) string {
+	plain := s != ""
+	for i := 0; i < len(s); i++ {
+		plain = plain && s[i] > ' ' && s[i] < 0x7f && s[i] != '"'
+	}
+	if plain {
+		return s
+	}
+	return strings.ReplaceAll(strconv.QuoteToASCII(s), " ", `\x20`)
+}
+
+// unword reads a word that word wrote.
+func unword(w string) (string, bool) {
+	if !strings.HasPrefix(w, `"`) {
+		return w, true
+	}
+	s, err := strconv.Unquote(w)
+	return s, err == nil
+}
+
+// readKeys are the reader options a read line holds, in the order written.
+var readKeys = []string{"top", "power", "ground", "nmos-models", "pmos-models"}
+
+// readWords words the reader options of a read line ("" for none).
+func readWords(o netfile.ReadOptions) string {
+	var parts []string
+	for _, k := range readKeys {
+		v := ""
+		switch k {
+		case "top":
+			v = o.Top
+		case "power":
+			v = strings.Join(o.Power, ",")
+		case "ground":
+			v = strings.Join(o.Ground, ",")
+		case "nmos-models":
+			v = strings.Join(o.NMOSModels, ",")
+		case "pmos-models":
+			v = strings.Join(o.PMOSModels, ",")
+		}
+		if v != "" {
+			parts = append(parts, k+"="+word(v))
+		}
+	}
+	return strings.Join(parts, " ")
+}
+
+// setRead sets one reader option of a read line; false for an unknown key.
+func setRead(o *netfile.ReadOptions, key, v string) bool {
+	list := func() []string { return strings.Split(v, ",") }
+	switch key {
+	case "top":
+		o.Top = v
+	case "power":
+		o.Power = list()
+	case "ground":
+		o.Ground = list()
+	case "nmos-models":
+		o.NMOSModels = list()
+	case "pmos-models":
+		o.PMOSModels = list()
+	default:
+		return false
+	}
+	return true
 }
 
 func yesNo(b bool) string {

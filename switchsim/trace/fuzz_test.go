@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"errors"
 	"os"
+	"strings"
 	"testing"
 
 	"railyard/switchsim/diag"
@@ -21,6 +22,8 @@ func FuzzRead(f *testing.F) {
 	f.Add([]byte("railyard-trace 2\n"))
 	f.Add([]byte("railyard-trace 2\ndesign a.sw\nend 0\n"))
 	f.Add([]byte("railyard-trace 1\naction 0 start\n  rounds 1\n  r 1 y X X strong - -\nend 1\n"))
+	f.Add([]byte("railyard-trace 2\ndesign a.sp\ndesign-sha256 " + strings.Repeat("0", 64) + "\nsteps -\nmode ideal\nfull-swing no\ntech vdd=1.8\n" +
+		"format netlist\nread top=a power=vp,vq nmos-models=n*\ninputs D \"e\\x20f\"\naction 0 start\n  rounds 0\nend 1\n"))
 	f.Fuzz(func(t *testing.T, src []byte) {
 		info, acts, err := ReadAll("f.trace", src)
 		if err != nil {

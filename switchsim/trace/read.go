@@ -7,12 +7,15 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"slices"
 	"strconv"
 	"strings"
 	"unicode/utf8"
 
 	"railyard/switchsim"
 	"railyard/switchsim/diag"
+	"railyard/switchsim/load"
+	"railyard/switchsim/netfile"
 	"railyard/switchsim/session"
 	"railyard/switchsim/steps"
 )
@@ -27,9 +30,14 @@ type Header struct {
 	Mode       switchsim.Mode
 	FullSwing  bool
 	Tech       string
-	Created    string
-	DesignPos  diag.Pos // the design line, for errors about the design
-	StepsPos   diag.Pos
+	// Format and Read are the reader and its options that read a netlist
+	// (format, read and inputs lines; Read.Inputs its inputs); "" and
+	// zero for a .sw design and for traces written before these lines.
+	Format    string
+	Read      netfile.ReadOptions
+	Created   string
+	DesignPos diag.Pos // the design line, for errors about the design
+	StepsPos  diag.Pos
 	// Corner is the technology corner the session ran at ("" the design's
 	// own; a corner line), MinMargin the --min-margin in force when
 	// MarginCheck (a min-margin line), and Watch the nodes whose levels it
@@ -272,7 +280,7 @@ func (r *reader) lineText(text string) {
 	rest := strings.TrimLeft(text[len(key.s):], " \t")
 	restCol := len(text) - len(rest) + 1
 	switch key.s {
-	case "design", "design-sha256", "steps", "steps-sha256", "mode", "full-swing", "tech", "created", "corner", "min-margin", "watch":
+	case "design", "design-sha256", "steps", "steps-sha256", "mode", "full-swing", "tech", "created", "format", "read", "inputs", "corner", "min-margin", "watch":
 		r.headerLine(key, rest, restCol)
 	case "action":
 		r.finishHeader()
@@ -372,6 +380,34 @@ func (r *reader) headerLine(key tok, rest string, col int) {
 		h.Tech = rest
 	case "created":
 		h.Created = rest
+	case "format":
+		if !slices.Contains(load.FormatNames(), rest) {
+			r.errAt(r.line, col, "unknown format %s (want %s)", excerpt(rest), strings.Join(load.FormatNames(), ", "))
+			return
+		}
+		h.Format = rest
+	case "read":
+		for _, t := range fields(rest) {
+			k, v, _ := strings.Cut(t.s, "=")
+			val, ok := unword(v)
+			switch {
+			case !slices.Contains(readKeys, k):
+				r.errAt(r.line, col+t.col-1, "unknown reader option %s (want %s)", excerpt(k), strings.Join(readKeys, ", "))
+			case !ok || val == "":
+				r.errAt(r.line, col+t.col-1, "reader option %s has no value a name can be: %s", k, excerpt(v))
+			default:
+				setRead(&h.Read, k, val)
+			}
+		}
+	case "inputs":
+		for _, t := range fields(rest) {
+			n, ok := unword(t.s)
+			if !ok || n == "" {
+				r.errAt(r.line, col+t.col-1, "input %s is no name", excerpt(t.s))
+				continue
+			}
+			h.Read.Inputs = append(h.Read.Inputs, n)
+		}
 	case "corner":
 		if strings.ContainsAny(rest, " \t") {
 			r.errAt(r.line, col, "a corner line names one corner, not %s", excerpt(rest))
@@ -387,7 +423,12 @@ func (r *reader) headerLine(key tok, rest string, col int) {
 		h.MarginCheck, h.MinMargin = true, v
 	case "watch":
 		for _, t := range fields(rest) {
-			h.Watch = append(h.Watch, t.s)
+			n, ok := unword(t.s)
+			if !ok || n == "" {
+				r.errAt(r.line, col+t.col-1, "watched node %s is no name", excerpt(t.s))
+				continue
+			}
+			h.Watch = append(h.Watch, n)
 		}
 		h.WatchPos = r.pos(col)
 	}
@@ -421,6 +462,11 @@ func (r *reader) finishHeader() {
 	}
 	if _, ok := r.seen["steps-sha256"]; h.Steps != "" && !ok {
 		r.errAt(r.line, 1, "the trace names steps but has no steps-sha256 line")
+	}
+	for _, k := range []string{"read", "inputs"} {
+		if p, ok := r.seen[k]; ok && h.Format == "" {
+			r.errAt(p.Line, 1, "the %s line needs a format line: reader options go with the netlist format that takes them", k)
+		}
 	}
 	if !r.errs.Any() && r.fn != nil {
 		r.fnErr = r.fn(h, nil)

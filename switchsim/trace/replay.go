@@ -49,6 +49,33 @@ func (r *Report) Match() bool { return r.Count == 0 }
 // MaxDifferences bounds the differences a replay lists.
 const MaxDifferences = 20
 
+// readerFor is the loader that reads the design as the session did: with
+// the format and reader options the trace records for a netlist, each
+// overridden by one the replay's own loader was given (the command's
+// flags, for a trace written before these lines).
+func readerFor(files *load.Loader, h *Header) *load.Loader {
+	if h.Format == "" {
+		return files
+	}
+	o := files.Options()
+	given, rec := o.ReadOptions, h.Read
+	if o.Format == "" {
+		o.Format = h.Format
+	}
+	pick := func(a, b []string) []string {
+		if a != nil {
+			return a
+		}
+		return b
+	}
+	o.ReadOptions = netfile.ReadOptions{Top: given.Top, Power: pick(given.Power, rec.Power), Ground: pick(given.Ground, rec.Ground),
+		Inputs: pick(given.Inputs, rec.Inputs), NMOSModels: pick(given.NMOSModels, rec.NMOSModels), PMOSModels: pick(given.PMOSModels, rec.PMOSModels)}
+	if o.Top == "" {
+		o.Top = rec.Top
+	}
+	return files.WithOptions(o)
+}
+
 func (o ReplayOptions) files() *load.Loader {
 	if o.Files != nil {
 		return o.Files
@@ -87,7 +114,7 @@ func Replay(file string, r io.Reader, opt ReplayOptions) (*Report, error) {
 			if err != nil {
 				return err
 			}
-			d, err := readDesign(opt.files(), path)
+			d, err := readDesign(readerFor(opt.files(), h), path)
 			if err != nil {
 				return err
 			}
@@ -109,7 +136,7 @@ func Replay(file string, r io.Reader, opt ReplayOptions) (*Report, error) {
 			}
 			s = session.New(d, path, nil, so)
 			nl = s.Netlist()
-			st, stFile = findSteps(file, h, opt, nl, rep)
+			st, stFile = findSteps(file, h, opt, d, rep)
 			return nil
 		}
 		replayAction(s, nl, st, stFile, a, differ)
@@ -228,7 +255,7 @@ func compareEvent(nl *switchsim.Netlist, a *Action, e *session.Event, differ fun
 	}
 	got = got[:0]
 	for _, w := range e.Warnings {
-		got = append(got, warnKey(w.Kind, nl.NodeName(w.Node)))
+		got = append(got, warnKey(string(w.Kind), nl.NodeName(w.Node)))
 	}
 	if d := firstDiff(got, a.Warnings); d != "" {
 		differ(a, "warnings differ: %s", d)
@@ -345,14 +372,14 @@ func findDesign(traceFile string, h *Header, opt ReplayOptions) (path string, ch
 // step's row and label. It is optional: without it the rows are not
 // compared, and a note says so; a steps file whose content changed is a
 // difference.
-func findSteps(traceFile string, h *Header, opt ReplayOptions, nl *switchsim.Netlist, rep *Report) (*steps.Steps, string) {
+func findSteps(traceFile string, h *Header, opt ReplayOptions, d *netfile.Design, rep *Report) (*steps.Steps, string) {
 	if h.Steps == "" {
 		return nil, ""
 	}
 	files := opt.files()
 	var path string
 	if _, demo := load.CutDemo(h.Steps); demo {
-		st, ssrc, err := files.Steps(h.Steps, nl)
+		st, ssrc, err := files.Steps(h.Steps, d)
 		if err != nil {
 			rep.Notes = append(rep.Notes, fmt.Sprintf("%s: the steps %s do not read: step rows and labels are not compared", h.StepsPos, pathText(h.Steps)))
 			return nil, ""
@@ -376,7 +403,7 @@ func findSteps(traceFile string, h *Header, opt ReplayOptions, nl *switchsim.Net
 		rep.Notes = append(rep.Notes, fmt.Sprintf("%s: the steps file %s was not found unchanged: step rows and labels are not compared", h.StepsPos, pathText(h.Steps)))
 		return nil, ""
 	}
-	if st, _, err := files.Steps(path, nl); err == nil {
+	if st, _, err := files.Steps(path, d); err == nil {
 		return st, path
 	}
 	rep.Notes = append(rep.Notes, fmt.Sprintf("%s: the steps file %s does not read for this design: step rows and labels are not compared", h.StepsPos, path))

@@ -41,6 +41,7 @@ type Writer struct {
 	mu      sync.Mutex
 	s       *session.Session
 	opt     Options
+	dir     string // where the spool lives
 	spool   *os.File
 	named   string // the spool's name while it still has one (where an open file cannot be removed)
 	bw      *bufio.Writer
@@ -71,7 +72,7 @@ func Start(s *session.Session, dir string, opt Options) (*Writer, error) {
 	if err != nil {
 		return nil, fmt.Errorf("cannot keep a trace in %s: %v", dir, unwrapPath(err))
 	}
-	w := &Writer{s: s, opt: opt, spool: f, bw: bufio.NewWriterSize(f, 64<<10)}
+	w := &Writer{s: s, opt: opt, dir: dir, spool: f, bw: bufio.NewWriterSize(f, 64<<10)}
 	if os.Remove(f.Name()) != nil {
 		w.named = f.Name() // removed by Close instead
 	}
@@ -154,7 +155,7 @@ func (w *Writer) format(b *bytes.Buffer, e *session.Event) {
 		b.WriteString("  check " + checkKey(nl.NodeName(c.Node), c) + "\n")
 	}
 	for _, wr := range e.Warnings {
-		b.WriteString("  warn " + warnKey(wr.Kind, nl.NodeName(wr.Node)) + " " + diag.Printable(wr.Message) + "\n")
+		b.WriteString("  warn " + warnKey(string(wr.Kind), nl.NodeName(wr.Node)) + " " + diag.Printable(wr.Message) + "\n")
 	}
 }
 
@@ -184,6 +185,20 @@ func (w *Writer) header(path string) string {
 	p("mode %s\n", s.Options().Mode)
 	p("full-swing %s\n", yesNo(s.Options().FullSwing))
 	p("tech %s\n", techString(s.Netlist().Tech))
+	if d := s.Design(); d.Format != "" && d.Format != "sw" {
+		// A netlist's reading depends on options a .sw design has no use for.
+		p("format %s\n", d.Format)
+		if rw := readWords(d.Options); rw != "" {
+			p("read %s\n", rw)
+		}
+		if in := s.Netlist().Inputs(); len(in) > 0 {
+			names := make([]string, len(in))
+			for i, n := range in {
+				names[i] = word(s.Netlist().DisplayName(n))
+			}
+			p("inputs %s\n", strings.Join(names, " "))
+		}
+	}
 	if c := s.Corner(); c != "" {
 		p("corner %s\n", c)
 	}
@@ -193,7 +208,7 @@ func (w *Writer) header(path string) string {
 	if ws := s.Watched(); len(ws) > 0 {
 		names := make([]string, len(ws))
 		for i, n := range ws {
-			names[i] = s.Netlist().NodeName(n)
+			names[i] = word(s.Netlist().NodeName(n))
 		}
 		p("watch %s\n", strings.Join(names, " "))
 	}
@@ -234,6 +249,11 @@ func relName(tracePath, file string) string {
 // in): what a session rebuilt from this one (session.Remode) starts its
 // own trace with, so that it names the design the same way.
 func (w *Writer) Options() Options { return w.opt }
+
+// SpoolDir is the folder the spool was made in (Start's dir, or the
+// temporary folder): where a rebuilt session's trace spools too, on the
+// same disk and under the same quota.
+func (w *Writer) SpoolDir() string { return w.dir }
 
 // Actions is the number of actions written: the start, sets, steps and
 // backs, as the trace's end line says and replay counts.

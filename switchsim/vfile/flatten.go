@@ -468,8 +468,11 @@ func (f *flattener) ports(top *module, in *inst) {
 				continue
 			}
 			seen[b] = true
-			isIn := n.dir == "input" || given[name] || given[bitName]
-			found[name], found[bitName] = true, true
+			// Either spelling: the module's, or the railyard name (a steps
+			// file names an escaped identifier by the latter).
+			esc, bitEsc := netbuild.Escape(name), netbuild.Escape(bitName)
+			isIn := n.dir == "input" || given[name] || given[bitName] || given[esc] || given[bitEsc]
+			found[name], found[bitName], found[esc], found[bitEsc] = true, true, true, true
 			if !f.nb.Nodes[b].Used {
 				f.notes.Add(n.pos, "port %s connects to no device: it is neither an input nor an output", bitName)
 				continue

@@ -68,6 +68,14 @@ endmodule
 	if len(d.Netlist.Inputs()) != 2 {
 		t.Errorf("--inputs b: inputs %v, want a and b", d.Netlist.Inputs())
 	}
+	// An escaped identifier is named in either spelling: as the module
+	// spells it, or by its railyard name (what a steps file can hold).
+	for _, given := range []string{"b#", "bX23"} {
+		d = read(t, "module m (input a, inout \\b# ); tran t (a, \\b# ); endmodule", vfile.Options{Inputs: []string{given}})
+		if len(d.Netlist.Inputs()) != 2 {
+			t.Errorf("--inputs %s: inputs %v, want a and b#", given, d.Netlist.Inputs())
+		}
+	}
 }
 
 // Outside the switch-level subset: errors with positions that say what is read.

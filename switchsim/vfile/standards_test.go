@@ -90,6 +90,7 @@ func TestStrengthReductionRows(t *testing.T) {
 			t.Fatalf("%s: %v\n%s", r.row, err, text)
 		}
 		s := simtest.New(t, d.Netlist, sw.Ideal)
+		s.S.SetRaces(sw.RacesOff)          // both writes released at once: a race to race analysis, see switchsim/resistive_test.go
 		s.Apply("ina=1 ena=1 inb=0 enb=1") // write a=1 (charge rows) and b=0, both strongly
 		if r.charge {
 			s.Apply("ena=0 enb=0")

@@ -2,7 +2,7 @@
 // pull with its gate's value (and volts, where they are not a full level),
 // whether it is on, off or of unknown state, and its size, filterable by
 // name, with the devices of the inspected node's group marked. Enter on a
-// row asks why its gate holds its value.
+// row asks why its gate holds its value; W asks for another size to try.
 package devices
 
 import (
@@ -27,6 +27,7 @@ type KeyMap struct {
 	Filter    key.Binding
 	GroupOnly key.Binding
 	Inspect   key.Binding
+	Size      key.Binding
 }
 
 // DefaultKeyMap: arrows, '/' to filter, o to show only the marked group,
@@ -37,13 +38,16 @@ func DefaultKeyMap() KeyMap {
 		Filter:    key.NewBinding(key.WithKeys("/"), key.WithHelp("/", "filter devices")),
 		GroupOnly: key.NewBinding(key.WithKeys("o"), key.WithHelp("o", "only the node's group")),
 		Inspect:   key.NewBinding(key.WithKeys("enter"), key.WithHelp("enter", "why: its gate")),
+		Size:      key.NewBinding(key.WithKeys("W"), key.WithHelp("W", "try another W or L")),
 	}
 }
 
 // ShortHelp and FullHelp feed the help view.
-func (k KeyMap) ShortHelp() []key.Binding { return []key.Binding{k.Inspect, k.Filter, k.GroupOnly} }
+func (k KeyMap) ShortHelp() []key.Binding {
+	return []key.Binding{k.Inspect, k.Size, k.Filter, k.GroupOnly}
+}
 func (k KeyMap) FullHelp() [][]key.Binding {
-	return [][]key.Binding{{k.Up, k.Down, k.PageUp, k.PageDown, k.Home, k.End}, {k.Inspect, k.Filter, k.GroupOnly}}
+	return [][]key.Binding{{k.Up, k.Down, k.PageUp, k.PageDown, k.Home, k.End}, {k.Inspect, k.Size, k.Filter, k.GroupOnly}}
 }
 
 // Styles draw the table.
@@ -76,6 +80,7 @@ type Model struct {
 	vdd       float64
 	ohms      []float64        // by device: on-resistance, NaN where not known
 	bias      []switchsim.Bias // by device: physical mode's bias (nil in ideal mode)
+	loaded    map[int]string   // devices with a size tried: their W/L as loaded
 	group     []bool           // by device
 	groupOf   string
 	groupOnly bool
@@ -137,16 +142,26 @@ func (m *Model) ClearFilter() bool {
 	return had
 }
 
+// SetNetlist gives the netlist after a size was tried or a corner
+// switched (the same devices and nodes, other sizes or technology),
+// keeping the cursor and the filter.
+func (m *Model) SetNetlist(nl *switchsim.Netlist) { m.nl = nl }
+
+// SetTried gives the devices whose size was tried, with their W/L as
+// loaded (size words it), shown beside the size in force.
+func (m *Model) SetTried(loaded map[int]switchsim.Device) {
+	m.loaded = map[int]string{}
+	for d, dv := range loaded {
+		m.loaded[d] = size(dv)
+	}
+}
+
 // SetStates gives each device's conduction, every node's state and the
 // supply's volts (NaN in ideal mode), so that a gate's volts are shown
 // where they are not a full level.
 func (m *Model) SetStates(cond []switchsim.Conduction, states []switchsim.NodeState, vdd float64) {
 	m.cond, m.states, m.vdd = cond, states, vdd
 }
-
-// SetNetlist gives the netlist after a size was tried (the same devices
-// and nodes, other sizes), keeping the cursor and the filter.
-func (m *Model) SetNetlist(nl *switchsim.Netlist) { m.nl = nl }
 
 // SetBias gives each device's bias in physical mode (nil in ideal): a
 // device off by logic whose gate passes its threshold shows as partly on,
@@ -233,6 +248,19 @@ func (m Model) Update(msg tea.Msg) (Model, tea.Cmd) {
 			}
 		}
 		return m, panel.Send(panel.Inspect{Node: n})
+	case key.Matches(k, m.KeyMap.Size):
+		d := m.Selected()
+		if d < 0 {
+			return m, panel.Send(panel.Note{Text: "no device selected"})
+		}
+		dv := m.nl.Device(d)
+		switch {
+		case dv.Kind != switchsim.NMOS && dv.Kind != switchsim.PMOS:
+			return m, panel.Send(panel.Note{Text: m.names.Device[d] + " is a " + dv.Kind.String() + ": it has no W/L to try (only transistors have)"})
+		case dv.Ohms > 0:
+			return m, panel.Send(panel.Note{Text: m.names.Device[d] + " has a resistance of its own: its W/L would change nothing"})
+		}
+		return m, panel.Send(panel.AskSize{Device: d})
 	}
 	return m, nil
 }
@@ -406,6 +434,9 @@ func (m Model) detail() string {
 	}
 	parts = append(parts, c)
 	if sz := size(dv); sz != "-" {
+		if was, ok := m.loaded[d]; ok {
+			sz += " (tried; loaded " + was + ")"
+		}
 		parts = append(parts, "W/L "+sz+" um")
 	}
 	if d < len(m.ohms) && !math.IsNaN(m.ohms[d]) {
@@ -447,6 +478,8 @@ func size(dv switchsim.Device) string {
 // kindName fits a device kind in w cells (4 or 6).
 func kindName(k switchsim.DeviceKind, w int) string {
 	switch {
+	case k == switchsim.Tran:
+		return "tran" // always on between two nodes: no rail, so no pull
 	case k >= switchsim.PullUp && w < 6:
 		return "pull"
 	case k == switchsim.PullUp:

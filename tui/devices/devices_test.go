@@ -29,17 +29,7 @@ func table(s *session.Session, w, h int) Model {
 	return m
 }
 
-func keys(m Model, ks ...string) (Model, tea.Msg) {
-	var last tea.Msg
-	for _, k := range ks {
-		var cmd tea.Cmd
-		m, cmd = m.Update(paneltest.Key(k))
-		if msg := paneltest.Intent(cmd); msg != nil {
-			last = msg
-		}
-	}
-	return m, last
-}
+func keys(m Model, ks ...string) (Model, tea.Msg) { return paneltest.Feed(m, Model.Update, ks...) }
 
 func row(v, name string) string {
 	for _, l := range strings.Split(v, "\n") {
@@ -171,5 +161,43 @@ func TestGolden(t *testing.T) {
 			m.SetGroup("s_b", group)
 			golden.RequireEqual(t, []byte(m.View()))
 		})
+	}
+}
+
+// In the narrow list a pull shows as "pull" (its channel names its rail),
+// and a tran as "tran": it joins two nodes and has no rail.
+func TestKindNames(t *testing.T) {
+	for _, c := range []struct {
+		k    switchsim.DeviceKind
+		w    int
+		want string
+	}{
+		{switchsim.PullUp, 4, "pull"}, {switchsim.PullDown, 4, "pull"}, {switchsim.Tran, 4, "tran"},
+		{switchsim.PullUp, 6, "pullup"}, {switchsim.PullDown, 6, "pulldn"}, {switchsim.Tran, 6, "tran"}, {switchsim.NMOS, 4, "nmos"},
+	} {
+		if got := kindName(c.k, c.w); got != c.want {
+			t.Errorf("kindName(%s, %d) = %q, want %q", c.k, c.w, got, c.want)
+		}
+	}
+}
+
+// W on a transistor asks for a size to try; on a pull it says why not.
+// A device with a size tried shows its size as loaded in its line.
+func TestTrySize(t *testing.T) {
+	s := paneltest.Selector(t, switchsim.Ideal)
+	m := table(s, 100, 16)
+	if _, msg := keys(m, "W"); msg != (panel.AskSize{Device: m.Selected()}) {
+		t.Errorf("W on %s: %#v", s.Netlist().Device(m.Selected()).Name, msg)
+	}
+	d := m.Selected()
+	loaded := s.Netlist().Device(d)
+	m.SetTried(map[int]switchsim.Device{d: loaded})
+	if v := m.View(); !strings.Contains(v, "(tried; loaded "+size(loaded)+")") {
+		t.Errorf("the tried size's line:\n%s", v)
+	}
+	p := table(paneltest.Session(paneltest.OneNode(t), switchsim.Ideal), 80, 10)
+	_, msg := keys(p, "W")
+	if n, ok := msg.(panel.Note); !ok || !strings.Contains(n.Text, "up is a pullup: it has no W/L to try") {
+		t.Errorf("W on a pull: %#v", msg)
 	}
 }

@@ -109,7 +109,7 @@ func TestGolden(t *testing.T) {
 			en.Title = fmt.Sprintf("step %d %s", e.Action.Step+1, e.Action.Label)
 		}
 		for _, w := range e.Warnings {
-			en.Warnings = append(en.Warnings, Warning{w.Kind, w.Message})
+			en.Warnings = append(en.Warnings, Warning{string(w.Kind), w.Message})
 		}
 		entries = append(entries, en)
 	}

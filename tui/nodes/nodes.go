@@ -1,8 +1,9 @@
 // Package nodes is the explorer's node board: every node but the rails and
 // the inputs, outputs first, each with its state letter, logic value,
 // strength, volts and (physical mode) margin, marked when the last settle
-// changed it, when it is on the timeline, or when a check on it failed. '/'
-// filters by name.
+// changed it, when it is on the timeline, when a check on it failed, or,
+// after a mode switch or a size tried, when its logic value differs from
+// the session before (with that value beside the mark). '/' filters by name.
 package nodes
 
 import (
@@ -59,13 +60,14 @@ type Styles struct {
 	Changed  lipgloss.Style
 	Watched  lipgloss.Style
 	Fail     lipgloss.Style
+	Differs  lipgloss.Style
 	Dim      lipgloss.Style
 }
 
 // DefaultStyles takes the board's styles from the theme.
 func DefaultStyles(t *theme.Theme) Styles {
 	return Styles{Theme: t, Name: t.Text, Output: t.Bold, Header: t.Dim, Selected: t.Selected,
-		Changed: t.Changed, Watched: t.Accent, Fail: t.Fail, Dim: t.Dim}
+		Changed: t.Changed, Watched: t.Accent, Fail: t.Fail, Differs: t.Marked, Dim: t.Dim}
 }
 
 // row is a node, or a separator line (node < 0).
@@ -88,7 +90,10 @@ type Model struct {
 	changed []bool
 	failing []bool
 	watched []bool
-	margins []float64 // by node: the noise margin in volts (NaN unknown); nil in ideal mode
+	margins []float64         // by node: the noise margin in volts (NaN unknown); nil in ideal mode
+	differs []bool            // by node: its value differs from the session before
+	other   []switchsim.Value // by node: that value
+	legend  string            // what they differ from ("3 differ from ideal")
 	rows    []row
 	cur     listing.Cursor
 	filter  listing.Filter
@@ -196,6 +201,17 @@ func (m *Model) SetMargins(margins []float64) {
 
 // SetWatched marks the nodes on the timeline (indexed by node).
 func (m *Model) SetWatched(w []bool) { m.watched = w }
+
+// SetDiffers marks the nodes whose logic value differs from the session
+// before a mode switch or a size tried (indexed by node), with that value
+// (other), and says in the title what they differ from (legend, "3
+// differ from ideal"). nil clears the marks.
+func (m *Model) SetDiffers(differs []bool, other []switchsim.Value, legend string) {
+	m.differs, m.other, m.legend = differs, other, legend
+	if differs == nil {
+		m.legend = ""
+	}
+}
 
 // Selected returns the node under the cursor, or -1.
 func (m Model) Selected() int {
@@ -307,6 +323,9 @@ func (m Model) View() string {
 		info = fmt.Sprintf("%d of %d  %s", m.Shown(), len(m.order), f)
 	}
 	nameW := m.labelW
+	if m.legend != "" {
+		info += "  " + t.Mark("nodes.differs", st.Differs, g.Differs) + " " + m.legend
+	}
 	if n := m.Selected(); n >= 0 && m.focused && m.label(n, nameW) != m.names.Node[n] {
 		info += "  " + m.names.Node[n] // the cut name, whole
 	}
@@ -397,6 +416,9 @@ func (m Model) line(n int, sel bool, nameW int) string {
 	}
 	if at(m.failing, n) {
 		b.WriteString(" " + t.Mark("nodes.fail", st.Fail, g.Fail))
+	}
+	if at(m.differs, n) && n < len(m.other) {
+		b.WriteString(" " + t.Mark("nodes.differs", st.Differs, g.Differs) + m.other[n].String())
 	}
 	return b.String()
 }

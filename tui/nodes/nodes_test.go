@@ -1,6 +1,7 @@
 package nodes
 
 import (
+	"strings"
 	"testing"
 
 	tea "github.com/charmbracelet/bubbletea"
@@ -55,5 +56,51 @@ func TestOrderAndFilter(t *testing.T) {
 	}
 	if m.Shown() != 1 || nl.NodeName(m.Selected()) != "n10" {
 		t.Fatalf("filter n1: %d shown, selected %s; want 1 and n10", m.Shown(), nl.NodeName(m.Selected()))
+	}
+}
+
+// After a mode switch or a size tried, the nodes whose logic value
+// differs carry the differs glyph with the value before, and the title
+// says what they differ from; nil clears both.
+func TestDiffers(t *testing.T) {
+	b := switchsim.NewBuilder()
+	b.Input("a")
+	b.NMOS("n1", "a", "x", "gnd", switchsim.DeviceOpts{})
+	b.NMOS("n2", "a", "y", "gnd", switchsim.DeviceOpts{})
+	b.Output("y")
+	nl, err := b.Compile()
+	if err != nil {
+		t.Fatal(err)
+	}
+	th := theme.New(nil, true, false)
+	m := New(nl, panel.NewNames(nl), DefaultStyles(th))
+	m.SetSize(40, 10)
+	st := make([]switchsim.NodeState, nl.NumNodes())
+	m.SetStates(st, nil, nil)
+	x, _ := nl.Lookup("x")
+	differs := make([]bool, nl.NumNodes())
+	other := make([]switchsim.Value, nl.NumNodes())
+	differs[x], other[x] = true, switchsim.V1
+	m.SetDiffers(differs, other, "1 vs physical")
+	v := m.View()
+	lines := strings.Split(v, "\n")
+	if !strings.Contains(lines[0], th.G.Differs+" 1 vs physical") {
+		t.Errorf("title: %q", lines[0])
+	}
+	for _, l := range lines[2:] {
+		switch {
+		case strings.Contains(l, " x "):
+			if !strings.HasSuffix(strings.TrimRight(l, " "), th.G.Differs+"1") {
+				t.Errorf("x's row: %q", l)
+			}
+		case strings.Contains(l, " y "):
+			if strings.Contains(l, th.G.Differs) {
+				t.Errorf("y is marked: %q", l)
+			}
+		}
+	}
+	m.SetDiffers(nil, nil, "anything")
+	if strings.Contains(m.View(), th.G.Differs) {
+		t.Errorf("nil did not clear the marks:\n%s", m.View())
 	}
 }

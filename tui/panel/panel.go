@@ -62,21 +62,28 @@ type JumpTo struct{ Row int }
 type SaveKind uint8
 
 const (
-	SaveTrace SaveKind = iota // the session trace (railyard replay repeats it)
-	SaveVCD                   // a VCD of the history in force (IEEE 1364-2005 §18)
+	SaveTrace  SaveKind = iota // the session trace (railyard replay repeats it)
+	SaveVCD                    // a VCD of the history in force (IEEE 1364-2005 §18)
+	SaveDesign                 // the design with the sizes tried, as .sw
 )
 
 // Ext is the usual file extension of a kind, with its dot.
 func (k SaveKind) Ext() string {
-	if k == SaveVCD {
+	switch k {
+	case SaveVCD:
 		return ".vcd"
+	case SaveDesign:
+		return ".sw"
 	}
 	return ".trace"
 }
 
 func (k SaveKind) String() string {
-	if k == SaveVCD {
+	switch k {
+	case SaveVCD:
 		return "VCD"
+	case SaveDesign:
+		return "design"
 	}
 	return "trace"
 }
@@ -89,6 +96,23 @@ type Save struct {
 	Path      string
 	Overwrite bool
 }
+
+// AskSize asks for a new W or L for transistor Device (the prompt).
+type AskSize struct{ Device int }
+
+// Resize asks to try transistor Device at W x L (metres): the design is
+// re-settled with it and its history replayed.
+type Resize struct {
+	Device int
+	W, L   float64
+}
+
+// Search asks to start the reachable-state search, or to stop it.
+type Search struct{ Stop bool }
+
+// OpenFinding asks to make finding Index (of the search's report) the
+// session's steps: its shortest input sequence, walked from the start.
+type OpenFinding struct{ Index int }
 
 // Canceled says a question was closed without an answer.
 type Canceled struct{ What string }

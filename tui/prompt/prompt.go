@@ -1,9 +1,11 @@
 // Package prompt is the explorer's one-line question at the foot of the
-// screen: the file name to save the trace (or, after tab, a VCD) under;
-// with the files' place chosen by the explorer's owner, only which of the
-// two to save; whether to replace a file that is there; or the step to go
-// to. Enter answers, Esc cancels; the answer is an intent for the root
-// (panel.Save, panel.JumpTo, panel.Canceled, panel.Note).
+// screen: the file name to save the trace (or, after tab, a VCD, or the
+// design with the sizes tried as .sw) under; with the files' place chosen
+// by the explorer's owner, only which of them to save; whether to replace
+// a file that is there; the step to go to; or the width (tab: length) to
+// try on a transistor. Enter answers, Esc cancels; the answer is an intent
+// for the root (panel.Save, panel.JumpTo, panel.Resize, panel.Canceled,
+// panel.Note).
 package prompt
 
 import (
@@ -16,6 +18,7 @@ import (
 	"github.com/charmbracelet/lipgloss"
 
 	"railyard/switchsim/diag"
+	"railyard/switchsim/netfile"
 	"railyard/tui/listing"
 	"railyard/tui/panel"
 	"railyard/tui/theme"
@@ -25,12 +28,14 @@ import (
 type Kind uint8
 
 const (
-	None      Kind = iota // no prompt is open
-	SaveTrace             // a file name for the session trace
-	SaveVCD               // a file name for a VCD of the history in force
-	Choose                // trace or VCD, to a place the explorer's owner chose
-	Confirm               // replace a file that is there?
-	Jump                  // a step number
+	None       Kind = iota // no prompt is open
+	SaveTrace              // a file name for the session trace
+	SaveVCD                // a file name for a VCD of the history in force
+	Choose                 // trace or VCD, to a place the explorer's owner chose
+	Confirm                // replace a file that is there?
+	Jump                   // a step number
+	SaveDesign             // a file name for the design with the sizes tried (.sw)
+	Size                   // a width or length to try on a transistor
 )
 
 // KeyMap are the prompt's keys.
@@ -45,7 +50,7 @@ func DefaultKeyMap() KeyMap {
 	return KeyMap{
 		Accept: key.NewBinding(key.WithKeys("enter"), key.WithHelp("enter", "ok")),
 		Cancel: key.NewBinding(key.WithKeys("esc"), key.WithHelp("esc", "cancel")),
-		Switch: key.NewBinding(key.WithKeys("tab"), key.WithHelp("tab", "trace or VCD")),
+		Switch: key.NewBinding(key.WithKeys("tab"), key.WithHelp("tab", "trace, VCD or design")),
 		Yes:    key.NewBinding(key.WithKeys("y"), key.WithHelp("y", "yes")),
 		No:     key.NewBinding(key.WithKeys("n"), key.WithHelp("n", "no")),
 	}
@@ -75,26 +80,60 @@ type Model struct {
 
 	kind     Kind
 	field    listing.Field
-	defaults [2]string // trace and VCD default names
+	defaults map[Kind]string // the default names of the kinds of file offered
+	design   bool            // Choose: the design is offered too
 	steps    int
 	save     panel.Save // Confirm: the save to make if the answer is yes
+	size     sizing     // Size
 	err      string
 	w        int
 }
 
+// sizing is what the size prompt asks about.
+type sizing struct {
+	device int
+	name   string
+	w, l   float64
+	length bool // asking for L, not W
+}
+
 // NewSave asks for a file name, offering the trace and VCD defaults.
 func NewSave(st Styles, traceName, vcdName string) Model {
-	m := Model{KeyMap: DefaultKeyMap(), Styles: st, kind: SaveTrace, defaults: [2]string{traceName, vcdName}}
+	m := Model{KeyMap: DefaultKeyMap(), Styles: st, kind: SaveTrace, defaults: map[Kind]string{SaveTrace: traceName, SaveVCD: vcdName}}
 	m.field.CursorGlyph = cursorGlyph(st.Theme)
 	m.field.SetValue(traceName)
 	m.field.Focus()
 	return m
 }
 
-// NewChoose asks only whether to save the trace or a VCD: the explorer's
-// owner chooses where the file goes and its name, so no path is typed.
+// WithDesign offers the design with the sizes tried too, as .sw under
+// name by default; tab reaches it after the VCD. For a Choose prompt the
+// name is not used (the owner names the file).
+func (m Model) WithDesign(name string) Model {
+	if m.kind == Choose {
+		m.design = true
+		return m
+	}
+	m.defaults[SaveDesign] = name
+	return m
+}
+
+// NewChoose asks only whether to save the trace or a VCD (or, WithDesign,
+// the design): the explorer's owner chooses where the file goes and its
+// name, so no path is typed.
 func NewChoose(st Styles) Model {
 	return Model{KeyMap: DefaultKeyMap(), Styles: st, kind: Choose}
+}
+
+// NewSize asks for the width to try on transistor device (name, printable)
+// drawn w x l metres; tab asks for the length instead. The field starts
+// empty, and takes a number in the design format (0.72u, 720n, 7.2e-7).
+func NewSize(st Styles, device int, name string, w, l float64) Model {
+	m := Model{KeyMap: DefaultKeyMap(), Styles: st, kind: Size, size: sizing{device: device, name: name, w: w, l: l}}
+	m.field.CursorGlyph = cursorGlyph(st.Theme)
+	m.field.Limit = 24
+	m.field.Focus()
+	return m
 }
 
 // NewConfirm asks whether to replace the file s would write over.
@@ -160,9 +199,12 @@ func (m Model) Update(msg tea.Msg) (Model, tea.Cmd) {
 		case key.Matches(k, km.Cancel):
 			return closeWith(panel.Canceled{What: "nothing saved"})
 		case key.Matches(k, km.Switch):
-			if m.save.Kind == panel.SaveTrace {
+			switch {
+			case m.save.Kind == panel.SaveTrace:
 				m.save.Kind = panel.SaveVCD
-			} else {
+			case m.save.Kind == panel.SaveVCD && m.design:
+				m.save.Kind = panel.SaveDesign
+			default:
 				m.save.Kind = panel.SaveTrace
 			}
 		case key.Matches(k, km.Accept):
@@ -170,18 +212,24 @@ func (m Model) Update(msg tea.Msg) (Model, tea.Cmd) {
 		}
 		return m, nil
 	}
+	if m.kind == Size {
+		return m.sizeKey(k)
+	}
 	switch {
 	case key.Matches(k, km.Cancel):
 		return closeWith(panel.Canceled{What: "canceled"})
 	case key.Matches(k, km.Switch) && m.kind != Jump:
 		old, next := m.kind, SaveVCD
-		if old == SaveVCD {
+		switch {
+		case old == SaveVCD && m.defaults[SaveDesign] != "":
+			next = SaveDesign
+		case old != SaveTrace:
 			next = SaveTrace
 		}
 		// carry the name across, swapping the default extension
 		v := m.field.Value()
-		if v == m.defaults[old-SaveTrace] || v == "" {
-			v = m.defaults[next-SaveTrace]
+		if v == m.defaults[old] || v == "" {
+			v = m.defaults[next]
 		}
 		m.kind = next
 		m.field.SetValue(v)
@@ -204,8 +252,11 @@ func (m Model) Update(msg tea.Msg) (Model, tea.Cmd) {
 			return m, nil
 		}
 		kind := panel.SaveTrace
-		if m.kind == SaveVCD {
+		switch m.kind {
+		case SaveVCD:
 			kind = panel.SaveVCD
+		case SaveDesign:
+			kind = panel.SaveDesign
 		}
 		return closeWith(panel.Save{Kind: kind, Path: v})
 	}
@@ -223,6 +274,64 @@ func (m Model) Update(msg tea.Msg) (Model, tea.Cmd) {
 	return m, nil
 }
 
+// sizeKey handles a key of the size prompt: tab swaps W and L, enter
+// reads the number and answers with the size to try; a number that does
+// not read, or is no size for a cell, keeps the prompt open and says why.
+func (m Model) sizeKey(k tea.KeyMsg) (Model, tea.Cmd) {
+	km := m.KeyMap
+	switch {
+	case key.Matches(k, km.Cancel):
+		m.kind = None
+		return m, panel.Send(panel.Canceled{What: "size left as it was"})
+	case key.Matches(k, km.Switch):
+		m.size.length = !m.size.length
+		m.err = ""
+		return m, nil
+	case key.Matches(k, km.Accept):
+		v := strings.TrimSpace(m.field.Value())
+		x, err := netfile.ParseNumber(v)
+		r := netfile.SizeRange
+		switch {
+		case v == "":
+			m.err = "a size, please (0.72u)"
+		case err != nil:
+			m.err = fmt.Sprintf("%q is not a number: write it as in a design, 0.72u or 720n", v)
+		case x <= 0:
+			m.err = "a size must be positive"
+		case x < r.Min || x > r.Max:
+			m.err = fmt.Sprintf("%s reads as %g m, not a cell's size (%s to %s m)%s", v, x,
+				netfile.FormatNumber(r.Min), netfile.FormatNumber(r.Max), prefixHint(v, x))
+		default:
+			w, l := m.size.w, m.size.l
+			if m.size.length {
+				l = x
+			} else {
+				w = x
+			}
+			m.kind = None
+			return m, panel.Send(panel.Resize{Device: m.size.device, W: w, L: l})
+		}
+		return m, nil
+	}
+	if m.field.Update(k) {
+		m.err = ""
+	}
+	return m, nil
+}
+
+// prefixHint suggests the prefix a size without one probably lacked.
+func prefixHint(written string, x float64) string {
+	for _, p := range []struct {
+		prefix string
+		scale  float64
+	}{{"u", 1e-6}, {"n", 1e-9}} {
+		if v := x * p.scale; v >= netfile.SizeRange.Min && v <= netfile.SizeRange.Max && strings.IndexAny(written[len(written)-1:], "fpnumkMG") < 0 {
+			return ": " + written + p.prefix + "?"
+		}
+	}
+	return ""
+}
+
 // View draws the prompt on its line.
 func (m Model) View() string {
 	st := m.Styles
@@ -234,13 +343,32 @@ func (m Model) View() string {
 		q, hint = "save trace as ", "  enter save · tab VCD instead · esc cancel"
 	case SaveVCD:
 		q, hint = "export VCD as ", "  enter save · tab trace instead · esc cancel"
+		if m.defaults[SaveDesign] != "" {
+			hint = "  enter save · tab the design instead · esc cancel"
+		}
+	case SaveDesign:
+		q, hint = "save design as ", "  enter save · tab trace · esc cancel"
 	case Choose:
 		field = ""
-		if m.save.Kind == panel.SaveVCD {
+		switch m.save.Kind {
+		case panel.SaveVCD:
 			q, hint = "save a VCD of the history", "  enter save · tab the trace instead · esc cancel"
-		} else {
+			if m.design {
+				hint = "  enter save · tab the design instead · esc cancel"
+			}
+		case panel.SaveDesign:
+			q, hint = "save the design with the sizes tried (.sw)", "  enter save · tab the trace instead · esc cancel"
+		default:
 			q, hint = "save the session trace", "  enter save · tab a VCD instead · esc cancel"
 		}
+	case Size:
+		what, now := "W", m.size.w
+		other := "L"
+		if m.size.length {
+			what, now, other = "L", m.size.l, "W"
+		}
+		q = fmt.Sprintf("%s: try %s (now %s) ", m.size.name, what, netfile.FormatNumber(now))
+		hint = "  enter try · tab " + other + " instead · esc cancel"
 	case Confirm:
 		field = ""
 		q, hint = diag.Printable(m.save.Path)+" is there: replace it?", "  y replace · n keep it"

@@ -16,17 +16,7 @@ var st = DefaultStyles(paneltest.Theme(false))
 
 // feed sends keys (single runes are typed) and returns the model and the
 // intent of the last key that sent one.
-func feed(m Model, keys ...string) (Model, tea.Msg) {
-	var last tea.Msg
-	for _, k := range keys {
-		var cmd tea.Cmd
-		m, cmd = m.Update(paneltest.Key(k))
-		if msg := paneltest.Intent(cmd); msg != nil {
-			last = msg
-		}
-	}
-	return m, last
-}
+func feed(m Model, keys ...string) (Model, tea.Msg) { return paneltest.Feed(m, Model.Update, keys...) }
 
 func typed(s string) []string {
 	var ks []string
@@ -143,20 +133,88 @@ func TestConfirm(t *testing.T) {
 
 // Goldens at 80 and 120 columns, one line per kind, checked by hand: the
 // question, the field with its cursor glyph after the default name (save)
-// or empty (jump), and the keys of each kind; the choice and the question
-// have no field.
+// or empty (jump, size), and the keys of each kind; the choice and the
+// question have no field; the design save and the size prompt come last.
 func TestGolden(t *testing.T) {
 	for _, sz := range paneltest.Sizes {
 		t.Run(fmt.Sprintf("%dx%d", sz[0], sz[1]), func(t *testing.T) {
 			vcd, _ := feed(NewSave(st, "opsel.trace", "opsel.vcd"), "tab")
 			chooseVCD, _ := feed(NewChoose(st), "tab")
 			var lines []string
+			design, _ := feed(NewSave(st, "opsel.trace", "opsel.vcd").WithDesign("opsel-edited.sw"), "tab", "tab")
 			for _, m := range []Model{NewSave(st, "opsel.trace", "opsel.vcd"), vcd, NewChoose(st), chooseVCD,
-				NewConfirm(st, panel.Save{Path: "opsel.trace"}), NewJump(st, 8)} {
+				NewConfirm(st, panel.Save{Path: "opsel.trace"}), NewJump(st, 8), design, NewSize(st, 0, "ta.n", 0.36e-6, 0.18e-6)} {
 				m.SetSize(sz[0], 1)
 				lines = append(lines, m.View())
 			}
 			golden.RequireEqual(t, []byte(strings.Join(lines, "\n")))
 		})
+	}
+}
+
+// The size prompt starts empty, reads a number as the design format writes
+// it (0.72u is 0.72 micrometres), answers with the size to try (tab: the
+// length instead, the width kept), and keeps itself open, saying why, for
+// text that is no number or a number that is no cell's size (0.72 alone
+// is 0.72 m: it suggests the prefix).
+func TestSize(t *testing.T) {
+	m := NewSize(st, 7, "keep.n", 1.44e-6, 0.18e-6)
+	m.SetSize(120, 1)
+	if m.Value() != "" || !strings.Contains(m.View(), "keep.n: try W (now 1.44u)") {
+		t.Fatalf("new size prompt: %q %q", m.Value(), m.View())
+	}
+	if _, msg := feed(m, append(typed("0.72u"), "enter")...); msg != (panel.Resize{Device: 7, W: 0.72e-6, L: 0.18e-6}) {
+		t.Errorf("W 0.72u: %#v", msg)
+	}
+	l, _ := feed(m, "tab")
+	if !strings.Contains(l.View(), "try L (now 180n)") {
+		t.Errorf("tab: %q", l.View())
+	}
+	if _, msg := feed(l, append(typed("360n"), "enter")...); msg != (panel.Resize{Device: 7, W: 1.44e-6, L: 0.36e-6}) {
+		t.Errorf("L 360n: %#v", msg)
+	}
+	for _, c := range []struct{ typed, says string }{
+		{"", "a size, please"},
+		{"wide", `"wide" is not a number`},
+		{"0", "a size must be positive"},
+		{"0.72", "0.72u?"},
+		{"5m", "not a cell's size"},
+	} {
+		got, msg := feed(m, append(typed(c.typed), "enter")...)
+		got.SetSize(120, 1)
+		if msg != nil || !got.Active() || !strings.Contains(got.View(), c.says) {
+			t.Errorf("%q: %#v, %q", c.typed, msg, got.View())
+		}
+	}
+	if _, msg := feed(m, "esc"); msg == nil {
+		t.Error("esc sends nothing")
+	} else if _, ok := msg.(panel.Canceled); !ok {
+		t.Errorf("esc: %#v", msg)
+	}
+}
+
+// With the design edited, tab reaches the design after the VCD, with its
+// own default name, and enter answers with a design save; without it the
+// cycle is trace and VCD as before. The owner's choice cycles the same way.
+func TestSaveDesign(t *testing.T) {
+	m := NewSave(st, "k.trace", "k.vcd").WithDesign("k-edited.sw")
+	m, _ = feed(m, "tab", "tab")
+	if m.Kind() != SaveDesign || m.Value() != "k-edited.sw" {
+		t.Fatalf("tab tab: %v %q", m.Kind(), m.Value())
+	}
+	if _, msg := feed(m, "enter"); msg != (panel.Save{Kind: panel.SaveDesign, Path: "k-edited.sw"}) {
+		t.Errorf("enter: %#v", msg)
+	}
+	if m, _ = feed(m, "tab"); m.Kind() != SaveTrace || m.Value() != "k.trace" {
+		t.Errorf("tab from the design: %v %q", m.Kind(), m.Value())
+	}
+	if m, _ := feed(NewSave(st, "k.trace", "k.vcd"), "tab", "tab"); m.Kind() != SaveTrace {
+		t.Errorf("unedited: tab tab reaches %v", m.Kind())
+	}
+	if _, msg := feed(NewChoose(st).WithDesign(""), "tab", "tab", "enter"); msg != (panel.Save{Kind: panel.SaveDesign}) {
+		t.Errorf("choose: %#v", msg)
+	}
+	if _, msg := feed(NewChoose(st), "tab", "tab", "enter"); msg != (panel.Save{Kind: panel.SaveTrace}) {
+		t.Errorf("choose, unedited: %#v", msg)
 	}
 }

@@ -78,6 +78,11 @@ type Settle struct {
 	Changes    []Change              // round after round
 	Before     []switchsim.NodeState // every node before the action (nil: unknown)
 	Oscillated bool
+	// Unsettled: the unit-delay rounds reached the round limit without
+	// settling; Decided: the engine's race analysis then set the last
+	// round's states (session.Event's fields of the same names), so the
+	// grid shows the propagation and its last column the analysis's verdict.
+	Unsettled, Decided bool
 	// Slowest is the settle's slowest chain of changes (indices into
 	// Changes, the first change first) and Arrival its summed delay
 	// estimate; nil and NaN where there are no delays (ideal mode).
@@ -242,8 +247,13 @@ func (m Model) heading() []string {
 	g := t.G
 	s := m.s
 	lines := []string{st.Heading.Render(t.Clip(s.Title, m.w))}
-	if s.Oscillated {
+	switch {
+	case s.Oscillated:
 		lines = append(lines, st.Warn.Render(t.Clip(g.Warn+" oscillated: past the round limit the nodes still changing were set to X", m.w)))
+	case s.Decided:
+		lines = append(lines, st.Warn.Render(t.Clip(fmt.Sprintf("%s the rounds did not settle: race analysis decided round %d", g.Warn, s.Rounds), m.w)))
+	case s.Unsettled:
+		lines = append(lines, st.Warn.Render(t.Clip(g.Warn+" the rounds reached the round limit without settling", m.w)))
 	}
 	if s.Rounds == 0 || len(m.rows) == 0 {
 		return lines
@@ -376,6 +386,10 @@ func (m Model) View() string {
 	switch {
 	case m.replay == 0:
 		foot += ": before round 1"
+	case m.replay == s.Rounds && s.Decided:
+		foot += ": decided by race analysis"
+	case m.replay == s.Rounds && (s.Unsettled || s.Oscillated):
+		foot += ": at the round limit"
 	case m.replay == s.Rounds:
 		foot += ": settled"
 	}

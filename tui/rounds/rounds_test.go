@@ -33,7 +33,7 @@ func keys(m Model, ks ...string) Model {
 func settleOf(s *session.Session) Settle {
 	hist := s.History()
 	e := s.Last()
-	st := Settle{Title: "the last action", Rounds: e.Rounds, Oscillated: e.Oscillated}
+	st := Settle{Title: "the last action", Rounds: e.Rounds, Oscillated: e.Oscillated, Unsettled: e.Unsettled, Decided: e.Decided}
 	if len(hist) > 1 { // the state before each change, as the root model gives it
 		st.Before = make([]switchsim.NodeState, s.Netlist().NumNodes())
 		for _, c := range e.Changes {
@@ -119,6 +119,40 @@ func TestOscillated(t *testing.T) {
 		Changes: []Change{{1, y, switchsim.StateX, math.NaN(), math.NaN()}}}, 80, 8)
 	if !strings.Contains(m.View(), "oscillated: past the round limit") {
 		t.Errorf("no oscillation notice:\n%s", m.View())
+	}
+}
+
+// When the unit-delay rounds reach the limit without settling and race
+// analysis decides, the view says so above the grid (the last round is the
+// analysis's verdict); rounds that hit the limit undecided say that; a
+// settle that settled says neither.
+func TestUnsettledAndDecided(t *testing.T) {
+	nl := paneltest.OneNode(t)
+	y := paneltest.Node(t, nl, "y")
+	ch := []Change{{1, y, switchsim.StateH, math.NaN(), math.NaN()}, {19, y, switchsim.State1, math.NaN(), math.NaN()}}
+	for _, c := range []struct {
+		s    Settle
+		want string
+	}{
+		{Settle{Title: "t", Rounds: 19, Changes: ch, Unsettled: true, Decided: true}, "the rounds did not settle: race analysis decided round 19"},
+		{Settle{Title: "t", Rounds: 19, Changes: ch, Unsettled: true}, "the rounds reached the round limit without settling"},
+		{Settle{Title: "t", Rounds: 19, Changes: ch}, ""},
+	} {
+		v := view(panel.NewNames(nl), c.s, 80, 8).View()
+		foot := map[bool]string{true: "19/19: decided by race analysis", false: "19/19: settled"}[c.s.Decided]
+		if c.s.Unsettled && !c.s.Decided {
+			foot = "19/19: at the round limit"
+		}
+		if !strings.Contains(v, foot) {
+			t.Errorf("the foot should say %q:\n%s", foot, v)
+		}
+		if c.want == "" {
+			if strings.Contains(v, "did not settle") || strings.Contains(v, "without settling") {
+				t.Errorf("a settled settle says it did not settle:\n%s", v)
+			}
+		} else if !strings.Contains(v, c.want) {
+			t.Errorf("want %q:\n%s", c.want, v)
+		}
 	}
 }
 

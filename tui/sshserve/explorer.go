@@ -50,8 +50,11 @@ func (e explorer) TraceFull() (capped bool, why string) {
 	return capped, why
 }
 
-// Close releases the trace's spool; the explorer records nothing after.
+// Close stops what the explorer runs in the background (its
+// reachable-state search: the user has left) and releases the trace's
+// spool; the explorer records nothing after.
 func (e explorer) Close() error {
+	e.Model.Close()
 	if w := trace.Of(e.Session()); w != nil {
 		return w.Close()
 	}
@@ -117,7 +120,7 @@ func servedName(p string) string {
 // demoNames lists the embedded demos (served as demo:NAME).
 func demoNames() []string {
 	var names []string
-	for _, e := range designs.List() {
+	for _, e := range designs.All() {
 		names = append(names, e.Name)
 	}
 	return names

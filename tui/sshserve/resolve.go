@@ -11,6 +11,7 @@ import (
 	"unicode"
 
 	"railyard/switchsim/load"
+	"railyard/switchsim/netfile"
 )
 
 // DesignExt is the suffix of the design files served from the folder; a
@@ -37,7 +38,7 @@ type target struct {
 	Files  *load.Loader // what Design and Steps are opened through
 }
 
-func newCatalog(dir string, demos func() []string, maxBytes int64) (*catalog, error) {
+func newCatalog(dir string, demos func() []string, maxBytes int64, read netfile.ReadOptions) (*catalog, error) {
 	abs, err := filepath.Abs(dir)
 	if err != nil {
 		return nil, err
@@ -57,7 +58,7 @@ func newCatalog(dir string, demos func() []string, maxBytes int64) (*catalog, er
 	if err != nil {
 		return nil, err
 	}
-	files := load.Root(r, load.Options{MaxBytes: int(min(maxBytes, 1<<30))})
+	files := load.Root(r, load.Options{MaxBytes: int(min(maxBytes, 1<<30)), ReadOptions: read})
 	return &catalog{root: root, files: files, demos: demos, maxBytes: maxBytes}, nil
 }
 

@@ -129,11 +129,12 @@ func (f *saves) save(kind tui.SaveKind, write func(io.Writer) error) (string, er
 	replaced := f.written[kind]
 	f.written[kind] = true
 	f.v.set(func(v *visit) {
-		if kind == tui.SaveVCD {
+		switch kind {
+		case tui.SaveVCD:
 			v.vcd = shown
-		} else {
+		case tui.SaveTrace:
 			v.trace = shown
-		}
+		} // a design with sizes tried (tui.SaveDesign) is neither
 	})
 	f.srv.log.Info("file saved", "user", diag.Printable(f.user), "session", f.session,
 		"kind", kind.String(), "file", shown)

@@ -70,6 +70,10 @@ type Config struct {
 	IdleTimeout time.Duration
 	// NoAuth accepts any client; it is refused unless the address is loopback.
 	NoAuth bool
+	// Read are the reader options of the netlists served (rails, model
+	// names, ...: the command line's netlist flags), the same for every
+	// one; a .sw design takes none. Their includes never leave Designs.
+	Read netfile.ReadOptions
 	// MaxDesignBytes bounds a served design or steps file; the design
 	// reader's own file limit when 0. With the reader's device limit it
 	// bounds what one session loads.
@@ -259,7 +263,7 @@ func New(cfg Config) (*Server, error) {
 	if cfg.Designs == "" {
 		return nil, configError("Designs", "a folder is required")
 	}
-	if s.catalog, err = newCatalog(cfg.Designs, cfg.Demos, cfg.MaxDesignBytes); err != nil {
+	if s.catalog, err = newCatalog(cfg.Designs, cfg.Demos, cfg.MaxDesignBytes, cfg.Read); err != nil {
 		return nil, &ConfigError{Field: "Designs", Err: err}
 	}
 	if cfg.Traces != "" {

@@ -20,17 +20,7 @@ func view(steps []Step, w, h int) Model {
 	return m
 }
 
-func keys(m Model, ks ...string) (Model, tea.Msg) {
-	var last tea.Msg
-	for _, k := range ks {
-		var cmd tea.Cmd
-		m, cmd = m.Update(paneltest.Key(k))
-		if msg := paneltest.Intent(cmd); msg != nil {
-			last = msg
-		}
-	}
-	return m, last
-}
+func keys(m Model, ks ...string) (Model, tea.Msg) { return paneltest.Feed(m, Model.Update, ks...) }
 
 // The selector fixture's rows, as the root words them.
 var fixture = []Step{

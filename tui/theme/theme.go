@@ -23,6 +23,7 @@ type Glyphs struct {
 	Fail     string // a check that failed (never plain information)
 	Warn     string // a warning of the simulator
 	Set      string // on the timeline: an action that set an input by hand
+	Differs  string // a node whose logic value the other mode (or the size tried) gives otherwise
 	Next     string // the step that n applies
 	Arrow    string
 	Rule     string // horizontal rule
@@ -36,7 +37,7 @@ type Glyphs struct {
 // levels (0 at the floor, 1 at the top, the weak states between, Z at mid).
 func unicodeGlyphs() Glyphs {
 	return Glyphs{
-		Cursor: "▸", Changed: "•", Watched: "◆", Group: "◇", Pass: "✓", Fail: "✗", Warn: "!", Set: "+",
+		Cursor: "▸", Changed: "•", Watched: "◆", Group: "◇", Pass: "✓", Fail: "✗", Warn: "!", Set: "+", Differs: "≠",
 		Next: "▶", Arrow: "→", Rule: "─", Bar: "│", Ellipsis: "…", Cell: "·",
 		Wave: [6]string{"▁", "█", "▃", "▆", "─", "▒"},
 	}
@@ -45,10 +46,11 @@ func unicodeGlyphs() Glyphs {
 // ASCII glyphs for terminals and fonts that cannot show anything else:
 // one glyph, one meaning, as in Unicode. F is a failed check and ! a
 // warning; + a pass and s an input set by hand; & a device of the group,
-// since # is the waveform's 1.
+// since # is the waveform's 1; % a node that differs from the session
+// before the mode switch or the size tried.
 func asciiGlyphs() Glyphs {
 	return Glyphs{
-		Cursor: ">", Changed: "*", Watched: "@", Group: "&", Pass: "+", Fail: "F", Warn: "!", Set: "s",
+		Cursor: ">", Changed: "*", Watched: "@", Group: "&", Pass: "+", Fail: "F", Warn: "!", Set: "s", Differs: "%",
 		Next: ">", Arrow: "->", Rule: "-", Bar: "|", Ellipsis: "~", Cell: ".",
 		Wave: [6]string{"_", "#", ".", "^", "-", "x"},
 	}

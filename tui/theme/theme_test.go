@@ -56,7 +56,8 @@ func TestFitAndWrap(t *testing.T) {
 }
 
 // One glyph, one meaning: the marks a screen shows side by side (cursor,
-// changed, watched, group, pass, fail, warning, set) are all different in
+// changed, watched, group, pass, fail, warning, set, differs, and the
+// ellipsis of a cut name) are all different in
 // both sets, and none is a state letter or a waveform glyph (issue 18 item
 // 13: ASCII drew failed checks and warnings both as !, passes and sets
 // both as +).
@@ -64,7 +65,8 @@ func TestMarkGlyphsHaveOneMeaning(t *testing.T) {
 	for _, ascii := range []bool{false, true} {
 		g := New(nil, true, ascii).G
 		marks := map[string]string{"cursor": g.Cursor, "changed": g.Changed, "watched": g.Watched,
-			"group": g.Group, "pass": g.Pass, "fail": g.Fail, "warn": g.Warn, "set": g.Set}
+			"group": g.Group, "pass": g.Pass, "fail": g.Fail, "warn": g.Warn, "set": g.Set, "differs": g.Differs,
+			"ellipsis": g.Ellipsis}
 		seen := map[string]string{}
 		for s := switchsim.State0; s <= switchsim.StateX; s++ {
 			seen[s.String()] = "state " + s.String()

@@ -68,6 +68,21 @@ func Key(k string) tea.KeyMsg {
 	return tea.KeyMsg{Type: tea.KeyRunes, Runes: []rune(k)}
 }
 
+// Feed gives a panel the keys one by one through its Update (a method
+// expression: Feed(m, Model.Update, "down", "enter")) and returns the
+// panel and the intent of the last key whose command sent one.
+func Feed[M any](m M, update func(M, tea.Msg) (M, tea.Cmd), keys ...string) (M, tea.Msg) {
+	var last tea.Msg
+	for _, k := range keys {
+		var cmd tea.Cmd
+		m, cmd = update(m, Key(k))
+		if msg := Intent(cmd); msg != nil {
+			last = msg
+		}
+	}
+	return m, last
+}
+
 // Intent is the message a panel's command sends (nil for no command).
 func Intent(cmd tea.Cmd) tea.Msg {
 	if cmd == nil {
