@@ -44,9 +44,9 @@ func (m *Model) nextCorner() {
 	m.setSession(ns)
 	differ := m.markDiffers(old, "vs "+diag.Printable(old.CornerName()))
 	tech := ns.Netlist().Tech
-	m.say(fmt.Sprintf("corner %s (vdd %.2f V, vtn %.3f V, vtp %.3f V): %s re-simulated; %s; %s",
-		diag.Printable(ns.CornerName()), tech.Vdd, tech.Vtn, tech.Vtp, plural(ns.Len()-1, "action"),
-		failedWords(m.failedChecks(), wasFailed), differWords(differ, diag.Printable(old.CornerName()))))
+	m.say(fmt.Sprintf("corner %s: %s; %s; vdd %.2f V, vtn %.3f V, vtp %.3f V; %s re-simulated",
+		diag.Printable(ns.CornerName()), failedWords(m.failedChecks(), wasFailed),
+		differWords(differ, diag.Printable(old.CornerName())), tech.Vdd, tech.Vtn, tech.Vtp, plural(ns.Len()-1, "action")))
 }
 
 // failedChecks counts the failed checks of the history in force.

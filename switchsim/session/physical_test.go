@@ -191,3 +191,48 @@ func TestRecornerReplaysTheHistory(t *testing.T) {
 		t.Errorf("an unknown corner: %v", err)
 	}
 }
+
+// A corner survives the other rebuilds (a mode switch, a size tried), and
+// a size tried survives a corner switch: every rebuild starts from the
+// design at its own technology and puts it at the session's corner.
+func TestCornerWithModeAndSize(t *testing.T) {
+	s, err := session.Open("demo:keeper_corner", "", session.Options{Mode: switchsim.Physical})
+	if err != nil {
+		t.Fatal(err)
+	}
+	s.Next()
+	s.Next()
+	slow, err := session.Recorner(s, "slow", nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	ideal, err := session.Remode(slow, switchsim.Ideal, nil)
+	if err != nil || ideal.Corner() != "slow" {
+		t.Fatalf("ideal at slow: %v, corner %q", err, ideal.Corner())
+	}
+	back, err := session.Remode(ideal, switchsim.Physical, nil)
+	if err != nil || back.Corner() != "slow" || back.Netlist().Tech.Vdd != 1.62 || !back.Last().Failed() {
+		t.Fatalf("physical again: %v, corner %q, vdd %v", err, back.Corner(), back.Netlist().Tech.Vdd)
+	}
+	// The keeper's nMOS drawn twice as long at slow: the write of a 1 goes
+	// through (a weaker keeper), and the size stays when going to nominal.
+	kn, ok := back.Netlist().LookupDevice("keep.n")
+	if !ok {
+		t.Fatal("no keep.n")
+	}
+	dv := back.Netlist().Device(kn)
+	sized, err := session.Resize(back, kn, dv.W, 2*dv.L, nil)
+	if err != nil || sized.Corner() != "slow" || sized.Netlist().Tech.Vdd != 1.62 {
+		t.Fatalf("resized at slow: %v, corner %q", err, sized.Corner())
+	}
+	nom, err := session.Recorner(sized, "", nil)
+	if err != nil || nom.Corner() != "" || nom.Netlist().Tech.Vdd != 1.8 || !nom.Edited() {
+		t.Fatalf("to nominal: %v, corner %q, edited %v", err, nom.Corner(), nom.Edited())
+	}
+	if got := nom.Netlist().Device(kn).L; got != 2*dv.L {
+		t.Errorf("keep.n's L at nominal %g, want the size tried %g", got, 2*dv.L)
+	}
+	if got := nom.Original().Netlist.Tech.Vdd; got != 1.8 {
+		t.Errorf("Original at vdd %v, want the design's own 1.8 V", got)
+	}
+}
