@@ -379,6 +379,11 @@ func (m *Model) Update(msg tea.Msg) (tea.Model, tea.Cmd) {
 	return m, nil
 }
 
+// filtering reports whether a list's filter is being typed (it takes every key).
+func (m *Model) filtering() bool {
+	return m.inputs.Filtering() || m.nodes.Filtering() || m.devices.Filtering()
+}
+
 func (m *Model) tooSmall() bool { return m.w < m.opt.MinWidth || m.h < m.opt.MinHeight }
 
 func (m *Model) key(k tea.KeyMsg) tea.Cmd {
@@ -396,6 +401,24 @@ func (m *Model) key(k tea.KeyMsg) tea.Cmd {
 	if m.prompt.Active() {
 		m.prompt, cmd = m.prompt.Update(k)
 		return cmd
+	}
+	// Keys typed faster than the terminal is read (a burst over SSH, a key
+	// held down) arrive as one message of several runes. Outside a text
+	// field each is a command of its own, taken in order: a rune that opens
+	// a prompt or a filter hands the rest to it.
+	if k.Type == tea.KeyRunes && len(k.Runes) > 1 && !k.Paste && !m.filtering() {
+		for i, r := range k.Runes {
+			cmd := m.key(tea.KeyMsg{Type: tea.KeyRunes, Runes: []rune{r}, Alt: k.Alt})
+			if cmd != nil && i+1 < len(k.Runes) {
+				// The key sent an intent: the rest waits until it is taken.
+				rest := tea.KeyMsg{Type: tea.KeyRunes, Runes: k.Runes[i+1:], Alt: k.Alt}
+				return tea.Sequence(cmd, func() tea.Msg { return rest })
+			}
+			if cmd != nil {
+				return cmd
+			}
+		}
+		return nil
 	}
 	if m.showHelp {
 		switch {

@@ -6,6 +6,7 @@ import (
 	"io"
 	"os"
 	"path/filepath"
+	"reflect"
 	"strings"
 	"testing"
 
@@ -67,6 +68,13 @@ func run(m *Model, cmd tea.Cmd) (quit bool) {
 			quit = run(m, c) || quit
 		}
 	default:
+		// tea.Sequence's message is a list of commands run in order.
+		if v := reflect.ValueOf(msg); v.Kind() == reflect.Slice && v.Type().Elem() == reflect.TypeOf(tea.Cmd(nil)) {
+			for i := 0; i < v.Len(); i++ {
+				quit = run(m, v.Index(i).Interface().(tea.Cmd)) || quit
+			}
+			return quit
+		}
 		quit = send(m, msg)
 	}
 	return quit
@@ -480,4 +488,33 @@ func TestNoticeFromTheOwner(t *testing.T) {
 		t.Errorf("header %q lacks the mark (made printable) or the banner", h)
 	}
 	checkScreen(t, m.View(), 100, 24)
+}
+
+// TestKeysInOneBurst: keys typed faster than they are read (a burst over
+// SSH, a key held down) reach the model as one message of several runes.
+// Each is a command of its own, in order: "nnn" applies three steps, and
+// "g3" then Enter opens the jump prompt with 3 typed into it.
+func TestKeysInOneBurst(t *testing.T) {
+	s := openFixture(t)
+	m := New(s, 80, 24, Options{})
+	send(m, tea.KeyMsg{Type: tea.KeyRunes, Runes: []rune("nnn")})
+	if s.NextStep() != 3 {
+		t.Fatalf("after a burst of three n the next step is %d, want 3", s.NextStep())
+	}
+	send(m, tea.KeyMsg{Type: tea.KeyRunes, Runes: []rune("pp")})
+	if s.NextStep() != 1 {
+		t.Fatalf("after a burst of two p the next step is %d, want 1", s.NextStep())
+	}
+	send(m, tea.KeyMsg{Type: tea.KeyRunes, Runes: []rune("g4")})
+	press(m, "enter")
+	if s.NextStep() != 4 {
+		t.Fatalf("after g4 enter in one burst the next step is %d, want 4", s.NextStep())
+	}
+	// A filter being typed takes the burst as text.
+	press(m, "tab") // focus Nodes
+	send(m, tea.KeyMsg{Type: tea.KeyRunes, Runes: []rune("/")})
+	send(m, tea.KeyMsg{Type: tea.KeyRunes, Runes: []rune("nn")})
+	if s.NextStep() != 4 {
+		t.Fatalf("n typed into a filter applied a step: next step %d", s.NextStep())
+	}
 }
