@@ -19,7 +19,7 @@ func extractedChain(n int) []byte {
 		if i == n-1 {
 			next = "out"
 		}
-		fmt.Fprintf(&b, "X%d %s %s vss vss sky_nfet w=420000u l=150000u\nX%d_p %s %s vdd vdd sky_pfet w=840000u l=150000u\nC%d %s vss 0.8fF\n",
+		fmt.Fprintf(&b, "X%d %s %s vss vss kit_nfet w=420000u l=150000u\nX%d_p %s %s vdd vdd kit_pfet w=840000u l=150000u\nC%d %s vss 0.8fF\n",
 			i, next, prev, i, next, prev, i, next)
 		prev = next
 	}

@@ -26,17 +26,17 @@ func extractedSelector(scaleCard string, w, wp, l string, caps int) string {
 		fmt.Fprintf(&b, "X%d %s %s %s %s %s w=%s l=%s\n+ ad=1.092e+11p pd=1.36e+06u as=1.092e+11p ps=1.36e+06u\n", i, d, g, s, bulk, model, wd, l)
 	}
 	// sel inverter
-	dev(0, "a_27_47#", "SEL", "VGND", "VNB", "sky130_fd_pr__nfet_01v8", w)
-	dev(1, "a_27_47#", "SEL", "VPWR", "VPB", "sky130_fd_pr__pfet_01v8_hvt", wp)
+	dev(0, "a_27_47#", "SEL", "VGND", "VNB", "cellkit_pr__nfet_01v8", w)
+	dev(1, "a_27_47#", "SEL", "VPWR", "VPB", "cellkit_pr__pfet_01v8_hvt", wp)
 	// the register leg: on while SEL=0
-	dev(2, "REG", "a_27_47#", "a_193_47#", "VNB", "sky130_fd_pr__nfet_01v8", w)
-	dev(3, "REG", "SEL", "a_193_47#", "VPB", "sky130_fd_pr__pfet_01v8_hvt", wp)
+	dev(2, "REG", "a_27_47#", "a_193_47#", "VNB", "cellkit_pr__nfet_01v8", w)
+	dev(3, "REG", "SEL", "a_193_47#", "VPB", "cellkit_pr__pfet_01v8_hvt", wp)
 	// the immediate leg: on while SEL=1
-	dev(4, "IMM", "SEL", "a_193_47#", "VNB", "sky130_fd_pr__nfet_01v8", w)
-	dev(5, "IMM", "a_27_47#", "a_193_47#", "VPB", "sky130_fd_pr__pfet_01v8_hvt", wp)
+	dev(4, "IMM", "SEL", "a_193_47#", "VNB", "cellkit_pr__nfet_01v8", w)
+	dev(5, "IMM", "a_27_47#", "a_193_47#", "VPB", "cellkit_pr__pfet_01v8_hvt", wp)
 	// output buffer
-	dev(6, "OPND", "a_193_47#", "VGND", "VNB", "sky130_fd_pr__nfet_01v8", w)
-	dev(7, "OPND", "a_193_47#", "VPWR", "VPB", "sky130_fd_pr__pfet_01v8_hvt", wp)
+	dev(6, "OPND", "a_193_47#", "VGND", "VNB", "cellkit_pr__nfet_01v8", w)
+	dev(7, "OPND", "a_193_47#", "VPWR", "VPB", "cellkit_pr__pfet_01v8_hvt", wp)
 	nodes := []string{"a_27_47#", "a_193_47#", "OPND", "SEL", "REG", "IMM"}
 	for i := 0; i < caps; i++ {
 		a := nodes[i%len(nodes)]

@@ -298,7 +298,7 @@ mp y a vdd vdd pch
 // subcircuits with four nodes and a typed name are transistors.
 func TestModelTyping(t *testing.T) {
 	src := `.subckt c a y
-m1 y a 0 0 sky_nfet_01v8 w=1u l=0.15u
+m1 y a 0 0 kit_nfet_01v8 w=1u l=0.15u
 m2 y a vdd vdd pfetlvt w=1u l=0.15u
 xm3 y a 0 0 nch_mac w=1u l=0.15u
 xm4 y a vdd vdd lvtp_core w=2u l=0.15u
@@ -319,7 +319,7 @@ m5 y a 0 0 n18
 		t.Errorf("xm4 (drain gate source bulk): %+v", dv)
 	}
 	n := notes(d)
-	for _, want := range []string{"sky_nfet_01v8 has no .model card: typed nMOS by its name", "lvtp_core has no .model card: typed pMOS by --pmos-models", "n18 has no .model card: typed nMOS by its first letter"} {
+	for _, want := range []string{"kit_nfet_01v8 has no .model card: typed nMOS by its name", "lvtp_core has no .model card: typed pMOS by --pmos-models", "n18 has no .model card: typed nMOS by its first letter"} {
 		if !strings.Contains(n, want) {
 			t.Errorf("notes lack %q:\n%s", want, n)
 		}
