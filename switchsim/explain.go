@@ -6,7 +6,7 @@ import (
 	"slices"
 )
 
-// Explanation says why a node holds its state (MODEL.md §6).
+// Explanation says why a node holds its state (switchsim §6).
 type Explanation struct {
 	Node int
 	NodeState
@@ -66,7 +66,7 @@ type Divider struct {
 	Amps                 float64 // the current through the node
 }
 
-// LostLevel says why a node is X by the one rule of levels (MODEL.md §4):
+// LostLevel says why a node is X by the one rule of levels (switchsim §4):
 // the value whose level was lost, where the level fell against the band
 // and what a stage reading it sees.
 type LostLevel struct {

@@ -60,7 +60,7 @@ func join(names []string) string {
 }
 
 // Technology values out of their physical ranges are refused by the design
-// reader with a position (FORMAT.md), naming the key.
+// reader with a position (switchsim/FORMATS.md), naming the key.
 func TestTechRangesThroughReader(t *testing.T) {
 	for _, c := range []struct{ opt, key string }{
 		{"kn=1e-320", "kn"}, {"vdd=1e308", "vdd"}, {"vdd=0.8", "vdd"}, {"cnode=5k", "cnode"}, {"w=0", ""},

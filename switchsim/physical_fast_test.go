@@ -270,7 +270,7 @@ func TestPhysFastPathDemos(t *testing.T) {
 // A lone floating node that shared charge earlier in the same settle keeps
 // its charge-sharing report (physCharge): a one-round pulse on the gate of
 // the device between two stored nodes joins them, then leaves each alone.
-// The pulse is x AND NOT x, the NOT one round late (unit delay, MODEL.md §5).
+// The pulse is x AND NOT x, the NOT one round late (unit delay, switchsim §5).
 func TestPhysFastPathSharedPulse(t *testing.T) {
 	b := sw.NewBuilder()
 	for _, in := range []string{"x", "pre", "dis"} {

@@ -603,7 +603,7 @@ func TestPhysPartialOn(t *testing.T) {
 }
 
 func TestPhysIdealUntouched(t *testing.T) {
-	// In ideal mode (--ideal, MODEL.md §2-§3) there are no voltages, no delay
+	// In ideal mode (--ideal, switchsim §2-§3) there are no voltages, no delay
 	// estimates and no physical warnings; a passed 1 is a strong 1.
 	b := NewBuilder()
 	b.Input("in")
@@ -722,7 +722,7 @@ func TestPhysUnknownDeviceKeepsX(t *testing.T) {
 }
 
 func TestPhysRingStillOscillates(t *testing.T) {
-	// The round limit works the same in physical mode (MODEL.md §5).
+	// The round limit works the same in physical mode (switchsim §5).
 	b := gatedRing()
 	s := phSim(t, b, Physical)
 	if r := phApply(t, s, map[string]Drive{"en": Drive0}); r.Oscillated {

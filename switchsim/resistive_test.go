@@ -92,7 +92,7 @@ func reductionNet(t *testing.T, src sw.Strength, resistive bool) *sw.Sim {
 func TestResistiveReductionThroughEngine(t *testing.T) {
 	for _, r := range reductionRows {
 		if r.in == sw.HighZ {
-			continue // no node carries highz: every node stores charge (MODEL.md §1)
+			continue // no node carries highz: every node stores charge (switchsim §1)
 		}
 		s := reductionNet(t, r.in, true)
 		got := foundNode(s, "b")

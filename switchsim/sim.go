@@ -2,7 +2,7 @@ package switchsim
 
 import "math"
 
-// Mode chooses the model: Physical (MODEL.md §2-§4, the default) or Ideal (§2-§3 alone).
+// Mode chooses the model: Physical (switchsim §2-§4, the default) or Ideal (§2-§3 alone).
 type Mode uint8
 
 const (

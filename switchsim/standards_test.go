@@ -148,7 +148,7 @@ func TestStdSupplyThroughSwitchBecomesStrong(t *testing.T) {
 		}
 	}
 	// The rails and a driven input are supply themselves (IEEE 1364-2005
-	// §7: supply0/supply1 nets have supply strength; MODEL.md §2 drives
+	// §7: supply0/supply1 nets have supply strength; switchsim §2 drives
 	// inputs at supply).
 	wantNode(t, s, "vdd", sw.V1, sw.Supply, sw.State1, "IEEE 1364-2005 §7: supply1")
 	wantNode(t, s, "gnd", sw.V0, sw.Supply, sw.State0, "IEEE 1364-2005 §7: supply0")
@@ -415,7 +415,7 @@ func TestStdStaticLatchHolds(t *testing.T) {
 		if got.Value != c.v || got.Floating {
 			t.Errorf("after writing %s and closing: s = %s, want %s held by the keeper, not floating (common practice)", c.d, stateString(got), c.v)
 		}
-		if got.State != c.hold { // MODEL.md §2: driven only at weak strength is L/H
+		if got.State != c.hold { // switchsim §2: driven only at weak strength is L/H
 			t.Errorf("after writing %s and closing: s = %s, want %s (the keeper is weak)", c.d, got.State, c.hold)
 		}
 		if got := foundNode(s, "sb").State; got != c.sb {

@@ -96,7 +96,7 @@ func (t *Tech) Get(key string) (float64, bool) {
 }
 
 // TechError is a technology value out of its range. Key names the
-// technology key at fault (the design format's, FORMAT.md), so that a
+// technology key at fault (the design format's, switchsim/FORMATS.md), so that a
 // reader can report the error at that key's position.
 type TechError struct {
 	Key string

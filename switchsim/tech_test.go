@@ -169,7 +169,7 @@ func TestSkewedInverterThresholds(t *testing.T) {
 func TestThresholdOverrides(t *testing.T) {
 	tc := Generic()
 	vil0, vih0, _ := tc.Thresholds()
-	tc.VIL = 0.5 // an override in the design wins (FORMAT.md: vil=, vih=)
+	tc.VIL = 0.5 // an override in the design wins (switchsim/FORMATS.md: vil=, vih=)
 	vil, vih, _ := tc.Thresholds()
 	if vil != 0.5 || vih != vih0 {
 		t.Errorf("vil=0.5: got %g %g, want 0.5 %g", vil, vih, vih0)

@@ -38,7 +38,7 @@ var commands = []command{
 	{"serve", "serve the explorer over SSH", cmdServe},
 }
 
-// Exit codes (FORMAT.md).
+// Exit codes (switchsim/FORMATS.md).
 const (
 	exitOK    = 0
 	exitFail  = 1

@@ -57,7 +57,7 @@ func TestGoldenTextReports(t *testing.T) {
 		{"run_opsel_wrong_ideal", []string{"run", "testdata/opsel.sw", "--steps", "testdata/opsel_wrong.steps", "--ideal"}, 1},
 		// The held rows keep st by charge (Z, held-by-charge warnings).
 		{"run_plat_ideal", []string{"run", "testdata/plat.sw", "--ideal"}, 0},
-		// FORMAT.md --full-swing: a 1 check also needs state 1, and st is Z
+		// switchsim/FORMATS.md --full-swing: a 1 check also needs state 1, and st is Z
 		// while held, so row 2 fails.
 		{"run_plat_ideal_fullswing", []string{"run", "--full-swing", "testdata/plat.sw", "--ideal"}, 1},
 		// No steps: the report is the initial settle, exit 0.
@@ -194,7 +194,7 @@ func TestBadDesignWritesNothing(t *testing.T) {
 	if out != "" {
 		t.Errorf("stdout not empty:\n%s", out)
 	}
-	// broken.sw has three faults, on lines 3, 4 and 5 (FORMAT.md: every
+	// broken.sw has three faults, on lines 3, 4 and 5 (switchsim/FORMATS.md: every
 	// error is reported, each as FILE:LINE:COL: message).
 	lines := strings.Split(strings.TrimSpace(errOut), "\n")
 	if len(lines) != 3 {
@@ -214,7 +214,7 @@ func TestBadStepsWritesNothing(t *testing.T) {
 	dir := t.TempDir()
 	steps := filepath.Join(dir, "bad.steps")
 	// line 3: y is no input (an apply column must be one); line 4: a row
-	// with too few values (FORMAT.md steps errors).
+	// with too few values (switchsim/FORMATS.md steps errors).
 	os.WriteFile(steps, []byte("apply sel a b\ncheck y\n0 1 0 | 1\n0 1 | 1\n"), 0o644)
 	os.WriteFile(filepath.Join(dir, "bad2.steps"), []byte("apply sel y\n"), 0o644)
 	tr, vcd := filepath.Join(dir, "out.trace"), filepath.Join(dir, "out.vcd")
@@ -381,7 +381,7 @@ func TestVCDFlag(t *testing.T) {
 func TestBareNotATerminal(t *testing.T) {
 	code, out, errOut := call()
 	if code != 0 {
-		t.Errorf("exit %d, want 0 (FORMAT.md: not on a terminal, the demo's batch report)", code)
+		t.Errorf("exit %d, want 0 (switchsim/FORMATS.md: not on a terminal, the demo's batch report)", code)
 	}
 	if !strings.HasPrefix(out, "design "+designs.Default+" ") || !strings.Contains(out, "\nsummary: ") {
 		t.Errorf("not the demo's batch report:\n%s%s", out, errOut)

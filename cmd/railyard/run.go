@@ -68,7 +68,7 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 	fs := newFlags("run", runUsage)
 	var o runOptions
 	fs.StringVar(&o.steps, "steps", "", "the steps `FILE` (default: DESIGN's same-named .steps file)")
-	fs.BoolVar(&o.json, "json", false, "print JSON lines (FORMAT.md) instead of the text report")
+	fs.BoolVar(&o.json, "json", false, "print JSON lines (switchsim/FORMATS.md) instead of the text report")
 	fs.BoolVar(&o.ideal, "ideal", false, "ideal mode: strengths only, no voltage estimates")
 	fs.BoolVar(&o.fullSwing, "full-swing", false, "0 and 1 checks also require the strong full-level states")
 	fs.StringVar(&o.trace, "trace", "", "save the session trace to `FILE` (for railyard replay)")
@@ -234,7 +234,7 @@ func checkOutputs(files *load.Loader, design string, o runOptions) (outputKeep, 
 }
 
 // batchDefault is bare `railyard` off a terminal: the demo's batch report,
-// exit 0 whatever its checks say (FORMAT.md).
+// exit 0 whatever its checks say (switchsim/FORMATS.md).
 func batchDefault(stdout, stderr io.Writer) int {
 	if code := runDesign(load.DemoPrefix+designs.Default, runOptions{}, stdout, stderr); code == exitUsage {
 		return code

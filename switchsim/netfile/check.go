@@ -173,7 +173,7 @@ func (c *checker) where(line, col int) string {
 }
 
 // isName reports whether s is a name: a letter or _ first, then letters,
-// digits, _ . [ ] (FORMAT.md).
+// digits, _ . [ ] (switchsim/FORMATS.md).
 func isName(s string) bool {
 	if s == "" {
 		return false

@@ -124,7 +124,7 @@ func TestDemoStepsPhysical(t *testing.T) {
 }
 
 // mux2_pass's degraded high is the nMOS threshold drop with the body effect
-// (MODEL.md §4, closed form): with u = sqrt(phi + Vout),
+// (switchsim §4, closed form): with u = sqrt(phi + Vout),
 // u^2 + gamma u - (Vg - Vt0 + gamma sqrt(phi) + phi) = 0, Vg = vdd.
 func TestDemoDegradedHigh(t *testing.T) {
 	d, _ := loadDemo(t, "mux2_pass")

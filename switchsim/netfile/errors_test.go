@@ -44,7 +44,7 @@ func wantErrors(t *testing.T, src string, lim *netfile.Limits, wants ...string) 
 	return list
 }
 
-// The bad inputs FORMAT.md lists, and the reader's own, each with the
+// The bad inputs switchsim/FORMATS.md lists, and the reader's own, each with the
 // position of the word at fault.
 func TestErrorPositions(t *testing.T) {
 	cases := []struct {

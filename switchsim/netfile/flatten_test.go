@@ -8,7 +8,7 @@ import (
 
 // Cells flatten with hierarchical names: inner nodes and devices are
 // prefixed by the instance path, ports become the connected nodes, rails
-// stay global (FORMAT.md).
+// stay global (switchsim/FORMATS.md).
 func TestFlattenNames(t *testing.T) {
 	d := mustRead(t, `
 input a
@@ -74,7 +74,7 @@ func TestStrengthCapKeepsWeaker(t *testing.T) {
 }
 
 // Sizes, capacitances, charge classes and technology keys arrive in the
-// netlist with their SI prefixes applied (FORMAT.md: 10f is 10 fF,
+// netlist with their SI prefixes applied (switchsim/FORMATS.md: 10f is 10 fF,
 // 0.18u is 0.18 um).
 func TestValuesReachNetlist(t *testing.T) {
 	d := mustRead(t, `design v "values"

@@ -108,7 +108,7 @@ func TestLibraryTinv(t *testing.T) {
 	}
 }
 
-// The library parses, holds at least the four cells FORMAT.md names with
+// The library parses, holds at least the four cells switchsim/FORMATS.md names with
 // the ports it names.
 func TestLibraryCells(t *testing.T) {
 	cells := netfile.LibraryCells()

@@ -7,7 +7,7 @@ import (
 	"strings"
 )
 
-// SI prefixes a number may end with (FORMAT.md): m is milli, M is mega.
+// SI prefixes a number may end with (switchsim/FORMATS.md): m is milli, M is mega.
 var siPrefix = map[byte]int{'f': -15, 'p': -12, 'n': -9, 'u': -6, 'm': -3, 'k': 3, 'M': 6, 'G': 9}
 
 var errNumber = errors.New("bad number")

@@ -1,5 +1,5 @@
 // Package netfile reads and writes railyard's transistor-level design files
-// (the .sw format of FORMAT.md) and holds the built-in cell library.
+// (the .sw format of switchsim/FORMATS.md) and holds the built-in cell library.
 //
 // Reading goes in the stages of the standard library's regexp: the scanner
 // splits lines into words with positions, the parser groups them into a

@@ -152,7 +152,7 @@ func TestWriteCanonical(t *testing.T) {
 	}
 }
 
-// Numbers: SI prefixes scale by powers of ten (FORMAT.md); the conversion
+// Numbers: SI prefixes scale by powers of ten (switchsim/FORMATS.md); the conversion
 // is done on the decimal text, so 0.18u is the same float64 as 0.18e-6.
 func TestParseNumber(t *testing.T) {
 	good := map[string]float64{

@@ -282,7 +282,7 @@ use nand2 g3 p q y
 `
 
 func TestKindsThatFail(t *testing.T) {
-	// FORMAT.md's check contract: these fail, the rest are for reading.
+	// switchsim/FORMATS.md's check contract: these fail, the rest are for reading.
 	fail := map[Kind]bool{Conflict: true, LevelLost: true, FloatingOutput: true, Race: true, Glitch: true, WriteFail: true, Short: true}
 	for _, k := range []Kind{Conflict, LevelLost, FloatingOutput, Race, Glitch, WriteFail, Short, Oscillation, Hazard, Contention, DegradedOutput} {
 		if k.Failing() != fail[k] {

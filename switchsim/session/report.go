@@ -54,7 +54,7 @@ func (m *Summary) add(e *Event) {
 type Thresholds struct{ VIL, VIH, VM float64 }
 
 // TechThresholds returns the thresholds physical mode decides values by
-// (MODEL.md §4): the reference inverter's, or the design's vil/vih overrides.
+// (switchsim §4): the reference inverter's, or the design's vil/vih overrides.
 func TechThresholds(t switchsim.Tech) Thresholds {
 	vil, vih, vm := t.Thresholds()
 	return Thresholds{vil, vih, vm}

@@ -14,7 +14,7 @@ import (
 	"railyard/switchsim/session"
 )
 
-// The JSON lines of `run --json`, checked field by field against FORMAT.md.
+// The JSON lines of `run --json`, checked field by field against switchsim/FORMATS.md.
 
 func jsonLines(t *testing.T, s *session.Session) []map[string]any {
 	t.Helper()
@@ -46,7 +46,7 @@ func isString(v any) bool { _, ok := v.(string); return ok }
 func isNumber(v any) bool { _, ok := v.(float64); return ok }
 func isBool(v any) bool   { _, ok := v.(bool); return ok }
 
-// FORMAT.md: state one of 0 1 L H Z X, value one of 0 1 X, strength an
+// switchsim/FORMATS.md: state one of 0 1 L H Z X, value one of 0 1 X, strength an
 // IEEE 1364 name (§7), and these warning kinds at least.
 var (
 	states       = "0 1 L H Z X"
@@ -91,7 +91,7 @@ func checkSchema(t *testing.T, s *session.Session, lines []map[string]any) {
 			t.Errorf("tech.%s is %v, want a number or null", k, v)
 		}
 	}
-	// MODEL.md §4: 0 < VIL < VM < VIH < vdd for a working reference inverter.
+	// switchsim §4: 0 < VIL < VM < VIH < vdd for a working reference inverter.
 	if vil, ok := tech["vil"].(float64); ok {
 		vih, vm, vdd := tech["vih"].(float64), tech["vm"].(float64), tech["vdd"].(float64)
 		if !(0 < vil && vil < vm && vm < vih && vih < vdd) {
@@ -155,7 +155,7 @@ func checkSchema(t *testing.T, s *session.Session, lines []map[string]any) {
 			ns, ok := v.(map[string]any)
 			want := "floating state strength value volts"
 			if s.Options().Mode == switchsim.Physical {
-				// FORMAT.md: in physical mode each node also has its margin;
+				// switchsim/FORMATS.md: in physical mode each node also has its margin;
 				// a node of a fight that drives a stage its write margin too.
 				want = "floating margin state strength value volts"
 				if _, fight := ns["write_margin"]; fight {
@@ -176,9 +176,9 @@ func checkSchema(t *testing.T, s *session.Session, lines []map[string]any) {
 				t.Errorf("node %s volts %v, want a number or null", name, ns["volts"])
 			}
 			if s.Options().Mode == switchsim.Ideal && ns["volts"] != nil {
-				t.Errorf("node %s has volts %v in ideal mode (FORMAT.md: null)", name, ns["volts"])
+				t.Errorf("node %s has volts %v in ideal mode (switchsim/FORMATS.md: null)", name, ns["volts"])
 			}
-			// A floating node is state Z (MODEL.md §2).
+			// A floating node is state Z (switchsim §2).
 			if ns["floating"] == true && ns["state"] != "Z" {
 				t.Errorf("node %s floating but state %v", name, ns["state"])
 			}
@@ -254,7 +254,7 @@ func TestJSONStepValues(t *testing.T) {
 	if len(lines) != 6 {
 		t.Fatalf("%d lines, want header + 4 steps + summary", len(lines))
 	}
-	// Row 2 of plat.steps: clk=0 d=1, st keeps its 1 as charge (FORMAT.md:
+	// Row 2 of plat.steps: clk=0 d=1, st keeps its 1 as charge (switchsim/FORMATS.md:
 	// a stored value counts for a 1 check) and q stays 0.
 	st := lines[2]
 	if st["step"] != 2.0 || st["label"] != "hold: st keeps its charge (d steady: with clk, a change would race)" {
@@ -265,7 +265,7 @@ func TestJSONStepValues(t *testing.T) {
 	}
 	node := st["nodes"].(map[string]any)["st"].(map[string]any)
 	// ideal mode, a floating node of the default charge class medium
-	// (FORMAT.md node charge default; IEEE 1364-2005 §7 charge strengths)
+	// (switchsim/FORMATS.md node charge default; IEEE 1364-2005 §7 charge strengths)
 	if node["state"] != "Z" || node["value"] != "1" || node["strength"] != "medium" || node["floating"] != true || node["volts"] != nil {
 		t.Errorf("st = %v, want floating Z holding 1 at medium, volts null", node)
 	}
@@ -284,7 +284,7 @@ func TestJSONPhysicalVolts(t *testing.T) {
 	lines := jsonLines(t, s)
 	st := lines[1]["nodes"].(map[string]any)["st"].(map[string]any)
 	v, ok := st["volts"].(float64)
-	// MODEL.md §4: an nMOS with its gate at vdd passes a 1 only up to
+	// switchsim §4: an nMOS with its gate at vdd passes a 1 only up to
 	// vdd - Vt(Vout), and with the body effect Vt > Vtn: below 1.8 - 0.45.
 	if !ok || v >= 1.8-0.45 || v < 0.9 {
 		t.Errorf("st volts %v, want a degraded level below vdd - vtn = 1.35 V", st["volts"])
@@ -295,7 +295,7 @@ func TestJSONPhysicalVolts(t *testing.T) {
 }
 
 func TestSummarizeSkipsDontCare(t *testing.T) {
-	// "-" checks nothing (FORMAT.md), so it is neither counted nor listed.
+	// "-" checks nothing (switchsim/FORMATS.md), so it is neither counted nor listed.
 	s, err := session.Open("testdata/opsel.sw", "testdata/opsel_dash.steps", session.Options{Mode: switchsim.Ideal})
 	if err != nil {
 		t.Fatal(err)

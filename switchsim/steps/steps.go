@@ -1,4 +1,4 @@
-// Package steps reads railyard's .steps files (FORMAT.md): the inputs each
+// Package steps reads railyard's .steps files (switchsim/FORMATS.md): the inputs each
 // step applies, the nodes checked after it settles, and what each check
 // wants. It also holds the check semantics, Want.Check, shared by the batch
 // run, the explorer and replay.
@@ -51,7 +51,7 @@ func upper(c byte) byte {
 	return c
 }
 
-// Check reports whether a node's state satisfies the want (FORMAT.md):
+// Check reports whether a node's state satisfies the want (switchsim/FORMATS.md):
 // 0, 1 and X compare the logic value, so a floating node holding 1 by
 // charge passes 1; with fullSwing, 0 and 1 also require the strong,
 // full-level states 0 and 1. Z requires a floating node; L and H require

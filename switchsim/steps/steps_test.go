@@ -11,7 +11,7 @@ import (
 	"railyard/switchsim/steps"
 )
 
-// FORMAT.md's check semantics: 0 1 X compare the logic value, a stored
+// switchsim/FORMATS.md's check semantics: 0 1 X compare the logic value, a stored
 // value counting; full swing also wants states 0/1; Z wants a floating
 // node; L H want the weak-or-degraded states; - passes always.
 func TestWantCheck(t *testing.T) {
@@ -132,7 +132,7 @@ func TestReadNoChecks(t *testing.T) {
 	}
 }
 
-// Every error of FORMAT.md's steps list, and the reader's own, at the
+// Every error of switchsim/FORMATS.md's steps list, and the reader's own, at the
 // position of the word at fault (counted by hand).
 func TestReadErrors(t *testing.T) {
 	cases := []struct{ name, src, want string }{
