@@ -759,3 +759,48 @@ func TestCountsAgainstReference(t *testing.T) {
 		}
 	}
 }
+
+// A device across the rails whose gate nothing drives is a short from the
+// first settle on, in every state, whatever the inputs do (issue 17 item 8:
+// findings come from every settled state, the first included); the engine
+// reports it only on the settle that solved its gate, so the search must
+// hand it on. The same device between a rail and a node that an inverter
+// drives is no short: the node is not a source.
+func TestShortFromTheFirstSettleHoldsInEveryState(t *testing.T) {
+	across := design(t, "undriven-across", `design undriven_across
+input a
+output y
+node g
+nmos across g vdd gnd
+use inv i a y
+`)
+	for _, mode := range []switchsim.Mode{switchsim.Ideal, switchsim.Physical} {
+		r := explore(t, across, Options{Mode: mode})
+		f := find(r, across, Short, "")
+		if f == nil {
+			t.Fatalf("%s: no short from a device across the rails with an undriven gate:%s", mode, describe(r, across))
+		}
+		if f.States != r.States || f.Moves != 0 {
+			t.Errorf("%s: short in %d of %d states, shortest sequence %d moves: want every state, from the start", mode, f.States, r.States, f.Moves)
+		}
+		if !f.Failing() {
+			t.Errorf("%s: a short does not fail the check", mode)
+		}
+	}
+	// The input that gates it turns it on and off: a short in half the states.
+	gated := design(t, "gated-across", shortSrc)
+	r := explore(t, gated, Options{Mode: switchsim.Ideal})
+	if f := find(r, gated, Short, ""); f == nil || f.States*2 != r.States || f.Moves != 1 {
+		t.Errorf("gated short: %+v in %d states: want half the states, one move away:%s", f, r.States, describe(r, gated))
+	}
+	inside := design(t, "undriven-inside", `design undriven_inside
+input a
+output y
+node g
+nmos leak g y gnd
+use inv i a y
+`)
+	if f := find(explore(t, inside, Options{Mode: switchsim.Ideal}), inside, Short, ""); f != nil {
+		t.Errorf("a device from a driven node to ground called a short: %s", f.Message)
+	}
+}

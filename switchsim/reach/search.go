@@ -306,7 +306,7 @@ func (s *search) verify() {
 func keep(cc []cond) []cond {
 	var out []cond
 	for _, c := range cc {
-		if carried(c.kind) {
+		if carried(c.kind) || c.kind == Short { // a short is checked again by shortHolds
 			out = append(out, c)
 		}
 	}
@@ -453,6 +453,8 @@ func (s *search) carry(before []cond, r *switchsim.Result, mv []Set, judge bool)
 	for _, c := range before {
 		if n := c.w.Node; carried(c.kind) && n >= 0 && n < len(s.fresh) && s.changed[n] != s.stamp && s.fresh[n] != s.stamp {
 			out = append(out, c)
+		} else if c.kind == Short && s.shortHolds(c.w) {
+			out = append(out, c)
 		}
 	}
 	s.conds = out
@@ -462,10 +464,27 @@ func (s *search) carry(before []cond, r *switchsim.Result, mv []Set, judge bool)
 	return out
 }
 
+// shortHolds reports whether a short of the state before still holds in
+// the simulator's present state (its device not off, its terminals at two
+// different values). The engine reports a short only on a settle that
+// changed the device's gate or terminals, so one that a settle left alone
+// (a device whose gate nothing drives, across the rails from the first
+// settle on) is handed on.
+func (s *search) shortHolds(w switchsim.Warning) bool {
+	if w.Device < 0 || w.Device >= s.nl.NumDevices() || (w.Node >= 0 && w.Node < len(s.fresh) && s.fresh[w.Node] == s.stamp) {
+		return false // not a device's, or reported again by this settle
+	}
+	d := s.nl.Device(w.Device)
+	if s.sim.Conduction(w.Device) == switchsim.Off || d.A < 0 || d.B < 0 {
+		return false
+	}
+	a, b := s.sim.Node(d.A).Value, s.sim.Node(d.B).Value
+	return a != switchsim.VX && b != switchsim.VX && a != b
+}
+
 // carried reports the conditions a state hands on to the next on the nodes
 // a settle leaves alone. What a step did (a race, a glitch, an oscillation)
-// is not handed on; nor is a short, whose terminals are sources that no
-// settle changes: the engine reports it on every settle it holds in.
+// is not handed on; a short is handed on by shortHolds, by its device.
 func carried(k Kind) bool {
 	switch k {
 	case Conflict, LevelLost, Contention, WriteFail:
