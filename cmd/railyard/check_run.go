@@ -196,10 +196,10 @@ func runCheck(files *load.Loader, j *checkJob, o checkOptions, progress func(rea
 	for _, f := range lint.Check(nl) {
 		fr := findingResult{Kind: string(f.Kind), Check: "static", Failing: f.Failing(), Message: f.Message}
 		if f.Node >= 0 {
-			fr.Node = nl.NodeName(f.Node)
+			fr.Node = nl.DisplayName(f.Node)
 		}
 		if f.Device >= 0 {
-			fr.Device = nl.Device(f.Device).Name
+			fr.Device = nl.DeviceDisplayName(f.Device)
 		}
 		r.Static = append(r.Static, fr)
 	}
@@ -219,11 +219,11 @@ func runCheck(files *load.Loader, j *checkJob, o checkOptions, progress func(rea
 		}
 		if rep.MarginNode >= 0 {
 			m := rep.Margin
-			r.Margin, r.MarginNode = &m, nl.NodeName(rep.MarginNode)
+			r.Margin, r.MarginNode = &m, nl.DisplayName(rep.MarginNode)
 			for _, row := range rep.MarginSteps {
 				var rr seqRow
 				for _, s := range row {
-					rr = append(rr, seqSet{nl.NodeName(s.Input), s.Drive.String()})
+					rr = append(rr, seqSet{nl.DisplayName(s.Input), s.Drive.String()})
 				}
 				r.MarginSequence = append(r.MarginSequence, rr)
 			}
@@ -232,18 +232,18 @@ func runCheck(files *load.Loader, j *checkJob, o checkOptions, progress func(rea
 			fr := findingResult{Kind: string(f.Kind), Check: "exhaustive", Failing: f.Failing(), Message: f.Message,
 				States: f.States, Transitions: f.Transitions, Moves: f.Moves}
 			if f.Node >= 0 {
-				fr.Node = nl.NodeName(f.Node)
+				fr.Node = nl.DisplayName(f.Node)
 				if k := nl.NodeKind(f.Node); k != switchsim.Power && k != switchsim.Ground {
 					fr.Want = f.Got.State.String()
 				}
 			}
 			if f.Device >= 0 {
-				fr.Device = nl.Device(f.Device).Name
+				fr.Device = nl.DeviceDisplayName(f.Device)
 			}
 			for _, row := range f.Steps {
 				var rr seqRow
 				for _, s := range row {
-					rr = append(rr, seqSet{nl.NodeName(s.Input), s.Drive.String()})
+					rr = append(rr, seqSet{nl.DisplayName(s.Input), s.Drive.String()})
 				}
 				fr.Sequence = append(fr.Sequence, rr)
 			}
@@ -257,7 +257,7 @@ func runCheck(files *load.Loader, j *checkJob, o checkOptions, progress func(rea
 func names(nl *switchsim.Netlist, ns []int) []string {
 	out := make([]string, len(ns))
 	for i, n := range ns {
-		out[i] = nl.NodeName(n)
+		out[i] = nl.DisplayName(n)
 	}
 	return out
 }

@@ -167,7 +167,7 @@ func newCornerTable(w io.Writer, runs []*session.Session) *cornerTable {
 	s := runs[0]
 	if st := s.Steps(); st != nil {
 		for _, n := range st.Check {
-			t.checkW = max(t.checkW, len("99 ")+len(diag.Printable(s.Netlist().NodeName(n)))+len(" want X"))
+			t.checkW = max(t.checkW, len("99 ")+len(diag.Printable(s.Netlist().DisplayName(n)))+len(" want X"))
 		}
 	}
 	t.checkW = min(t.checkW, 40)
@@ -223,7 +223,7 @@ func (t *cornerTable) row(evs []*session.Event) {
 			continue
 		}
 		t.checks++
-		label := fmt.Sprintf("%s %s want %s", step, diag.Printable(nl.NodeName(chk.Node)), chk.Want)
+		label := fmt.Sprintf("%s %s want %s", step, diag.Printable(nl.DisplayName(chk.Node)), chk.Want)
 		t.p("%-*s", t.checkW, label)
 		worst := -1
 		for i, e := range evs {

@@ -466,10 +466,10 @@ func (r *Report) eventJSON(e *Event, rd Reader) string {
 
 	var apply jsonObject
 	for _, in := range e.Action.Drives {
-		apply.key(nl.NodeName(in.Node)).str(in.Drive.String())
+		apply.key(nl.DisplayName(in.Node)).str(in.Drive.String())
 	}
 	if e.Action.Kind == Set {
-		apply.key(nl.NodeName(e.Action.Node)).str(e.Action.Drive.String())
+		apply.key(nl.DisplayName(e.Action.Node)).str(e.Action.Drive.String())
 	}
 	o.key("apply").raw(apply.close())
 	o.key("rounds").num(float64(e.Rounds))
@@ -495,7 +495,7 @@ func (r *Report) eventJSON(e *Event, rd Reader) string {
 				ns.key("stage_vm").num(roundVolts(m.StageVM))
 			}
 		}
-		nodes.key(nl.NodeName(n)).raw(ns.close())
+		nodes.key(nl.DisplayName(n)).raw(ns.close())
 	}
 	o.key("nodes").raw(nodes.close())
 
@@ -505,7 +505,7 @@ func (r *Report) eventJSON(e *Event, rd Reader) string {
 			continue
 		}
 		var co jsonObject
-		co.key("node").str(nl.NodeName(c.Node))
+		co.key("node").str(nl.DisplayName(c.Node))
 		co.key("want").str(c.Want.String())
 		co.key("got").str(c.Got.State.String())
 		co.key("pass").boolean(c.Pass)
@@ -526,7 +526,7 @@ func (r *Report) eventJSON(e *Event, rd Reader) string {
 	for _, wr := range e.Warnings {
 		var wo jsonObject
 		wo.key("kind").str(string(wr.Kind))
-		wo.key("node").str(nl.NodeName(wr.Node))
+		wo.key("node").str(nl.DisplayName(wr.Node))
 		wo.key("message").str(wr.Message)
 		warns.add(wo.close())
 	}

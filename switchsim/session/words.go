@@ -12,17 +12,17 @@ func (s *Session) ActionString(a Action) string {
 	nl := s.Netlist()
 	switch a.Kind {
 	case Set:
-		return fmt.Sprintf("set %s=%s", nl.NodeName(a.Node), a.Drive)
+		return fmt.Sprintf("set %s=%s", nl.DisplayName(a.Node), a.Drive)
 	case Step:
 		var b strings.Builder
 		fmt.Fprintf(&b, "step %d %s", a.Step+1, strconv.Quote(a.Label))
 		for _, in := range a.Drives {
-			fmt.Fprintf(&b, " %s=%s", nl.NodeName(in.Node), in.Drive)
+			fmt.Fprintf(&b, " %s=%s", nl.DisplayName(in.Node), in.Drive)
 		}
 		b.WriteString(" |")
 		for c, n := range a.Nodes {
 			if c < len(a.Checks) {
-				fmt.Fprintf(&b, " %s=%s", nl.NodeName(n), a.Checks[c])
+				fmt.Fprintf(&b, " %s=%s", nl.DisplayName(n), a.Checks[c])
 			}
 		}
 		return b.String()
