@@ -148,6 +148,7 @@ type program struct {
 	tooBig        bool            // past the device or name limit (reported): never expanded
 	suspect       map[string]bool // top-level nodes named by a statement left out for an error
 	dropped       bool            // some statement was left out for an error
+	techBad       bool            // the tech statement's values were reported as an error
 	notes         diag.List
 	lim           Limits
 }
@@ -435,6 +436,7 @@ func (c *checker) tech(s *Stmt, p *program) {
 	if c.techKeys(s, &p.tech) {
 		if err := p.tech.Validate(); err != nil {
 			c.errAt(s.Line, s.Col, "%v", err)
+			p.techBad = true
 		}
 	}
 }

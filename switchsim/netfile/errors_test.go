@@ -130,6 +130,20 @@ func TestEveryErrorReported(t *testing.T) {
 	}
 }
 
+// A technology that cannot work is one error at its statement, not a
+// second one without a position from the compile that follows.
+func TestBadTechnologyReportedOnce(t *testing.T) {
+	for _, c := range []struct{ src, want string }{
+		// vdd below vtn + vtp: the reference inverter has no gain (common practice).
+		{"tech generic vdd=0.8\ninput a\nuse inv i a y\n", "1:1: technology: vdd=0.8 V is not above vtn + vtp"},
+		{"tech generic kn=1e-320\ninput a\nuse inv i a y\n", "1:1: technology: kn=1e-320 is outside the physical range"},
+	} {
+		if list := wantErrors(t, c.src, nil, c.want); len(list) != 1 {
+			t.Errorf("%q: %d errors, want 1:\n%v", c.src, len(list), list)
+		}
+	}
+}
+
 func TestLimits(t *testing.T) {
 	t.Run("line length", func(t *testing.T) {
 		lim := netfile.DefaultLimits()

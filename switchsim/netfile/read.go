@@ -151,6 +151,9 @@ func flatten(file string, p *program, errs *diag.Sink) *switchsim.Netlist {
 			return nil
 		}
 		for _, pr := range ce.Problems {
+			if pr.Node == "" && pr.Device == "" && f.p.techBad && strings.HasPrefix(pr.Msg, "technology: ") {
+				continue // reported at the tech statement, with its position
+			}
 			if !f.caused(pr) {
 				errs.Add(f.posOf(pr), "%s", pr.Msg)
 			}
