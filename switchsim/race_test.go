@@ -514,8 +514,9 @@ func TestCaseAnalysisLeavesUnwrittenLatch(t *testing.T) {
 
 // Issue 19: a clock edge whose unit-delay rounds do not settle is decided by
 // race analysis, in bounded rounds, never called an oscillation by the
-// rounds alone. The flip-flop shape of the issue without the stack nodes'
-// charge class: in ideal
+// rounds alone. The flip-flop shape of the issue with the stack nodes
+// given the storage nodes' charge class (charge=medium, against their
+// structural default small, switchsim §1): in ideal
 // mode the stack node between a clocked inverter's enable and data devices
 // keeps charge of the other value at the storage node's class, the
 // unit-delay rounds of a clock edge never settle, and the analysis calls it
@@ -523,7 +524,8 @@ func TestCaseAnalysisLeavesUnwrittenLatch(t *testing.T) {
 // under clock skew), not an oscillation, in bounded rounds. Physical mode
 // weighs the extracted capacitances and gives Q.
 func TestRaceUnannotatedStackNodes(t *testing.T) {
-	src := strings.Replace(mustRead(t, "testdata/gallery/dff_rise_tinv.sw"), "charge=small", "", -1)
+	src := strings.Replace(mustRead(t, "testdata/gallery/dff_rise_tinv.sw"), "output Q\n",
+		"output Q\nnode a_137_47_ a_174_13_ a_211_47_ a_248_13_ a_285_47_ a_322_13_ a_359_47_ a_396_13_ cap=0.4f charge=medium\n", 1)
 	nl := swNet(t, src)
 	s := sw.NewSim(nl, sw.Options{Mode: sw.Ideal})
 	s.Settle()
