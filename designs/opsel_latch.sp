@@ -1,4 +1,5 @@
 operand-select latch: the register or the immediate operand, held for the ALU
+* exhaustive: PASS
 * railyard demo in the card format (a transistor netlist, as a cell library
 * or schematic netlister writes one): a 2:1 transmission-gate selector picks
 * reg (sel=0) or imm (sel=1) onto m; a transmission-gate latch passes m to

@@ -20,7 +20,7 @@ import (
 //   - mux: a 4096:1 transmission-gate tree whose two lowest select lines
 //     change together (a multi-input step: analysed when needed);
 //   - invchain: 10,000 inverters, the input toggled (analysed only when
-//     asked, RacesEveryStep).
+//     asked, RacesEveryStep; glitches: phase A alone, RacesGlitches).
 func BenchmarkRaceAnalysis(b *testing.B) {
 	for _, c := range []struct {
 		name  string
@@ -63,7 +63,7 @@ func BenchmarkRaceAnalysis(b *testing.B) {
 	for _, c := range []struct {
 		name  string
 		races sw.RaceMode
-	}{{"plain", sw.RacesOff}, {"analysed", sw.RacesEveryStep}} {
+	}{{"plain", sw.RacesOff}, {"glitches", sw.RacesGlitches}, {"analysed", sw.RacesEveryStep}} {
 		b.Run("invchain10k/"+c.name, func(b *testing.B) {
 			nl, err := gen.InverterChain(10000).Compile()
 			if err != nil {

@@ -50,6 +50,9 @@ type AnalysisNote struct {
 	// Inputs are the inputs changed in the step that decided it (nil when
 	// that was not the last settle).
 	Inputs []int
+	// Alone: the glitch came from phase A run alone (RacesGlitches), the
+	// rounds bringing the node back.
+	Alone bool
 }
 
 // Any reports whether the note says anything.
@@ -323,6 +326,8 @@ func (s *Sim) analysisNote(n int) AnalysisNote {
 		an.Kind = WarnOscillation
 	case noteGlitch:
 		an.Kind = WarnGlitch
+	case noteGlitchAlone:
+		an.Kind, an.Alone = WarnGlitch, true
 	case noteDecided:
 		an.Decided = true
 	case noteCase:
@@ -358,6 +363,8 @@ func (s *Sim) AnalysisText(e Explanation) string {
 		return "race analysis: phase A (" + ins + " at X) made it X, and phase B (their new values) left it X: its value depends on the order in which they arrive"
 	case an.Kind == WarnOscillation:
 		return "race analysis: phase A (" + ins + " at X) made it X, phase B left it X, and with either value stored in its loop the rounds never settle: it keeps changing"
+	case an.Kind == WarnGlitch && an.Alone:
+		return "glitch analysis: phase A alone (" + ins + " at X) made it X, and the rounds brought it back to its value: it may pulse while the step settles"
 	case an.Kind == WarnGlitch:
 		return "race analysis: phase A (" + ins + " at X) made it X, and phase B brought it back to its value: it may pulse while the step settles"
 	case an.Decided:

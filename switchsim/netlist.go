@@ -185,6 +185,7 @@ func (b *Builder) Compile() (*Netlist, error) {
 		}
 	})
 	nl.structure()
+	nl.diffusionDefaults(b.nodes) // switchsim §1; needs the outputs flagged by structure
 	return nl, nil
 }
 

@@ -6,7 +6,7 @@ package switchsim
 // copy that shares the arrays of nl, so that a corner (the design's
 // technology with some keys replaced, a `corner` statement) runs as a
 // netlist of its own next to the nominal one. Where t changes a default
-// size (wn, wp, l) or the default node capacitance (cnode), the copy gets
+// size (wn, wp, l) or a default node capacitance (cnode, cdiff), the copy gets
 // its own size or capacitance arrays, with every entry that held the old
 // default taking the new one (a size or capacitance written equal to the
 // default counts as the default, as everywhere in physical mode). nl is
@@ -18,11 +18,11 @@ func (nl *Netlist) WithTech(t Tech) (*Netlist, error) {
 	c := *nl
 	c.Tech = t
 	old := nl.Tech
-	if t.Cnode != old.Cnode {
+	if t.Cnode != old.Cnode || t.Cdiff != old.Cdiff {
 		c.nodeCap = append([]float64(nil), nl.nodeCap...)
 		for n, v := range c.nodeCap {
-			if v == old.Cnode {
-				c.nodeCap[n] = t.Cnode
+			if v == nl.DefaultCap(n) {
+				c.nodeCap[n] = c.DefaultCap(n) // cdiff on a diffusion node, cnode elsewhere (switchsim §1)
 			}
 		}
 	}

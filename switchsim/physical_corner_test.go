@@ -16,6 +16,7 @@ func TestWithTechCorner(t *testing.T) {
 	b.Input("a")
 	b.PMOS("load", "gnd", "vdd", "y", DeviceOpts{L: 4 * Generic().L})
 	b.NMOS("drv", "a", "y", "gnd", DeviceOpts{})
+	b.Output("y")             // a stage's output: cnode, not a diffusion node's cdiff (switchsim §1)
 	b.Node("c", 7e-15, HighZ) // a capacitance of its own
 	b.NMOS("dc", "a", "c", "gnd", DeviceOpts{})
 	nl := mustCompile(t, b)

@@ -41,6 +41,12 @@ type Analysis struct {
 	// round: the nodes whose state the analyses set otherwise than the
 	// unit-delay rounds left it.
 	Decided bool
+	// Alone is set when phase A ran alone before the rounds (RacesGlitches
+	// on a single-input step); WentX counts the nodes it made X. Its rounds
+	// are not recorded; the rounds decide the step, and a node it made X
+	// that they bring back to its value is a glitch.
+	Alone bool
+	WentX int
 }
 
 // Phase is the rounds of one phase of race analysis, as Result has them.
@@ -76,6 +82,7 @@ const (
 	noteGlitch               // went X in phase A and came back in phase B
 	noteDecided              // the analysis's value, where the unit-delay rounds left another
 	noteCase                 // resolved by case analysis
+	noteGlitchAlone          // went X in phase A alone and the rounds brought it back
 )
 
 // nodeNote is kept per node until the node is next solved (explain.go).
@@ -105,6 +112,7 @@ type analysis struct {
 	forcedStage   []Stage
 	lastInputs    []int32 // the inputs of the last race analysis, for explain
 	lastSettle    uint32
+	wentX         []wentX // phaseAlone: the nodes phase A made X, with their state before the step
 
 	// case analysis (cases.go)
 	taint        []uint8  // per node: taintUnknown, taintX, taintClean
@@ -175,13 +183,7 @@ func (s *Sim) raceAnalysis(settled bool) {
 	a.sawX = true               // (nodes the rounds solved may be X again: case analysis looks)
 	s.gates = append(s.gates, a.pending...)
 
-	a.toA = a.toA[:0]
-	for _, d := range a.to {
-		if d != DriveZ {
-			d = DriveX // a released input keeps its value as charge: no value changes
-		}
-		a.toA = append(a.toA, d)
-	}
+	a.phaseADrives()
 	s.rec, a.stage = &a.recA, InPhaseA
 	a.recA.reset()
 	s.applyInputs(a.inputs, a.toA)
@@ -238,7 +240,6 @@ func (s *Sim) raceAnalysis(settled bool) {
 func (s *Sim) classify() {
 	a := &s.ana
 	u := &s.undo
-	nl := s.nl
 	r := &s.res
 	a.lastInputs = append(a.lastInputs[:0], a.inputs...)
 	a.lastSettle = s.settleID
@@ -264,19 +265,97 @@ func (s *Sim) classify() {
 	}
 	for _, i := range a.glitch {
 		e := &u.nodes[i] // segment 0: the case analysis's branches only add entries they remove
-		n := e.n
-		if s.val[n] != e.val {
-			continue
+		s.glitchAt(e.n, e.val, e.str, noteGlitch)
+	}
+}
+
+// glitchAt reports a glitch on node n, which went X in phase A from value
+// was at strength str, where it came back to was and a pulse on it matters.
+func (s *Sim) glitchAt(n int32, was Value, str Strength, note noteKind) {
+	nl := s.nl
+	if s.val[n] != was {
+		return
+	}
+	dynamic := str.IsCharge() || s.str[n].IsCharge()
+	if !s.seen(n) || !dynamic && nl.nodeFlag[n]&(nodeOutput|nodeGatePass) == 0 && !s.gatesDynamic(n) {
+		return // a pulse on a static internal node matters only where it arrives
+	}
+	if s.note[n].kind == noteNone || s.note[n].settle != s.settleID {
+		s.note[n] = nodeNote{kind: note, settle: s.settleID}
+	}
+	s.res.Warnings = append(s.res.Warnings, Warning{Kind: WarnGlitch, Node: int(n), Device: -1, Other: -1,
+		Volts: math.NaN(), Margin: math.NaN(), Stage: InPhaseA})
+}
+
+// phaseADrives sets toA: the drives of phase A, every changing input X.
+func (a *analysis) phaseADrives() {
+	a.toA = a.toA[:0]
+	for _, d := range a.to {
+		if d != DriveZ {
+			d = DriveX // a released input keeps its value as charge: no value changes
 		}
-		dynamic := e.str.IsCharge() || s.str[n].IsCharge()
-		if !s.seen(n) || !dynamic && nl.nodeFlag[n]&(nodeOutput|nodeGatePass) == 0 && !s.gatesDynamic(n) {
-			continue // a pulse on a static internal node matters only where it arrives
+		a.toA = append(a.toA, d)
+	}
+}
+
+// wentX is a node phase A alone made X, with its state before the step.
+type wentX struct {
+	n   int32
+	val Value
+	str Strength
+}
+
+// phaseAlone runs phase A on its own before the rounds of a single-input
+// step (RacesGlitches): from the state before the step, the input at X,
+// settled without recording rounds or touching nodes (as a case-analysis
+// branch runs); it lists the internal nodes that went X, then goes back to
+// the state before the step with a fresh log, the queued fan-out as it was.
+// It costs one settle of what the input reaches and the undo of it; phase
+// B, case analysis of the phases and the comparison with the rounds are
+// not paid for. Unlike the full analysis, a node phase B would have left
+// X (a race) is called a glitch if the rounds bring it back.
+func (s *Sim) phaseAlone() {
+	a := &s.ana
+	u := &s.undo
+	an := &s.res.Analysis
+	nshorts := len(s.shorts)
+	a.phaseADrives()
+	s.rec, a.stage = nil, InPhaseA
+	s.applyInputs(a.inputs, a.toA)
+	s.rounds(false)
+	a.wentX = a.wentX[:0]
+	for i := range u.nodes {
+		e := &u.nodes[i]
+		if s.nl.nodeKind[e.n] == Internal && e.val != VX && s.val[e.n] == VX {
+			a.wentX = append(a.wentX, wentX{e.n, e.val, e.str})
 		}
-		if s.note[n].kind == noteNone || s.note[n].settle != s.settleID {
-			s.note[n] = nodeNote{kind: noteGlitch, settle: s.settleID}
-		}
-		r.Warnings = append(r.Warnings, Warning{Kind: WarnGlitch, Node: int(n), Device: -1, Other: -1,
-			Volts: math.NaN(), Margin: math.NaN(), Stage: InPhaseA})
+	}
+	an.Alone, an.WentX = true, len(a.wentX)
+	for _, n := range a.forcedList { // forcing rounds of phase A: nothing of them stays
+		s.note[n] = nodeNote{}
+	}
+	a.forcedList, a.forcedStage = a.forcedList[:0], a.forcedStage[:0]
+	for _, d := range s.shorts[nshorts:] {
+		s.shortMark[d] = s.settleID - 1
+	}
+	s.shorts = s.shorts[:nshorts]
+	s.undoTo(undoMark{}, true)
+	s.gates = append(s.gates, a.pending...)
+	s.rec, a.stage = &s.unit, InRounds
+	a.sawX = false
+}
+
+// glitchesAlone reports, after the rounds and case analysis of a step that
+// ran phaseAlone, the nodes phase A made X that came back to their value.
+func (s *Sim) glitchesAlone() {
+	a := &s.ana
+	if len(a.wentX) == 0 {
+		return
+	}
+	a.lastInputs = append(a.lastInputs[:0], a.inputs...)
+	a.lastSettle = s.settleID
+	for _, w := range a.wentX {
+		s.glitchAt(w.n, w.val, w.str, noteGlitchAlone)
 	}
 }
 

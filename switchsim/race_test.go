@@ -514,8 +514,9 @@ func TestCaseAnalysisLeavesUnwrittenLatch(t *testing.T) {
 
 // Issue 19: a clock edge whose unit-delay rounds do not settle is decided by
 // race analysis, in bounded rounds, never called an oscillation by the
-// rounds alone. The flip-flop shape of the issue without the stack nodes'
-// charge class: in ideal
+// rounds alone. The flip-flop shape of the issue with the stack nodes
+// given the storage nodes' charge class (charge=medium, against their
+// structural default small, switchsim §1): in ideal
 // mode the stack node between a clocked inverter's enable and data devices
 // keeps charge of the other value at the storage node's class, the
 // unit-delay rounds of a clock edge never settle, and the analysis calls it
@@ -523,7 +524,8 @@ func TestCaseAnalysisLeavesUnwrittenLatch(t *testing.T) {
 // under clock skew), not an oscillation, in bounded rounds. Physical mode
 // weighs the extracted capacitances and gives Q.
 func TestRaceUnannotatedStackNodes(t *testing.T) {
-	src := strings.Replace(mustRead(t, "testdata/gallery/dff_rise_tinv.sw"), "charge=small", "", -1)
+	src := strings.Replace(mustRead(t, "testdata/gallery/dff_rise_tinv.sw"), "output Q\n",
+		"output Q\nnode a_137_47_ a_174_13_ a_211_47_ a_248_13_ a_285_47_ a_322_13_ a_359_47_ a_396_13_ cap=0.4f charge=medium\n", 1)
 	nl := swNet(t, src)
 	s := sw.NewSim(nl, sw.Options{Mode: sw.Ideal})
 	s.Settle()
@@ -650,6 +652,67 @@ func TestStructure(t *testing.T) {
 		d, _ := nand.LookupDevice(name)
 		if nand.PassDevice(d) != want {
 			t.Errorf("%s a pass device: %v, want %v", name, !want, want)
+		}
+	}
+}
+
+// RacesGlitches (switchsim §5): on a single-input step phase A runs alone
+// before the rounds. Eichelberger 1965's static-1 hazard: a NAND-NAND
+// (AND-OR) selector y = a s + b s_b with a = b = 1 keeps y at 1 when s
+// changes alone, but s_b lags s, so y may pulse: a glitch warning on the
+// output. The transmission-gate selector with both data 1 has none (common
+// practice). The rounds still decide the step: every node ends as under
+// RacesWhenNeeded, which reports nothing on these single-input steps.
+func TestRacesGlitchesSingleInput(t *testing.T) {
+	andor := swNet(t, `design andor
+input s a b
+output y
+use inv si s sb
+use nand2 g1 a s p
+use nand2 g2 b sb q
+use nand2 g3 p q y
+`)
+	tgsel := swNet(t, `design tgsel
+input s a b
+output y
+use inv si s sb
+tgate ta sb s a y
+tgate tb s sb b y
+`)
+	for _, mode := range bothModes {
+		for _, c := range []struct {
+			nl   *sw.Netlist
+			want bool
+		}{{andor, true}, {tgsel, false}} {
+			g := sw.NewSim(c.nl, sw.Options{Mode: mode, Races: sw.RacesGlitches})
+			w := sw.NewSim(c.nl, sw.Options{Mode: mode})
+			for _, s := range []*sw.Sim{g, w} {
+				s.Settle()
+				apply(t, s, "s=0 a=1 b=1")
+			}
+			for _, step := range []string{"s=1", "s=0"} {
+				rg, rw := apply(t, g, step), apply(t, w, step)
+				got := warned(g, rg, sw.WarnGlitch)
+				if fired := len(got) == 1 && got[0] == "y"; fired != c.want {
+					t.Errorf("%s %s %s: glitches %v, want y: %v", mode, c.nl.Name, step, got, c.want)
+				}
+				if !rg.Analysis.Alone || rg.Analysis.Ran || rg.Analysis.WentX == 0 {
+					t.Errorf("%s %s %s: analysis %+v, want phase A alone", mode, c.nl.Name, step, rg.Analysis)
+				}
+				if len(warned(w, rw, sw.WarnGlitch)) != 0 || rw.Analysis.Alone {
+					t.Errorf("%s %s %s: RacesWhenNeeded reported a glitch or ran phase A", mode, c.nl.Name, step)
+				}
+				for n := 0; n < c.nl.NumNodes(); n++ {
+					if a, b := g.Node(n), w.Node(n); a.Value != b.Value || a.State != b.State {
+						t.Errorf("%s %s %s: %s is %s with glitches, %s without", mode, c.nl.Name, step, c.nl.NodeName(n), stateString(a), stateString(b))
+					}
+				}
+				if len(got) > 0 && c.want {
+					if msg := g.Message(rg.Warnings[0]); !strings.Contains(msg, "when the rounds settled") {
+						t.Errorf("glitch message %q", msg)
+					}
+				}
+			}
 		}
 	}
 }

@@ -47,9 +47,16 @@ const (
 	// RacesOff: never; rounds that pass the limit end in forcing rounds
 	// (the plain unit-delay settle, for comparison and benchmarks).
 	RacesOff
+	// RacesGlitches: as RacesWhenNeeded, and on a settle that changes one
+	// input to 0 or 1, phase A alone runs first (race.go, phaseAlone): the
+	// nodes it makes X that the rounds bring back to their value are
+	// glitches. The rounds decide the step as under RacesWhenNeeded.
+	RacesGlitches
 )
 
-func (m RaceMode) String() string { return [...]string{"when-needed", "every-step", "off"}[m] }
+func (m RaceMode) String() string {
+	return [...]string{"when-needed", "every-step", "off", "glitches"}[m]
+}
 
 // DefaultCaseSplits is the number of X nodes case analysis splits on in
 // one settle: each split is two settles of the nodes it reaches.
@@ -391,6 +398,10 @@ func (s *Sim) Settle() *Result {
 	}
 	s.dirtyIn = s.dirtyIn[:0]
 	a.pending = append(a.pending[:0], s.gates...)
+	alone := !first && s.races == RacesGlitches && len(a.inputs) == 1 && (a.to[0] == Drive0 || a.to[0] == Drive1)
+	if alone {
+		s.phaseAlone()
+	}
 	s.applyInputs(a.inputs, a.to)
 
 	may := !first && len(a.inputs) > 0 && s.races != RacesOff
@@ -400,7 +411,13 @@ func (s *Sim) Settle() *Result {
 		s.raceAnalysis(settled)
 	} else {
 		s.ana.ran = false
+		if alone {
+			s.undo.index() // segment 0 is complete: glitchesAlone looks nodes up in it
+		}
 		s.caseAnalysis()
+		if alone {
+			s.glitchesAlone()
+		}
 	}
 	s.decide()
 	s.settleWarnings()

@@ -164,6 +164,7 @@ func TestStdTriregCharge(t *testing.T) {
 	b.Input("d")
 	b.Input("g")
 	b.NMOS("n", "g", "d", "y", sw.DeviceOpts{})
+	b.Output("y") // observed: not a diffusion node, whose default class is small (switchsim §1)
 	s := stdSim(t, b)
 	apply(t, s, "d=1 g=1")
 	wantNode(t, s, "y", sw.V1, sw.Strong, sw.State1, "common practice: an on nMOS passes its input")
@@ -275,7 +276,7 @@ func TestStdSwitches(t *testing.T) {
 		apply(t, s, "g=1 gb=0 d="+d)
 		wantNode(t, s, "yn", v, sw.Strong, st, "common practice: an nMOS conducts for gate 1")
 		wantNode(t, s, "yt", v, sw.Strong, st, "common practice: a transmission gate passes 0 and 1")
-		if foundNode(s, "yp").Strength != sw.Medium {
+		if !foundNode(s, "yp").Floating {
 			t.Errorf("yp = %s with gate 1, want floating: common practice, a pMOS is off for gate 1", stateString(foundNode(s, "yp")))
 		}
 		apply(t, s, "g=0 gb=1")

@@ -22,6 +22,7 @@ type Tech struct {
 	Wn, Wp float64 // default widths, and the reference inverter's
 	L      float64 // default length
 	Cnode  float64 // default node capacitance
+	Cdiff  float64 // default capacitance of a diffusion node (Netlist.Diffusion)
 	VIL    float64 // 0: computed from the reference inverter
 	VIH    float64 // 0: computed from the reference inverter
 }
@@ -37,6 +38,10 @@ func Generic() Tech {
 		Rn: 12.5e3, Rp: 30e3,
 		Wn: 0.36e-6, Wp: 0.72e-6, L: 0.18e-6,
 		Cnode: 5e-15,
+		// A junction between two series devices: a tenth of a node
+		// loaded by gates (from memory, the order of a minimum-size
+		// drain's junction capacitance at this scale).
+		Cdiff: 0.5e-15,
 	}
 }
 
@@ -60,7 +65,7 @@ var techKeys = map[string]func(*Tech) *float64{
 	"rp": func(t *Tech) *float64 { return &t.Rp }, "wn": func(t *Tech) *float64 { return &t.Wn },
 	"wp": func(t *Tech) *float64 { return &t.Wp }, "l": func(t *Tech) *float64 { return &t.L },
 	"cnode": func(t *Tech) *float64 { return &t.Cnode }, "vil": func(t *Tech) *float64 { return &t.VIL },
-	"vih": func(t *Tech) *float64 { return &t.VIH },
+	"vih": func(t *Tech) *float64 { return &t.VIH }, "cdiff": func(t *Tech) *float64 { return &t.Cdiff },
 }
 
 // TechKeys returns the accepted technology keys, sorted.
@@ -130,6 +135,7 @@ var techRanges = []struct {
 	{"wp", 1e-12, 1e3, "m"},
 	{"l", 1e-12, 1e3, "m"},
 	{"cnode", 1e-21, 1, "F"},
+	{"cdiff", 1e-21, 1, "F"},
 }
 
 // Validate reports a parameter that makes the estimates meaningless, as a

@@ -266,8 +266,12 @@ func (s *Sim) Message(w Warning) string {
 		return fmt.Sprintf("%s is X: %s changed together and the result depends on their order (race analysis: X in phase A, still X in phase B)",
 			node, s.inputsText())
 	case WarnGlitch:
-		return fmt.Sprintf("%s may glitch: with %s changing it went X in phase A and came back to %s in phase B; a pulse here %s",
-			node, s.inputsText(), s.val[w.Node], s.glitchWhy(w.Node))
+		back := "in phase B"
+		if s.note[w.Node].kind == noteGlitchAlone {
+			back = "when the rounds settled"
+		}
+		return fmt.Sprintf("%s may glitch: with %s changing it went X in phase A and came back to %s %s; a pulse here %s",
+			node, s.inputsText(), s.val[w.Node], back, s.glitchWhy(w.Node))
 	case WarnWriteFail:
 		return s.writeFailText(w, node, dev, volts)
 	case WarnShort:

@@ -445,7 +445,7 @@ func TestSavedStepsReproduceWithRun(t *testing.T) {
 	}{
 		{"testdata/bus.sw", []string{"--ideal"}, "conflict floating-output"},
 		{"demo:lost_level", nil, "degraded-output floating-output level-lost"},
-		{"demo:strong_keeper", nil, "contention write-fail"},
+		{"demo:strong_keeper", nil, "contention hazard write-fail"},
 		{"demo:mux2_pass", nil, "degraded-output"},
 		{pulls, nil, "conflict contention degraded-output"},
 		{pulls, []string{"--ideal"}, "conflict contention degraded-output"},
@@ -478,7 +478,11 @@ func TestSavedStepsReproduceWithRun(t *testing.T) {
 			}
 			steps := jsonLines(t, rout)
 			last := steps[len(steps)-2]
-			if moves := int(m["moves"].(float64)); moves > 0 && !strings.HasPrefix(k, "floating") && !strings.HasPrefix(k, "degraded") {
+			// A hazard or glitch of a single-input step comes from phase A run
+			// alone (switchsim RacesGlitches), which check runs and run does not:
+			// run reproduces the state, not that warning.
+			single := k == "hazard" || k == "glitch"
+			if moves := int(m["moves"].(float64)); moves > 0 && !single && !strings.HasPrefix(k, "floating") && !strings.HasPrefix(k, "degraded") {
 				// A finding made by the last step shows as its warning there
 				// (a divider in the undefined band is the engine's contention).
 				ws, _ := last["warnings"].([]any)

@@ -152,7 +152,7 @@ func WriteDeck(w io.Writer, nl *switchsim.Netlist, st *steps.Steps, opt DeckOpti
 		if n == nl.Power() || n == nl.Ground() || !touched(nl, n) {
 			continue
 		}
-		if nl.NodeCap(n) == t.Cnode {
+		if nl.NodeCap(n) == nl.DefaultCap(n) { // cnode, or cdiff on a diffusion node
 			dflt = append(dflt, n)
 		} else {
 			given = append(given, n)
@@ -165,7 +165,7 @@ func WriteDeck(w io.Writer, nl *switchsim.Netlist, st *steps.Steps, opt DeckOpti
 		p("cn_%s %s %s %s", cardName(nl, n), cardName(nl, n), gn, cardNumber(nl.NodeCap(n)))
 	}
 	if len(dflt) > 0 {
-		p("* railyard's default node capacitance (cnode) on the other nodes: delete those your device models account for")
+		p("* railyard's default node capacitances (cnode, cdiff on diffusion nodes) on the other nodes: delete those your device models account for")
 	}
 	for _, n := range dflt {
 		p("cn_%s %s %s %s", cardName(nl, n), cardName(nl, n), gn, cardNumber(nl.NodeCap(n)))

@@ -271,7 +271,7 @@ func (c *checker) plausible(o Opt, v float64) {
 	switch o.Key {
 	case "w", "l", "wn", "wp":
 		c.sizes.Size(p, o.Key, o.Val, v)
-	case "cap", "cnode":
+	case "cap", "cnode", "cdiff":
 		c.sizes.Cap(p, o.Key, o.Val, v)
 	}
 }

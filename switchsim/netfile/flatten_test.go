@@ -78,7 +78,7 @@ func TestStrengthCapKeepsWeaker(t *testing.T) {
 // 0.18u is 0.18 um).
 func TestValuesReachNetlist(t *testing.T) {
 	d := mustRead(t, `design v "values"
-tech generic vdd=1.2 vtn=0.3 vtp=-0.35 cnode=2f
+tech generic vdd=1.2 vtn=0.3 vtp=-0.35 cnode=2f cdiff=0.3f
 input g
 tgate t g gb a b wn=0.5u wp=1u l=0.25u strength=pull
 nmos n g a gnd
@@ -91,7 +91,7 @@ node gb
 		t.Errorf("name %q desc %q", nl.Name, nl.Desc)
 	}
 	tech := nl.Tech
-	if tech.Vdd != 1.2 || tech.Vtn != 0.3 || tech.Vtp != 0.35 || tech.Cnode != 2e-15 {
+	if tech.Vdd != 1.2 || tech.Vtn != 0.3 || tech.Vtp != 0.35 || tech.Cnode != 2e-15 || tech.Cdiff != 0.3e-15 {
 		t.Errorf("tech %+v", tech)
 	}
 	i, _ := nl.LookupDevice("t.p")
@@ -114,9 +114,17 @@ node gb
 	if nl.NodeCap(a) != 10e-15 || nl.NodeCharge(a) != switchsim.Large {
 		t.Errorf("a: cap %g charge %s", nl.NodeCap(a), nl.NodeCharge(a))
 	}
-	b, _ := nl.Lookup("b")
-	if nl.NodeCap(b) != 2e-15 || nl.NodeCharge(b) != switchsim.Medium {
-		t.Errorf("b: cap %g charge %s (want the defaults)", nl.NodeCap(b), nl.NodeCharge(b))
+	// gb gates t.p: cnode and medium; b only meets channels (t and pd), a
+	// diffusion node: cdiff and small (switchsim §1).
+	for _, c := range []struct {
+		name   string
+		cap    float64
+		charge switchsim.Strength
+	}{{"gb", 2e-15, switchsim.Medium}, {"b", 0.3e-15, switchsim.Small}} {
+		n, _ := nl.Lookup(c.name)
+		if nl.NodeCap(n) != c.cap || nl.NodeCharge(n) != c.charge {
+			t.Errorf("%s: cap %g charge %s (want the defaults %g %s)", c.name, nl.NodeCap(n), nl.NodeCharge(n), c.cap, c.charge)
+		}
 	}
 }
 

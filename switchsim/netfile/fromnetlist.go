@@ -105,7 +105,8 @@ func writeFlat(bw *bufio.Writer, nl *switchsim.Netlist, sizes bool) error {
 			continue
 		}
 		c, q := nl.NodeCap(n), nl.NodeCharge(n)
-		if c == tech.Cnode && q == switchsim.Medium {
+		dc, dq := nl.DefaultCap(n), nl.DefaultCharge(n) // cnode and medium, or on a diffusion node cdiff and small
+		if c == dc && q == dq {
 			continue
 		}
 		s, err := node(n)
@@ -113,10 +114,10 @@ func writeFlat(bw *bufio.Writer, nl *switchsim.Netlist, sizes bool) error {
 			return err
 		}
 		line := "node " + s
-		if c != tech.Cnode {
+		if c != dc {
 			line += " cap=" + FormatNumber(c)
 		}
-		if q != switchsim.Medium {
+		if q != dq {
 			line += " charge=" + q.String()
 		}
 		bw.WriteString(line + "\n")

@@ -39,6 +39,7 @@ func BenchmarkSearchFlipFlop(b *testing.B) {
 				name = m.String() + "/pairs"
 			}
 			b.Run(name, func(b *testing.B) { benchSearch(b, nl, Options{Mode: m, Pairs: pairs}) })
+			b.Run(name+"/noglitches", func(b *testing.B) { benchSearch(b, nl, Options{Mode: m, Pairs: pairs, NoGlitches: true}) })
 		}
 	}
 }
@@ -57,5 +58,8 @@ func BenchmarkSearch16Inputs(b *testing.B) {
 	}
 	for _, m := range []switchsim.Mode{switchsim.Ideal, switchsim.Physical} {
 		b.Run(m.String(), func(b *testing.B) { benchSearch(b, nl, Options{Mode: m, MaxStates: 100_000}) })
+		b.Run(m.String()+"/noglitches", func(b *testing.B) {
+			benchSearch(b, nl, Options{Mode: m, MaxStates: 100_000, NoGlitches: true})
+		})
 	}
 }

@@ -91,6 +91,10 @@ const (
 type Options struct {
 	Mode  switchsim.Mode
 	Pairs bool // also change every pair of inputs together
+	// NoGlitches skips phase A on single-input steps (switchsim.RacesGlitches,
+	// the default): faster, and blind to a pulse that one input's change can
+	// cause (the static-1 hazard of a selector whose select changes alone).
+	NoGlitches bool
 	// Reset is applied, row after row and each row settled, after the
 	// settle with every input 0; the search starts from the state it leaves.
 	Reset [][]Set

@@ -85,15 +85,28 @@ output y
 nmos across s vdd gnd
 use inv i s y
 `
-	// A precharged selector: pre=0 charges dyn through a pMOS; with pre=1
-	// the nMOS stack (sel, then the data device) may discharge it. sel
-	// changing while it evaluates can glitch and drain the charge.
+	// A precharged stage whose evaluate device is gated by a decoded
+	// select, g = NOT(a s + b s_b), an AND-OR-invert with s_b = NOT s made
+	// inside: with a = b = 1, g is 0 whatever s, but when s rises alone
+	// s_b falls a stage later (the static hazard of Eichelberger 1965, here
+	// a 0 that may pulse to 1). pre=0 charges dyn; with pre=1 and dyn
+	// holding 1 by charge, a pulse on g drains it for good: a glitch on a
+	// dynamic node from a single-input step (common practice: a dynamic
+	// gate's inputs must be hazard-free while it evaluates).
 	dynSrc = `design dynsel
-input pre sel d
+input pre s a b
 output out
+use inv is s s_b
+pmos pa a vdd p1
+pmos ps s vdd p1
+pmos pb b p1 g
+pmos psb s_b p1 g
+nmos na a g n1
+nmos ns s n1 gnd
+nmos nb b g n2
+nmos nsb s_b n2 gnd
 pmos pc pre vdd dyn
-nmos ev sel dyn mid
-nmos nd d mid gnd
+nmos ev g dyn gnd
 node dyn cap=10f
 use inv o dyn out
 `
@@ -208,7 +221,6 @@ type kindCase struct {
 
 const (
 	needRace  = "needs the engine's race analysis (race warnings, issue 11 item 1): enable at merge"
-	needGlint = "glitches on single-input steps need the search's Sim with Options.Races = switchsim.RacesEveryStep (the engine has it; whether the search should pay for it is the search's choice)"
 	needWrite = "needs the engine's failed-write warnings (write-fail, issue 11 item 2): enable at merge"
 	needShort = "needs the engine's short warnings (short, issue 18 item 2): enable at merge"
 )
@@ -233,12 +245,12 @@ func TestEachKindFiresAndStaysSilent(t *testing.T) {
 		// A master-slave flip-flop clocked with its data held steady has no
 		// race in any reachable state (issue 11's outside checks).
 		{"demo:flipflop", "", switchsim.Physical, false, Race, "", false, ""},
-		{"dynsel", dynSrc, switchsim.Physical, false, Glitch, "dyn", true, needGlint},
+		{"dynsel", dynSrc, switchsim.Physical, false, Glitch, "dyn", true, ""},
 		{"demo:dynamic_latch", "", switchsim.Physical, false, Glitch, "", false, ""},
 		// The static-1 hazard of a two-level selector when its select changes
 		// with both data 1 (Eichelberger 1965) is on a driven node: a hazard,
 		// not a failing glitch; a transmission-gate selector has none.
-		{"andor", andOrSrc, switchsim.Ideal, false, Hazard, "y", true, needGlint},
+		{"andor", andOrSrc, switchsim.Ideal, false, Hazard, "y", true, ""},
 		{"opsel", opselSrc, switchsim.Ideal, false, Hazard, "", false, ""},
 		{"demo:strong_keeper", "", switchsim.Physical, false, WriteFail, "s", true, ""},
 		{"demo:static_latch", "", switchsim.Physical, false, WriteFail, "", false, ""},
@@ -307,8 +319,14 @@ func TestUninitialisedXIsNoFinding(t *testing.T) {
 	if v := sim.Node(q).Value; v != switchsim.VX {
 		t.Fatalf("q is %s at the start; the test needs it never written (X)", v)
 	}
-	if len(r.Findings) != 0 {
-		t.Errorf("findings on a correct flip-flop:%s", describe(r, nl))
+	// Phase A on a clock edge puts clk and clk_b at X together, so q may be
+	// reported as a hazard (a driven output that may pulse, not failing):
+	// the ternary view of a clock and its complement. Nothing fails.
+	for _, f := range r.Findings {
+		if f.Kind.Failing() || f.Kind != Hazard {
+			t.Errorf("findings on a correct flip-flop:%s", describe(r, nl))
+			break
+		}
 	}
 }
 
@@ -320,17 +338,19 @@ func bruteShortest(nl *switchsim.Netlist, mode switchsim.Mode, depth int) map[st
 	ins := nl.Inputs()
 	var walk func(seq []int)
 	walk = func(seq []int) {
-		sim := switchsim.NewSim(nl, switchsim.Options{Mode: mode})
+		sim := switchsim.NewSim(nl, switchsim.Options{Mode: mode, Races: switchsim.RacesGlitches}) // as the search runs it
 		sim.Settle()
 		for _, n := range ins {
 			sim.SetInput(n, switchsim.Drive0)
 		}
 		r := sim.Settle()
 		var before []switchsim.Value
+		var floated []bool
 		for _, i := range seq {
-			before = before[:0]
+			before, floated = before[:0], floated[:0]
 			for n := 0; n < nl.NumNodes(); n++ {
 				before = append(before, sim.Node(n).Value)
+				floated = append(floated, sim.Node(n).Floating)
 			}
 			sim.SetInput(ins[i], 1-sim.InputDrive(ins[i]))
 			r = sim.Settle()
@@ -361,6 +381,12 @@ func bruteShortest(nl *switchsim.Netlist, mode switchsim.Mode, depth int) map[st
 				note(WriteFail, w.Node)
 			case switchsim.WarnShort:
 				note(Short, w.Node)
+			case switchsim.WarnGlitch: // a glitch on a node held by charge before or after; else a hazard
+				if len(seq) > 0 && (floated[w.Node] || sim.Node(w.Node).Floating) {
+					note(Glitch, w.Node)
+				} else if len(seq) > 0 {
+					note(Hazard, w.Node)
+				}
 			}
 		}
 		for _, o := range nl.Outputs() {

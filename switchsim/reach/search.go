@@ -182,7 +182,13 @@ func (s *search) run(ctx context.Context) {
 	// rows. Conditions are carried through these settles, so that one the
 	// first settle shows and no later one changes (a pull-up against a
 	// pull-down, say) is a condition of the start.
-	s.sim = switchsim.NewSim(s.nl, switchsim.Options{Mode: s.opt.Mode})
+	// Single-input steps run phase A alone for glitches (RacesGlitches):
+	// a select that changes alone can pulse a dynamic node or an output.
+	races := switchsim.RacesGlitches
+	if s.opt.NoGlitches {
+		races = switchsim.RacesWhenNeeded
+	}
+	s.sim = switchsim.NewSim(s.nl, switchsim.Options{Mode: s.opt.Mode, Races: races})
 	var conds []cond
 	r := s.sim.Settle()
 	s.stamp++

@@ -14,7 +14,7 @@ mout.p vdd s_b q vdd pfet_l1 w=720n l=180n
 mout.n q s_b gnd gnd nfet_l1 w=360n l=180n
 * node capacitances the design gives
 cn_s s gnd 20f
-* railyard's default node capacitance (cnode) on the other nodes: delete those your device models account for
+* railyard's default node capacitances (cnode, cdiff on diffusion nodes) on the other nodes: delete those your device models account for
 cn_clk clk gnd 5f
 cn_d d gnd 5f
 cn_q q gnd 5f

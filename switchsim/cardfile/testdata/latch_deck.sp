@@ -14,7 +14,7 @@ mXinv2.MN q qb gnd gnd nfet_l1 w=360n l=180n
 mXinv2.MP q qb VDD VDD pfet_l1 w=720n l=180n
 MN2 q clkb s gnd nfet_l1 w=360n l=180n
 MP2 q clk s VDD pfet_l1 w=720n l=180n
-* railyard's default node capacitance (cnode) on the other nodes: delete those your device models account for
+* railyard's default node capacitances (cnode, cdiff on diffusion nodes) on the other nodes: delete those your device models account for
 cn_d d gnd 5f
 cn_clk clk gnd 5f
 cn_q q gnd 5f
