@@ -151,6 +151,8 @@ type physState struct {
 	fast bool
 	fdel float64
 
+	conv physConvergeState // converging rounds (physical_converge.go)
+
 	// slow turns the one-node fast path (physSingle) and the precomputed
 	// rail limits and conductances off, so that tests can compare the
 	// general path with them (export_test.go).
@@ -235,6 +237,7 @@ func (s *Sim) physInit() {
 	p.tdel[0], p.tdel[1] = make([]float64, nn), make([]float64, nn)
 	p.sv[0], p.sv[1] = make([]Strength, nn), make([]Strength, nn)
 	p.stamp = make([]uint32, nn)
+	p.conv.init(nn)
 }
 
 func noPhysNode() physNode {
@@ -340,6 +343,7 @@ func (s *Sim) physGroup(g *group) {
 		return
 	}
 	p := &s.phys
+	defer s.physConverge(g)
 	if !p.slow && s.physSingle(g) {
 		return
 	}
