@@ -343,8 +343,8 @@ func (s *Sim) physGroup(g *group) {
 		return
 	}
 	p := &s.phys
-	defer s.physConverge(g)
 	if !p.slow && s.physSingle(g) {
+		s.physConverge(g)
 		return
 	}
 	p.fast = false
@@ -374,6 +374,7 @@ func (s *Sim) physGroup(g *group) {
 			s.physLevel(g, int32(c), V0)
 		}
 	}
+	s.physConverge(g)
 }
 
 func (p *physState) next() {

@@ -14,7 +14,9 @@ import "math"
 // (value, strength and state as before) and every node it moves moved by at
 // most convergeRatio times its own previous move in the same run of
 // rounds; each one extends that run's round limit by one, up to
-// convergeExtend times the limit.
+// convergeExtend times the limit. The first half of a run's rounds (up to
+// limit / 2) count whatever they do, so the bookkeeping costs a settle
+// that ends before then (nearly every one) a comparison per group.
 
 const (
 	// convergeRatio: a move at most this fraction of the node's previous
@@ -29,29 +31,37 @@ const (
 
 // physConvergeState is the bookkeeping of converging rounds.
 type physConvergeState struct {
-	move   []float64 // node -> the size of its last move (NaN: between known and unknown)
-	moveAt []int32   // node -> the round (roundNo) of that move
-	moveID []uint32  // node -> the settle (settleID) of that move
+	last []convMove // node -> its last move
 
-	round int32 // roundNo the flags below describe
-	conv  bool  // every change of that round so far is a shrinking voltage move
+	round int32  // roundNo the flags below describe
+	id    uint32 // and settleID
+	conv  bool   // every change of that round so far is a shrinking voltage move
 
 	extID    uint32 // the settle and run whose extension ext counts
 	extStart int32
 	ext      int
 }
 
-func (c *physConvergeState) init(nn int) {
-	c.move, c.moveAt, c.moveID = make([]float64, nn), make([]int32, nn), make([]uint32, nn)
+// convMove is a node's last move: its size (NaN: between known and
+// unknown), the round (roundNo) and the settle (settleID) it was made in.
+type convMove struct {
+	size  float64
+	round int32
+	id    uint32
 }
+
+func (c *physConvergeState) init(nn int) { c.last = make([]convMove, nn) }
 
 // physConverge notes, before g's results are committed, whether each
 // change it makes is a shrinking voltage move (physConverging reads the
 // round's verdict).
 func (s *Sim) physConverge(g *group) {
+	if int(s.roundNo-s.runStart) <= s.limit/2 {
+		return // the first half of the run counts whatever it does
+	}
 	c := &s.phys.conv
-	if c.round != s.roundNo {
-		c.round, c.conv = s.roundNo, true
+	if c.round != s.roundNo || c.id != s.settleID {
+		c.round, c.id, c.conv = s.roundNo, s.settleID, true
 	}
 	for i, n := range g.nodes {
 		vo, old := g.nvolts[i], s.volts[n]
@@ -62,13 +72,10 @@ func (s *Sim) physConverge(g *group) {
 		m := math.Abs(vo - old) // NaN where either is unknown
 		if logic || math.IsNaN(m) {
 			c.conv = false
-		} else {
-			prev := c.move[n]
-			if c.moveID[n] != s.settleID || c.moveAt[n] <= s.runStart || !(m <= convergeRatio*prev) {
-				c.conv = false
-			}
+		} else if l := &c.last[n]; l.id != s.settleID || l.round <= s.runStart || !(m <= convergeRatio*l.size) {
+			c.conv = false
 		}
-		c.move[n], c.moveAt[n], c.moveID[n] = m, s.roundNo, s.settleID
+		c.last[n] = convMove{m, s.roundNo, s.settleID}
 	}
 }
 
@@ -79,7 +86,7 @@ func (s *Sim) physConverging() bool {
 		return false
 	}
 	c := &s.phys.conv
-	if c.round != s.roundNo || !c.conv {
+	if c.round != s.roundNo || c.id != s.settleID || !c.conv {
 		return false
 	}
 	if c.extID != s.settleID || c.extStart != s.runStart {
