@@ -121,10 +121,12 @@
 // may glitch, which matters on a dynamic node, a node that gates a pass device
 // or an output. The analysis runs on every step that changes more than one
 // input, on every settle whose rounds do not settle within a round limit
-// scaled to the design, and on every step when asked; where it and the
-// rounds disagree, it decides. For glitches alone, phase A can run by
-// itself on a single-input step, the rounds deciding the values: a node it
-// makes X that the rounds bring back may pulse. A fight left after the settle on a node inside
+// scaled to the design (in physical mode not counting rounds that only
+// move voltages, by ever smaller steps: a loop nearing its DC point), and
+// on every step when asked; where it and the rounds disagree, it decides.
+// For glitches alone, phase A can run by itself on a single-input step, the
+// rounds deciding the values: a node it makes X that the rounds bring back
+// may pulse. A fight left after the settle on a node inside
 // a feedback loop is a failed write; a device on between sources of different
 // values is a short.
 //

@@ -151,6 +151,8 @@ type physState struct {
 	fast bool
 	fdel float64
 
+	conv physConvergeState // converging rounds (physical_converge.go)
+
 	// slow turns the one-node fast path (physSingle) and the precomputed
 	// rail limits and conductances off, so that tests can compare the
 	// general path with them (export_test.go).
@@ -235,6 +237,7 @@ func (s *Sim) physInit() {
 	p.tdel[0], p.tdel[1] = make([]float64, nn), make([]float64, nn)
 	p.sv[0], p.sv[1] = make([]Strength, nn), make([]Strength, nn)
 	p.stamp = make([]uint32, nn)
+	p.conv.init(nn)
 }
 
 func noPhysNode() physNode {
@@ -341,6 +344,7 @@ func (s *Sim) physGroup(g *group) {
 	}
 	p := &s.phys
 	if !p.slow && s.physSingle(g) {
+		s.physConverge(g)
 		return
 	}
 	p.fast = false
@@ -370,6 +374,7 @@ func (s *Sim) physGroup(g *group) {
 			s.physLevel(g, int32(c), V0)
 		}
 	}
+	s.physConverge(g)
 }
 
 func (p *physState) next() {

@@ -227,7 +227,8 @@ func (nt *physNet) index() {
 		return
 	}
 	clear(nt.start)
-	for _, e := range nt.el {
+	for i := range nt.el {
+		e := &nt.el[i]
 		if e.a >= 0 {
 			nt.start[e.a+1]++
 		}
@@ -240,7 +241,8 @@ func (nt *physNet) index() {
 	}
 	nt.adj = grow(nt.adj, int(nt.start[k]))
 	nt.fill = append(nt.fill[:0], nt.start[:k]...)
-	for i, e := range nt.el {
+	for i := range nt.el {
+		e := &nt.el[i]
 		if e.a >= 0 {
 			nt.adj[nt.fill[e.a]] = int32(i)
 			nt.fill[e.a]++

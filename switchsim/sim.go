@@ -549,6 +549,9 @@ func (s *Sim) rounds(stop bool) bool {
 		if rec != nil {
 			rec.roundEnd = append(rec.roundEnd, int32(len(rec.changed)))
 		}
+		if s.physConverging() { // only voltages moved, each by less than before: not counted
+			limit++
+		}
 		s.nextEpoch()
 	}
 }
