@@ -113,19 +113,18 @@ type analysis struct {
 	stack        []int32
 	explored     []int32
 	cands        []int32
-	b0           []caseState
-	b0Mark       []uint32
-	b0Nodes      []int32 // changed in branch 0
-	b0All        []int32 // X before the split and solved in branch 0
-	res          []caseState
-	resMark      []uint32
-	resNodes     []int32
-	held         []int32  // fan-out left queued when case analysis began
-	l0End        int      // log entries when case analysis began
-	recC         roundLog // the rounds after an adoption
-	firstMark    []uint32 // node -> settle stamp: decide met its entry
-	contradicted bool     // the branch running has a fight at the strongest strength
-	sawX         bool     // a group solve in this settle left a node X
+	b0           []caseState // branch 0's end states, in log order
+	b0At         []int32     // node -> its entry in b0 (valid where that entry names it)
+	b0Nodes      []int32     // changed in branch 0
+	b0All        []int32     // X before the split and solved in branch 0
+	res          []caseState // the nodes resolved in this iteration, with their states
+	resAt        []int32     // node -> its entry in res (valid where that entry names it)
+	held         []int32     // fan-out left queued when case analysis began
+	l0End        int         // log entries when case analysis began
+	recC         roundLog    // the rounds after an adoption
+	firstMark    []uint32    // node -> settle stamp: decide met its entry
+	contradicted bool        // the branch running has a fight at the strongest strength
+	sawX         bool        // a group solve in this settle left a node X
 
 	// conserveCharge, made on first use (physical mode)
 	devAt    []int32 // device -> its entry in the log
@@ -134,15 +133,12 @@ type analysis struct {
 	part     []int32
 	partDevs []int32
 	failMark []uint32 // node -> settle stamp: changed in a split whose branches both did not settle
-	branchID uint32
-	iterID   uint32
 }
 
 func (a *analysis) init(nn int) {
 	a.taintMark, a.failMark, a.firstMark = make([]uint32, nn), make([]uint32, nn), make([]uint32, nn)
 	a.taint = make([]uint8, nn)
-	a.b0, a.b0Mark = make([]caseState, nn), make([]uint32, nn)
-	a.res, a.resMark = make([]caseState, nn), make([]uint32, nn)
+	a.b0At, a.resAt = make([]int32, nn), make([]int32, nn)
 }
 
 // forced records a node set to X by a forcing round.
