@@ -49,9 +49,9 @@ func (s *Sim) caseAnalysis() {
 	a.visits = 0
 	budget := caseVisits(len(s.val))
 	rec := s.rec
-	a.held = append(a.held[:0], s.gates...)              // fan-out a stopped run left queued: kept for the next Settle
-	s.undo.open()                                        // what adoption and its rounds change is logged after l0End
-	s.undo.devOn = s.mode == Physical || len(a.held) > 0 // as in segment 0: see undoLog
+	a.held = append(a.held[:0], s.gates...)                  // fan-out a stopped run left queued: kept for the next Settle
+	s.undo.open()                                            // what adoption and its rounds change is logged after l0End
+	s.undo.logDevices(s.mode == Physical || len(a.held) > 0) // as in segment 0: see undoLog
 	a.recC.reset()
 	defer func() { s.rec, s.gates = rec, append(s.gates[:0], a.held...) }()
 	for !an.Bounded {

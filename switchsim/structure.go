@@ -50,6 +50,7 @@ func (nl *Netlist) structure() {
 		a, b := nl.devA[d], nl.devB[d]
 		if boundary(a) && boundary(b) && a != b {
 			nl.devFlag[d] |= devShort
+			nl.shortDevs = append(nl.shortDevs, int32(d))
 		}
 		if !boundary(a) && !boundary(b) {
 			if ra, rb := find(a), find(b); ra != rb {

@@ -45,7 +45,8 @@ type undoLog struct {
 	id    uint32   // the open segment's stamp
 	at    []int32  // node -> its entry in segment 0 (valid where that entry names it), set by index
 	nmark []uint32 // node -> stamp of the segment that logged it
-	dmark []uint32
+	dmark []uint32 // device -> the same; made when devices are first logged
+	nd    int
 	nodes []nodeSave
 	phys  []physSave // parallel to nodes in physical mode
 	devs  []devSave
@@ -57,7 +58,17 @@ type undoLog struct {
 type undoMark struct{ nodes, devs int }
 
 func (u *undoLog) init(nn, nd int) {
-	u.nmark, u.dmark, u.at = make([]uint32, nn), make([]uint32, nd), make([]int32, nn)
+	u.nmark, u.at, u.nd = make([]uint32, nn), make([]int32, nn), nd
+}
+
+// logDevices turns the logging of devices on or off for the open segment.
+// Ideal mode logs them only where fan-out was left queued, so their stamps
+// are made on first use.
+func (u *undoLog) logDevices(on bool) {
+	u.devOn = on
+	if on && u.dmark == nil {
+		u.dmark = make([]uint32, u.nd)
+	}
 }
 
 // open starts a segment: from here on every node and device is logged
@@ -78,7 +89,8 @@ func (u *undoLog) open() undoMark {
 func (u *undoLog) reset(on, devOn bool) {
 	u.nodes, u.phys, u.devs, u.pdevs = u.nodes[:0], u.phys[:0], u.devs[:0], u.pdevs[:0]
 	u.open()
-	u.on, u.devOn = on, on && devOn
+	u.on = on
+	u.logDevices(on && devOn)
 }
 
 // index records where each node's entry of segment 0 is, for before; the
