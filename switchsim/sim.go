@@ -60,8 +60,8 @@ type NodeState struct {
 	Value    Value
 	Strength Strength
 	State    State
-	Volts    float64 // NaN in ideal mode or where unknown
 	Floating bool    // no driving path: the value is stored charge
+	Volts    float64 // NaN in ideal mode or where unknown
 }
 
 // Result is what one settle did. Its slices belong to the Sim and are
@@ -164,8 +164,11 @@ type Sim struct {
 	phys physState
 }
 
-// roundLog records the changes of a run of rounds.
+// roundLog records the changes of a run of rounds. Only the unit-delay
+// rounds' log keeps delays (Result.Delay): the phases' and case analysis's
+// are never read for them.
 type roundLog struct {
+	delays   bool
 	rounds   int
 	changed  []int32
 	roundEnd []int32
@@ -284,7 +287,7 @@ func (s *Sim) InputDrive(n int) Drive { return s.drive[n] }
 
 // Node returns node n's resolved state.
 func (s *Sim) Node(n int) NodeState {
-	return NodeState{s.val[n], s.str[n], s.state[n], s.volts[n], s.str[n].IsCharge()}
+	return NodeState{s.val[n], s.str[n], s.state[n], s.str[n].IsCharge(), s.volts[n]}
 }
 
 // Conduction returns device d's present state.
@@ -358,6 +361,7 @@ func (s *Sim) Settle() *Result {
 	s.nextEpoch()
 	s.rec = &s.unit
 	s.unit.reset()
+	s.unit.delays = true
 	s.ana.sawX = false
 
 	first := s.initial
@@ -600,7 +604,9 @@ func (s *Sim) forceOscillating() {
 				s.lastChange[n] = round
 				if rec := s.rec; rec != nil {
 					rec.changed = append(rec.changed, n)
-					rec.delay = append(rec.delay, math.NaN())
+					if rec.delays {
+						rec.delay = append(rec.delay, math.NaN())
+					}
 					rec.after = append(rec.after, s.Node(int(n)))
 				}
 			}

@@ -333,8 +333,10 @@ func (s *Sim) commit(g *group) {
 			if rec != nil {
 				s.lastChange[n] = s.roundNo
 				rec.changed = append(rec.changed, n)
-				rec.delay = append(rec.delay, delay)
-				rec.after = append(rec.after, NodeState{v, st, state, vo, st.IsCharge()})
+				if rec.delays {
+					rec.delay = append(rec.delay, delay)
+				}
+				rec.after = append(rec.after, NodeState{v, st, state, st.IsCharge(), vo})
 			}
 			s.gates = append(s.gates, n)
 		}

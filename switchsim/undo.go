@@ -205,5 +205,5 @@ func (s *Sim) saved(i int) NodeState {
 	if s.mode == Physical {
 		v = s.undo.phys[i].volts
 	}
-	return NodeState{e.val, e.str, e.state, v, e.str.IsCharge()}
+	return NodeState{e.val, e.str, e.state, e.str.IsCharge(), v}
 }
