@@ -161,6 +161,10 @@ type Sim struct {
 	buckets [Supply + 1][]int32
 	comp    []int32
 
+	// slowIdeal turns ideal mode's fast paths (resolveSingle, resolveDriven)
+	// off, so that tests can compare the general path with them (export_test.go).
+	slowIdeal bool
+
 	phys physState
 }
 
@@ -187,6 +191,7 @@ type group struct {
 	srcs       []int32 // boundary sources
 	devs       []int32 // devices not off
 	hasUnknown bool
+	strong     bool       // every device in devs is devStrong
 	nval       []Value    // parallel to nodes
 	nstr       []Strength // parallel to nodes
 	nstate     []State

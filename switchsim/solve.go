@@ -16,7 +16,7 @@ func (s *Sim) solveGroup(seed int32) {
 	done := s.stamp()
 	mark := s.mark
 	g.nodes, g.srcs, g.devs = g.nodes[:0], g.srcs[:0], g.devs[:0]
-	g.hasUnknown = false
+	g.hasUnknown, g.strong = false, true
 	g.srcHas = [3]bool{}
 	g.nodes = append(g.nodes, seed)
 	mark[seed] = gid
@@ -41,6 +41,7 @@ func (s *Sim) solveGroup(seed int32) {
 				continue // listed when o was looked at
 			}
 			g.devs = append(g.devs, d)
+			g.strong = g.strong && nl.devFlag[d]&devStrong != 0
 			if c == Unknown {
 				g.hasUnknown = true
 			}
@@ -80,9 +81,15 @@ func (s *Sim) resolve(g *group) {
 	g.nval, g.nstr, g.nstate = grow(g.nval, k), grow(g.nstr, k), grow(g.nstate, k)
 	g.nvolts, g.contested = grow(g.nvolts, k), grow(g.contested, k)
 
-	if k == 1 && !g.hasUnknown {
-		s.resolveSingle(g)
-		return
+	if !g.hasUnknown && !s.slowIdeal {
+		switch {
+		case k == 1:
+			s.resolveSingle(g)
+			return
+		case g.strong && len(g.srcs) > 0:
+			s.resolveDriven(g)
+			return
+		}
 	}
 
 	// Sure pass: devices that are on. Strengths are settled level by level,
@@ -242,6 +249,29 @@ func (s *Sim) resolveSingle(g *group) {
 		g.nstate[0] = StateL + State(v)
 	default:
 		g.nstate[0] = State0 + State(v)
+	}
+}
+
+// resolveDriven is resolve for a group that a source reaches, whose
+// devices are all on and pass every driving signal at strong: every
+// node is reached at strong by every source of the boundary, so the
+// whole group is one component at that level, with the combined value of
+// the boundary (a fight where it holds a 0 and a 1). No node is contested:
+// the node's value is the boundary's, or X.
+func (s *Sim) resolveDriven(g *group) {
+	h := g.srcHas
+	v, state := VX, StateX
+	switch {
+	case h[VX] || (h[V0] && h[V1]):
+	case h[V0]:
+		v, state = V0, State0
+	default:
+		v, state = V1, State1
+	}
+	mixed, nan := h[V0] && h[V1], math.NaN()
+	for i, n := range g.nodes {
+		s.fight[n], s.shared[n], s.contest[n] = mixed, false, false
+		g.nval[i], g.nstr[i], g.nstate[i], g.nvolts[i], g.contested[i] = v, Strong, state, nan, false
 	}
 }
 
