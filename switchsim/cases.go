@@ -83,6 +83,7 @@ func (s *Sim) caseAnalysis() {
 
 // newTaint forgets what tainted found: the state changed.
 func (a *analysis) newTaint() {
+	a.taintMark, a.taint = perNode(a.taintMark, a.nn), perNode(a.taint, a.nn)
 	a.taintID++
 	if a.taintID == 0 {
 		clear(a.taintMark)
@@ -174,6 +175,7 @@ func (s *Sim) taintSource(m int32) bool {
 func (s *Sim) split(c int32) {
 	a := &s.ana
 	u := &s.undo
+	a.b0At, a.resAt, a.failMark = perNode(a.b0At, a.nn), perNode(a.resAt, a.nn), perNode(a.failMark, a.nn)
 	m := s.branchStart(c, V0)
 	ok0 := s.rounds(true)
 	bad0 := s.contradicts(c, V0)

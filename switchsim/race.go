@@ -132,13 +132,21 @@ type analysis struct {
 	partID   uint32
 	part     []int32
 	partDevs []int32
-	failMark []uint32 // node -> settle stamp: changed in a split whose branches both did not settle
+	failMark []uint32 // node -> settle stamp: changed in a split whose branches both did not settle (nil: none yet)
+	nn       int      // nodes, for the arrays made on first use
 }
 
-func (a *analysis) init(nn int) {
-	a.taintMark, a.failMark, a.firstMark = make([]uint32, nn), make([]uint32, nn), make([]uint32, nn)
-	a.taint = make([]uint8, nn)
-	a.b0At, a.resAt = make([]int32, nn), make([]int32, nn)
+// init sizes the analyses for nn nodes. Their per-node arrays are made on
+// first use (grown): most settles never split, and many never run race
+// analysis, so a compiled design does not carry them.
+func (a *analysis) init(nn int) { a.nn = nn }
+
+// perNode returns x, made with nn entries on first use.
+func perNode[T any](x []T, nn int) []T {
+	if x == nil {
+		x = make([]T, nn)
+	}
+	return x
 }
 
 // forced records a node set to X by a forcing round.
@@ -249,7 +257,7 @@ func (s *Sim) classify() {
 	}
 	for _, n := range keep {
 		kind, note, stage := WarnRace, noteRace, InPhaseB
-		if a.failMark[n] == s.settleID {
+		if a.failMark != nil && a.failMark[n] == s.settleID {
 			kind, note, stage = WarnOscillation, noteOscillation, InCases
 			r.Oscillated = true
 		}
@@ -348,6 +356,7 @@ func (s *Sim) decide() {
 		case i < a.l0End && i < a.unitN:
 			was = a.unitEnd[i]
 		case i >= a.l0End:
+			a.firstMark = perNode(a.firstMark, a.nn)
 			if a.firstMark[n] == s.settleID || (a.ran && u.before(n) >= 0 && u.before(n) < a.l0End) {
 				continue
 			}

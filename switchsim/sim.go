@@ -222,9 +222,6 @@ func NewSim(nl *Netlist, opt Options) *Sim {
 	s.shortMark = make([]uint32, len(nl.shortDevs))
 	s.lastChange = make([]int32, nn)
 	s.best, s.inj, s.arr = make([]Strength, nn), make([]Value, nn), make([]uint8, nn)
-	for v := 0; v < 2; v++ {
-		s.pot[v] = make([]Strength, nn)
-	}
 	s.undo.init(nn, nd)
 	s.ana.init(nn)
 	for n := 0; n < nn; n++ {

@@ -292,6 +292,7 @@ func (s *Sim) relax(o int32, st Strength, v Value, stamp uint32) {
 // sure strength (s.best).
 func (s *Sim) potential(g *group, v Value) {
 	nl := s.nl
+	s.pot[v] = perNode(s.pot[v], len(s.val)) // made on first use: most groups have no device of unknown state
 	pot, pdone := s.pot[v], s.mark
 	stamp := s.stamp()
 	for i := range s.buckets {

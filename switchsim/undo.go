@@ -46,6 +46,7 @@ type undoLog struct {
 	at    []int32  // node -> its entry in segment 0 (valid where that entry names it), set by index
 	nmark []uint32 // node -> stamp of the segment that logged it
 	dmark []uint32 // device -> the same; made when devices are first logged
+	nn    int
 	nd    int
 	nodes []nodeSave
 	phys  []physSave // parallel to nodes in physical mode
@@ -58,7 +59,7 @@ type undoLog struct {
 type undoMark struct{ nodes, devs int }
 
 func (u *undoLog) init(nn, nd int) {
-	u.nmark, u.at, u.nd = make([]uint32, nn), make([]int32, nn), nd
+	u.nmark, u.nn, u.nd = make([]uint32, nn), nn, nd
 }
 
 // logDevices turns the logging of devices on or off for the open segment.
@@ -96,6 +97,7 @@ func (u *undoLog) reset(on, devOn bool) {
 // index records where each node's entry of segment 0 is, for before; the
 // hot path leaves it to the analysis that needs it.
 func (u *undoLog) index() {
+	u.at = perNode(u.at, u.nn)
 	for i := range u.nodes {
 		u.at[u.nodes[i].n] = int32(i)
 	}
@@ -105,6 +107,9 @@ func (u *undoLog) index() {
 // none (it did not change since the settle began). index must have run
 // since the last entry was added.
 func (u *undoLog) before(n int32) int {
+	if u.at == nil {
+		return -1 // index never ran: no analysis has looked
+	}
 	if i := int(u.at[n]); i < len(u.nodes) && u.nodes[i].n == n {
 		return i
 	}
