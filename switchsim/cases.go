@@ -17,6 +17,7 @@ import (
 
 // caseState is a node's state at the end of a branch.
 type caseState struct {
+	n        int32 // the node
 	st       NodeState
 	phys     physRec
 	contest  bool
@@ -48,9 +49,9 @@ func (s *Sim) caseAnalysis() {
 	a.visits = 0
 	budget := caseVisits(len(s.val))
 	rec := s.rec
-	a.held = append(a.held[:0], s.gates...)              // fan-out a stopped run left queued: kept for the next Settle
-	s.undo.open()                                        // what adoption and its rounds change is logged after l0End
-	s.undo.devOn = s.mode == Physical || len(a.held) > 0 // as in segment 0: see undoLog
+	a.held = append(a.held[:0], s.gates...)                  // fan-out a stopped run left queued: kept for the next Settle
+	s.undo.open()                                            // what adoption and its rounds change is logged after l0End
+	s.undo.logDevices(s.mode == Physical || len(a.held) > 0) // as in segment 0: see undoLog
 	a.recC.reset()
 	defer func() { s.rec, s.gates = rec, append(s.gates[:0], a.held...) }()
 	for !an.Bounded {
@@ -65,8 +66,7 @@ func (s *Sim) caseAnalysis() {
 			return
 		}
 		slices.Sort(a.cands)
-		a.iterID++
-		a.resNodes = a.resNodes[:0]
+		a.res = a.res[:0]
 		for _, c := range a.cands {
 			if an.Splits >= s.splits || a.visits >= budget {
 				an.Bounded = true
@@ -83,6 +83,7 @@ func (s *Sim) caseAnalysis() {
 
 // newTaint forgets what tainted found: the state changed.
 func (a *analysis) newTaint() {
+	a.taintMark, a.taint = perNode(a.taintMark, a.nn), perNode(a.taint, a.nn)
 	a.taintID++
 	if a.taintID == 0 {
 		clear(a.taintMark)
@@ -174,15 +175,15 @@ func (s *Sim) taintSource(m int32) bool {
 func (s *Sim) split(c int32) {
 	a := &s.ana
 	u := &s.undo
-	a.branchID++
-	id0 := a.branchID
+	a.b0At, a.resAt, a.failMark = perNode(a.b0At, a.nn), perNode(a.resAt, a.nn), perNode(a.failMark, a.nn)
 	m := s.branchStart(c, V0)
 	ok0 := s.rounds(true)
 	bad0 := s.contradicts(c, V0)
-	a.b0Nodes, a.b0All = a.b0Nodes[:0], a.b0All[:0]
+	a.b0Nodes, a.b0All, a.b0 = a.b0Nodes[:0], a.b0All[:0], a.b0[:0]
 	for i := m.nodes; i < len(u.nodes); i++ {
 		e := &u.nodes[i]
-		a.b0[e.n], a.b0Mark[e.n] = s.caseStateOf(e.n), id0
+		a.b0At[e.n] = int32(len(a.b0))
+		a.b0 = append(a.b0, s.caseStateOf(e.n))
 		if e.val == VX {
 			a.b0All = append(a.b0All, e.n) // X before the split
 		}
@@ -199,21 +200,23 @@ func (s *Sim) split(c int32) {
 		for i := m.nodes; i < len(u.nodes); i++ {
 			e := &u.nodes[i]
 			n := e.n
-			if e.val != VX || s.val[n] == VX || a.b0Mark[n] != id0 || a.b0[n].st.Value != s.val[n] {
+			if e.val != VX || s.val[n] == VX {
 				continue
 			}
-			s.record(n, weaker(a.b0[n], s.caseStateOf(n)), c)
+			if b := a.branch0(n); b != nil && b.st.Value == s.val[n] {
+				s.record(weaker(*b, s.caseStateOf(n)), c)
+			}
 		}
 	case ok1 && !bad1 && bad0: // c is 1 in every real state: branch 1 alone decides
 		for i := m.nodes; i < len(u.nodes); i++ {
 			if e := &u.nodes[i]; e.val == VX && s.val[e.n] != VX {
-				s.record(e.n, s.caseStateOf(e.n), c)
+				s.record(s.caseStateOf(e.n), c)
 			}
 		}
 	case ok0 && !bad0 && bad1: // c is 0 in every real state: branch 0 alone decides
 		for _, n := range a.b0All {
-			if a.b0[n].st.Value != VX {
-				s.record(n, a.b0[n], c)
+			if b := a.branch0(n); b.st.Value != VX {
+				s.record(*b, c)
 			}
 		}
 	case !ok0 && !ok1:
@@ -262,7 +265,7 @@ func (s *Sim) branchStart(c int32, v Value) undoMark {
 }
 
 func (s *Sim) caseStateOf(n int32) caseState {
-	cs := caseState{st: s.Node(int(n)), contest: s.contest[n], shared: s.shared[n]}
+	cs := caseState{n: n, st: s.Node(int(n)), contest: s.contest[n], shared: s.shared[n]}
 	if s.mode == Physical {
 		cs.phys = s.phys.info[n]
 	}
@@ -287,17 +290,27 @@ func weaker(x, y caseState) caseState {
 	return x
 }
 
-// record notes that splitting on c resolves n to cs.
-func (s *Sim) record(n int32, cs caseState, c int32) {
+// branch0 returns node n's state at the end of branch 0 of the split
+// running, nil where branch 0 did not solve it.
+func (a *analysis) branch0(n int32) *caseState {
+	if i := int(a.b0At[n]); i < len(a.b0) && a.b0[i].n == n {
+		return &a.b0[i]
+	}
+	return nil
+}
+
+// record notes that splitting on c resolves node cs.n to cs.
+func (s *Sim) record(cs caseState, c int32) {
 	a := &s.ana
+	n := cs.n
 	cs.split = c
-	if a.resMark[n] != a.iterID {
-		a.resMark[n] = a.iterID
-		a.res[n] = cs
-		a.resNodes = append(a.resNodes, n)
+	i := int(a.resAt[n])
+	if i >= len(a.res) || a.res[i].n != n {
+		a.resAt[n] = int32(len(a.res))
+		a.res = append(a.res, cs)
 		return
 	}
-	old := &a.res[n]
+	old := &a.res[i]
 	if old.st.Value != cs.st.Value {
 		old.conflict = true
 		return
@@ -315,8 +328,9 @@ func (s *Sim) adopt() bool {
 	a := &s.ana
 	any := false
 	s.gates = append(s.gates[:0], a.held...)
-	for _, n := range a.resNodes {
-		cs := &a.res[n]
+	for i := range a.res {
+		cs := &a.res[i]
+		n := cs.n
 		if cs.conflict {
 			continue // the splits disagree: no stable state, leave it X
 		}

@@ -7,3 +7,9 @@ func (s *Sim) SetPhysFastPath(on bool) { s.phys.slow = !on }
 
 // PhysFastPath reports whether s's fast path is on.
 func (s *Sim) PhysFastPath() bool { return !s.phys.slow }
+
+// SetIdealFastPaths switches ideal mode's fast paths of resolve (one node;
+// a group every device of which is on and passes at strong, reached by a
+// source) on or off, so that the external tests can compare them with the
+// general path. They are on in every new Sim.
+func (s *Sim) SetIdealFastPaths(on bool) { s.slowIdeal = !on }

@@ -42,9 +42,10 @@ type Netlist struct {
 	gateDev   []int32
 
 	// structure (structure.go)
-	nodeFlag []uint8
-	devFlag  []uint8
-	top      Strength // the strongest signal a device passes: min(supply, cap) at most
+	nodeFlag  []uint8
+	devFlag   []uint8
+	shortDevs []int32  // the devices flagged devShort, in order
+	top       Strength // the strongest signal a device passes: min(supply, cap) at most
 
 	// original spellings (Builder.Original), nil when every name is its own
 	nodeOrig, devOrig     []string

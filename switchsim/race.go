@@ -121,19 +121,18 @@ type analysis struct {
 	stack        []int32
 	explored     []int32
 	cands        []int32
-	b0           []caseState
-	b0Mark       []uint32
-	b0Nodes      []int32 // changed in branch 0
-	b0All        []int32 // X before the split and solved in branch 0
-	res          []caseState
-	resMark      []uint32
-	resNodes     []int32
-	held         []int32  // fan-out left queued when case analysis began
-	l0End        int      // log entries when case analysis began
-	recC         roundLog // the rounds after an adoption
-	firstMark    []uint32 // node -> settle stamp: decide met its entry
-	contradicted bool     // the branch running has a fight at the strongest strength
-	sawX         bool     // a group solve in this settle left a node X
+	b0           []caseState // branch 0's end states, in log order
+	b0At         []int32     // node -> its entry in b0 (valid where that entry names it)
+	b0Nodes      []int32     // changed in branch 0
+	b0All        []int32     // X before the split and solved in branch 0
+	res          []caseState // the nodes resolved in this iteration, with their states
+	resAt        []int32     // node -> its entry in res (valid where that entry names it)
+	held         []int32     // fan-out left queued when case analysis began
+	l0End        int         // log entries when case analysis began
+	recC         roundLog    // the rounds after an adoption
+	firstMark    []uint32    // node -> settle stamp: decide met its entry
+	contradicted bool        // the branch running has a fight at the strongest strength
+	sawX         bool        // a group solve in this settle left a node X
 
 	// conserveCharge, made on first use (physical mode)
 	devAt    []int32 // device -> its entry in the log
@@ -141,16 +140,21 @@ type analysis struct {
 	partID   uint32
 	part     []int32
 	partDevs []int32
-	failMark []uint32 // node -> settle stamp: changed in a split whose branches both did not settle
-	branchID uint32
-	iterID   uint32
+	failMark []uint32 // node -> settle stamp: changed in a split whose branches both did not settle (nil: none yet)
+	nn       int      // nodes, for the arrays made on first use
 }
 
-func (a *analysis) init(nn int) {
-	a.taintMark, a.failMark, a.firstMark = make([]uint32, nn), make([]uint32, nn), make([]uint32, nn)
-	a.taint = make([]uint8, nn)
-	a.b0, a.b0Mark = make([]caseState, nn), make([]uint32, nn)
-	a.res, a.resMark = make([]caseState, nn), make([]uint32, nn)
+// init sizes the analyses for nn nodes. Their per-node arrays are made on
+// first use (grown): most settles never split, and many never run race
+// analysis, so a compiled design does not carry them.
+func (a *analysis) init(nn int) { a.nn = nn }
+
+// perNode returns x, made with nn entries on first use.
+func perNode[T any](x []T, nn int) []T {
+	if x == nil {
+		x = make([]T, nn)
+	}
+	return x
 }
 
 // forced records a node set to X by a forcing round.
@@ -254,7 +258,7 @@ func (s *Sim) classify() {
 	}
 	for _, n := range keep {
 		kind, note, stage := WarnRace, noteRace, InPhaseB
-		if a.failMark[n] == s.settleID {
+		if a.failMark != nil && a.failMark[n] == s.settleID {
 			kind, note, stage = WarnOscillation, noteOscillation, InCases
 			r.Oscillated = true
 		}
@@ -431,6 +435,7 @@ func (s *Sim) decide() {
 		case i < a.l0End && i < a.unitN:
 			was = a.unitEnd[i]
 		case i >= a.l0End:
+			a.firstMark = perNode(a.firstMark, a.nn)
 			if a.firstMark[n] == s.settleID || (a.ran && u.before(n) >= 0 && u.before(n) < a.l0End) {
 				continue
 			}

@@ -67,8 +67,8 @@ type NodeState struct {
 	Value    Value
 	Strength Strength
 	State    State
-	Volts    float64 // NaN in ideal mode or where unknown
 	Floating bool    // no driving path: the value is stored charge
+	Volts    float64 // NaN in ideal mode or where unknown
 }
 
 // Result is what one settle did. Its slices belong to the Sim and are
@@ -132,27 +132,30 @@ type Sim struct {
 	dirtyMark []bool
 
 	// scratch, reused by every settle
-	epoch      uint32
-	gmark      []uint32 // node -> epoch of the group that took it this round
-	smark      []uint32 // node -> group id that listed it as a source
-	dmark      []uint32 // device -> group id that listed it
-	seedMark   []uint32
-	touchMark  []uint32 // node -> settle stamp: solved during this settle
-	settleID   uint32
-	gid        uint32
-	seeds      []int32
-	gates      []int32
-	lastChange []int32 // node -> the settle's round count when it last changed (0: not in this settle)
-	roundNo    int32   // rounds run in this settle so far, phases and branches included
-	runStart   int32   // roundNo when the present run of rounds began
-	touched    []int32
-	g          group
-	res        Result
-	warnMark   []uint32
-	rec        *roundLog // where commit records changes; nil in a case-analysis branch
-	unit       roundLog
-	shorts     []int32  // devices joining two sources to check at the end of the settle
-	shortMark  []uint32 // device -> settle stamp: listed in shorts
+	//
+	// mark is the one per-node stamp of the rounds (DEVELOPERS.md "Data
+	// layout"): tick hands out stamps in increasing order, and epoch is the
+	// present round's. A non-source node's mark is epoch when it was seeded
+	// in this round and above epoch once a group of this round took it (the
+	// group's stamps, then resolve's); a source's mark is the group's stamp
+	// when that group listed it in its boundary.
+	tick, epoch uint32
+	mark        []uint32
+	touchMark   []uint32 // node -> settle stamp: solved during this settle
+	settleID    uint32
+	seeds       []int32
+	gates       []int32
+	lastChange  []int32 // node -> the settle's round count when it last changed (0: not in this settle)
+	roundNo     int32   // rounds run in this settle so far, phases and branches included
+	runStart    int32   // roundNo when the present run of rounds began
+	touched     []int32
+	g           group
+	res         Result
+	warnMark    []uint32
+	rec         *roundLog // where commit records changes; nil in a case-analysis branch
+	unit        roundLog
+	shorts      []int32  // devices joining two sources to check at the end of the settle
+	shortMark   []uint32 // Netlist.shortDevs entry -> settle stamp: listed in shorts
 
 	undo       undoLog
 	ana        analysis
@@ -161,17 +164,22 @@ type Sim struct {
 	best    []Strength
 	inj     []Value
 	arr     []uint8 // resolve: the values (bit 1<<v) that arrived at a node's best strength
-	done    []uint32
 	pot     [2][]Strength
-	pdone   [2][]uint32
 	buckets [Supply + 1][]int32
 	comp    []int32
+
+	// slowIdeal turns ideal mode's fast paths (resolveSingle, resolveDriven)
+	// off, so that tests can compare the general path with them (export_test.go).
+	slowIdeal bool
 
 	phys physState
 }
 
-// roundLog records the changes of a run of rounds.
+// roundLog records the changes of a run of rounds. Only the unit-delay
+// rounds' log keeps delays (Result.Delay): the phases' and case analysis's
+// are never read for them.
 type roundLog struct {
+	delays   bool
 	rounds   int
 	changed  []int32
 	roundEnd []int32
@@ -190,6 +198,7 @@ type group struct {
 	srcs       []int32 // boundary sources
 	devs       []int32 // devices not off
 	hasUnknown bool
+	strong     bool       // every device in devs is devStrong
 	nval       []Value    // parallel to nodes
 	nstr       []Strength // parallel to nodes
 	nstate     []State
@@ -215,14 +224,11 @@ func NewSim(nl *Netlist, opt Options) *Sim {
 	s.contest, s.shared = make([]bool, nn), make([]bool, nn)
 	s.note = make([]nodeNote, nn)
 	s.dirtyMark = make([]bool, nn)
-	s.gmark, s.smark, s.seedMark, s.touchMark = make([]uint32, nn), make([]uint32, nn), make([]uint32, nn), make([]uint32, nn)
+	s.mark, s.touchMark = make([]uint32, nn), make([]uint32, nn)
 	s.warnMark = make([]uint32, nn)
-	s.dmark, s.shortMark = make([]uint32, nd), make([]uint32, nd)
+	s.shortMark = make([]uint32, len(nl.shortDevs))
 	s.lastChange = make([]int32, nn)
-	s.best, s.inj, s.done, s.arr = make([]Strength, nn), make([]Value, nn), make([]uint32, nn), make([]uint8, nn)
-	for v := 0; v < 2; v++ {
-		s.pot[v], s.pdone[v] = make([]Strength, nn), make([]uint32, nn)
-	}
+	s.best, s.inj, s.arr = make([]Strength, nn), make([]Value, nn), make([]uint8, nn)
 	s.undo.init(nn, nd)
 	s.ana.init(nn)
 	for n := 0; n < nn; n++ {
@@ -290,7 +296,7 @@ func (s *Sim) InputDrive(n int) Drive { return s.drive[n] }
 
 // Node returns node n's resolved state.
 func (s *Sim) Node(n int) NodeState {
-	return NodeState{s.val[n], s.str[n], s.state[n], s.volts[n], s.str[n].IsCharge()}
+	return NodeState{s.val[n], s.str[n], s.state[n], s.str[n].IsCharge(), s.volts[n]}
 }
 
 // Conduction returns device d's present state.
@@ -364,6 +370,7 @@ func (s *Sim) Settle() *Result {
 	s.nextEpoch()
 	s.rec = &s.unit
 	s.unit.reset()
+	s.unit.delays = true
 	s.ana.sawX = false
 
 	first := s.initial
@@ -541,7 +548,7 @@ func (s *Sim) rounds(stop bool) bool {
 			rec.rounds = round
 		}
 		for _, n := range s.seeds {
-			if s.gmark[n] != s.epoch {
+			if s.mark[n] == s.epoch { // not taken by a group of this round yet
 				s.solveGroup(n)
 			}
 		}
@@ -556,20 +563,36 @@ func (s *Sim) rounds(stop bool) bool {
 	}
 }
 
+// nextEpoch starts a round's stamps. It is called with no seeds queued, so
+// that where the stamps would run out within the round (a round takes at
+// most stampsPerGroup for each of its groups, one group a node at most)
+// they can start again from zero.
 func (s *Sim) nextEpoch() {
-	s.epoch++
-	if s.epoch == 0 { // wrapped: clear the stamps
-		clear(s.gmark)
-		clear(s.seedMark)
-		s.epoch = 1
+	if uint64(s.tick)+stampsPerGroup*uint64(len(s.mark))+2 > math.MaxUint32 {
+		clear(s.mark)
+		s.tick = 0
 	}
+	s.tick++
+	s.epoch = s.tick
 }
 
+// stampsPerGroup is the most stamps one group solve takes: its own, the
+// sure pass's and one for each potential.
+const stampsPerGroup = 4
+
+// stamp hands out a fresh stamp, above every one given before in this round.
+func (s *Sim) stamp() uint32 {
+	s.tick++
+	return s.tick
+}
+
+// seed queues node n's group for this round, unless n was queued or taken
+// by a group in it already.
 func (s *Sim) seed(n int32) {
-	if s.seedMark[n] == s.epoch {
+	if s.mark[n] >= s.epoch {
 		return
 	}
-	s.seedMark[n] = s.epoch
+	s.mark[n] = s.epoch
 	s.seeds = append(s.seeds, n)
 }
 
@@ -603,7 +626,9 @@ func (s *Sim) forceOscillating() {
 				s.lastChange[n] = round
 				if rec := s.rec; rec != nil {
 					rec.changed = append(rec.changed, n)
-					rec.delay = append(rec.delay, math.NaN())
+					if rec.delays {
+						rec.delay = append(rec.delay, math.NaN())
+					}
 					rec.after = append(rec.after, s.Node(int(n)))
 				}
 			}

@@ -8,21 +8,22 @@ import "math"
 func (s *Sim) solveGroup(seed int32) {
 	nl := s.nl
 	g := &s.g
-	s.gid++
-	if s.gid == 0 {
-		clear(s.smark)
-		clear(s.dmark)
-		s.gid = 1
-	}
-	gid := s.gid
+	// A node the group takes is marked gid; a source it lists too. A node
+	// whose devices have been looked at is marked gid + 1, so that a device
+	// between two of the group's nodes is listed once, from the first of
+	// them looked at (the order in which the devices are first met).
+	gid := s.stamp()
+	done := s.stamp()
+	mark := s.mark
 	g.nodes, g.srcs, g.devs = g.nodes[:0], g.srcs[:0], g.devs[:0]
-	g.hasUnknown = false
+	g.hasUnknown, g.strong = false, true
 	g.srcHas = [3]bool{}
 	g.nodes = append(g.nodes, seed)
-	s.gmark[seed] = s.epoch
+	mark[seed] = gid
 	log, rec := s.undo.on, s.rec != nil
 	for i := 0; i < len(g.nodes); i++ {
 		n := g.nodes[i]
+		mark[n] = done
 		// log before the solve that may change it; mark it solved in this settle
 		if log && s.undo.nmark[n] != s.undo.id {
 			s.saveNode(n)
@@ -35,22 +36,23 @@ func (s *Sim) solveGroup(seed int32) {
 			if c == Off {
 				continue
 			}
-			if s.dmark[d] != gid {
-				s.dmark[d] = gid
-				g.devs = append(g.devs, d)
-				if c == Unknown {
-					g.hasUnknown = true
-				}
-			}
 			o := nl.other(d, n)
+			if o != n && mark[o] == done {
+				continue // listed when o was looked at
+			}
+			g.devs = append(g.devs, d)
+			g.strong = g.strong && nl.devFlag[d]&devStrong != 0
+			if c == Unknown {
+				g.hasUnknown = true
+			}
 			if s.source[o] {
-				if s.smark[o] != gid {
-					s.smark[o] = gid
+				if mark[o] != gid {
+					mark[o] = gid
 					g.srcs = append(g.srcs, o)
 					g.srcHas[s.val[o]] = true
 				}
-			} else if s.gmark[o] != s.epoch {
-				s.gmark[o] = s.epoch
+			} else if mark[o] != gid && o != n {
+				mark[o] = gid
 				g.nodes = append(g.nodes, o)
 			}
 		}
@@ -79,9 +81,15 @@ func (s *Sim) resolve(g *group) {
 	g.nval, g.nstr, g.nstate = grow(g.nval, k), grow(g.nstr, k), grow(g.nstate, k)
 	g.nvolts, g.contested = grow(g.nvolts, k), grow(g.contested, k)
 
-	if k == 1 && !g.hasUnknown {
-		s.resolveSingle(g)
-		return
+	if !g.hasUnknown && !s.slowIdeal {
+		switch {
+		case k == 1:
+			s.resolveSingle(g)
+			return
+		case g.strong && len(g.srcs) > 0:
+			s.resolveDriven(g)
+			return
+		}
 	}
 
 	// Sure pass: devices that are on. Strengths are settled level by level,
@@ -89,14 +97,14 @@ func (s *Sim) resolve(g *group) {
 	// passes on only that (weaker signals are blocked, Bryant 1984). The
 	// nodes reached at one level through devices at least that strong form a
 	// component whose value is the combination of everything injected into it.
-	stamp := s.epoch
+	stamp := s.stamp() // a node's mark is stamp once its level's component took it
+	done := s.mark
 	for i := range s.buckets {
 		s.buckets[i] = s.buckets[i][:0]
 	}
 	for _, n := range g.nodes {
 		s.best[n], s.inj[n], s.arr[n] = nl.nodeCharge[n], s.val[n], 1<<s.val[n]
 		s.shared[n] = false
-		s.done[n] = 0
 		s.buckets[s.best[n]] = append(s.buckets[s.best[n]], n)
 	}
 	// Sources inject through the group's own devices only: a rail touches
@@ -117,11 +125,11 @@ func (s *Sim) resolve(g *group) {
 	for lvl := Supply; lvl >= Small; lvl-- {
 		for bi := 0; bi < len(s.buckets[lvl]); bi++ {
 			t := s.buckets[lvl][bi]
-			if s.done[t] == stamp || s.best[t] != lvl {
+			if done[t] == stamp || s.best[t] != lvl {
 				continue
 			}
 			s.comp = append(s.comp[:0], t)
-			s.done[t] = stamp
+			done[t] = stamp
 			cv := s.inj[t]
 			arrived := s.arr[t] // the values that arrived at this level; a 0 and a 1 are a fight, not an unknown
 			for ci := 0; ci < len(s.comp); ci++ {
@@ -131,10 +139,10 @@ func (s *Sim) resolve(g *group) {
 						continue
 					}
 					o := nl.other(d, m)
-					if s.source[o] || s.done[o] == stamp {
+					if s.source[o] || done[o] == stamp {
 						continue
 					}
-					s.done[o] = stamp
+					done[o] = stamp
 					if s.best[o] == lvl {
 						arrived |= s.arr[o]
 						cv = lub(cv, s.inj[o])
@@ -159,7 +167,7 @@ func (s *Sim) resolve(g *group) {
 						continue
 					}
 					o := nl.other(d, m)
-					if !s.source[o] && s.done[o] != stamp {
+					if !s.source[o] && done[o] != stamp {
 						s.relax(o, nl.pass(d, lvl), cv, stamp)
 					}
 				}
@@ -244,6 +252,29 @@ func (s *Sim) resolveSingle(g *group) {
 	}
 }
 
+// resolveDriven is resolve for a group that a source reaches, whose
+// devices are all on and pass every driving signal at strong: every
+// node is reached at strong by every source of the boundary, so the
+// whole group is one component at that level, with the combined value of
+// the boundary (a fight where it holds a 0 and a 1). No node is contested:
+// the node's value is the boundary's, or X.
+func (s *Sim) resolveDriven(g *group) {
+	h := g.srcHas
+	v, state := VX, StateX
+	switch {
+	case h[VX] || (h[V0] && h[V1]):
+	case h[V0]:
+		v, state = V0, State0
+	default:
+		v, state = V1, State1
+	}
+	mixed, nan := h[V0] && h[V1], math.NaN()
+	for i, n := range g.nodes {
+		s.fight[n], s.shared[n], s.contest[n] = mixed, false, false
+		g.nval[i], g.nstr[i], g.nstate[i], g.nvolts[i], g.contested[i] = v, Strong, state, nan, false
+	}
+}
+
 func (s *Sim) relax(o int32, st Strength, v Value, stamp uint32) {
 	switch {
 	case st > s.best[o]:
@@ -261,14 +292,14 @@ func (s *Sim) relax(o int32, st Strength, v Value, stamp uint32) {
 // sure strength (s.best).
 func (s *Sim) potential(g *group, v Value) {
 	nl := s.nl
-	pot, pdone := s.pot[v], s.pdone[v]
-	stamp := s.epoch
+	s.pot[v] = perNode(s.pot[v], len(s.val)) // made on first use: most groups have no device of unknown state
+	pot, pdone := s.pot[v], s.mark
+	stamp := s.stamp()
 	for i := range s.buckets {
 		s.buckets[i] = s.buckets[i][:0]
 	}
 	for _, n := range g.nodes {
 		pot[n] = HighZ
-		pdone[n] = 0
 		if sv := s.val[n]; sv == v || sv == VX {
 			pot[n] = nl.nodeCharge[n]
 			s.buckets[pot[n]] = append(s.buckets[pot[n]], n)
@@ -333,8 +364,10 @@ func (s *Sim) commit(g *group) {
 			if rec != nil {
 				s.lastChange[n] = s.roundNo
 				rec.changed = append(rec.changed, n)
-				rec.delay = append(rec.delay, delay)
-				rec.after = append(rec.after, NodeState{v, st, state, vo, st.IsCharge()})
+				if rec.delays {
+					rec.delay = append(rec.delay, delay)
+				}
+				rec.after = append(rec.after, NodeState{v, st, state, st.IsCharge(), vo})
 			}
 			s.gates = append(s.gates, n)
 		}

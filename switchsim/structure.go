@@ -18,6 +18,7 @@ const (
 	devFeedback uint8 = 1 << iota // gated by a node of the loop its channel belongs to
 	devPass                       // passes a signal, not a pull from a rail stack (see markPass)
 	devShort                      // both channel terminals are rails or inputs
+	devStrong                     // passes every driving signal at strong: not resistive, cap strong
 )
 
 // structure fills nl's node and device flags.
@@ -48,8 +49,12 @@ func (nl *Netlist) structure() {
 	}
 	for d := 0; d < nd; d++ {
 		a, b := nl.devA[d], nl.devB[d]
+		if nl.devCap[d] == Strong && (nl.devResist == nil || !nl.devResist[d]) {
+			nl.devFlag[d] |= devStrong
+		}
 		if boundary(a) && boundary(b) && a != b {
 			nl.devFlag[d] |= devShort
+			nl.shortDevs = append(nl.shortDevs, int32(d))
 		}
 		if !boundary(a) && !boundary(b) {
 			if ra, rb := find(a), find(b); ra != rb {

@@ -45,7 +45,9 @@ type undoLog struct {
 	id    uint32   // the open segment's stamp
 	at    []int32  // node -> its entry in segment 0 (valid where that entry names it), set by index
 	nmark []uint32 // node -> stamp of the segment that logged it
-	dmark []uint32
+	dmark []uint32 // device -> the same; made when devices are first logged
+	nn    int
+	nd    int
 	nodes []nodeSave
 	phys  []physSave // parallel to nodes in physical mode
 	devs  []devSave
@@ -57,7 +59,17 @@ type undoLog struct {
 type undoMark struct{ nodes, devs int }
 
 func (u *undoLog) init(nn, nd int) {
-	u.nmark, u.dmark, u.at = make([]uint32, nn), make([]uint32, nd), make([]int32, nn)
+	u.nmark, u.nn, u.nd = make([]uint32, nn), nn, nd
+}
+
+// logDevices turns the logging of devices on or off for the open segment.
+// Ideal mode logs them only where fan-out was left queued, so their stamps
+// are made on first use.
+func (u *undoLog) logDevices(on bool) {
+	u.devOn = on
+	if on && u.dmark == nil {
+		u.dmark = make([]uint32, u.nd)
+	}
 }
 
 // open starts a segment: from here on every node and device is logged
@@ -78,12 +90,14 @@ func (u *undoLog) open() undoMark {
 func (u *undoLog) reset(on, devOn bool) {
 	u.nodes, u.phys, u.devs, u.pdevs = u.nodes[:0], u.phys[:0], u.devs[:0], u.pdevs[:0]
 	u.open()
-	u.on, u.devOn = on, on && devOn
+	u.on = on
+	u.logDevices(on && devOn)
 }
 
 // index records where each node's entry of segment 0 is, for before; the
 // hot path leaves it to the analysis that needs it.
 func (u *undoLog) index() {
+	u.at = perNode(u.at, u.nn)
 	for i := range u.nodes {
 		u.at[u.nodes[i].n] = int32(i)
 	}
@@ -93,6 +107,9 @@ func (u *undoLog) index() {
 // none (it did not change since the settle began). index must have run
 // since the last entry was added.
 func (u *undoLog) before(n int32) int {
+	if u.at == nil {
+		return -1 // index never ran: no analysis has looked
+	}
 	if i := int(u.at[n]); i < len(u.nodes) && u.nodes[i].n == n {
 		return i
 	}
@@ -193,5 +210,5 @@ func (s *Sim) saved(i int) NodeState {
 	if s.mode == Physical {
 		v = s.undo.phys[i].volts
 	}
-	return NodeState{e.val, e.str, e.state, v, e.str.IsCharge()}
+	return NodeState{e.val, e.str, e.state, e.str.IsCharge(), v}
 }

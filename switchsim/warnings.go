@@ -3,6 +3,7 @@ package switchsim
 import (
 	"fmt"
 	"math"
+	"slices"
 	"strings"
 )
 
@@ -103,8 +104,9 @@ func (s *Sim) settleWarnings() {
 // checkShort lists device d (both terminals rails or inputs) to be checked
 // for a short at the end of the settle: its gate or a terminal changed.
 func (s *Sim) checkShort(d int32) {
-	if s.shortMark[d] != s.settleID {
-		s.shortMark[d] = s.settleID
+	i, _ := slices.BinarySearch(s.nl.shortDevs, d)
+	if s.shortMark[i] != s.settleID {
+		s.shortMark[i] = s.settleID
 		s.shorts = append(s.shorts, d)
 	}
 }
@@ -153,7 +155,7 @@ func (s *Sim) pathSides(n int32, side func(src, first, feedback int32, switched 
 	s.nextEpoch()
 	stamp := s.epoch
 	s.comp = append(s.comp[:0], n)
-	s.done[n] = stamp
+	s.mark[n] = stamp
 	s.wpar[n], s.wdev[n] = -1, -1
 	for i := 0; i < len(s.comp); i++ {
 		m := s.comp[i]
@@ -179,8 +181,8 @@ func (s *Sim) pathSides(n int32, side func(src, first, feedback int32, switched 
 				side(o, first, feedback, switched)
 				continue
 			}
-			if s.done[o] != stamp {
-				s.done[o] = stamp
+			if s.mark[o] != stamp {
+				s.mark[o] = stamp
 				s.wpar[o], s.wdev[o] = m, d
 				s.comp = append(s.comp, o)
 			}
