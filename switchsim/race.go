@@ -340,7 +340,8 @@ func (s *Sim) phaseAlone() {
 	}
 	a.forcedList, a.forcedStage = a.forcedList[:0], a.forcedStage[:0]
 	for _, d := range s.shorts[nshorts:] {
-		s.shortMark[d] = s.settleID - 1
+		i, _ := slices.BinarySearch(s.nl.shortDevs, d)
+		s.shortMark[i] = s.settleID - 1
 	}
 	s.shorts = s.shorts[:nshorts]
 	s.undoTo(undoMark{}, true)
