@@ -632,8 +632,7 @@ func (p *parser) strengthSpec(it *item, kw tok) bool {
 	for {
 		q := p.take()
 		s, ok := strengthNames[strings.TrimRight(q.text, "01")]
-		val := q.text[len(q.text)-1]
-		if q.kind != tIdent || !ok || (val != '0' && val != '1') {
+		if q.kind != tIdent || !ok || q.text == "" || (q.text[len(q.text)-1] != '0' && q.text[len(q.text)-1] != '1') {
 			p.errs.Add(q.pos, "expected a strength (supply strong pull weak, with 0 or 1: strong1), found %s", describe(q))
 			p.skipBefore(";")
 			return false
@@ -641,7 +640,7 @@ func (p *parser) strengthSpec(it *item, kw tok) bool {
 		if s == switchsim.HighZ {
 			p.errs.Add(q.pos, "%s cannot pull at highz", kw.text)
 		}
-		it.strength[val-'0'] = s
+		it.strength[q.text[len(q.text)-1]-'0'] = s
 		if p.accept(")") {
 			return true
 		}
