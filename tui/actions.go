@@ -83,7 +83,7 @@ func (m *Model) run(stopOnFail bool) {
 	last := evs[len(evs)-1]
 	if last.Failed() {
 		m.report(last)
-		m.status += fmt.Sprintf("; stopped there after %s", plural(len(evs), "step"))
+		m.status += fmt.Sprintf("; stopped there after %s", diag.Count(len(evs), "step"))
 		return
 	}
 	failed := 0
@@ -93,10 +93,10 @@ func (m *Model) run(stopOnFail bool) {
 		}
 	}
 	if failed > 0 {
-		m.fail(fmt.Sprintf("ran %s to the end: %d failed (v lists them)", plural(len(evs), "step"), failed))
+		m.fail(fmt.Sprintf("ran %s to the end: %d failed (v lists them)", diag.Count(len(evs), "step"), failed))
 		return
 	}
-	m.say(fmt.Sprintf("ran %s to the end: every check passed", plural(len(evs), "step")))
+	m.say(fmt.Sprintf("ran %s to the end: every check passed", diag.Count(len(evs), "step")))
 }
 
 func (m *Model) jump(row int) {
@@ -112,7 +112,7 @@ func (m *Model) jump(row int) {
 
 // report words what an event did on the status line.
 func (m *Model) report(e *session.Event) {
-	counts := fmt.Sprintf("%s, %s", plural(e.Rounds, "round"), plural(len(e.Changes), "change"))
+	counts := fmt.Sprintf("%s, %s", diag.Count(e.Rounds, "round"), diag.Count(len(e.Changes), "change"))
 	// the short title: the step's label is in the rounds view, and a long
 	// one would push the counts off an 80-column line
 	short := m.title(e)
@@ -121,7 +121,7 @@ func (m *Model) report(e *session.Event) {
 	}
 	msg := short + ": " + counts
 	if n := len(e.Warnings); n > 0 {
-		msg += ", " + plural(n, "warning") + " (l)"
+		msg += ", " + diag.Count(n, "warning") + " (l)"
 	}
 	if e.Oscillated {
 		msg += ", OSCILLATED"
@@ -231,7 +231,7 @@ func (m *Model) save(s panel.Save) {
 	switch s.Kind {
 	case panel.SaveVCD:
 		write = func(w io.Writer) error { return wave.Write(w, m.sess, wave.Options{}) }
-		what = fmt.Sprintf("a VCD of %s", plural(len(m.sess.History()), "action"))
+		what = fmt.Sprintf("a VCD of %s", diag.Count(len(m.sess.History()), "action"))
 	case panel.SaveDesign:
 		if !m.sess.Edited() {
 			m.note("the design has no size tried: there is nothing to save as .sw (W on a device row tries one)")
@@ -239,7 +239,7 @@ func (m *Model) save(s panel.Save) {
 		}
 		src := m.sess.Design().Source
 		write = func(w io.Writer) error { _, err := w.Write(src); return err }
-		what = fmt.Sprintf("the design with %s", plural(len(m.sess.Edits()), "size")+" tried")
+		what = fmt.Sprintf("the design with %s", diag.Count(len(m.sess.Edits()), "size")+" tried")
 		if !strings.EqualFold(filepath.Ext(s.Path), ".sw") && m.opt.Save == nil {
 			m.fail(s.Path + ": a design is saved as .sw: give a name that ends in .sw; nothing written")
 			return
@@ -316,7 +316,7 @@ func traceWhat(s *session.Session) string {
 	if w == nil {
 		return "the trace"
 	}
-	what := "the trace (" + plural(w.Actions(), "action")
+	what := "the trace (" + diag.Count(w.Actions(), "action")
 	if capped, skipped, why := w.Capped(); capped {
 		what += fmt.Sprintf("; %s, so the last %d were not kept", why, skipped)
 	}

@@ -46,7 +46,7 @@ func (m *Model) nextCorner() {
 	tech := ns.Netlist().Tech
 	m.say(fmt.Sprintf("corner %s: %s; %s; vdd %.2f V, vtn %.3f V, vtp %.3f V; %s re-simulated",
 		diag.Printable(ns.CornerName()), failedWords(m.failedChecks(), wasFailed),
-		differWords(differ, diag.Printable(old.CornerName())), tech.Vdd, tech.Vtn, tech.Vtp, plural(ns.Len()-1, "action")))
+		differWords(differ, diag.Printable(old.CornerName())), tech.Vdd, tech.Vtn, tech.Vtp, diag.Count(ns.Len()-1, "action")))
 }
 
 // failedChecks counts the failed checks of the history in force.
@@ -65,9 +65,9 @@ func (m *Model) failedChecks() int {
 func failedWords(now, before int) string {
 	switch {
 	case now == before:
-		return fmt.Sprintf("%s failed, as before", plural(now, "check"))
+		return fmt.Sprintf("%s failed, as before", diag.Count(now, "check"))
 	case now > before:
-		return fmt.Sprintf("%s failed, %d more than before", plural(now, "check"), now-before)
+		return fmt.Sprintf("%s failed, %d more than before", diag.Count(now, "check"), now-before)
 	}
-	return fmt.Sprintf("%s failed, %d fewer than before", plural(now, "check"), before-now)
+	return fmt.Sprintf("%s failed, %d fewer than before", diag.Count(now, "check"), before-now)
 }

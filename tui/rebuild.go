@@ -11,6 +11,7 @@ import (
 	"strings"
 
 	"railyard/switchsim"
+	"railyard/switchsim/diag"
 	"railyard/switchsim/netfile"
 	"railyard/switchsim/session"
 	"railyard/switchsim/trace"
@@ -92,7 +93,7 @@ func (m *Model) switchMode() {
 	old := m.sess
 	m.setSession(ns)
 	differ := m.markDiffers(old, "vs "+from.String())
-	m.say(fmt.Sprintf("%s mode: %s; %s re-simulated", to, differWords(differ, from.String()), plural(ns.Len()-1, "action")))
+	m.say(fmt.Sprintf("%s mode: %s; %s re-simulated", to, differWords(differ, from.String()), diag.Count(ns.Len()-1, "action")))
 }
 
 // markDiffers marks on the board the nodes whose logic value differs
@@ -133,7 +134,7 @@ func differWords(names []string, against string) string {
 	if len(names) > len(shown) {
 		more = fmt.Sprintf(" and %d more", len(names)-len(shown))
 	}
-	return fmt.Sprintf("%s %s from %s: %s%s (≠ in Nodes)", plural(len(names), "node"), verb(len(names), "differs", "differ"),
+	return fmt.Sprintf("%s %s from %s: %s%s (≠ in Nodes)", diag.Count(len(names), "node"), verb(len(names), "differs", "differ"),
 		against, strings.Join(shown, " "), more)
 }
 
@@ -179,7 +180,7 @@ func (m *Model) resize(d int, w, l float64) {
 			msg += ", decided by race analysis (the rounds did not settle: r)"
 		}
 	}
-	msg += "; " + differWords(differ, "before") + "; " + plural(ns.Len()-1, "action") + " re-simulated"
+	msg += "; " + differWords(differ, "before") + "; " + diag.Count(ns.Len()-1, "action") + " re-simulated"
 	if ns.Edited() {
 		msg += "; s saves the design as .sw"
 	} else {
@@ -240,7 +241,7 @@ func (m *Model) openFinding(i int) {
 	m.findingSteps = "the sequence to " + what
 	m.setSession(ns)
 	m.view = ViewVectors
-	msg := fmt.Sprintf("steps: the shortest sequence to %s, %s", what, plural(len(st.Rows), "row"))
+	msg := fmt.Sprintf("steps: the shortest sequence to %s, %s", what, diag.Count(len(st.Rows), "row"))
 	if len(st.Check) > 0 {
 		msg += fmt.Sprintf(", the last checks %s is %s as the search saw it", m.names.Node[f.Node], f.Got.State)
 	}

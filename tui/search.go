@@ -176,9 +176,9 @@ func (m *Model) searchNews(r *searchRun) tea.Cmd {
 		return nil // the view's head says it; the status line keeps what it said
 	}
 	all, failing := m.audit.Findings()
-	msg := fmt.Sprintf("search %s: %s", stopWords(rep.Stopped), plural(rep.States, "state"))
+	msg := fmt.Sprintf("search %s: %s", stopWords(rep.Stopped), diag.Count(rep.States, "state"))
 	if all > 0 {
-		msg += ", " + plural(all, "finding")
+		msg += ", " + diag.Count(all, "finding")
 	} else {
 		msg += ", no finding"
 	}
@@ -211,7 +211,7 @@ func (m *Model) searchHead(p reach.Progress, rep *reach.Report) []string {
 	mode := m.sess.Options().Mode
 	if rep == nil {
 		return []string{
-			fmt.Sprintf("%s: searching, %s, %s, %s", mode, plural(p.States, "state"), plural(p.Transitions, "transition"), p.Elapsed.Round(time.Millisecond)),
+			fmt.Sprintf("%s: searching, %s, %s, %s", mode, diag.Count(p.States, "state"), diag.Count(p.Transitions, "transition"), p.Elapsed.Round(time.Millisecond)),
 			"x stops it; what it found so far comes then",
 		}
 	}
@@ -222,9 +222,9 @@ func (m *Model) searchHead(p reach.Progress, rep *reach.Report) []string {
 			failing++
 		}
 	}
-	head := fmt.Sprintf("%s: %s, %s, %s", mode, plural(rep.States, "state"), plural(rep.Transitions, "transition"),
+	head := fmt.Sprintf("%s: %s, %s, %s", mode, diag.Count(rep.States, "state"), diag.Count(rep.Transitions, "transition"),
 		stopWords(rep.Stopped))
-	found := plural(all, "finding")
+	found := diag.Count(all, "finding")
 	switch {
 	case all == 0:
 		found = "no finding"

@@ -728,7 +728,7 @@ func runProgram(s *session.Session, opt Options, w, h int, note io.Writer, popts
 		}
 		shown := diag.Printable(opt.TracePath)
 		fmt.Fprintf(note, "railyard: trace of %s saved to %s; railyard replay %s repeats it\n",
-			plural(saved.Actions, "action"), shown, shown)
+			diag.Count(saved.Actions, "action"), shown, shown)
 		if saved.Skipped > 0 {
 			fmt.Fprintf(note, "railyard: %s: the last %d actions were not written\n", saved.Why, saved.Skipped)
 		}

@@ -130,7 +130,7 @@ func (m *Model) header() string {
 	}
 	var right []string
 	if m.sess.Edited() {
-		right = append(right, t.Accent.Render(fmt.Sprintf("edited (%s)", plural(len(m.sess.Edits()), "size"))))
+		right = append(right, t.Accent.Render(fmt.Sprintf("edited (%s)", diag.Count(len(m.sess.Edits()), "size"))))
 	}
 	mode := m.sess.Options().Mode.String()
 	if c := m.sess.Corner(); c != "" {
@@ -456,13 +456,6 @@ func (m *Model) helpColumns(h int) (cols [][]string, perPage, colW int) {
 // pair is one help line for two keys that go together (left and right).
 func pair(a, b key.Binding, desc string) key.Binding {
 	return key.NewBinding(key.WithKeys(append(a.Keys(), b.Keys()...)...), key.WithHelp(a.Help().Key+" "+b.Help().Key, desc))
-}
-
-func plural(n int, w string) string {
-	if n == 1 {
-		return "1 " + w
-	}
-	return fmt.Sprintf("%d %ss", n, w)
 }
 
 // asciiReplacer maps every glyph the explorer or its libraries may draw to

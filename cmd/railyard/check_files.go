@@ -123,9 +123,9 @@ func writeFindingSteps(w io.Writer, r *designResult, f findingResult) error {
 	fmt.Fprintf(&b, "# %s\n", diag.Printable(f.Message))
 	fmt.Fprintf(&b, "# In %d of %d states. The shortest sequence: every input 0", f.States, r.States)
 	if r.Reset > 0 {
-		fmt.Fprintf(&b, ", the first %s of %s", plural(r.Reset, "row"), diag.Printable(r.StepsPath))
+		fmt.Fprintf(&b, ", the first %s of %s", diag.Count(r.Reset, "row"), diag.Printable(r.StepsPath))
 	}
-	fmt.Fprintf(&b, ", then %s.\n", plural(f.Moves, "move"))
+	fmt.Fprintf(&b, ", then %s.\n", diag.Count(f.Moves, "move"))
 	fmt.Fprintf(&b, "# railyard run %s --steps THIS-FILE shows it at the last step", diag.Printable(r.Path))
 	if r.Mode == "ideal" {
 		b.WriteString(" (with --ideal)")
@@ -252,7 +252,7 @@ func junitCaseOf(r *designResult) junitCase {
 		text := fmt.Sprintf("%s (%s check): %s", f.Kind, f.Check, diag.Printable(f.Message))
 		if f.Check == "exhaustive" {
 			text += fmt.Sprintf("\nin %d of %d states, %s\nshortest input sequence: %s", f.States, r.States,
-				plural(f.Transitions, "transition"), sequenceText(f, r.Reset))
+				diag.Count(f.Transitions, "transition"), sequenceText(f, r.Reset))
 			if f.StepsFile != "" {
 				text += "\nsaved as " + diag.Printable(f.StepsFile)
 			}

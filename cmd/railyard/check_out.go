@@ -151,25 +151,18 @@ func (r *designResult) checksText() string {
 	if !r.Exhaustive {
 		return "static"
 	}
-	s := fmt.Sprintf("static, %s", plural(r.States, "state"))
+	s := fmt.Sprintf("static, %s", diag.Count(r.States, "state"))
 	if r.Stopped != "" {
 		s += " (" + r.Stopped + ")"
 	}
 	return s
 }
 
-func plural(n int, what string) string {
-	if n == 1 {
-		return "1 " + what
-	}
-	return fmt.Sprintf("%d %ss", n, what)
-}
-
 func countFindings(n int) string {
 	if n == 0 {
 		return "no findings"
 	}
-	return plural(n, "finding")
+	return diag.Count(n, "finding")
 }
 
 // checkReport prints the results in text or as JSON lines.
@@ -215,18 +208,18 @@ func (c *checkReport) design(r *designResult) {
 	if r.Exhaustive {
 		from := "every input 0"
 		if r.Reset > 0 {
-			from = fmt.Sprintf("the first %s of %s", plural(r.Reset, "row"), diag.Printable(r.StepsPath))
+			from = fmt.Sprintf("the first %s of %s", diag.Count(r.Reset, "row"), diag.Printable(r.StepsPath))
 		}
 		moves := "single-input changes"
 		if r.Pairs {
 			moves = "single-input changes and pairs"
 		}
-		fmt.Fprintf(w, "\nexhaustive: %s, %s from %s (%s), %s\n", plural(r.States, "state"), plural(r.Transitions, "transition"),
+		fmt.Fprintf(w, "\nexhaustive: %s, %s from %s (%s), %s\n", diag.Count(r.States, "state"), diag.Count(r.Transitions, "transition"),
 			from, moves, countFindings(len(r.Findings)))
 		for _, f := range r.Findings {
 			fmt.Fprintf(w, "  %-16s %s\n", f.Kind, diag.Printable(f.Message))
 			fmt.Fprintf(w, "  %-16s in %d of %d states, %s; shortest sequence (%s): %s\n", "", f.States, r.States,
-				plural(f.Transitions, "transition"), plural(f.Moves, "move"), sequenceText(f, r.Reset))
+				diag.Count(f.Transitions, "transition"), diag.Count(f.Moves, "move"), sequenceText(f, r.Reset))
 			if f.StepsFile != "" {
 				fmt.Fprintf(w, "  %-16s saved as %s\n", "", diag.Printable(f.StepsFile))
 			}
@@ -262,7 +255,7 @@ func (c *checkReport) design(r *designResult) {
 func sequenceText(f findingResult, reset int) string {
 	parts := []string{"every input 0"}
 	if reset > 0 {
-		parts = append(parts, fmt.Sprintf("reset (%s)", plural(reset, "row")))
+		parts = append(parts, fmt.Sprintf("reset (%s)", diag.Count(reset, "row")))
 	}
 	moves := f.Sequence
 	if len(moves) > 0 {
@@ -400,7 +393,7 @@ func (c *checkReport) summary(results []*designResult, took time.Duration) {
 	if c.total < 2 {
 		return
 	}
-	what := plural(designs, "design")
+	what := diag.Count(designs, "design")
 	if c.o.corners {
 		paths := map[string]bool{}
 		for _, r := range results {
@@ -408,7 +401,7 @@ func (c *checkReport) summary(results []*designResult, took time.Duration) {
 				paths[r.Path] = true
 			}
 		}
-		what = fmt.Sprintf("%s at their technologies: %s", plural(len(paths), "design"), plural(designs, "result"))
+		what = fmt.Sprintf("%s at their technologies: %s", diag.Count(len(paths), "design"), diag.Count(designs, "result"))
 	}
 	fmt.Fprintf(c.w, "\nsummary: %s, %d failed, %d passed; %s (%d failing); %s\n",
 		what, failed, designs-failed, countFindings(findings), failing, took.Round(time.Millisecond))

@@ -289,7 +289,7 @@ func (t *cornerTable) close() error {
 	}
 	var parts, failing []string
 	for i, r := range t.runs {
-		parts = append(parts, fmt.Sprintf("%s %d failed, %s", r.CornerName(), t.failed[i], plural(t.warns[i], "warning")))
+		parts = append(parts, fmt.Sprintf("%s %d failed, %s", r.CornerName(), t.failed[i], diag.Count(t.warns[i], "warning")))
 		if t.failed[i] > 0 {
 			failing = append(failing, r.CornerName())
 		}
@@ -302,6 +302,6 @@ func (t *cornerTable) close() error {
 	if len(t.runs) > 1 {
 		techs = fmt.Sprintf("%d technologies", len(t.runs))
 	}
-	t.p("\nsummary: %s, %s each; %s: %s\n", techs, plural(t.checks, "check"), strings.Join(parts, "; "), verdict)
+	t.p("\nsummary: %s, %s each; %s: %s\n", techs, diag.Count(t.checks, "check"), strings.Join(parts, "; "), verdict)
 	return t.w.Flush()
 }

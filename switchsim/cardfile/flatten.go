@@ -427,8 +427,8 @@ func (f *flattener) scope(elems []elem, in *inst) {
 		switch e.letter {
 		case 'm':
 			if len(e.args) != 5 {
-				f.errs.Add(e.pos, "wrong number of terminals: M card %s takes drain gate source bulk model, found %d word%s after its name",
-					e.name.text, len(e.args), plural(len(e.args)))
+				f.errs.Add(e.pos, "wrong number of terminals: M card %s takes drain gate source bulk model, found %s after its name",
+					e.name.text, diag.Count(len(e.args), "word"))
 				continue
 			}
 			f.mos(e, in, e.args[:4], e.args[4])
@@ -446,13 +446,6 @@ func (f *flattener) scope(elems []elem, in *inst) {
 			f.notes.Add(e.pos, "skipped: %s %s (%s): the switch-level model has no place for it", strings.ToUpper(e.name.text[:1]), e.name.text, what)
 		}
 	}
-}
-
-func plural(n int) string {
-	if n == 1 {
-		return ""
-	}
-	return "s"
 }
 
 // mos adds one transistor: terminals drain gate source bulk (the bulk is
@@ -641,8 +634,8 @@ func (f *flattener) instance(e *elem, in *inst) {
 		for _, p := range s.ports {
 			ports = append(ports, p.text)
 		}
-		f.errs.Add(e.pos, "wrong number of terminals: subcircuit %s takes %d node%s (%s), instance %s gives %d",
-			s.name, len(s.ports), plural(len(s.ports)), strings.Join(ports, " "), e.name.text, len(nodes))
+		f.errs.Add(e.pos, "wrong number of terminals: subcircuit %s takes %s (%s), instance %s gives %d",
+			s.name, diag.Count(len(s.ports), "node"), strings.Join(ports, " "), e.name.text, len(nodes))
 		return
 	}
 	if f.tree.Bad(s) {
@@ -691,7 +684,7 @@ func (f *flattener) twoNodes(e *elem, in *inst, key string) (a, b int32, v float
 		val = &e.params[len(e.params)-1]
 	case len(e.args) == 2 && val != nil:
 	default:
-		f.errs.Add(e.pos, "wrong number of terminals: %s, found %d word%s after its name", what, len(e.args), plural(len(e.args)))
+		f.errs.Add(e.pos, "wrong number of terminals: %s, found %s after its name", what, diag.Count(len(e.args), "word"))
 		return 0, 0, 0, false
 	}
 	v, ok = f.paramValue(val, in.env)

@@ -17,9 +17,8 @@
 package cardfile
 
 import (
-	"railyard/switchsim/internal/netbuild"
-
 	"railyard/switchsim/diag"
+	"railyard/switchsim/internal/netbuild"
 	"railyard/switchsim/netfile"
 )
 

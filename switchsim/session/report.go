@@ -149,8 +149,8 @@ func (r *Report) Close() (Summary, error) {
 		if !m.Pass() {
 			verdict = "FAIL"
 		}
-		fmt.Fprintf(r.w, "\nsummary: %s, %s, %d failed, %s: %s\n", plural(m.Steps, "step"), plural(m.Checks, "check"),
-			m.Failed, plural(m.Warnings, "warning"), verdict)
+		fmt.Fprintf(r.w, "\nsummary: %s, %s, %d failed, %s: %s\n", diag.Count(m.Steps, "step"), diag.Count(m.Checks, "check"),
+			m.Failed, diag.Count(m.Warnings, "warning"), verdict)
 	}
 	return m, r.w.Flush()
 }
@@ -219,13 +219,13 @@ func (r *Report) textEvent(e *Event, rd Reader) {
 	p("\n")
 	switch e.Action.Kind {
 	case Start:
-		p("initial settle: %s\n", plural(e.Rounds, "round"))
+		p("initial settle: %s\n", diag.Count(e.Rounds, "round"))
 	case Step:
 		p("step %d", e.Action.Step+1)
 		if e.Action.Label != "" {
 			p(" %s", strconv.Quote(e.Action.Label))
 		}
-		p(": %s\n", plural(e.Rounds, "round"))
+		p(": %s\n", diag.Count(e.Rounds, "round"))
 		if len(e.Action.Drives) > 0 {
 			p("  apply  ")
 			for i, in := range e.Action.Drives {
@@ -237,7 +237,7 @@ func (r *Report) textEvent(e *Event, rd Reader) {
 			p("\n")
 		}
 	default:
-		p("%s: %s\n", s.ActionString(e.Action), plural(e.Rounds, "round"))
+		p("%s: %s\n", s.ActionString(e.Action), diag.Count(e.Rounds, "round"))
 	}
 	if len(r.shown) > 0 {
 		p("  nodes  ")
@@ -405,13 +405,6 @@ func techName(t switchsim.Tech) string {
 		return "custom"
 	}
 	return t.Name
-}
-
-func plural(n int, word string) string {
-	if n == 1 {
-		return "1 " + word
-	}
-	return strconv.Itoa(n) + " " + word + "s"
 }
 
 // --- JSON lines (README, "run --json") ---

@@ -394,7 +394,7 @@ func (f *flattener) instance(it *item, in *inst) {
 			return
 		}
 		if len(b) != n.width() {
-			f.errs.Add(r.pos, "port %s of module %s is %d bit%s wide, the connection %d", port, m.name, n.width(), plural(n.width()), len(b))
+			f.errs.Add(r.pos, "port %s of module %s is %s wide, the connection %d", port, m.name, diag.Count(n.width(), "bit"), len(b))
 			return
 		}
 		ports[port] = b
@@ -415,8 +415,8 @@ func (f *flattener) instance(it *item, in *inst) {
 		}
 	} else {
 		if len(it.terms) != len(m.ports) {
-			f.errs.Add(it.pos, "wrong number of connections: module %s takes %d port%s (%s), instance %s gives %d",
-				m.name, len(m.ports), plural(len(m.ports)), strings.Join(m.ports, ", "), it.name.text, len(it.terms))
+			f.errs.Add(it.pos, "wrong number of connections: module %s takes %s (%s), instance %s gives %d",
+				m.name, diag.Count(len(m.ports), "port"), strings.Join(m.ports, ", "), it.name.text, len(it.terms))
 			return
 		}
 		for i, r := range it.terms {
@@ -435,13 +435,6 @@ func contains(s []string, x string) bool {
 		}
 	}
 	return false
-}
-
-func plural(n int) string {
-	if n == 1 {
-		return ""
-	}
-	return "s"
 }
 
 // ports makes the top module's ports inputs and outputs: input ports and

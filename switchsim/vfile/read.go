@@ -15,9 +15,8 @@
 package vfile
 
 import (
-	"railyard/switchsim/internal/netbuild"
-
 	"railyard/switchsim/diag"
+	"railyard/switchsim/internal/netbuild"
 	"railyard/switchsim/netfile"
 )
 

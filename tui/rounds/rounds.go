@@ -17,6 +17,7 @@ import (
 	"github.com/charmbracelet/lipgloss"
 
 	"railyard/switchsim"
+	"railyard/switchsim/diag"
 	"railyard/tui/listing"
 	"railyard/tui/panel"
 	"railyard/tui/theme"
@@ -259,7 +260,7 @@ func (m Model) heading() []string {
 		return lines
 	}
 	var pr strings.Builder
-	fmt.Fprintf(&pr, "%s, %s; per round:", plural(s.Rounds, "round"), plural(len(s.Changes), "change"))
+	fmt.Fprintf(&pr, "%s, %s; per round:", diag.Count(s.Rounds, "round"), diag.Count(len(s.Changes), "change"))
 	for r := 1; r <= s.Rounds; r++ {
 		item := fmt.Sprintf(" %d", m.perRnd[r])
 		if pr.Len()+len(item) > m.w-2 {
@@ -527,11 +528,4 @@ func groups(nl *switchsim.Netlist, cond []switchsim.Conduction) []int32 {
 		}
 	}
 	return out
-}
-
-func plural(n int, w string) string {
-	if n == 1 {
-		return "1 " + w
-	}
-	return fmt.Sprintf("%d %ss", n, w)
 }

@@ -15,6 +15,7 @@ import (
 	"github.com/charmbracelet/lipgloss"
 
 	"railyard/switchsim"
+	"railyard/switchsim/diag"
 	"railyard/tui/fightplot"
 	"railyard/tui/listing"
 	"railyard/tui/panel"
@@ -258,7 +259,7 @@ func Lines(nl *switchsim.Netlist, names *panel.Names, e switchsim.Explanation, l
 		if e.Floating {
 			verb = "Holds charge from"
 		}
-		out = append(out, st.Heading.Render(fmt.Sprintf("%s %s:", verb, plural(len(e.Winning), "path"))))
+		out = append(out, st.Heading.Render(fmt.Sprintf("%s %s:", verb, diag.Count(len(e.Winning), "path"))))
 		for _, p := range e.Winning {
 			out = append(out, pathLines(nl, names, p, lv, st)...)
 		}
@@ -268,9 +269,9 @@ func Lines(nl *switchsim.Netlist, names *panel.Names, e switchsim.Explanation, l
 	if len(e.Opposing) > 0 {
 		out = append(out, "")
 		if e.State == switchsim.StateX {
-			out = append(out, st.Heading.Render(fmt.Sprintf("Reached by %s of other values (none wins):", plural(len(e.Opposing), "path"))))
+			out = append(out, st.Heading.Render(fmt.Sprintf("Reached by %s of other values (none wins):", diag.Count(len(e.Opposing), "path"))))
 		} else {
-			out = append(out, st.Heading.Render(fmt.Sprintf("Opposed by %s (they lose):", plural(len(e.Opposing), "path"))))
+			out = append(out, st.Heading.Render(fmt.Sprintf("Opposed by %s (they lose):", diag.Count(len(e.Opposing), "path"))))
 		}
 		for _, p := range e.Opposing {
 			out = append(out, pathLines(nl, names, p, lv, st)...)
@@ -404,13 +405,6 @@ func pathLines(nl *switchsim.Netlist, names *panel.Names, p switchsim.Path, lv L
 		out = append(out, st.Dim.Render("    (its own stored charge)"))
 	}
 	return out
-}
-
-func plural(n int, w string) string {
-	if n == 1 {
-		return "1 " + w
-	}
-	return fmt.Sprintf("%d %ss", n, w)
 }
 
 func farads(c float64) string {
