@@ -17,6 +17,7 @@ import (
 
 	"railyard/switchsim/diag"
 	"railyard/switchsim/outfile"
+	"railyard/switchsim/reach"
 	"railyard/switchsim/session"
 )
 
@@ -127,8 +128,15 @@ func writeFindingSteps(w io.Writer, r *designResult, f findingResult) error {
 	}
 	fmt.Fprintf(&b, ", then %s.\n", diag.Count(f.Moves, "move"))
 	fmt.Fprintf(&b, "# railyard run %s --steps THIS-FILE shows it at the last step", diag.Printable(r.Path))
+	var with []string
 	if r.Mode == "ideal" {
-		b.WriteString(" (with --ideal)")
+		with = append(with, "--ideal")
+	}
+	if f.Kind == string(reach.Glitch) || f.Kind == string(reach.Hazard) {
+		with = append(with, "--glitches") // the search looks for pulses; run does when asked
+	}
+	if len(with) > 0 {
+		b.WriteString(" (with " + strings.Join(with, " ") + ")")
 	}
 	b.WriteString(".\n")
 	if f.Want != "" {

@@ -16,7 +16,7 @@ import (
 
 const exploreUsage = `
 usage: railyard explore [DESIGN] [--steps FILE] [--trace FILE] [--ideal] [--full-swing] [--ascii]
-                        [--corner NAME]
+                        [--corner NAME] [--glitches]
 
 The interactive explorer: toggle inputs, step through the steps file, watch
 values settle round by round, ask why a node holds its value, search every
@@ -24,9 +24,9 @@ reachable state (a), switch ideal and physical mode on the live session
 (i), try another size on a transistor (W in Devices), move to the design's
 next technology corner (c: nominal, then each corner, the history
 re-simulated). DESIGN defaults to the embedded demo. With --trace the
-session's trace is saved to FILE when the explorer quits. --ideal and
---full-swing are those of run; --corner NAME starts at one of the design's
-corners.
+session's trace is saved to FILE when the explorer quits. --ideal,
+--full-swing and --glitches are those of run; --corner NAME starts at one
+of the design's corners.
 
 examples:
   railyard explore
@@ -42,6 +42,7 @@ type exploreOptions struct {
 	steps, trace            string
 	corner                  string
 	ascii, ideal, fullSwing bool
+	glitches                bool
 	load                    *loadFlags
 }
 
@@ -53,6 +54,7 @@ func cmdExplore(args []string, stdout, stderr io.Writer) int {
 	fs.BoolVar(&o.ascii, "ascii", false, "draw with ASCII only")
 	fs.BoolVar(&o.ideal, "ideal", false, "start in ideal mode: strengths only, no voltage estimates (i switches)")
 	fs.BoolVar(&o.fullSwing, "full-swing", false, "0 and 1 checks also require the strong full-level states")
+	fs.BoolVar(&o.glitches, "glitches", false, "warn of pulses a one-input step may cause, as check --exhaustive does")
 	fs.StringVar(&o.corner, "corner", "", "start at the design's technology corner `NAME` (nominal: its own technology)")
 	o.load = addLoadFlags(fs)
 	pos, code := parseArgs(fs, args, stdout, stderr)
@@ -104,7 +106,7 @@ func cmdExplore(args []string, stdout, stderr io.Writer) int {
 // sessionOptions are the session's options from the flags: physical mode
 // unless --ideal, as run.
 func (o exploreOptions) sessionOptions() session.Options {
-	opt := session.Options{Mode: switchsim.Physical, FullSwing: o.fullSwing, Corner: o.corner}
+	opt := session.Options{Mode: switchsim.Physical, FullSwing: o.fullSwing, Corner: o.corner, Glitches: o.glitches}
 	if o.ideal {
 		opt.Mode = switchsim.Ideal
 	}

@@ -17,7 +17,7 @@ import (
 
 const runUsage = `
 usage: railyard run DESIGN [--steps FILE] [--json] [--ideal] [--full-swing] [--trace FILE] [--vcd FILE]
-                    [--min-margin V] [--corner NAME | --corners]
+                    [--glitches] [--min-margin V] [--corner NAME | --corners]
 
 Settle the design, apply each row of its steps file (FILE, or DESIGN's
 same-named .steps file), check the nodes the steps name, and print a report.
@@ -31,6 +31,11 @@ replace the design, its steps, each other, or anything that is not a
 regular file; they are checked before anything runs and written whole at
 the end (a temporary file renamed into place, removed on an interrupt).
 In physical mode the VCD also holds each node's estimated voltage.
+
+--glitches looks at every step that changes one input for pulses it may
+cause (a node the step may take through X and back), as check --exhaustive
+does, and warns of each: the steps file check --save-steps writes for a
+glitch or hazard shows it with this flag. The trace records it.
 
 In physical mode each node line and check shows its margin: V - VIH for a
 1, VIL - V for a 0 (a check's for the value it wants, so a failing check
@@ -58,6 +63,7 @@ examples:
 type runOptions struct {
 	steps, trace, vcd      string
 	json, ideal, fullSwing bool
+	glitches               bool
 	corner                 string
 	corners                bool
 	minMargin              voltsFlag
@@ -73,6 +79,7 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 	fs.BoolVar(&o.fullSwing, "full-swing", false, "0 and 1 checks also require the strong full-level states")
 	fs.StringVar(&o.trace, "trace", "", "save the session trace to `FILE` (for railyard replay)")
 	fs.StringVar(&o.vcd, "vcd", "", "write a VCD waveform of every node to `FILE` (with voltages in physical mode)")
+	fs.BoolVar(&o.glitches, "glitches", false, "warn of pulses a one-input step may cause, as check --exhaustive does")
 	fs.Var(&o.minMargin, "min-margin", "fail a check whose margin is below `V` volts (physical mode)")
 	fs.StringVar(&o.corner, "corner", "", "run at the design's technology corner `NAME` (nominal: its own technology)")
 	fs.BoolVar(&o.corners, "corners", false, "run the nominal technology and every corner; print one table of checks by corner")
@@ -193,7 +200,7 @@ func runDesign(design string, o runOptions, stdout, stderr io.Writer) int {
 // sessionOptions are the session's options from the flags.
 func (o runOptions) sessionOptions() session.Options {
 	opt := session.Options{Mode: switchsim.Physical, FullSwing: o.fullSwing, Corner: o.corner,
-		MarginCheck: o.minMargin.set, MinMargin: o.minMargin.v}
+		MarginCheck: o.minMargin.set, MinMargin: o.minMargin.v, Glitches: o.glitches}
 	if o.ideal {
 		opt.Mode = switchsim.Ideal
 	}

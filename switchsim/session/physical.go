@@ -86,7 +86,11 @@ func watchList(opt Options, st *steps.Steps, nn int) []int {
 // every simulator a session settles on (the live one, the scratch one for
 // rebuilding, a walk's) is made here, so that they all warn alike.
 func (s *Session) newSim() *switchsim.Sim {
-	sim := switchsim.NewSim(s.Netlist(), switchsim.Options{Mode: s.opts.Mode})
+	races := switchsim.RacesWhenNeeded
+	if s.opts.Glitches {
+		races = switchsim.RacesGlitches
+	}
+	sim := switchsim.NewSim(s.Netlist(), switchsim.Options{Mode: s.opts.Mode, Races: races})
 	sim.Watch(s.watch)
 	return sim
 }

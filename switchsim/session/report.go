@@ -211,6 +211,9 @@ func (r *Report) textHeader() {
 	if s.opts.MarginCheck {
 		p("min margin: a check whose margin is below %s fails\n", voltsText(s.opts.MinMargin))
 	}
+	if s.opts.Glitches {
+		p("glitches: each step that changes one input is looked at for pulses it may cause\n")
+	}
 }
 
 func (r *Report) textEvent(e *Event, rd Reader) {

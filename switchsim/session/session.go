@@ -51,6 +51,11 @@ type Options struct {
 	// (CheckMargin) is below MinMargin volts fails (physical mode).
 	MarginCheck bool
 	MinMargin   float64
+	// Glitches runs phase A of race analysis alone before the rounds of a
+	// step that changes one input to 0 or 1 (switchsim.RacesGlitches), so
+	// that a pulse the step may cause is warned about as "check
+	// --exhaustive" does (run --glitches; a trace's glitches line).
+	Glitches bool
 	// Watch are nodes whose levels are checked besides the outputs and the
 	// steps' check columns (Sim.Watch): a trace's replay gives the nodes
 	// the recorded session watched.

@@ -16,6 +16,7 @@
 //	inputs NAME ...         and the design's inputs as the netlist spells them
 //	corner NAME            when the session ran at a technology corner
 //	min-margin VOLTS       when checks failed below a margin (run --min-margin)
+//	glitches yes           when single-input steps were looked at for glitches (run --glitches)
 //	watch NODE ...         the nodes whose levels were checked besides the outputs
 //	created TIME
 //
@@ -37,7 +38,7 @@
 // design has none): they make a replay read a netlist as the session did.
 // A word of them that is not plain printable ASCII is a Go-quoted string
 // with its spaces written \x20, so that it stays one word. So are the
-// corner, min-margin and watch lines, and the check lines' margin (MARGIN
+// corner, min-margin, glitches and watch lines, and the check lines' margin (MARGIN
 // in volts, - where unknown), which later version 2 traces added: the
 // replay compares a margin only where the trace has one.
 //

@@ -46,6 +46,7 @@ type Header struct {
 	CornerPos   diag.Pos
 	MarginCheck bool
 	MinMargin   float64
+	Glitches    bool // a glitches line: single-input steps ran phase A alone (session.Options.Glitches)
 	Watch       []string
 	WatchPos    diag.Pos
 }
@@ -280,7 +281,7 @@ func (r *reader) lineText(text string) {
 	rest := strings.TrimLeft(text[len(key.s):], " \t")
 	restCol := len(text) - len(rest) + 1
 	switch key.s {
-	case "design", "design-sha256", "steps", "steps-sha256", "mode", "full-swing", "tech", "created", "format", "read", "inputs", "corner", "min-margin", "watch":
+	case "design", "design-sha256", "steps", "steps-sha256", "mode", "full-swing", "tech", "created", "format", "read", "inputs", "corner", "min-margin", "glitches", "watch":
 		r.headerLine(key, rest, restCol)
 	case "action":
 		r.finishHeader()
@@ -414,6 +415,13 @@ func (r *reader) headerLine(key tok, rest string, col int) {
 			return
 		}
 		h.Corner, h.CornerPos = rest, r.pos(col)
+	case "glitches":
+		switch rest {
+		case "yes", "no":
+			h.Glitches = rest == "yes"
+		default:
+			r.errAt(r.line, col, "glitches wants yes or no, not %s", excerpt(rest))
+		}
 	case "min-margin":
 		v, err := strconv.ParseFloat(rest, 64)
 		if err != nil || math.IsNaN(v) || math.IsInf(v, 0) {

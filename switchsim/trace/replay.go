@@ -123,7 +123,7 @@ func Replay(file string, r io.Reader, opt ReplayOptions) (*Report, error) {
 				rep.Count++
 				rep.Differences = append(rep.Differences, fmt.Sprintf("%s: the design changed since the trace was made (content hash differs): %s", h.DesignPos, path))
 			}
-			so := session.Options{Mode: h.Mode, FullSwing: h.FullSwing, Corner: h.Corner, MarginCheck: h.MarginCheck, MinMargin: h.MinMargin}
+			so := session.Options{Mode: h.Mode, FullSwing: h.FullSwing, Corner: h.Corner, MarginCheck: h.MarginCheck, MinMargin: h.MinMargin, Glitches: h.Glitches}
 			if _, err := session.AtCorner(d, h.Corner); err != nil {
 				return diag.List{&diag.Error{Pos: h.CornerPos, Msg: diag.Printable(err.Error())}}
 			}

@@ -205,6 +205,9 @@ func (w *Writer) header(path string) string {
 	if o := s.Options(); o.MarginCheck {
 		p("min-margin %s\n", strconv.FormatFloat(o.MinMargin, 'g', -1, 64))
 	}
+	if s.Options().Glitches {
+		p("glitches yes\n")
+	}
 	if ws := s.Watched(); len(ws) > 0 {
 		names := make([]string, len(ws))
 		for i, n := range ws {
