@@ -329,6 +329,14 @@ func (r *reader) number(s string, col int, what string, lo int) (int, bool) {
 	return n, true
 }
 
+// yesNo reads a header line's yes or no (an error at col otherwise).
+func (r *reader) yesNo(key, rest string, col int) bool {
+	if rest != "yes" && rest != "no" {
+		r.errAt(r.line, col, "%s wants yes or no, not %s", key, excerpt(rest))
+	}
+	return rest == "yes"
+}
+
 func (r *reader) headerLine(key tok, rest string, col int) {
 	h := &r.info.Header
 	if r.count > 0 || r.cur != nil {
@@ -371,12 +379,7 @@ func (r *reader) headerLine(key tok, rest string, col int) {
 			r.errAt(r.line, col, "unknown mode %s (want physical or ideal)", excerpt(rest))
 		}
 	case "full-swing":
-		switch rest {
-		case "yes", "no":
-			h.FullSwing = rest == "yes"
-		default:
-			r.errAt(r.line, col, "full-swing wants yes or no, not %s", excerpt(rest))
-		}
+		h.FullSwing = r.yesNo(key.s, rest, col)
 	case "tech":
 		h.Tech = rest
 	case "created":
@@ -416,12 +419,7 @@ func (r *reader) headerLine(key tok, rest string, col int) {
 		}
 		h.Corner, h.CornerPos = rest, r.pos(col)
 	case "glitches":
-		switch rest {
-		case "yes", "no":
-			h.Glitches = rest == "yes"
-		default:
-			r.errAt(r.line, col, "glitches wants yes or no, not %s", excerpt(rest))
-		}
+		h.Glitches = r.yesNo(key.s, rest, col)
 	case "min-margin":
 		v, err := strconv.ParseFloat(rest, 64)
 		if err != nil || math.IsNaN(v) || math.IsInf(v, 0) {
