@@ -18,7 +18,7 @@ type Netlist struct {
 	// nodes
 	nodeName   []string
 	nodeKind   []NodeKind
-	nodeCap    []float64
+	nodeCap    []float64 // cold: nil while every node has its default (capOf)
 	nodeCharge []Strength
 	nodeByName []int32 // node numbers sorted by name, for Lookup; names never take part in simulation
 	inputs     []int32
@@ -31,7 +31,7 @@ type Netlist struct {
 	devA      []int32
 	devB      []int32
 	devCap    []Strength
-	devW      []float64
+	devW      []float64 // cold: nil while every device has its default size (width, length)
 	devL      []float64
 	devByName []int32   // device numbers sorted by name
 	devResist []bool    // IEEE 1364-2005 §7.12 resistive devices; nil when there are none
@@ -84,13 +84,12 @@ func (b *Builder) Compile() (*Netlist, error) {
 	nl := &Netlist{
 		Name: b.name, Desc: b.desc, Tech: b.tech, power: pw, ground: gn,
 		nodeName: make([]string, nn), nodeKind: make([]NodeKind, nn),
-		nodeCap: make([]float64, nn), nodeCharge: make([]Strength, nn),
+		nodeCharge: make([]Strength, nn),
 	}
 	for i, n := range b.nodes {
 		nl.nodeName[i] = n.name
-		nl.nodeCap[i] = n.cap
-		if n.cap == 0 {
-			nl.nodeCap[i] = b.tech.Cnode
+		if n.cap != 0 && nl.nodeCap == nil {
+			nl.nodeCap = make([]float64, nn) // filled with the defaults by diffusionDefaults
 		}
 		nl.nodeCharge[i] = n.charge
 		if n.charge == HighZ {
@@ -112,7 +111,13 @@ func (b *Builder) Compile() (*Netlist, error) {
 	nd := len(b.devs)
 	nl.devName, nl.devKind = make([]string, nd), make([]DeviceKind, nd)
 	nl.devGate, nl.devA, nl.devB = make([]int32, nd), make([]int32, nd), make([]int32, nd)
-	nl.devCap, nl.devW, nl.devL = make([]Strength, nd), make([]float64, nd), make([]float64, nd)
+	nl.devCap = make([]Strength, nd)
+	for _, d := range b.devs {
+		if d.w != 0 || d.l != 0 {
+			nl.devW, nl.devL = make([]float64, nd), make([]float64, nd)
+			break
+		}
+	}
 	touched := make([]bool, nn)
 	for i, d := range b.devs {
 		nl.devName[i], nl.devKind[i], nl.devGate[i] = d.name, d.kind, d.gate
@@ -124,15 +129,14 @@ func (b *Builder) Compile() (*Netlist, error) {
 			a = gn
 		}
 		nl.devA[i], nl.devB[i], nl.devCap[i] = a, d.b, d.strength
-		nl.devW[i], nl.devL[i] = d.w, d.l
-		if d.w == 0 && d.kind == NMOS {
-			nl.devW[i] = b.tech.Wn
-		}
-		if d.w == 0 && d.kind == PMOS {
-			nl.devW[i] = b.tech.Wp
-		}
-		if d.l == 0 && d.kind < PullUp {
-			nl.devL[i] = b.tech.L
+		if nl.devW != nil {
+			nl.devW[i], nl.devL[i] = d.w, d.l
+			if d.w == 0 {
+				nl.devW[i] = nl.defaultWidth(i)
+			}
+			if d.l == 0 {
+				nl.devL[i] = nl.defaultLength(i)
+			}
 		}
 		if d.resist {
 			if nl.devResist == nil {
@@ -253,7 +257,59 @@ func (nl *Netlist) DeviceDisplayName(d int) string {
 func (nl *Netlist) NodeKind(n int) NodeKind { return nl.nodeKind[n] }
 
 // NodeCap returns a node's capacitance in farads.
-func (nl *Netlist) NodeCap(n int) float64 { return nl.nodeCap[n] }
+func (nl *Netlist) NodeCap(n int) float64 { return nl.capOf(n) }
+
+// Sizes and capacitances are cold data: ideal mode never reads them, and
+// most designs (every generated one) leave them all at the technology's
+// defaults. So nodeCap, devW and devL are nil until the design gives one
+// node a capacitance or one device a size; these read them either way.
+
+// capOf is node n's capacitance: its own, or DefaultCap.
+func (nl *Netlist) capOf(n int) float64 {
+	if nl.nodeCap != nil {
+		return nl.nodeCap[n]
+	}
+	if nl.nodeFlag[n]&nodeDiffusion != 0 {
+		return nl.Tech.Cdiff
+	}
+	return nl.Tech.Cnode
+}
+
+// width is device d's drawn width: its own, or the technology's for its kind.
+func (nl *Netlist) width(d int) float64 {
+	if nl.devW != nil {
+		return nl.devW[d]
+	}
+	return nl.defaultWidth(d)
+}
+
+// length is device d's drawn length, as width.
+func (nl *Netlist) length(d int) float64 {
+	if nl.devL != nil {
+		return nl.devL[d]
+	}
+	return nl.defaultLength(d)
+}
+
+// defaultWidth is the width of device d when the design gives none: the
+// technology's wn or wp for a transistor; a pull or tran has no size (0).
+func (nl *Netlist) defaultWidth(d int) float64 {
+	switch nl.devKind[d] {
+	case NMOS:
+		return nl.Tech.Wn
+	case PMOS:
+		return nl.Tech.Wp
+	}
+	return 0
+}
+
+// defaultLength is defaultWidth's length: the technology's l for a transistor.
+func (nl *Netlist) defaultLength(d int) float64 {
+	if nl.devKind[d] < PullUp {
+		return nl.Tech.L
+	}
+	return 0
+}
 
 // NodeCharge returns a node's charge class.
 func (nl *Netlist) NodeCharge(n int) Strength { return nl.nodeCharge[n] }
@@ -310,7 +366,7 @@ type Device struct {
 // Device returns device d's description.
 func (nl *Netlist) Device(d int) Device {
 	dv := Device{Name: nl.devName[d], Kind: nl.devKind[d], Gate: int(nl.devGate[d]), A: int(nl.devA[d]), B: int(nl.devB[d]),
-		W: nl.devW[d], L: nl.devL[d], Strength: nl.devCap[d]}
+		W: nl.width(d), L: nl.length(d), Strength: nl.devCap[d]}
 	if nl.devResist != nil {
 		dv.Resistive = nl.devResist[d]
 	}

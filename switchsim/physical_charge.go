@@ -89,7 +89,7 @@ func (s *Sim) shareCharge(nodes, devs []int32, unknownAt float64, out []float64)
 		if math.IsNaN(v) {
 			v = unknownAt
 		}
-		sh.root[j], sh.v[j], sh.c[j] = int32(j), v, nl.nodeCap[n]
+		sh.root[j], sh.v[j], sh.c[j] = int32(j), v, nl.capOf(int(n))
 		vmin, vmax = min(vmin, v), max(vmax, v)
 	}
 	// Voltages are kept about the lowest, so that nodes already at one

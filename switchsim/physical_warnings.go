@@ -241,7 +241,7 @@ func (s *Sim) physSharing(n int) []physShare {
 		if s.mode == Physical {
 			b = s.phys.info[m].Before
 		}
-		out = append(out, physShare{m, s.nl.nodeCap[m], b, s.volts[m]})
+		out = append(out, physShare{m, s.nl.capOf(int(m)), b, s.volts[m]})
 	}
 	return out
 }

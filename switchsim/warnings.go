@@ -203,9 +203,9 @@ func (s *Sim) loopThreshold(n int32) float64 {
 		}
 		switch nl.devKind[d] {
 		case NMOS:
-			wn = max(wn, nl.devW[d]*t.L/nl.devL[d])
+			wn = max(wn, nl.width(int(d))*t.L/nl.length(int(d)))
 		case PMOS:
-			wp = max(wp, nl.devW[d]*t.L/nl.devL[d])
+			wp = max(wp, nl.width(int(d))*t.L/nl.length(int(d)))
 		}
 	}
 	if wn > 0 && wp > 0 {
