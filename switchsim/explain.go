@@ -314,7 +314,7 @@ func (s *Sim) opposingPaths(n int) []Path {
 // analysisNote returns what race or case analysis said of node n when it
 // last decided n's state.
 func (s *Sim) analysisNote(n int) AnalysisNote {
-	nt := s.note[n]
+	nt := s.noteOf(int32(n))
 	an := AnalysisNote{Split: -1}
 	if nt.kind == noteNone {
 		return an

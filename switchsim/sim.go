@@ -117,14 +117,14 @@ type Sim struct {
 	val     []Value
 	str     []Strength
 	state   []State
-	volts   []float64
-	drive   []Drive // inputs only
-	source  []bool  // rails and driven inputs
-	fight   []bool  // X from an equal-strength fight, for the conflict warning
-	contest []bool  // driven, but the group holds a source of the other value
-	shared  []bool  // floating, and charge of another value joined it in the last solve
+	volts   []float64 // physical mode only: nil in ideal mode (voltsAt)
+	drive   []Drive   // inputs only
+	source  []bool    // rails and driven inputs
+	fight   []bool    // X from an equal-strength fight, for the conflict warning
+	contest []bool    // driven, but the group holds a source of the other value
+	shared  []bool    // floating, and charge of another value joined it in the last solve
 	cond    []Conduction
-	note    []nodeNote // how the analyses decided the node (explain)
+	note    []nodeNote // how the analyses decided the node (explain); made on first use (noteOf)
 
 	// pending work between Settle calls
 	initial   bool
@@ -151,11 +151,12 @@ type Sim struct {
 	touched     []int32
 	g           group
 	res         Result
-	warnMark    []uint32
+	warnMark    []uint32  // node -> settle stamp: reported as racing or oscillating; made on first use
 	rec         *roundLog // where commit records changes; nil in a case-analysis branch
 	unit        roundLog
-	shorts      []int32  // devices joining two sources to check at the end of the settle
-	shortMark   []uint32 // Netlist.shortDevs entry -> settle stamp: listed in shorts
+	nan         []float64 // all NaN: ideal mode's delays (nanDelays)
+	shorts      []int32   // devices joining two sources to check at the end of the settle
+	shortMark   []uint32  // Netlist.shortDevs entry -> settle stamp: listed in shorts
 
 	undo       undoLog
 	ana        analysis
@@ -176,8 +177,9 @@ type Sim struct {
 }
 
 // roundLog records the changes of a run of rounds. Only the unit-delay
-// rounds' log keeps delays (Result.Delay): the phases' and case analysis's
-// are never read for them.
+// rounds' log keeps delays (Result.Delay), and only in physical mode: the
+// phases' and case analysis's are never read for them, and in ideal mode
+// every delay is NaN (Settle hands out nanDelays).
 type roundLog struct {
 	delays   bool
 	rounds   int
@@ -219,20 +221,22 @@ func NewSim(nl *Netlist, opt Options) *Sim {
 		s.splits = DefaultCaseSplits
 	}
 	s.val, s.str, s.state = make([]Value, nn), make([]Strength, nn), make([]State, nn)
-	s.volts, s.drive, s.source, s.fight = make([]float64, nn), make([]Drive, nn), make([]bool, nn), make([]bool, nn)
+	s.drive, s.source, s.fight = make([]Drive, nn), make([]bool, nn), make([]bool, nn)
+	if s.mode == Physical {
+		s.volts = make([]float64, nn)
+	}
 	s.cond = make([]Conduction, nd)
 	s.contest, s.shared = make([]bool, nn), make([]bool, nn)
-	s.note = make([]nodeNote, nn)
 	s.dirtyMark = make([]bool, nn)
 	s.mark, s.touchMark = make([]uint32, nn), make([]uint32, nn)
-	s.warnMark = make([]uint32, nn)
 	s.shortMark = make([]uint32, len(nl.shortDevs))
 	s.lastChange = make([]int32, nn)
 	s.best, s.inj, s.arr = make([]Strength, nn), make([]Value, nn), make([]uint8, nn)
 	s.undo.init(nn, nd)
 	s.ana.init(nn)
 	for n := 0; n < nn; n++ {
-		s.val[n], s.str[n], s.state[n], s.volts[n] = VX, nl.nodeCharge[n], StateZ, math.NaN()
+		s.val[n], s.str[n], s.state[n] = VX, nl.nodeCharge[n], StateZ
+		s.setVolts(int32(n), math.NaN())
 		switch nl.nodeKind[n] {
 		case Power:
 			s.val[n], s.str[n], s.state[n], s.source[n] = V1, Supply, State1, true
@@ -247,9 +251,53 @@ func NewSim(nl *Netlist, opt Options) *Sim {
 	}
 	s.physInit()
 	for _, r := range []int32{nl.power, nl.ground} {
-		s.volts[r] = s.physSourceVolts(s.val[r])
+		s.setVolts(r, s.physSourceVolts(s.val[r]))
 	}
 	return s
+}
+
+// voltsAt is node n's voltage estimate: NaN in ideal mode, which keeps no
+// array of them.
+func (s *Sim) voltsAt(n int32) float64 {
+	if s.volts == nil {
+		return math.NaN()
+	}
+	return s.volts[n]
+}
+
+// setVolts sets node n's voltage estimate (nothing in ideal mode).
+func (s *Sim) setVolts(n int32, v float64) {
+	if s.volts != nil {
+		s.volts[n] = v
+	}
+}
+
+// noteOf is node n's analysis note; the array is made on the first note
+// written, so a design that no analysis decided carries none.
+func (s *Sim) noteOf(n int32) nodeNote {
+	if s.note == nil {
+		return nodeNote{}
+	}
+	return s.note[n]
+}
+
+func (s *Sim) setNote(n int32, nt nodeNote) {
+	if s.note == nil {
+		if nt == (nodeNote{}) {
+			return
+		}
+		s.note = make([]nodeNote, len(s.val))
+	}
+	s.note[n] = nt
+}
+
+// warned reports whether node n was reported as racing or oscillating in
+// this settle.
+func (s *Sim) warned(n int32) bool { return s.warnMark != nil && s.warnMark[n] == s.settleID }
+
+func (s *Sim) markWarned(n int32) {
+	s.warnMark = perNode(s.warnMark, len(s.val))
+	s.warnMark[n] = s.settleID
 }
 
 // Netlist returns the netlist being simulated.
@@ -296,7 +344,7 @@ func (s *Sim) InputDrive(n int) Drive { return s.drive[n] }
 
 // Node returns node n's resolved state.
 func (s *Sim) Node(n int) NodeState {
-	return NodeState{s.val[n], s.str[n], s.state[n], s.str[n].IsCharge(), s.volts[n]}
+	return NodeState{s.val[n], s.str[n], s.state[n], s.str[n].IsCharge(), s.voltsAt(int32(n))}
 }
 
 // Conduction returns device d's present state.
@@ -337,7 +385,14 @@ func (s *Sim) Restore(sn *Snapshot) {
 	copy(s.source, sn.src)
 	copy(s.fight, sn.fight)
 	copy(s.cond, sn.cond)
-	copy(s.note, sn.note)
+	switch {
+	case sn.note == nil:
+		clear(s.note)
+	case s.note == nil:
+		s.note = append([]nodeNote(nil), sn.note...)
+	default:
+		copy(s.note, sn.note)
+	}
 	s.physRestore(sn.phys)
 	for _, n := range s.dirtyIn {
 		s.dirtyMark[n] = false
@@ -370,7 +425,7 @@ func (s *Sim) Settle() *Result {
 	s.nextEpoch()
 	s.rec = &s.unit
 	s.unit.reset()
-	s.unit.delays = true
+	s.unit.delays = s.mode == Physical
 	s.ana.sawX = false
 
 	first := s.initial
@@ -430,7 +485,24 @@ func (s *Sim) Settle() *Result {
 	s.settleWarnings()
 	r.Rounds = s.unit.rounds
 	r.Changed, r.RoundEnd, r.Delay, r.After = s.unit.changed, s.unit.roundEnd, s.unit.delay, s.unit.after
+	if !s.unit.delays {
+		r.Delay = s.nanDelays(len(r.Changed))
+	}
 	return r
+}
+
+// nanDelays returns k NaN delays (ideal mode's Result.Delay) from one
+// buffer that only grows: no step writes them again.
+func (s *Sim) nanDelays(k int) []float64 {
+	if k > len(s.nan) {
+		old := len(s.nan)
+		s.nan = append(s.nan, make([]float64, k-old)...)
+		s.nan = s.nan[:cap(s.nan)]
+		for i := old; i < len(s.nan); i++ {
+			s.nan[i] = math.NaN()
+		}
+	}
+	return s.nan[:k:k]
 }
 
 // applyInputs gives each input its drive (the ones already in force are
@@ -605,7 +677,7 @@ func (s *Sim) applyDrive(n int) {
 	s.source[n] = true
 	s.val[n], s.str[n], s.fight[n] = d.Value(), Supply, false
 	s.state[n] = [...]State{State0, State1, StateX}[d]
-	s.volts[n] = s.physSourceVolts(d.Value())
+	s.setVolts(int32(n), s.physSourceVolts(d.Value()))
 }
 
 // forceOscillating sets to X every node that changed in the last W rounds
@@ -622,7 +694,8 @@ func (s *Sim) forceOscillating() {
 			}
 			s.logNode(n)
 			if s.val[n] != VX || s.state[n] != st {
-				s.val[n], s.state[n], s.volts[n] = VX, st, math.NaN()
+				s.val[n], s.state[n] = VX, st
+				s.setVolts(n, math.NaN())
 				s.lastChange[n] = round
 				if rec := s.rec; rec != nil {
 					rec.changed = append(rec.changed, n)
@@ -633,7 +706,7 @@ func (s *Sim) forceOscillating() {
 				}
 			}
 			s.gates = append(s.gates, n)
-			s.note[n] = nodeNote{kind: noteOscillation, settle: s.settleID}
+			s.setNote(n, nodeNote{kind: noteOscillation, settle: s.settleID})
 			s.ana.forced(n)
 		}
 	}

@@ -69,7 +69,7 @@ func (s *Sim) touch(n int32) {
 	s.touchMark[n] = s.settleID
 	s.touched = append(s.touched, n)
 	s.lastChange[n] = 0
-	if s.note[n].kind != noteNone {
+	if s.note != nil && s.note[n].kind != noteNone {
 		s.note[n] = nodeNote{}
 	}
 }
@@ -79,7 +79,13 @@ func (s *Sim) resolve(g *group) {
 	nl := s.nl
 	k := len(g.nodes)
 	g.nval, g.nstr, g.nstate = grow(g.nval, k), grow(g.nstr, k), grow(g.nstate, k)
-	g.nvolts, g.contested = grow(g.nvolts, k), grow(g.contested, k)
+	g.contested = grow(g.contested, k)
+	if s.mode == Physical { // ideal mode has no voltages: commit reads none
+		g.nvolts = grow(g.nvolts, k)
+		for i := range g.nvolts {
+			g.nvolts[i] = math.NaN()
+		}
+	}
 
 	if !g.hasUnknown && !s.slowIdeal {
 		switch {
@@ -194,7 +200,7 @@ func (s *Sim) resolve(g *group) {
 				st = max(st, p0, p1)
 			}
 		}
-		g.nval[i], g.nstr[i], g.nvolts[i] = v, st, math.NaN()
+		g.nval[i], g.nstr[i] = v, st
 		contested := (v == V0 && (g.srcHas[V1] || g.srcHas[VX])) || (v == V1 && (g.srcHas[V0] || g.srcHas[VX]))
 		g.contested[i] = contested
 		s.contest[n] = contested
@@ -238,7 +244,7 @@ func (s *Sim) resolveSingle(g *group) {
 	}
 	s.fight[n], s.shared[n] = arrived&3 == 3, false
 	contested := (v == V0 && (g.srcHas[V1] || g.srcHas[VX])) || (v == V1 && (g.srcHas[V0] || g.srcHas[VX]))
-	g.nval[0], g.nstr[0], g.nvolts[0], g.contested[0] = v, best, math.NaN(), contested
+	g.nval[0], g.nstr[0], g.contested[0] = v, best, contested
 	s.contest[n] = contested
 	switch {
 	case best.IsCharge():
@@ -268,10 +274,10 @@ func (s *Sim) resolveDriven(g *group) {
 	default:
 		v, state = V1, State1
 	}
-	mixed, nan := h[V0] && h[V1], math.NaN()
+	mixed := h[V0] && h[V1]
 	for i, n := range g.nodes {
 		s.fight[n], s.shared[n], s.contest[n] = mixed, false, false
-		g.nval[i], g.nstr[i], g.nstate[i], g.nvolts[i], g.contested[i] = v, Strong, state, nan, false
+		g.nval[i], g.nstr[i], g.nstate[i], g.contested[i] = v, Strong, state, false
 	}
 }
 
@@ -350,12 +356,17 @@ func (s *Sim) potential(g *group, v Value) {
 func (s *Sim) commit(g *group) {
 	rec := s.rec
 	for i, n := range g.nodes {
-		v, st, state, vo := g.nval[i], g.nstr[i], g.nstate[i], g.nvolts[i]
+		v, st, state, vo := g.nval[i], g.nstr[i], g.nstate[i], math.NaN()
 		if v == VX {
 			s.ana.sawX = true
 		}
-		moved := s.val[n] != v || s.str[n] != st || s.state[n] != state || voltsMoved(s.volts[n], vo)
-		s.val[n], s.str[n], s.state[n], s.volts[n] = v, st, state, vo
+		moved := s.val[n] != v || s.str[n] != st || s.state[n] != state
+		if s.volts != nil {
+			vo = g.nvolts[i]
+			moved = moved || voltsMoved(s.volts[n], vo)
+			s.volts[n] = vo
+		}
+		s.val[n], s.str[n], s.state[n] = v, st, state
 		if rec == nil && s.fight[n] && st >= s.nl.top {
 			s.ana.contradicted = true // a fight no stronger signal can override: not a real state
 		}

@@ -8,10 +8,10 @@ package switchsim
 
 // Node flags.
 const (
-	nodeLoop     uint8 = 1 << iota // inside a feedback loop: its channel-connected component feeds back to itself through gates
-	nodeOutput                     // a declared output
-	nodeGatePass                   // gates a pass device
-	nodeDiffusion                  // a diffusion node (Diffusion), set by diffusionDefaults
+	nodeLoop      uint8 = 1 << iota // inside a feedback loop: its channel-connected component feeds back to itself through gates
+	nodeOutput                      // a declared output
+	nodeGatePass                    // gates a pass device
+	nodeDiffusion                   // a diffusion node (Diffusion), set by diffusionDefaults
 )
 
 // Device flags.

@@ -67,11 +67,11 @@ func (s *Sim) settleWarnings() {
 	nl := s.nl
 	r := &s.res
 	add := func(kind WarnKind, n, d, o int) {
-		r.Warnings = append(r.Warnings, Warning{Kind: kind, Node: n, Device: d, Other: o, Volts: s.volts[n], Margin: math.NaN()})
+		r.Warnings = append(r.Warnings, Warning{Kind: kind, Node: n, Device: d, Other: o, Volts: s.voltsAt(int32(n)), Margin: math.NaN()})
 	}
 	for _, n32 := range s.touched {
 		n := int(n32)
-		if s.warnMark[n] == s.settleID { // already reported as racing or oscillating
+		if s.warned(n32) { // already reported as racing or oscillating
 			continue
 		}
 		fans := nl.gateStart[n+1] > nl.gateStart[n]
@@ -131,7 +131,7 @@ func (s *Sim) writeFail(n int32) {
 	if write < 0 || keeper < 0 || wv == VX || kv == VX || wv == kv || s.val[n] == wv {
 		return
 	}
-	w := Warning{Kind: WarnWriteFail, Node: int(n), Device: int(write), Other: int(keeper), Volts: s.volts[n], Margin: math.NaN()}
+	w := Warning{Kind: WarnWriteFail, Node: int(n), Device: int(write), Other: int(keeper), Volts: s.voltsAt(int32(n)), Margin: math.NaN()}
 	if s.mode == Physical && !math.IsNaN(w.Volts) {
 		vm := s.loopThreshold(n)
 		w.Margin = w.Volts - vm // towards a written 1
@@ -269,7 +269,7 @@ func (s *Sim) Message(w Warning) string {
 			node, s.inputsText())
 	case WarnGlitch:
 		back := "in phase B"
-		if s.note[w.Node].kind == noteGlitchAlone {
+		if s.noteOf(int32(w.Node)).kind == noteGlitchAlone {
 			back = "when the rounds settled"
 		}
 		return fmt.Sprintf("%s may glitch: with %s changing it went X in phase A and came back to %s %s; a pulse here %s",
