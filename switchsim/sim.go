@@ -628,7 +628,7 @@ func (s *Sim) rounds(stop bool) bool {
 		if rec != nil {
 			rec.roundEnd = append(rec.roundEnd, int32(len(rec.changed)))
 		}
-		if s.physConverging() { // only voltages moved, each by less than before: not counted
+		if s.mode == Physical && s.physConverging() { // only voltages moved, each by less than before: not counted
 			limit++
 		}
 		s.nextEpoch()

@@ -58,8 +58,14 @@ func (s *Sim) solveGroup(seed int32) {
 		}
 	}
 	s.ana.visits += len(g.nodes)
+	if len(g.nodes) == 1 && !g.hasUnknown && s.mode == Ideal && !s.slowIdeal {
+		s.solveOne(g)
+		return
+	}
 	s.resolve(g)
-	s.physGroup(g)
+	if s.mode == Physical {
+		s.physGroup(g)
+	}
 	s.commit(g)
 }
 
@@ -222,6 +228,21 @@ func (s *Sim) resolve(g *group) {
 // of its own charge and the sources reaching it through devices that are on
 // wins; equal strengths combine. No blocking or ternary pass is needed.
 func (s *Sim) resolveSingle(g *group) {
+	g.nval[0], g.nstr[0], g.nstate[0], g.contested[0] = s.single(g)
+}
+
+// solveOne is resolveSingle and commit in one for ideal mode, which has no
+// voltages to add: the node's state is written without the group's result
+// arrays.
+func (s *Sim) solveOne(g *group) {
+	n := g.nodes[0]
+	v, st, state, _ := s.single(g)
+	s.write(n, v, st, state, math.NaN())
+}
+
+// single resolves g's one node (resolveSingle) and notes its fight,
+// sharing and contest.
+func (s *Sim) single(g *group) (Value, Strength, State, bool) {
 	nl := s.nl
 	n := g.nodes[0]
 	best, v, arrived := nl.nodeCharge[n], s.val[n], uint8(1)<<s.val[n]
@@ -244,18 +265,16 @@ func (s *Sim) resolveSingle(g *group) {
 	}
 	s.fight[n], s.shared[n] = arrived&3 == 3, false
 	contested := (v == V0 && (g.srcHas[V1] || g.srcHas[VX])) || (v == V1 && (g.srcHas[V0] || g.srcHas[VX]))
-	g.nval[0], g.nstr[0], g.contested[0] = v, best, contested
 	s.contest[n] = contested
 	switch {
 	case best.IsCharge():
-		g.nstate[0] = StateZ
+		return v, best, StateZ, contested
 	case v == VX:
-		g.nstate[0] = StateX
+		return v, best, StateX, contested
 	case contested || best < Strong:
-		g.nstate[0] = StateL + State(v)
-	default:
-		g.nstate[0] = State0 + State(v)
+		return v, best, StateL + State(v), contested
 	}
+	return v, best, State0 + State(v), contested
 }
 
 // resolveDriven is resolve for a group that a source reaches, whose
@@ -354,35 +373,47 @@ func (s *Sim) potential(g *group, v Value) {
 
 // commit writes g's results and records the nodes that changed.
 func (s *Sim) commit(g *group) {
-	rec := s.rec
 	for i, n := range g.nodes {
-		v, st, state, vo := g.nval[i], g.nstr[i], g.nstate[i], math.NaN()
-		if v == VX {
-			s.ana.sawX = true
+		if s.volts == nil { // ideal mode
+			s.write(n, g.nval[i], g.nstr[i], g.nstate[i], math.NaN())
+			continue
 		}
-		moved := s.val[n] != v || s.str[n] != st || s.state[n] != state
-		if s.volts != nil {
-			vo = g.nvolts[i]
-			moved = moved || voltsMoved(s.volts[n], vo)
-			s.volts[n] = vo
-		}
-		s.val[n], s.str[n], s.state[n] = v, st, state
-		if rec == nil && s.fight[n] && st >= s.nl.top {
-			s.ana.contradicted = true // a fight no stronger signal can override: not a real state
-		}
-		if moved {
-			delay := s.physDelay(g, i)
-			if rec != nil {
-				s.lastChange[n] = s.roundNo
-				rec.changed = append(rec.changed, n)
-				if rec.delays {
-					rec.delay = append(rec.delay, delay)
-				}
-				rec.after = append(rec.after, NodeState{v, st, state, st.IsCharge(), vo})
+		if s.write(n, g.nval[i], g.nstr[i], g.nstate[i], g.nvolts[i]) {
+			delay := s.physDelay(g, i) // it notes the delay in the node's record too
+			if rec := s.rec; rec != nil && rec.delays {
+				rec.delay = append(rec.delay, delay)
 			}
-			s.gates = append(s.gates, n)
 		}
 	}
+}
+
+// write gives node n its state and, where that moved it, records the change
+// (the delay is the caller's) and queues its fan-out; it reports whether
+// it moved the node.
+func (s *Sim) write(n int32, v Value, st Strength, state State, vo float64) bool {
+	if v == VX {
+		s.ana.sawX = true
+	}
+	moved := s.val[n] != v || s.str[n] != st || s.state[n] != state
+	if s.volts != nil {
+		moved = moved || voltsMoved(s.volts[n], vo)
+		s.volts[n] = vo
+	}
+	s.val[n], s.str[n], s.state[n] = v, st, state
+	rec := s.rec
+	if rec == nil && s.fight[n] && st >= s.nl.top {
+		s.ana.contradicted = true // a fight no stronger signal can override: not a real state
+	}
+	if !moved {
+		return false
+	}
+	if rec != nil {
+		s.lastChange[n] = s.roundNo
+		rec.changed = append(rec.changed, n)
+		rec.after = append(rec.after, NodeState{v, st, state, st.IsCharge(), vo})
+	}
+	s.gates = append(s.gates, n)
+	return true
 }
 
 // voltsMoved reports a voltage change worth a round: more than a microvolt,
