@@ -6,6 +6,7 @@ import (
 	"slices"
 	"sort"
 	"strings"
+	"sync"
 )
 
 // Netlist is a compiled design: dense arrays indexed by node and device
@@ -20,7 +21,7 @@ type Netlist struct {
 	nodeKind   []NodeKind
 	nodeCap    []float64 // cold: nil while every node has its default (capOf)
 	nodeCharge []Strength
-	nodeByName []int32 // node numbers sorted by name, for Lookup; names never take part in simulation
+	nodeIdx    *nameIndex // for Lookup; names never take part in simulation
 	inputs     []int32
 	outputs    []int32
 
@@ -33,7 +34,7 @@ type Netlist struct {
 	devCap    []Strength
 	devW      []float64 // cold: nil while every device has its default size (width, length)
 	devL      []float64
-	devByName []int32   // device numbers sorted by name
+	devIdx    *nameIndex // for LookupDevice
 	devResist []bool    // IEEE 1364-2005 §7.12 resistive devices; nil when there are none
 	devOhms   []float64 // resistances given in ohms (R cards); nil when none is
 	chanStart []int32   // CSR: devices whose channel touches node n are chanDev[chanStart[n]:chanStart[n+1]]
@@ -48,8 +49,30 @@ type Netlist struct {
 	top       Strength // the strongest signal a device passes: min(supply, cap) at most
 
 	// original spellings (Builder.Original), nil when every name is its own
-	nodeOrig, devOrig     []string
-	nodeByOrig, devByOrig []int32
+	nodeOrig, devOrig []string
+}
+
+// nameIndex finds names by binary search in indices sorted by name (4
+// bytes a name instead of a map entry), made on the first look-up: a design
+// that is only simulated never carries them. The netlists made from one
+// Compile (WithTech, WithSize) share it, as they share the names.
+type nameIndex struct {
+	once           sync.Once
+	names, orig    []string
+	byName, byOrig []int32
+}
+
+func (x *nameIndex) find(name string) (int, bool) {
+	x.once.Do(func() {
+		x.byName = byName(x.names)
+		if x.orig != nil {
+			x.byOrig = byName(x.orig)
+		}
+	})
+	if n, ok := lookup(x.names, x.byName, name); ok || x.orig == nil {
+		return n, ok
+	}
+	return lookup(x.orig, x.byOrig, name)
 }
 
 // CompileError lists every problem Compile found.
@@ -172,12 +195,11 @@ func (b *Builder) Compile() (*Netlist, error) {
 		slices.SortFunc(probs, func(p, q Problem) int { return strings.Compare(p.Msg, q.Msg) })
 		return nil, &CompileError{probs}
 	}
-	// Sorted indices instead of maps: 4 bytes a name instead of a map entry.
-	nl.nodeByName, nl.devByName = byName(nl.nodeName), byName(nl.devName)
 	if len(b.original) > 0 {
 		nl.nodeOrig, nl.devOrig = originals(nl.nodeName, b.original), originals(nl.devName, b.original)
-		nl.nodeByOrig, nl.devByOrig = byName(nl.nodeOrig), byName(nl.devOrig)
 	}
+	nl.nodeIdx = &nameIndex{names: nl.nodeName, orig: nl.nodeOrig}
+	nl.devIdx = &nameIndex{names: nl.devName, orig: nl.devOrig}
 	nl.chanStart, nl.chanDev = csr(nn, nd, func(d int, emit func(int32)) {
 		emit(nl.devA[d])
 		if nl.devB[d] != nl.devA[d] {
@@ -316,18 +338,12 @@ func (nl *Netlist) NodeCharge(n int) Strength { return nl.nodeCharge[n] }
 
 // Lookup finds a node by its railyard name or its original spelling.
 func (nl *Netlist) Lookup(name string) (int, bool) {
-	if n, ok := lookup(nl.nodeName, nl.nodeByName, name); ok || nl.nodeOrig == nil {
-		return n, ok
-	}
-	return lookup(nl.nodeOrig, nl.nodeByOrig, name)
+	return nl.nodeIdx.find(name)
 }
 
 // LookupDevice finds a device by its railyard name or its original spelling.
 func (nl *Netlist) LookupDevice(name string) (int, bool) {
-	if d, ok := lookup(nl.devName, nl.devByName, name); ok || nl.devOrig == nil {
-		return d, ok
-	}
-	return lookup(nl.devOrig, nl.devByOrig, name)
+	return nl.devIdx.find(name)
 }
 
 // Power and Ground return the rails' node numbers.

@@ -564,8 +564,9 @@ func (s *Sim) rounds(stop bool) bool {
 	for round := 1; ; round++ {
 		// Devices whose gate changed in the round before switch now.
 		for _, gn := range s.gates {
+			gv := s.val[gn]
 			for _, d := range nl.gateDev[nl.gateStart[gn]:nl.gateStart[gn+1]] {
-				c := s.condOf(int(d))
+				c := conduction(nl.devKind[d], gv) // condOf: gn is d's gate
 				moved := false
 				if s.mode == Physical {
 					s.logDevice(d)             // physGateMoved records the gate's voltage

@@ -87,7 +87,9 @@ func (s *Sim) settleWarnings() {
 		case st == StateZ && s.val[n] == VX && fans:
 			add(WarnFloatingGate, n, int(nl.gateDev[nl.gateStart[n]]), -1)
 		}
-		s.physWarnings(n, add)
+		if s.mode == Physical {
+			s.physWarnings(n, add)
+		}
 		if nl.nodeFlag[n]&nodeLoop != 0 && (s.contest[n] || (s.val[n] == VX && s.fight[n])) {
 			s.writeFail(n32)
 		}
