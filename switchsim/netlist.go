@@ -35,9 +35,9 @@ type Netlist struct {
 	devW      []float64 // cold: nil while every device has its default size (width, length)
 	devL      []float64
 	devIdx    *nameIndex // for LookupDevice
-	devResist []bool    // IEEE 1364-2005 §7.12 resistive devices; nil when there are none
-	devOhms   []float64 // resistances given in ohms (R cards); nil when none is
-	chanStart []int32   // CSR: devices whose channel touches node n are chanDev[chanStart[n]:chanStart[n+1]]
+	devResist []bool     // IEEE 1364-2005 §7.12 resistive devices; nil when there are none
+	devOhms   []float64  // resistances given in ohms (R cards); nil when none is
+	chanStart []int32    // CSR: devices whose channel touches node n are chanDev[chanStart[n]:chanStart[n+1]]
 	chanDev   []int32
 	gateStart []int32 // CSR: devices gated by node n
 	gateDev   []int32
