@@ -11,13 +11,24 @@ import "math"
 
 // nodeSave is a node's state as the log keeps it; physical mode's part is
 // in the parallel physSave, kept in physical mode only.
+// Its drive and four flags share one byte (saveBits): 8 bytes an entry,
+// and the log is written on every step that race analysis may look back on.
 type nodeSave struct {
-	n                              int32
-	val                            Value
-	str                            Strength
-	state                          State
-	drive                          Drive
-	fight, contest, shared, source bool
+	n     int32
+	val   Value
+	str   Strength
+	state State
+	bits  uint8 // drive in bits 0-1, then fight, contest, shared, source
+}
+
+func saveBits(d Drive, fight, contest, shared, source bool) uint8 {
+	b := uint8(d)
+	for i, f := range [4]bool{fight, contest, shared, source} {
+		if f {
+			b |= 4 << i
+		}
+	}
+	return b
 }
 
 type physSave struct {
@@ -131,8 +142,8 @@ func (s *Sim) logNode(n int32) bool {
 func (s *Sim) saveNode(n int32) {
 	u := &s.undo
 	u.nmark[n] = u.id
-	u.nodes = append(u.nodes, nodeSave{n, s.val[n], s.str[n], s.state[n], s.drive[n],
-		s.fight[n], s.contest[n], s.shared[n], s.source[n]})
+	u.nodes = append(u.nodes, nodeSave{n, s.val[n], s.str[n], s.state[n],
+		saveBits(s.drive[n], s.fight[n], s.contest[n], s.shared[n], s.source[n])})
 	if s.mode == Physical {
 		u.phys = append(u.phys, physSave{s.volts[n], s.phys.info[n], s.phys.shareMark[n], s.phys.fightV[n]})
 	}
@@ -155,8 +166,8 @@ func (s *Sim) logDevice(d int32) {
 func (s *Sim) restoreNode(i int) {
 	e := &s.undo.nodes[i]
 	n := e.n
-	s.val[n], s.str[n], s.state[n], s.drive[n] = e.val, e.str, e.state, e.drive
-	s.fight[n], s.contest[n], s.shared[n], s.source[n] = e.fight, e.contest, e.shared, e.source
+	s.val[n], s.str[n], s.state[n], s.drive[n] = e.val, e.str, e.state, Drive(e.bits&3)
+	s.fight[n], s.contest[n], s.shared[n], s.source[n] = e.bits&4 != 0, e.bits&8 != 0, e.bits&16 != 0, e.bits&32 != 0
 	if s.mode == Physical {
 		p := &s.undo.phys[i]
 		s.volts[n], s.phys.info[n], s.phys.shareMark[n], s.phys.fightV[n] = p.volts, p.phys, p.share, p.start
