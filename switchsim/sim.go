@@ -200,7 +200,6 @@ type group struct {
 	srcs       []int32 // boundary sources
 	devs       []int32 // devices not off
 	hasUnknown bool
-	strong     bool       // every device in devs is devStrong
 	nval       []Value    // parallel to nodes
 	nstr       []Strength // parallel to nodes
 	nstate     []State
@@ -560,6 +559,7 @@ func (s *Sim) rounds(stop bool) bool {
 	nl := s.nl
 	rec := s.rec
 	limit, extra, forced := s.limit, false, false
+	shorts := len(nl.shortDevs) > 0
 	s.runStart = s.roundNo
 	for round := 1; ; round++ {
 		// Devices whose gate changed in the round before switch now.
@@ -581,7 +581,7 @@ func (s *Sim) rounds(stop bool) bool {
 					if b := nl.devB[d]; !s.source[b] {
 						s.seed(b)
 					}
-					if nl.devFlag[d]&devShort != 0 {
+					if shorts && nl.devFlag[d]&devShort != 0 {
 						s.checkShort(d)
 					}
 				}

@@ -16,7 +16,7 @@ func (s *Sim) solveGroup(seed int32) {
 	done := s.stamp()
 	mark := s.mark
 	g.nodes, g.srcs, g.devs = g.nodes[:0], g.srcs[:0], g.devs[:0]
-	g.hasUnknown, g.strong = false, true
+	g.hasUnknown = false
 	g.srcHas = [3]bool{}
 	g.nodes = append(g.nodes, seed)
 	mark[seed] = gid
@@ -41,7 +41,6 @@ func (s *Sim) solveGroup(seed int32) {
 				continue // listed when o was looked at
 			}
 			g.devs = append(g.devs, d)
-			g.strong = g.strong && nl.devFlag[d]&devStrong != 0
 			if c == Unknown {
 				g.hasUnknown = true
 			}
@@ -98,7 +97,7 @@ func (s *Sim) resolve(g *group) {
 		case k == 1:
 			s.resolveSingle(g)
 			return
-		case g.strong && len(g.srcs) > 0:
+		case len(g.srcs) > 0 && s.allStrong(g):
 			s.resolveDriven(g)
 			return
 		}
@@ -275,6 +274,17 @@ func (s *Sim) single(g *group) (Value, Strength, State, bool) {
 		return v, best, StateL + State(v), contested
 	}
 	return v, best, State0 + State(v), contested
+}
+
+// allStrong reports whether every device of g passes every driving signal
+// at strong (devStrong), as resolveDriven needs.
+func (s *Sim) allStrong(g *group) bool {
+	for _, d := range g.devs {
+		if s.nl.devFlag[d]&devStrong == 0 {
+			return false
+		}
+	}
+	return true
 }
 
 // resolveDriven is resolve for a group that a source reaches, whose
