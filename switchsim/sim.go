@@ -128,6 +128,7 @@ type Sim struct {
 
 	// pending work between Settle calls
 	initial   bool
+	shrink    bool // the last settle was the first: its logs are let go at the next
 	dirtyIn   []int32
 	dirtyMark []bool
 
@@ -417,6 +418,21 @@ func (s *Sim) Settle() *Result {
 	r := &s.res
 	r.Rounds, r.Settled, r.Oscillated, r.Warnings = 0, false, false, r.Warnings[:0]
 	r.Analysis.reset()
+	if s.shrink {
+		// The first settle solves every node and changes most of them twice
+		// (from stored X to driven X or a value, and on as the values
+		// spread), and with every device of unknown state its groups are the
+		// largest: its logs, the seeds and touched lists and the group's
+		// scratch are sized for that. A step changes a fraction of it, so
+		// they are let go here and grow to what the steps need.
+		s.shrink = false
+		s.unit.changed, s.unit.roundEnd, s.unit.delay, s.unit.after = nil, nil, nil, nil
+		s.seeds, s.touched, s.nan = nil, nil, nil
+		s.g, s.buckets, s.comp = group{}, [Supply + 1][]int32{}, nil
+		if len(s.gates) == 0 { // (a stopped settle can leave fan-out queued)
+			s.gates = nil
+		}
+	}
 	s.settleID++
 	s.touched, s.shorts = s.touched[:0], s.shorts[:0]
 	s.seeds = s.seeds[:0] // s.gates may hold fan-out left queued by a stopped settle
@@ -432,7 +448,7 @@ func (s *Sim) Settle() *Result {
 	// the state before the step.
 	s.undo.reset(!first && len(s.dirtyIn) > 0 && s.races != RacesOff, s.mode == Physical || len(s.gates) > 0)
 	if first {
-		s.initial = false
+		s.initial, s.shrink = false, true
 		for n := range s.val {
 			if s.nl.nodeKind[n] == Input {
 				s.applyDrive(n)
