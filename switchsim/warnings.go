@@ -74,17 +74,17 @@ func (s *Sim) settleWarnings() {
 		if s.warned(n32) { // already reported as racing or oscillating
 			continue
 		}
-		fans := nl.gateStart[n+1] > nl.gateStart[n]
 		switch st := s.state[n]; {
 		case st == StateX && s.fight[n]:
 			add(WarnConflict, n, -1, -1)
 		case (st == StateL || st == StateH) && s.contest[n] && s.mode == Ideal:
 			add(WarnContention, n, -1, -1)
-		case st == StateZ && s.shared[n]:
+		case st != StateZ: // (only a floating node's warnings are left)
+		case s.shared[n]:
 			add(WarnChargeSharing, n, -1, -1)
-		case st == StateZ && s.val[n] != VX && (fans || nl.nodeFlag[n]&nodeOutput != 0):
+		case s.val[n] != VX && (nl.gateStart[n+1] > nl.gateStart[n] || nl.nodeFlag[n]&nodeOutput != 0):
 			add(WarnHeldByCharge, n, -1, -1)
-		case st == StateZ && s.val[n] == VX && fans:
+		case s.val[n] == VX && nl.gateStart[n+1] > nl.gateStart[n]:
 			add(WarnFloatingGate, n, int(nl.gateDev[nl.gateStart[n]]), -1)
 		}
 		if s.mode == Physical {
