@@ -161,7 +161,7 @@ func (s *Sim) tainted(n int32) bool {
 // taintSource reports whether X node m is X for a real reason of its own.
 func (s *Sim) taintSource(m int32) bool {
 	switch {
-	case s.fight[m], s.noteOf(m).kind == noteOscillation:
+	case s.flag(m, nfFight), s.noteOf(m).kind == noteOscillation:
 		return true
 	case s.mode == Physical && !math.IsNaN(s.volts[m]):
 		return true // a level in the undefined band
@@ -265,7 +265,7 @@ func (s *Sim) branchStart(c int32, v Value) undoMark {
 }
 
 func (s *Sim) caseStateOf(n int32) caseState {
-	cs := caseState{n: n, st: s.Node(int(n)), contest: s.contest[n], shared: s.shared[n]}
+	cs := caseState{n: n, st: s.Node(int(n)), contest: s.flag(n, nfContest), shared: s.flag(n, nfShared)}
 	if s.mode == Physical {
 		cs.phys = s.phys.info[n]
 	}
@@ -341,7 +341,7 @@ func (s *Sim) adopt() bool {
 		}
 		s.val[n], s.str[n], s.state[n] = cs.st.Value, cs.st.Strength, cs.st.State
 		s.setVolts(n, cs.st.Volts)
-		s.fight[n], s.contest[n], s.shared[n] = false, cs.contest, cs.shared
+		s.nflag[n] = nodeFlags(false, cs.contest, cs.shared)
 		if s.mode == Physical {
 			s.phys.info[n] = cs.phys
 		}

@@ -151,7 +151,7 @@ func (s *Sim) Explain(n int) Explanation {
 			}
 		}
 	}
-	e.Contested = s.contest[n]
+	e.Contested = s.flag(int32(n), nfContest)
 	if e.Floating {
 		e.Sharing = s.floatingGroup(n)
 		e.Winning = s.winningPaths(n)

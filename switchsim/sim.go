@@ -35,6 +35,39 @@ type Options struct {
 // the limit are not called an oscillation: race analysis decides.
 func DefaultRoundLimit(nl *Netlist) int { return 2*nl.NumNodes() + 2 }
 
+// Node flags of the last solve (Sim.nflag), one byte a node.
+const (
+	nfFight   uint8 = 1 << iota // X from an equal-strength fight, for the conflict warning
+	nfContest                   // driven, but the group holds a source of the other value
+	nfShared                    // floating, and charge of another value joined it in the last solve
+)
+
+func nodeFlags(fight, contest, shared bool) uint8 {
+	var f uint8
+	if fight {
+		f |= nfFight
+	}
+	if contest {
+		f |= nfContest
+	}
+	if shared {
+		f |= nfShared
+	}
+	return f
+}
+
+// flag reports whether node n has flag f.
+func (s *Sim) flag(n int32, f uint8) bool { return s.nflag[n]&f != 0 }
+
+// fights lists the nodes' fight flags (a Snapshot's).
+func (s *Sim) fights() []bool {
+	out := make([]bool, len(s.nflag))
+	for n, f := range s.nflag {
+		out[n] = f&nfFight != 0
+	}
+	return out
+}
+
 // RaceMode says when race analysis runs.
 type RaceMode uint8
 
@@ -114,17 +147,15 @@ type Sim struct {
 	splits int // case analysis bound; < 0: off
 
 	// node state
-	val     []Value
-	str     []Strength
-	state   []State
-	volts   []float64 // physical mode only: nil in ideal mode (voltsAt)
-	drive   []Drive   // inputs only
-	source  []bool    // rails and driven inputs
-	fight   []bool    // X from an equal-strength fight, for the conflict warning
-	contest []bool    // driven, but the group holds a source of the other value
-	shared  []bool    // floating, and charge of another value joined it in the last solve
-	cond    []Conduction
-	note    []nodeNote // how the analyses decided the node (explain); made on first use (noteOf)
+	val    []Value
+	str    []Strength
+	state  []State
+	volts  []float64 // physical mode only: nil in ideal mode (voltsAt)
+	drive  []Drive   // inputs only
+	source []bool    // rails and driven inputs
+	nflag  []uint8   // what the last solve found: nfFight, nfContest, nfShared
+	cond   []Conduction
+	note   []nodeNote // how the analyses decided the node (explain); made on first use (noteOf)
 
 	// pending work between Settle calls
 	initial   bool
@@ -221,12 +252,11 @@ func NewSim(nl *Netlist, opt Options) *Sim {
 		s.splits = DefaultCaseSplits
 	}
 	s.val, s.str, s.state = make([]Value, nn), make([]Strength, nn), make([]State, nn)
-	s.drive, s.source, s.fight = make([]Drive, nn), make([]bool, nn), make([]bool, nn)
+	s.drive, s.source, s.nflag = make([]Drive, nn), make([]bool, nn), make([]uint8, nn)
 	if s.mode == Physical {
 		s.volts = make([]float64, nn)
 	}
 	s.cond = make([]Conduction, nd)
-	s.contest, s.shared = make([]bool, nn), make([]bool, nn)
 	s.dirtyMark = make([]bool, nn)
 	s.mark, s.touchMark = make([]uint32, nn), make([]uint32, nn)
 	s.shortMark = make([]uint32, len(nl.shortDevs))
@@ -370,7 +400,7 @@ func (s *Sim) Snapshot() *Snapshot {
 		append([]Value(nil), s.val...), append([]Strength(nil), s.str...),
 		append([]State(nil), s.state...), append([]float64(nil), s.volts...),
 		append([]Drive(nil), s.drive...), append([]bool(nil), s.source...),
-		append([]bool(nil), s.fight...), append([]Conduction(nil), s.cond...),
+		s.fights(), append([]Conduction(nil), s.cond...),
 		append([]nodeNote(nil), s.note...), s.physSave(),
 	}
 }
@@ -383,7 +413,9 @@ func (s *Sim) Restore(sn *Snapshot) {
 	copy(s.volts, sn.volts)
 	copy(s.drive, sn.drive)
 	copy(s.source, sn.src)
-	copy(s.fight, sn.fight)
+	for n, f := range sn.fight { // (a snapshot keeps the fights alone)
+		s.nflag[n] = s.nflag[n]&^nfFight | nodeFlags(f, false, false)
+	}
 	copy(s.cond, sn.cond)
 	switch {
 	case sn.note == nil:
@@ -692,7 +724,8 @@ func (s *Sim) applyDrive(n int) {
 		return // keeps its value as charge; its group is solved
 	}
 	s.source[n] = true
-	s.val[n], s.str[n], s.fight[n] = d.Value(), Supply, false
+	s.val[n], s.str[n] = d.Value(), Supply
+	s.nflag[n] &^= nfFight
 	s.state[n] = [...]State{State0, State1, StateX}[d]
 	s.setVolts(int32(n), s.physSourceVolts(d.Value()))
 }

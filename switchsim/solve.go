@@ -115,7 +115,7 @@ func (s *Sim) resolve(g *group) {
 	}
 	for _, n := range g.nodes {
 		s.best[n], s.inj[n], s.arr[n] = nl.nodeCharge[n], s.val[n], 1<<s.val[n]
-		s.shared[n] = false
+		s.nflag[n] &^= nfShared
 		s.buckets[s.best[n]] = append(s.buckets[s.best[n]], n)
 	}
 	// Sources inject through the group's own devices only: a rail touches
@@ -170,7 +170,7 @@ func (s *Sim) resolve(g *group) {
 			mixed := arrived&3 == 3
 			for _, m := range s.comp {
 				s.best[m], s.inj[m] = lvl, cv
-				s.fight[m], s.shared[m] = mixed, shared
+				s.nflag[m] = s.nflag[m]&nfContest | nodeFlags(mixed, false, shared)
 			}
 			for _, m := range s.comp {
 				for _, d := range nl.chanDev[nl.chanStart[m]:nl.chanStart[m+1]] {
@@ -208,7 +208,7 @@ func (s *Sim) resolve(g *group) {
 		g.nval[i], g.nstr[i] = v, st
 		contested := (v == V0 && (g.srcHas[V1] || g.srcHas[VX])) || (v == V1 && (g.srcHas[V0] || g.srcHas[VX]))
 		g.contested[i] = contested
-		s.contest[n] = contested
+		s.nflag[n] = s.nflag[n]&^nfContest | nodeFlags(false, contested, false)
 		switch {
 		case st.IsCharge() || st == HighZ:
 			g.nstate[i] = StateZ
@@ -262,9 +262,8 @@ func (s *Sim) single(g *group) (Value, Strength, State, bool) {
 			v = lub(v, sv)
 		}
 	}
-	s.fight[n], s.shared[n] = arrived&3 == 3, false
 	contested := (v == V0 && (g.srcHas[V1] || g.srcHas[VX])) || (v == V1 && (g.srcHas[V0] || g.srcHas[VX]))
-	s.contest[n] = contested
+	s.nflag[n] = nodeFlags(arrived&3 == 3, contested, false)
 	switch {
 	case best.IsCharge():
 		return v, best, StateZ, contested
@@ -305,7 +304,7 @@ func (s *Sim) resolveDriven(g *group) {
 	}
 	mixed := h[V0] && h[V1]
 	for i, n := range g.nodes {
-		s.fight[n], s.shared[n], s.contest[n] = mixed, false, false
+		s.nflag[n] = nodeFlags(mixed, false, false)
 		g.nval[i], g.nstr[i], g.nstate[i], g.contested[i] = v, Strong, state, false
 	}
 }
@@ -411,7 +410,7 @@ func (s *Sim) write(n int32, v Value, st Strength, state State, vo float64) bool
 	}
 	s.val[n], s.str[n], s.state[n] = v, st, state
 	rec := s.rec
-	if rec == nil && s.fight[n] && st >= s.nl.top {
+	if rec == nil && s.flag(n, nfFight) && st >= s.nl.top {
 		s.ana.contradicted = true // a fight no stronger signal can override: not a real state
 	}
 	if !moved {

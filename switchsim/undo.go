@@ -18,15 +18,13 @@ type nodeSave struct {
 	val   Value
 	str   Strength
 	state State
-	bits  uint8 // drive in bits 0-1, then fight, contest, shared, source
+	bits  uint8 // drive in bits 0-1, the node's flags (nflag) in 2-4, source in 5
 }
 
-func saveBits(d Drive, fight, contest, shared, source bool) uint8 {
-	b := uint8(d)
-	for i, f := range [4]bool{fight, contest, shared, source} {
-		if f {
-			b |= 4 << i
-		}
+func saveBits(d Drive, flags uint8, source bool) uint8 {
+	b := uint8(d) | flags<<2
+	if source {
+		b |= 1 << 5
 	}
 	return b
 }
@@ -143,7 +141,7 @@ func (s *Sim) saveNode(n int32) {
 	u := &s.undo
 	u.nmark[n] = u.id
 	u.nodes = append(u.nodes, nodeSave{n, s.val[n], s.str[n], s.state[n],
-		saveBits(s.drive[n], s.fight[n], s.contest[n], s.shared[n], s.source[n])})
+		saveBits(s.drive[n], s.nflag[n], s.source[n])})
 	if s.mode == Physical {
 		u.phys = append(u.phys, physSave{s.volts[n], s.phys.info[n], s.phys.shareMark[n], s.phys.fightV[n]})
 	}
@@ -167,7 +165,7 @@ func (s *Sim) restoreNode(i int) {
 	e := &s.undo.nodes[i]
 	n := e.n
 	s.val[n], s.str[n], s.state[n], s.drive[n] = e.val, e.str, e.state, Drive(e.bits&3)
-	s.fight[n], s.contest[n], s.shared[n], s.source[n] = e.bits&4 != 0, e.bits&8 != 0, e.bits&16 != 0, e.bits&32 != 0
+	s.nflag[n], s.source[n] = e.bits>>2&7, e.bits&(1<<5) != 0
 	if s.mode == Physical {
 		p := &s.undo.phys[i]
 		s.volts[n], s.phys.info[n], s.phys.shareMark[n], s.phys.fightV[n] = p.volts, p.phys, p.share, p.start

@@ -75,12 +75,12 @@ func (s *Sim) settleWarnings() {
 			continue
 		}
 		switch st := s.state[n]; {
-		case st == StateX && s.fight[n]:
+		case st == StateX && s.flag(n32, nfFight):
 			add(WarnConflict, n, -1, -1)
-		case (st == StateL || st == StateH) && s.contest[n] && s.mode == Ideal:
+		case (st == StateL || st == StateH) && s.flag(n32, nfContest) && s.mode == Ideal:
 			add(WarnContention, n, -1, -1)
 		case st != StateZ: // (only a floating node's warnings are left)
-		case s.shared[n]:
+		case s.flag(n32, nfShared):
 			add(WarnChargeSharing, n, -1, -1)
 		case s.val[n] != VX && (nl.gateStart[n+1] > nl.gateStart[n] || nl.nodeFlag[n]&nodeOutput != 0):
 			add(WarnHeldByCharge, n, -1, -1)
@@ -90,7 +90,7 @@ func (s *Sim) settleWarnings() {
 		if s.mode == Physical {
 			s.physWarnings(n, add)
 		}
-		if nl.nodeFlag[n]&nodeLoop != 0 && (s.contest[n] || (s.val[n] == VX && s.fight[n])) {
+		if nl.nodeFlag[n]&nodeLoop != 0 && (s.flag(n32, nfContest) || (s.val[n] == VX && s.flag(n32, nfFight))) {
 			s.writeFail(n32)
 		}
 	}
