@@ -194,7 +194,7 @@ type Sim struct {
 	ana        analysis
 	wpar, wdev []int32 // pathSides' search tree, made on first use
 
-	best    []Strength
+	best    []Strength // resolve's general path, made on first use
 	inj     []Value
 	arr     []uint8 // resolve: the values (bit 1<<v) that arrived at a node's best strength
 	pot     [2][]Strength
@@ -261,7 +261,6 @@ func NewSim(nl *Netlist, opt Options) *Sim {
 	s.mark, s.touchMark = make([]uint32, nn), make([]uint32, nn)
 	s.shortMark = make([]uint32, len(nl.shortDevs))
 	s.lastChange = make([]int32, nn)
-	s.best, s.inj, s.arr = make([]Strength, nn), make([]Value, nn), make([]uint8, nn)
 	s.undo.init(nn, nd)
 	s.ana.init(nn)
 	for n := 0; n < nn; n++ {
@@ -461,6 +460,10 @@ func (s *Sim) Settle() *Result {
 		s.unit.changed, s.unit.roundEnd, s.unit.delay, s.unit.after = nil, nil, nil, nil
 		s.seeds, s.touched, s.nan = nil, nil, nil
 		s.g, s.buckets, s.comp = group{}, [Supply + 1][]int32{}, nil
+		// So are the general resolve's per-node arrays and the undo log's
+		// stamps, made again on first use: many designs' steps need neither.
+		s.best, s.inj, s.arr, s.pot = nil, nil, nil, [2][]Strength{}
+		s.undo.nmark = nil
 		if len(s.gates) == 0 { // (a stopped settle can leave fan-out queued)
 			s.gates = nil
 		}

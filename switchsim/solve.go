@@ -110,6 +110,7 @@ func (s *Sim) resolve(g *group) {
 	// component whose value is the combination of everything injected into it.
 	stamp := s.stamp() // a node's mark is stamp once its level's component took it
 	done := s.mark
+	s.best, s.inj, s.arr = perNode(s.best, len(s.val)), perNode(s.inj, len(s.val)), perNode(s.arr, len(s.val))
 	for i := range s.buckets {
 		s.buckets[i] = s.buckets[i][:0]
 	}

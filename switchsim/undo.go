@@ -53,7 +53,7 @@ type undoLog struct {
 	devOn bool     // logging devices too; in ideal mode with no fan-out queued a device's state is its gate's function, recomputed on going back
 	id    uint32   // the open segment's stamp
 	at    []int32  // node -> its entry in segment 0 (valid where that entry names it), set by index
-	nmark []uint32 // node -> stamp of the segment that logged it
+	nmark []uint32 // node -> stamp of the segment that logged it; made when a segment first opens
 	dmark []uint32 // device -> the same; made when devices are first logged
 	nn    int
 	nd    int
@@ -68,7 +68,7 @@ type undoLog struct {
 type undoMark struct{ nodes, devs int }
 
 func (u *undoLog) init(nn, nd int) {
-	u.nmark, u.nn, u.nd = make([]uint32, nn), nn, nd
+	u.nn, u.nd = nn, nd
 }
 
 // logDevices turns the logging of devices on or off for the open segment.
@@ -85,6 +85,7 @@ func (u *undoLog) logDevices(on bool) {
 // again before its first change. It returns the segment's start.
 func (u *undoLog) open() undoMark {
 	u.on = true
+	u.nmark = perNode(u.nmark, u.nn) // made on first use: a Sim with race analysis off may never log
 	u.id++
 	if u.id == 0 { // wrapped: clear the stamps
 		clear(u.nmark)
@@ -98,8 +99,10 @@ func (u *undoLog) open() undoMark {
 // devices or not.
 func (u *undoLog) reset(on, devOn bool) {
 	u.nodes, u.phys, u.devs, u.pdevs = u.nodes[:0], u.phys[:0], u.devs[:0], u.pdevs[:0]
-	u.open()
-	u.on = on
+	u.on = false
+	if on {
+		u.open()
+	}
 	u.logDevices(on && devOn)
 }
 
