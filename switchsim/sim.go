@@ -40,6 +40,10 @@ const (
 	nfFight   uint8 = 1 << iota // X from an equal-strength fight, for the conflict warning
 	nfContest                   // driven, but the group holds a source of the other value
 	nfShared                    // floating, and charge of another value joined it in the last solve
+	// nfDirty: an input given a drive since the last settle (listed in
+	// dirtyIn). Settle clears it before any solve, so the solves, which set
+	// the three flags above together, never meet it.
+	nfDirty
 )
 
 func nodeFlags(fight, contest, shared bool) uint8 {
@@ -153,15 +157,14 @@ type Sim struct {
 	volts  []float64 // physical mode only: nil in ideal mode (voltsAt)
 	drive  []Drive   // inputs only
 	source []bool    // rails and driven inputs
-	nflag  []uint8   // what the last solve found: nfFight, nfContest, nfShared
+	nflag  []uint8   // what the last solve found (nfFight, nfContest, nfShared); nfDirty
 	cond   []Conduction
 	note   []nodeNote // how the analyses decided the node (explain); made on first use (noteOf)
 
 	// pending work between Settle calls
-	initial   bool
-	shrink    bool // the last settle was the first: its logs are let go at the next
-	dirtyIn   []int32
-	dirtyMark []bool
+	initial bool
+	shrink  bool // the last settle was the first: its logs are let go at the next
+	dirtyIn []int32
 
 	// scratch, reused by every settle
 	//
@@ -257,7 +260,6 @@ func NewSim(nl *Netlist, opt Options) *Sim {
 		s.volts = make([]float64, nn)
 	}
 	s.cond = make([]Conduction, nd)
-	s.dirtyMark = make([]bool, nn)
 	s.mark, s.touchMark = make([]uint32, nn), make([]uint32, nn)
 	s.shortMark = make([]uint32, len(nl.shortDevs))
 	s.lastChange = make([]int32, nn)
@@ -361,8 +363,8 @@ func (s *Sim) SetInput(n int, d Drive) error {
 		return nil
 	}
 	s.drive[n] = d
-	if !s.dirtyMark[n] {
-		s.dirtyMark[n] = true
+	if s.nflag[n]&nfDirty == 0 {
+		s.nflag[n] |= nfDirty
 		s.dirtyIn = append(s.dirtyIn, int32(n))
 	}
 	return nil
@@ -426,7 +428,7 @@ func (s *Sim) Restore(sn *Snapshot) {
 	}
 	s.physRestore(sn.phys)
 	for _, n := range s.dirtyIn {
-		s.dirtyMark[n] = false
+		s.nflag[n] &^= nfDirty
 	}
 	s.dirtyIn = s.dirtyIn[:0]
 	s.gates = s.gates[:0]
@@ -503,7 +505,7 @@ func (s *Sim) Settle() *Result {
 	a := &s.ana
 	a.inputs, a.to = a.inputs[:0], a.to[:0]
 	for _, n := range s.dirtyIn {
-		s.dirtyMark[n] = false
+		s.nflag[n] &^= nfDirty
 		if !s.inForce(n, s.drive[n]) {
 			a.inputs, a.to = append(a.inputs, n), append(a.to, s.drive[n])
 		}
