@@ -47,6 +47,7 @@ type Netlist struct {
 	devFlag   []uint8
 	shortDevs []int32  // the devices flagged devShort, in order
 	top       Strength // the strongest signal a device passes: min(supply, cap) at most
+	loops     bool     // some node is in a feedback loop (nodeLoop)
 
 	// original spellings (Builder.Original), nil when every name is its own
 	nodeOrig, devOrig []string

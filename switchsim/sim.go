@@ -483,7 +483,8 @@ func (s *Sim) Settle() *Result {
 	first := s.initial
 	// Segment 0 of the undo log is kept where race analysis may go back to
 	// the state before the step.
-	s.undo.reset(!first && len(s.dirtyIn) > 0 && s.races != RacesOff, s.mode == Physical || len(s.gates) > 0)
+	keep := !first && len(s.dirtyIn) > 0 && s.races != RacesOff && !s.settlesAlone()
+	s.undo.reset(keep, s.mode == Physical || len(s.gates) > 0)
 	if first {
 		s.initial, s.shrink = false, true
 		for n := range s.val {
@@ -521,6 +522,9 @@ func (s *Sim) Settle() *Result {
 	may := !first && len(a.inputs) > 0 && s.races != RacesOff
 	settled := s.rounds(may)
 	r.Settled = settled
+	if may && !settled && !keep {
+		panic("switchsim: a step settlesAlone said would settle did not")
+	}
 	if may && (len(a.inputs) > 1 || !settled || s.races == RacesEveryStep) {
 		s.raceAnalysis(settled)
 	} else {
@@ -555,6 +559,31 @@ func (s *Sim) nanDelays(k int) []float64 {
 		}
 	}
 	return s.nan[:k:k]
+}
+
+// settlesAlone reports whether the pending step is sure to settle within
+// the round limit with one input changed, so that race analysis cannot run
+// on it under RacesWhenNeeded and the undo log need not be kept (a quarter
+// of an inverter chain's step). It holds in ideal mode for logic without
+// feedback (no node in a feedback loop, Netlist.InFeedbackLoop): there the
+// channel-connected components, bounded by rails and inputs, form an
+// acyclic graph through the gates, a component changes only in the round
+// after one of its gates changed, and so every node's last change comes
+// within as many rounds as there are components (DefaultRoundLimit). A
+// released input (DriveZ) joins the components it touches into one group
+// the structure did not see, so every input must be driven; fan-out left
+// queued by a stopped settle rules it out too.
+func (s *Sim) settlesAlone() bool {
+	if s.mode != Ideal || s.races != RacesWhenNeeded || len(s.dirtyIn) != 1 || len(s.gates) > 0 ||
+		s.nl.loops || s.limit <= len(s.val) {
+		return false
+	}
+	for _, n := range s.nl.inputs {
+		if s.drive[n] == DriveZ {
+			return false
+		}
+	}
+	return true
 }
 
 // applyInputs gives each input its drive (the ones already in force are

@@ -127,6 +127,7 @@ func (nl *Netlist) structure() {
 	for n := 0; n < nn; n++ {
 		if loop(comp[n]) {
 			nl.nodeFlag[n] |= nodeLoop
+			nl.loops = true
 		}
 	}
 	for d := 0; d < nd; d++ {
