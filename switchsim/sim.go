@@ -204,8 +204,9 @@ type Sim struct {
 	buckets [Supply + 1][]int32
 	comp    []int32
 
-	// slowIdeal turns ideal mode's fast paths (resolveSingle, resolveDriven)
-	// off, so that tests can compare the general path with them (export_test.go).
+	// slowIdeal turns ideal mode's fast paths (resolveSingle, solveOne,
+	// resolveDriven, and settlesAlone's step without an undo log) off, so
+	// that tests can compare the general path with them (export_test.go).
 	slowIdeal bool
 
 	phys physState
@@ -574,7 +575,7 @@ func (s *Sim) nanDelays(k int) []float64 {
 // the structure did not see, so every input must be driven; fan-out left
 // queued by a stopped settle rules it out too.
 func (s *Sim) settlesAlone() bool {
-	if s.mode != Ideal || s.races != RacesWhenNeeded || len(s.dirtyIn) != 1 || len(s.gates) > 0 ||
+	if s.mode != Ideal || s.slowIdeal || s.races != RacesWhenNeeded || len(s.dirtyIn) != 1 || len(s.gates) > 0 ||
 		s.nl.loops || s.limit <= len(s.val) {
 		return false
 	}
