@@ -16,7 +16,8 @@ package switchsim_test
 //	go test -run '^$' -bench . -benchtime 3x ./switchsim/
 //
 // The 1M-device flip-flop chain is left out unless -bench.max allows it
-// (-bench.max 1100000).
+// (-bench.max 1100000). With -bench.full the timed loop runs the full
+// settle instead of the step, so that a CPU profile shows where it goes.
 
 import (
 	"flag"
@@ -29,7 +30,10 @@ import (
 	"railyard/switchsim/gen"
 )
 
-var genBenchMax = flag.Int("bench.max", 300000, "largest network (devices) the benchmarks build")
+var (
+	genBenchMax  = flag.Int("bench.max", 300000, "largest network (devices) the benchmarks build")
+	genBenchFull = flag.Bool("bench.full", false, "time the full settle in the loop, not the step (for profiles)")
+)
 
 type genBench struct {
 	races  sw.RaceMode // when race analysis runs (the zero value: when needed)
@@ -126,10 +130,14 @@ func runGenBench(b *testing.B, bn genBench) {
 	})
 	h2 := heapNow()
 	runtime.KeepAlive(bld) // alive in every measurement, so its size cancels out
+	loop := bn.toggle
+	if *genBenchFull {
+		loop = fullOp
+	}
 	b.ReportAllocs()
 	b.ResetTimer()
 	for i := 0; i < b.N; i++ {
-		bn.toggle(s, i)
+		loop(s, fi+i)
 	}
 	b.StopTimer()
 	step := float64(b.Elapsed().Nanoseconds()) / float64(b.N)
@@ -144,7 +152,12 @@ func runGenBench(b *testing.B, bn genBench) {
 }
 
 // BenchmarkMuxTree toggles select line s0 of a 2^k:1 tree whose data
-// inputs alternate, so the output changes on every toggle.
+// inputs alternate, so the output changes on every toggle. It measures the
+// plain unit-delay settle (race analysis off): a step changes one input, so
+// race analysis would not run on it anyway, but the full op flips every data
+// input at once, and under RacesWhenNeeded that is race analysis's two
+// phases and not a settle (BenchmarkRaceAnalysis measures those); off, no
+// step keeps the undo log's segment 0 either.
 func BenchmarkMuxTree(b *testing.B) {
 	for _, k := range []int{4, 8, 12, 16} {
 		if 1<<(k+2) > *genBenchMax {
@@ -152,8 +165,9 @@ func BenchmarkMuxTree(b *testing.B) {
 		}
 		b.Run(fmt.Sprintf("k=%d", k), func(b *testing.B) {
 			var s0, y int
-			var data []int
+			data := make([]int, 0, 1<<k) // made before the heap is read: the bytes a device are the engine's
 			runGenBench(b, genBench{
+				races: sw.RacesOff,
 				build: func() *sw.Builder { return gen.MuxTree(k) },
 				setup: func(b *testing.B, s *sw.Sim) {
 					data = data[:0]

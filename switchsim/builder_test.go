@@ -1,7 +1,9 @@
 package switchsim
 
 import (
+	"fmt"
 	"strings"
+	"sync"
 	"testing"
 )
 
@@ -116,5 +118,44 @@ func TestOriginalNames(t *testing.T) {
 	}
 	if _, ok := nl.Lookup("nothing"); ok {
 		t.Error("found a node that does not exist")
+	}
+}
+
+// The name indices are sorted on the first look-up (nameIndex): Sims in
+// several goroutines may share a netlist and look names up at once, and
+// a netlist copied by WithTech finds the same names through the shared
+// index. Run under -race to check the first.
+func TestLookupShared(t *testing.T) {
+	b := NewBuilder()
+	b.Input("a")
+	for i := 0; i < 50; i++ {
+		b.NMOS(fmt.Sprintf("mn%d", i), "a", fmt.Sprintf("x%d", i), "gnd", DeviceOpts{})
+	}
+	nl, err := b.Compile()
+	if err != nil {
+		t.Fatal(err)
+	}
+	var wg sync.WaitGroup
+	for g := 0; g < 4; g++ {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for i := 0; i < 50; i++ {
+				if n, ok := nl.Lookup(fmt.Sprintf("x%d", i)); !ok || nl.NodeName(n) != fmt.Sprintf("x%d", i) {
+					t.Errorf("x%d: %d %v", i, n, ok)
+				}
+				if d, ok := nl.LookupDevice(fmt.Sprintf("mn%d", i)); !ok || nl.Device(d).Name != fmt.Sprintf("mn%d", i) {
+					t.Errorf("mn%d: %d %v", i, d, ok)
+				}
+			}
+		}()
+	}
+	wg.Wait()
+	c, err := nl.WithTech(nl.Tech)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if n, ok := c.Lookup("x7"); !ok || c.NodeName(n) != "x7" {
+		t.Errorf("copy: x7 = %d %v", n, ok)
 	}
 }

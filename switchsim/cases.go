@@ -161,7 +161,7 @@ func (s *Sim) tainted(n int32) bool {
 // taintSource reports whether X node m is X for a real reason of its own.
 func (s *Sim) taintSource(m int32) bool {
 	switch {
-	case s.fight[m], s.note[m].kind == noteOscillation:
+	case s.flag(m, nfFight), s.noteOf(m).kind == noteOscillation:
 		return true
 	case s.mode == Physical && !math.IsNaN(s.volts[m]):
 		return true // a level in the undefined band
@@ -259,13 +259,13 @@ func (s *Sim) branchStart(c int32, v Value) undoMark {
 	default:
 		s.state[c] = State0 + State(v)
 	}
-	s.volts[c] = s.physSourceVolts(v)
+	s.setVolts(c, s.physSourceVolts(v))
 	s.gates = append(append(s.gates[:0], s.ana.held...), c)
 	return m
 }
 
 func (s *Sim) caseStateOf(n int32) caseState {
-	cs := caseState{n: n, st: s.Node(int(n)), contest: s.contest[n], shared: s.shared[n]}
+	cs := caseState{n: n, st: s.Node(int(n)), contest: s.flag(n, nfContest), shared: s.flag(n, nfShared)}
 	if s.mode == Physical {
 		cs.phys = s.phys.info[n]
 	}
@@ -339,12 +339,13 @@ func (s *Sim) adopt() bool {
 		if s.touchMark[n] != s.settleID {
 			s.touch(n)
 		}
-		s.val[n], s.str[n], s.state[n], s.volts[n] = cs.st.Value, cs.st.Strength, cs.st.State, cs.st.Volts
-		s.fight[n], s.contest[n], s.shared[n] = false, cs.contest, cs.shared
+		s.val[n], s.str[n], s.state[n] = cs.st.Value, cs.st.Strength, cs.st.State
+		s.setVolts(n, cs.st.Volts)
+		s.nflag[n] = nodeFlags(false, cs.contest, cs.shared)
 		if s.mode == Physical {
 			s.phys.info[n] = cs.phys
 		}
-		s.note[n] = nodeNote{kind: noteCase, split: cs.split, settle: s.settleID}
+		s.setNote(n, nodeNote{kind: noteCase, split: cs.split, settle: s.settleID})
 		s.gates = append(s.gates, n)
 	}
 	if any {

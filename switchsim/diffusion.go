@@ -32,19 +32,24 @@ func (nl *Netlist) DefaultCharge(n int) Strength {
 	return Medium
 }
 
-// diffusionDefaults gives each diffusion node that the design left
-// without a capacitance or a charge class the diffusion defaults; an
+// diffusionDefaults flags the diffusion nodes (nodeDiffusion) and gives each
+// one that the design left without a capacitance or a charge class the
+// diffusion defaults (the capacitances where nodeCap is made at all); an
 // explicit cap= or charge= keeps its own value (a netlist's C card on a
 // stack node sets the capacitance, the class still follows the structure).
 func (nl *Netlist) diffusionDefaults(nodes []bnode) {
 	for i, n := range nodes {
-		if !nl.Diffusion(i) {
-			continue
+		diff := nl.Diffusion(i)
+		if diff {
+			nl.nodeFlag[i] |= nodeDiffusion
 		}
-		if n.cap == 0 {
-			nl.nodeCap[i] = nl.Tech.Cdiff
+		if nl.nodeCap != nil {
+			nl.nodeCap[i] = n.cap
+			if n.cap == 0 {
+				nl.nodeCap[i] = nl.DefaultCap(i)
+			}
 		}
-		if n.charge == HighZ {
+		if diff && n.charge == HighZ {
 			nl.nodeCharge[i] = Small
 		}
 	}

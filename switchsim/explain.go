@@ -151,7 +151,7 @@ func (s *Sim) Explain(n int) Explanation {
 			}
 		}
 	}
-	e.Contested = s.contest[n]
+	e.Contested = s.flag(int32(n), nfContest)
 	if e.Floating {
 		e.Sharing = s.floatingGroup(n)
 		e.Winning = s.winningPaths(n)
@@ -314,7 +314,7 @@ func (s *Sim) opposingPaths(n int) []Path {
 // analysisNote returns what race or case analysis said of node n when it
 // last decided n's state.
 func (s *Sim) analysisNote(n int) AnalysisNote {
-	nt := s.note[n]
+	nt := s.noteOf(int32(n))
 	an := AnalysisNote{Split: -1}
 	if nt.kind == noteNone {
 		return an

@@ -10,8 +10,10 @@ import (
 )
 
 // idealPair runs one network through two Sims in ideal mode, the general
-// resolve alone (slow) and with its fast paths (fast: one node; a group
-// every device of which is on and passes at strong, reached by a source),
+// resolve alone (slow) and with its fast paths (fast: one node, solved and
+// written without the group's arrays, solveOne; a group every device of
+// which is on and passes at strong, reached by a source; a one-input step
+// of logic without feedback, which keeps no undo log, settlesAlone),
 // and fails at the first difference. The oracle is the general path (the
 // rules of DEVELOPERS.md "Resolving a group", checked against the
 // reference solver by diff_test.go): the fast paths must give exactly what

@@ -6,6 +6,7 @@ import (
 	"slices"
 	"sort"
 	"strings"
+	"sync"
 )
 
 // Netlist is a compiled design: dense arrays indexed by node and device
@@ -18,9 +19,9 @@ type Netlist struct {
 	// nodes
 	nodeName   []string
 	nodeKind   []NodeKind
-	nodeCap    []float64
+	nodeCap    []float64 // cold: nil while every node has its default (capOf)
 	nodeCharge []Strength
-	nodeByName []int32 // node numbers sorted by name, for Lookup; names never take part in simulation
+	nodeIdx    *nameIndex // for Lookup; names never take part in simulation
 	inputs     []int32
 	outputs    []int32
 
@@ -31,12 +32,12 @@ type Netlist struct {
 	devA      []int32
 	devB      []int32
 	devCap    []Strength
-	devW      []float64
+	devW      []float64 // cold: nil while every device has its default size (width, length)
 	devL      []float64
-	devByName []int32   // device numbers sorted by name
-	devResist []bool    // IEEE 1364-2005 §7.12 resistive devices; nil when there are none
-	devOhms   []float64 // resistances given in ohms (R cards); nil when none is
-	chanStart []int32   // CSR: devices whose channel touches node n are chanDev[chanStart[n]:chanStart[n+1]]
+	devIdx    *nameIndex // for LookupDevice
+	devResist []bool     // IEEE 1364-2005 §7.12 resistive devices; nil when there are none
+	devOhms   []float64  // resistances given in ohms (R cards); nil when none is
+	chanStart []int32    // CSR: devices whose channel touches node n are chanDev[chanStart[n]:chanStart[n+1]]
 	chanDev   []int32
 	gateStart []int32 // CSR: devices gated by node n
 	gateDev   []int32
@@ -46,10 +47,33 @@ type Netlist struct {
 	devFlag   []uint8
 	shortDevs []int32  // the devices flagged devShort, in order
 	top       Strength // the strongest signal a device passes: min(supply, cap) at most
+	loops     bool     // some node is in a feedback loop (nodeLoop)
 
 	// original spellings (Builder.Original), nil when every name is its own
-	nodeOrig, devOrig     []string
-	nodeByOrig, devByOrig []int32
+	nodeOrig, devOrig []string
+}
+
+// nameIndex finds names by binary search in indices sorted by name (4
+// bytes a name instead of a map entry), made on the first look-up: a design
+// that is only simulated never carries them. The netlists made from one
+// Compile (WithTech, WithSize) share it, as they share the names.
+type nameIndex struct {
+	once           sync.Once
+	names, orig    []string
+	byName, byOrig []int32
+}
+
+func (x *nameIndex) find(name string) (int, bool) {
+	x.once.Do(func() {
+		x.byName = byName(x.names)
+		if x.orig != nil {
+			x.byOrig = byName(x.orig)
+		}
+	})
+	if n, ok := lookup(x.names, x.byName, name); ok || x.orig == nil {
+		return n, ok
+	}
+	return lookup(x.orig, x.byOrig, name)
 }
 
 // CompileError lists every problem Compile found.
@@ -84,13 +108,12 @@ func (b *Builder) Compile() (*Netlist, error) {
 	nl := &Netlist{
 		Name: b.name, Desc: b.desc, Tech: b.tech, power: pw, ground: gn,
 		nodeName: make([]string, nn), nodeKind: make([]NodeKind, nn),
-		nodeCap: make([]float64, nn), nodeCharge: make([]Strength, nn),
+		nodeCharge: make([]Strength, nn),
 	}
 	for i, n := range b.nodes {
 		nl.nodeName[i] = n.name
-		nl.nodeCap[i] = n.cap
-		if n.cap == 0 {
-			nl.nodeCap[i] = b.tech.Cnode
+		if n.cap != 0 && nl.nodeCap == nil {
+			nl.nodeCap = make([]float64, nn) // filled with the defaults by diffusionDefaults
 		}
 		nl.nodeCharge[i] = n.charge
 		if n.charge == HighZ {
@@ -112,7 +135,13 @@ func (b *Builder) Compile() (*Netlist, error) {
 	nd := len(b.devs)
 	nl.devName, nl.devKind = make([]string, nd), make([]DeviceKind, nd)
 	nl.devGate, nl.devA, nl.devB = make([]int32, nd), make([]int32, nd), make([]int32, nd)
-	nl.devCap, nl.devW, nl.devL = make([]Strength, nd), make([]float64, nd), make([]float64, nd)
+	nl.devCap = make([]Strength, nd)
+	for _, d := range b.devs {
+		if d.w != 0 || d.l != 0 {
+			nl.devW, nl.devL = make([]float64, nd), make([]float64, nd)
+			break
+		}
+	}
 	touched := make([]bool, nn)
 	for i, d := range b.devs {
 		nl.devName[i], nl.devKind[i], nl.devGate[i] = d.name, d.kind, d.gate
@@ -124,15 +153,14 @@ func (b *Builder) Compile() (*Netlist, error) {
 			a = gn
 		}
 		nl.devA[i], nl.devB[i], nl.devCap[i] = a, d.b, d.strength
-		nl.devW[i], nl.devL[i] = d.w, d.l
-		if d.w == 0 && d.kind == NMOS {
-			nl.devW[i] = b.tech.Wn
-		}
-		if d.w == 0 && d.kind == PMOS {
-			nl.devW[i] = b.tech.Wp
-		}
-		if d.l == 0 && d.kind < PullUp {
-			nl.devL[i] = b.tech.L
+		if nl.devW != nil {
+			nl.devW[i], nl.devL[i] = d.w, d.l
+			if d.w == 0 {
+				nl.devW[i] = nl.defaultWidth(i)
+			}
+			if d.l == 0 {
+				nl.devL[i] = nl.defaultLength(i)
+			}
 		}
 		if d.resist {
 			if nl.devResist == nil {
@@ -168,12 +196,11 @@ func (b *Builder) Compile() (*Netlist, error) {
 		slices.SortFunc(probs, func(p, q Problem) int { return strings.Compare(p.Msg, q.Msg) })
 		return nil, &CompileError{probs}
 	}
-	// Sorted indices instead of maps: 4 bytes a name instead of a map entry.
-	nl.nodeByName, nl.devByName = byName(nl.nodeName), byName(nl.devName)
 	if len(b.original) > 0 {
 		nl.nodeOrig, nl.devOrig = originals(nl.nodeName, b.original), originals(nl.devName, b.original)
-		nl.nodeByOrig, nl.devByOrig = byName(nl.nodeOrig), byName(nl.devOrig)
 	}
+	nl.nodeIdx = &nameIndex{names: nl.nodeName, orig: nl.nodeOrig}
+	nl.devIdx = &nameIndex{names: nl.devName, orig: nl.devOrig}
 	nl.chanStart, nl.chanDev = csr(nn, nd, func(d int, emit func(int32)) {
 		emit(nl.devA[d])
 		if nl.devB[d] != nl.devA[d] {
@@ -253,25 +280,71 @@ func (nl *Netlist) DeviceDisplayName(d int) string {
 func (nl *Netlist) NodeKind(n int) NodeKind { return nl.nodeKind[n] }
 
 // NodeCap returns a node's capacitance in farads.
-func (nl *Netlist) NodeCap(n int) float64 { return nl.nodeCap[n] }
+func (nl *Netlist) NodeCap(n int) float64 { return nl.capOf(n) }
+
+// Sizes and capacitances are cold data: ideal mode never reads them, and
+// most designs (every generated one) leave them all at the technology's
+// defaults. So nodeCap, devW and devL are nil until the design gives one
+// node a capacitance or one device a size; these read them either way.
+
+// capOf is node n's capacitance: its own, or DefaultCap.
+func (nl *Netlist) capOf(n int) float64 {
+	if nl.nodeCap != nil {
+		return nl.nodeCap[n]
+	}
+	if nl.nodeFlag[n]&nodeDiffusion != 0 {
+		return nl.Tech.Cdiff
+	}
+	return nl.Tech.Cnode
+}
+
+// width is device d's drawn width: its own, or the technology's for its kind.
+func (nl *Netlist) width(d int) float64 {
+	if nl.devW != nil {
+		return nl.devW[d]
+	}
+	return nl.defaultWidth(d)
+}
+
+// length is device d's drawn length, as width.
+func (nl *Netlist) length(d int) float64 {
+	if nl.devL != nil {
+		return nl.devL[d]
+	}
+	return nl.defaultLength(d)
+}
+
+// defaultWidth is the width of device d when the design gives none: the
+// technology's wn or wp for a transistor; a pull or tran has no size (0).
+func (nl *Netlist) defaultWidth(d int) float64 {
+	switch nl.devKind[d] {
+	case NMOS:
+		return nl.Tech.Wn
+	case PMOS:
+		return nl.Tech.Wp
+	}
+	return 0
+}
+
+// defaultLength is defaultWidth's length: the technology's l for a transistor.
+func (nl *Netlist) defaultLength(d int) float64 {
+	if nl.devKind[d] < PullUp {
+		return nl.Tech.L
+	}
+	return 0
+}
 
 // NodeCharge returns a node's charge class.
 func (nl *Netlist) NodeCharge(n int) Strength { return nl.nodeCharge[n] }
 
 // Lookup finds a node by its railyard name or its original spelling.
 func (nl *Netlist) Lookup(name string) (int, bool) {
-	if n, ok := lookup(nl.nodeName, nl.nodeByName, name); ok || nl.nodeOrig == nil {
-		return n, ok
-	}
-	return lookup(nl.nodeOrig, nl.nodeByOrig, name)
+	return nl.nodeIdx.find(name)
 }
 
 // LookupDevice finds a device by its railyard name or its original spelling.
 func (nl *Netlist) LookupDevice(name string) (int, bool) {
-	if d, ok := lookup(nl.devName, nl.devByName, name); ok || nl.devOrig == nil {
-		return d, ok
-	}
-	return lookup(nl.devOrig, nl.devByOrig, name)
+	return nl.devIdx.find(name)
 }
 
 // Power and Ground return the rails' node numbers.
@@ -310,7 +383,7 @@ type Device struct {
 // Device returns device d's description.
 func (nl *Netlist) Device(d int) Device {
 	dv := Device{Name: nl.devName[d], Kind: nl.devKind[d], Gate: int(nl.devGate[d]), A: int(nl.devA[d]), B: int(nl.devB[d]),
-		W: nl.devW[d], L: nl.devL[d], Strength: nl.devCap[d]}
+		W: nl.width(d), L: nl.length(d), Strength: nl.devCap[d]}
 	if nl.devResist != nil {
 		dv.Resistive = nl.devResist[d]
 	}

@@ -28,8 +28,10 @@ func (nl *Netlist) WithSize(d int, w, l float64) (*Netlist, error) {
 		}
 	}
 	c := *nl
-	c.devW = append([]float64(nil), nl.devW...)
-	c.devL = append([]float64(nil), nl.devL...)
+	c.devW, c.devL = make([]float64, nl.NumDevices()), make([]float64, nl.NumDevices())
+	for i := range c.devW {
+		c.devW[i], c.devL[i] = nl.width(i), nl.length(i)
+	}
 	c.devW[d], c.devL[d] = w, l
 	return &c, nil
 }

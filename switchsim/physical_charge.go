@@ -61,7 +61,7 @@ func (s *Sim) physCharge(g *group, c int32) {
 		val, volts, lost := p.levelRange(g.nval[i], lo[j], hi[j])
 		in.Lost = lost
 		g.nval[i], g.nvolts[i] = val, volts
-		s.shared[n] = true
+		s.nflag[n] |= nfShared
 	}
 }
 
@@ -89,7 +89,7 @@ func (s *Sim) shareCharge(nodes, devs []int32, unknownAt float64, out []float64)
 		if math.IsNaN(v) {
 			v = unknownAt
 		}
-		sh.root[j], sh.v[j], sh.c[j] = int32(j), v, nl.nodeCap[n]
+		sh.root[j], sh.v[j], sh.c[j] = int32(j), v, nl.capOf(int(n))
 		vmin, vmax = min(vmin, v), max(vmax, v)
 	}
 	// Voltages are kept about the lowest, so that nodes already at one
@@ -250,5 +250,7 @@ func (s *Sim) keepCharge(g *group, i int, volts float64) {
 	n := g.nodes[i]
 	s.phys.info[n].How = howCharge
 	g.nvolts[i] = volts
-	s.shared[n] = s.shared[n] || s.phys.shareMark[n] == s.settleID
+	if s.phys.shareMark[n] == s.settleID {
+		s.nflag[n] |= nfShared
+	}
 }

@@ -58,7 +58,7 @@ func (s *Sim) delayTree(c int32, v Value, floating bool) {
 	tdel := p.tdel[v]
 	inf := math.Inf(1)
 	for _, n := range nodes {
-		p.dist[n], p.par[n], p.sub[n], tdel[n] = inf, -1, nl.nodeCap[n], math.NaN()
+		p.dist[n], p.par[n], p.sub[n], tdel[n] = inf, -1, nl.capOf(int(n)), math.NaN()
 	}
 	p.next()
 	gen := p.gen
@@ -67,7 +67,7 @@ func (s *Sim) delayTree(c int32, v Value, floating bool) {
 	if floating {
 		root := nodes[0]
 		for _, n := range nodes {
-			if nl.nodeCap[n] > nl.nodeCap[root] {
+			if nl.capOf(int(n)) > nl.capOf(int(root)) {
 				root = n
 			}
 		}
@@ -89,7 +89,7 @@ func (s *Sim) delayTree(c int32, v Value, floating bool) {
 		if n := nodes[0]; p.par[n] >= 0 || floating {
 			tdel[n] = 0
 			if p.par[n] >= 0 {
-				tdel[n] = p.dist[n] * nl.nodeCap[n]
+				tdel[n] = p.dist[n] * nl.capOf(int(n))
 			}
 		}
 		return
@@ -127,7 +127,7 @@ func (s *Sim) searchDelay(c int32, v Value) {
 	p := &s.phys
 	cp := &p.comps[c]
 	for _, n := range cp.nodes {
-		p.sub[n], p.tdel[v][n] = s.nl.nodeCap[n], math.NaN()
+		p.sub[n], p.tdel[v][n] = s.nl.capOf(int(n)), math.NaN()
 	}
 	s.elmore(p.sorder[cp.o0:cp.o1], p.tdel[v])
 }

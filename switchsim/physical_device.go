@@ -26,8 +26,9 @@ func deviceResistance(nl *Netlist, d int) float64 {
 	if k == PMOS {
 		rsq, w0 = t.Rp, t.Wp
 	}
-	r := rsq * nl.devL[d] / nl.devW[d]
-	if st < Strong && nl.devW[d] == w0 && nl.devL[d] == t.L {
+	w, l := nl.width(d), nl.length(d)
+	r := rsq * l / w
+	if st < Strong && w == w0 && l == t.L {
 		r = max(r, t.DefaultResistance(st))
 	}
 	return r
@@ -48,7 +49,7 @@ func effectiveSize(nl *Netlist, d int) (w, l float64) {
 	if k == PMOS {
 		rsq = t.Rp
 	}
-	w, l = nl.devW[d], nl.devL[d]
+	w, l = nl.width(d), nl.length(d)
 	if r, drawn := deviceResistance(nl, d), rsq*l/w; r > drawn {
 		l *= r / drawn
 	}

@@ -812,7 +812,7 @@ func (s *Sim) solveFight(g *group, nodes, devs, leaks []int32, has [3]bool) {
 		}
 		if fight {
 			g.contested[i] = true
-			s.contest[n], s.fight[n] = true, false // decided by the network, not a strength fight
+			s.nflag[n] = s.nflag[n]&^nfFight | nfContest // decided by the network, not a strength fight
 		}
 	}
 }

@@ -91,7 +91,7 @@ func (s *Sim) physSingle(g *group) bool {
 	if g.nval[0] == v { // the search's tree (searchDelay)
 		p.fdel = 0
 		if par >= 0 {
-			p.fdel = s.edgeResistance(par) * nl.nodeCap[n]
+			p.fdel = s.edgeResistance(par) * nl.capOf(int(n))
 		}
 	}
 	return true
@@ -114,5 +114,5 @@ func (s *Sim) loneDelay(g *group, n int32, v Value) float64 {
 	if par < 0 {
 		return math.NaN()
 	}
-	return dist * s.nl.nodeCap[n]
+	return dist * s.nl.capOf(int(n))
 }

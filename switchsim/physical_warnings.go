@@ -26,7 +26,7 @@ func (s *Sim) physWarnings(n int, add func(kind WarnKind, n, d, o int)) {
 		case (st == StateL || st == StateH) && in.Drop >= 0 && matters:
 			add(WarnDegraded, n, int(in.Drop), -1)
 		}
-		if (st == StateL || st == StateH) && s.contest[n] {
+		if (st == StateL || st == StateH) && s.flag(int32(n), nfContest) {
 			add(WarnContention, n, -1, -1) // the other value reaches it through a device of unknown state
 		}
 	case howFight:
@@ -241,7 +241,7 @@ func (s *Sim) physSharing(n int) []physShare {
 		if s.mode == Physical {
 			b = s.phys.info[m].Before
 		}
-		out = append(out, physShare{m, s.nl.nodeCap[m], b, s.volts[m]})
+		out = append(out, physShare{m, s.nl.capOf(int(m)), b, s.volts[m]})
 	}
 	return out
 }

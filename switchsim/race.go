@@ -252,7 +252,7 @@ func (s *Sim) classify() {
 	a.newTaint()
 	keep := a.race[:0]
 	for _, n := range a.race {
-		if s.val[n] == VX && s.warnMark[n] != s.settleID && s.seen(n) && !s.tainted(n) {
+		if s.val[n] == VX && !s.warned(n) && s.seen(n) && !s.tainted(n) {
 			keep = append(keep, n)
 		}
 	}
@@ -262,8 +262,8 @@ func (s *Sim) classify() {
 			kind, note, stage = WarnOscillation, noteOscillation, InCases
 			r.Oscillated = true
 		}
-		s.warnMark[n] = s.settleID
-		s.note[n] = nodeNote{kind: note, settle: s.settleID}
+		s.markWarned(n)
+		s.setNote(n, nodeNote{kind: note, settle: s.settleID})
 		r.Warnings = append(r.Warnings, Warning{Kind: kind, Node: int(n), Device: -1, Other: -1,
 			Volts: math.NaN(), Margin: math.NaN(), Stage: stage})
 	}
@@ -284,8 +284,8 @@ func (s *Sim) glitchAt(n int32, was Value, str Strength, note noteKind) {
 	if !s.seen(n) || !dynamic && nl.nodeFlag[n]&(nodeOutput|nodeGatePass) == 0 && !s.gatesDynamic(n) {
 		return // a pulse on a static internal node matters only where it arrives
 	}
-	if s.note[n].kind == noteNone || s.note[n].settle != s.settleID {
-		s.note[n] = nodeNote{kind: note, settle: s.settleID}
+	if nt := s.noteOf(n); nt.kind == noteNone || nt.settle != s.settleID {
+		s.setNote(n, nodeNote{kind: note, settle: s.settleID})
 	}
 	s.res.Warnings = append(s.res.Warnings, Warning{Kind: WarnGlitch, Node: int(n), Device: -1, Other: -1,
 		Volts: math.NaN(), Margin: math.NaN(), Stage: InPhaseA})
@@ -336,7 +336,7 @@ func (s *Sim) phaseAlone() {
 	}
 	an.Alone, an.WentX = true, len(a.wentX)
 	for _, n := range a.forcedList { // forcing rounds of phase A: nothing of them stays
-		s.note[n] = nodeNote{}
+		s.setNote(n, nodeNote{})
 	}
 	a.forcedList, a.forcedStage = a.forcedList[:0], a.forcedStage[:0]
 	for _, d := range s.shorts[nshorts:] {
@@ -402,8 +402,8 @@ func (s *Sim) decide() {
 	u := &s.undo
 	r := &s.res
 	for i, n := range a.forcedList {
-		if s.warnMark[n] != s.settleID && s.val[n] == VX {
-			s.warnMark[n] = s.settleID
+		if !s.warned(n) && s.val[n] == VX {
+			s.markWarned(n)
 			r.Oscillated = true
 			r.Warnings = append(r.Warnings, Warning{Kind: WarnOscillation, Node: int(n), Device: -1, Other: -1,
 				Volts: math.NaN(), Margin: math.NaN(), Stage: a.forcedStage[i]})
@@ -414,10 +414,12 @@ func (s *Sim) decide() {
 	start := len(rec.changed)
 	add := func(n int32) {
 		rec.changed = append(rec.changed, n)
-		rec.delay = append(rec.delay, math.NaN())
+		if rec.delays {
+			rec.delay = append(rec.delay, math.NaN())
+		}
 		rec.after = append(rec.after, s.Node(int(n)))
-		if s.note[n].settle != s.settleID {
-			s.note[n] = nodeNote{kind: noteDecided, settle: s.settleID}
+		if s.noteOf(n).settle != s.settleID {
+			s.setNote(n, nodeNote{kind: noteDecided, settle: s.settleID})
 		}
 	}
 	// What the unit-delay rounds left: with race analysis, a node's entry
@@ -518,7 +520,7 @@ func (s *Sim) conserveCharge() bool {
 	gave := false
 	for i := range u.nodes {
 		n := u.nodes[i].n
-		if a.partMark[n] == a.partID || s.source[n] || s.val[n] != VX || !math.IsNaN(s.volts[n]) || !s.str[n].IsCharge() {
+		if a.partMark[n] == a.partID || s.source[n] || s.val[n] != VX || !math.IsNaN(s.voltsAt(n)) || !s.str[n].IsCharge() {
 			continue
 		}
 		// The part: everything joined to n through devices that were ever on.

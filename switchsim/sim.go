@@ -35,6 +35,43 @@ type Options struct {
 // the limit are not called an oscillation: race analysis decides.
 func DefaultRoundLimit(nl *Netlist) int { return 2*nl.NumNodes() + 2 }
 
+// Node flags of the last solve (Sim.nflag), one byte a node.
+const (
+	nfFight   uint8 = 1 << iota // X from an equal-strength fight, for the conflict warning
+	nfContest                   // driven, but the group holds a source of the other value
+	nfShared                    // floating, and charge of another value joined it in the last solve
+	// nfDirty: an input given a drive since the last settle (listed in
+	// dirtyIn). Settle clears it before any solve, so the solves, which set
+	// the three flags above together, never meet it.
+	nfDirty
+)
+
+func nodeFlags(fight, contest, shared bool) uint8 {
+	var f uint8
+	if fight {
+		f |= nfFight
+	}
+	if contest {
+		f |= nfContest
+	}
+	if shared {
+		f |= nfShared
+	}
+	return f
+}
+
+// flag reports whether node n has flag f.
+func (s *Sim) flag(n int32, f uint8) bool { return s.nflag[n]&f != 0 }
+
+// fights lists the nodes' fight flags (a Snapshot's).
+func (s *Sim) fights() []bool {
+	out := make([]bool, len(s.nflag))
+	for n, f := range s.nflag {
+		out[n] = f&nfFight != 0
+	}
+	return out
+}
+
 // RaceMode says when race analysis runs.
 type RaceMode uint8
 
@@ -114,22 +151,20 @@ type Sim struct {
 	splits int // case analysis bound; < 0: off
 
 	// node state
-	val     []Value
-	str     []Strength
-	state   []State
-	volts   []float64
-	drive   []Drive // inputs only
-	source  []bool  // rails and driven inputs
-	fight   []bool  // X from an equal-strength fight, for the conflict warning
-	contest []bool  // driven, but the group holds a source of the other value
-	shared  []bool  // floating, and charge of another value joined it in the last solve
-	cond    []Conduction
-	note    []nodeNote // how the analyses decided the node (explain)
+	val    []Value
+	str    []Strength
+	state  []State
+	volts  []float64 // physical mode only: nil in ideal mode (voltsAt)
+	drive  []Drive   // inputs only
+	source []bool    // rails and driven inputs
+	nflag  []uint8   // what the last solve found (nfFight, nfContest, nfShared); nfDirty
+	cond   []Conduction
+	note   []nodeNote // how the analyses decided the node (explain); made on first use (noteOf)
 
 	// pending work between Settle calls
-	initial   bool
-	dirtyIn   []int32
-	dirtyMark []bool
+	initial bool
+	shrink  bool // the last settle was the first: its logs are let go at the next
+	dirtyIn []int32
 
 	// scratch, reused by every settle
 	//
@@ -151,33 +186,36 @@ type Sim struct {
 	touched     []int32
 	g           group
 	res         Result
-	warnMark    []uint32
+	warnMark    []uint32  // node -> settle stamp: reported as racing or oscillating; made on first use
 	rec         *roundLog // where commit records changes; nil in a case-analysis branch
 	unit        roundLog
-	shorts      []int32  // devices joining two sources to check at the end of the settle
-	shortMark   []uint32 // Netlist.shortDevs entry -> settle stamp: listed in shorts
+	nan         []float64 // all NaN: ideal mode's delays (nanDelays)
+	shorts      []int32   // devices joining two sources to check at the end of the settle
+	shortMark   []uint32  // Netlist.shortDevs entry -> settle stamp: listed in shorts
 
 	undo       undoLog
 	ana        analysis
 	wpar, wdev []int32 // pathSides' search tree, made on first use
 
-	best    []Strength
+	best    []Strength // resolve's general path, made on first use
 	inj     []Value
 	arr     []uint8 // resolve: the values (bit 1<<v) that arrived at a node's best strength
 	pot     [2][]Strength
 	buckets [Supply + 1][]int32
 	comp    []int32
 
-	// slowIdeal turns ideal mode's fast paths (resolveSingle, resolveDriven)
-	// off, so that tests can compare the general path with them (export_test.go).
+	// slowIdeal turns ideal mode's fast paths (resolveSingle, solveOne,
+	// resolveDriven, and settlesAlone's step without an undo log) off, so
+	// that tests can compare the general path with them (export_test.go).
 	slowIdeal bool
 
 	phys physState
 }
 
 // roundLog records the changes of a run of rounds. Only the unit-delay
-// rounds' log keeps delays (Result.Delay): the phases' and case analysis's
-// are never read for them.
+// rounds' log keeps delays (Result.Delay), and only in physical mode: the
+// phases' and case analysis's are never read for them, and in ideal mode
+// every delay is NaN (Settle hands out nanDelays).
 type roundLog struct {
 	delays   bool
 	rounds   int
@@ -198,7 +236,6 @@ type group struct {
 	srcs       []int32 // boundary sources
 	devs       []int32 // devices not off
 	hasUnknown bool
-	strong     bool       // every device in devs is devStrong
 	nval       []Value    // parallel to nodes
 	nstr       []Strength // parallel to nodes
 	nstate     []State
@@ -219,20 +256,19 @@ func NewSim(nl *Netlist, opt Options) *Sim {
 		s.splits = DefaultCaseSplits
 	}
 	s.val, s.str, s.state = make([]Value, nn), make([]Strength, nn), make([]State, nn)
-	s.volts, s.drive, s.source, s.fight = make([]float64, nn), make([]Drive, nn), make([]bool, nn), make([]bool, nn)
+	s.drive, s.source, s.nflag = make([]Drive, nn), make([]bool, nn), make([]uint8, nn)
+	if s.mode == Physical {
+		s.volts = make([]float64, nn)
+	}
 	s.cond = make([]Conduction, nd)
-	s.contest, s.shared = make([]bool, nn), make([]bool, nn)
-	s.note = make([]nodeNote, nn)
-	s.dirtyMark = make([]bool, nn)
 	s.mark, s.touchMark = make([]uint32, nn), make([]uint32, nn)
-	s.warnMark = make([]uint32, nn)
 	s.shortMark = make([]uint32, len(nl.shortDevs))
 	s.lastChange = make([]int32, nn)
-	s.best, s.inj, s.arr = make([]Strength, nn), make([]Value, nn), make([]uint8, nn)
 	s.undo.init(nn, nd)
 	s.ana.init(nn)
 	for n := 0; n < nn; n++ {
-		s.val[n], s.str[n], s.state[n], s.volts[n] = VX, nl.nodeCharge[n], StateZ, math.NaN()
+		s.val[n], s.str[n], s.state[n] = VX, nl.nodeCharge[n], StateZ
+		s.setVolts(int32(n), math.NaN())
 		switch nl.nodeKind[n] {
 		case Power:
 			s.val[n], s.str[n], s.state[n], s.source[n] = V1, Supply, State1, true
@@ -247,9 +283,53 @@ func NewSim(nl *Netlist, opt Options) *Sim {
 	}
 	s.physInit()
 	for _, r := range []int32{nl.power, nl.ground} {
-		s.volts[r] = s.physSourceVolts(s.val[r])
+		s.setVolts(r, s.physSourceVolts(s.val[r]))
 	}
 	return s
+}
+
+// voltsAt is node n's voltage estimate: NaN in ideal mode, which keeps no
+// array of them.
+func (s *Sim) voltsAt(n int32) float64 {
+	if s.volts == nil {
+		return math.NaN()
+	}
+	return s.volts[n]
+}
+
+// setVolts sets node n's voltage estimate (nothing in ideal mode).
+func (s *Sim) setVolts(n int32, v float64) {
+	if s.volts != nil {
+		s.volts[n] = v
+	}
+}
+
+// noteOf is node n's analysis note; the array is made on the first note
+// written, so a design that no analysis decided carries none.
+func (s *Sim) noteOf(n int32) nodeNote {
+	if s.note == nil {
+		return nodeNote{}
+	}
+	return s.note[n]
+}
+
+func (s *Sim) setNote(n int32, nt nodeNote) {
+	if s.note == nil {
+		if nt == (nodeNote{}) {
+			return
+		}
+		s.note = make([]nodeNote, len(s.val))
+	}
+	s.note[n] = nt
+}
+
+// warned reports whether node n was reported as racing or oscillating in
+// this settle.
+func (s *Sim) warned(n int32) bool { return s.warnMark != nil && s.warnMark[n] == s.settleID }
+
+func (s *Sim) markWarned(n int32) {
+	s.warnMark = perNode(s.warnMark, len(s.val))
+	s.warnMark[n] = s.settleID
 }
 
 // Netlist returns the netlist being simulated.
@@ -284,8 +364,8 @@ func (s *Sim) SetInput(n int, d Drive) error {
 		return nil
 	}
 	s.drive[n] = d
-	if !s.dirtyMark[n] {
-		s.dirtyMark[n] = true
+	if s.nflag[n]&nfDirty == 0 {
+		s.nflag[n] |= nfDirty
 		s.dirtyIn = append(s.dirtyIn, int32(n))
 	}
 	return nil
@@ -296,7 +376,7 @@ func (s *Sim) InputDrive(n int) Drive { return s.drive[n] }
 
 // Node returns node n's resolved state.
 func (s *Sim) Node(n int) NodeState {
-	return NodeState{s.val[n], s.str[n], s.state[n], s.str[n].IsCharge(), s.volts[n]}
+	return NodeState{s.val[n], s.str[n], s.state[n], s.str[n].IsCharge(), s.voltsAt(int32(n))}
 }
 
 // Conduction returns device d's present state.
@@ -322,7 +402,7 @@ func (s *Sim) Snapshot() *Snapshot {
 		append([]Value(nil), s.val...), append([]Strength(nil), s.str...),
 		append([]State(nil), s.state...), append([]float64(nil), s.volts...),
 		append([]Drive(nil), s.drive...), append([]bool(nil), s.source...),
-		append([]bool(nil), s.fight...), append([]Conduction(nil), s.cond...),
+		s.fights(), append([]Conduction(nil), s.cond...),
 		append([]nodeNote(nil), s.note...), s.physSave(),
 	}
 }
@@ -335,12 +415,21 @@ func (s *Sim) Restore(sn *Snapshot) {
 	copy(s.volts, sn.volts)
 	copy(s.drive, sn.drive)
 	copy(s.source, sn.src)
-	copy(s.fight, sn.fight)
+	for n, f := range sn.fight { // (a snapshot keeps the fights alone)
+		s.nflag[n] = s.nflag[n]&^nfFight | nodeFlags(f, false, false)
+	}
 	copy(s.cond, sn.cond)
-	copy(s.note, sn.note)
+	switch {
+	case sn.note == nil:
+		clear(s.note)
+	case s.note == nil:
+		s.note = append([]nodeNote(nil), sn.note...)
+	default:
+		copy(s.note, sn.note)
+	}
 	s.physRestore(sn.phys)
 	for _, n := range s.dirtyIn {
-		s.dirtyMark[n] = false
+		s.nflag[n] &^= nfDirty
 	}
 	s.dirtyIn = s.dirtyIn[:0]
 	s.gates = s.gates[:0]
@@ -363,6 +452,25 @@ func (s *Sim) Settle() *Result {
 	r := &s.res
 	r.Rounds, r.Settled, r.Oscillated, r.Warnings = 0, false, false, r.Warnings[:0]
 	r.Analysis.reset()
+	if s.shrink {
+		// The first settle solves every node and changes most of them twice
+		// (from stored X to driven X or a value, and on as the values
+		// spread), and with every device of unknown state its groups are the
+		// largest: its logs, the seeds and touched lists and the group's
+		// scratch are sized for that. A step changes a fraction of it, so
+		// they are let go here and grow to what the steps need.
+		s.shrink = false
+		s.unit.changed, s.unit.roundEnd, s.unit.delay, s.unit.after = nil, nil, nil, nil
+		s.seeds, s.touched, s.nan = nil, nil, nil
+		s.g, s.buckets, s.comp = group{}, [Supply + 1][]int32{}, nil
+		// So are the general resolve's per-node arrays and the undo log's
+		// stamps, made again on first use: many designs' steps need neither.
+		s.best, s.inj, s.arr, s.pot = nil, nil, nil, [2][]Strength{}
+		s.undo.nmark = nil
+		if len(s.gates) == 0 { // (a stopped settle can leave fan-out queued)
+			s.gates = nil
+		}
+	}
 	s.settleID++
 	s.touched, s.shorts = s.touched[:0], s.shorts[:0]
 	s.seeds = s.seeds[:0] // s.gates may hold fan-out left queued by a stopped settle
@@ -370,15 +478,16 @@ func (s *Sim) Settle() *Result {
 	s.nextEpoch()
 	s.rec = &s.unit
 	s.unit.reset()
-	s.unit.delays = true
+	s.unit.delays = s.mode == Physical
 	s.ana.sawX = false
 
 	first := s.initial
 	// Segment 0 of the undo log is kept where race analysis may go back to
 	// the state before the step.
-	s.undo.reset(!first && len(s.dirtyIn) > 0 && s.races != RacesOff, s.mode == Physical || len(s.gates) > 0)
+	keep := !first && len(s.dirtyIn) > 0 && s.races != RacesOff && !s.settlesAlone()
+	s.undo.reset(keep, s.mode == Physical || len(s.gates) > 0)
 	if first {
-		s.initial = false
+		s.initial, s.shrink = false, true
 		for n := range s.val {
 			if s.nl.nodeKind[n] == Input {
 				s.applyDrive(n)
@@ -398,7 +507,7 @@ func (s *Sim) Settle() *Result {
 	a := &s.ana
 	a.inputs, a.to = a.inputs[:0], a.to[:0]
 	for _, n := range s.dirtyIn {
-		s.dirtyMark[n] = false
+		s.nflag[n] &^= nfDirty
 		if !s.inForce(n, s.drive[n]) {
 			a.inputs, a.to = append(a.inputs, n), append(a.to, s.drive[n])
 		}
@@ -414,6 +523,9 @@ func (s *Sim) Settle() *Result {
 	may := !first && len(a.inputs) > 0 && s.races != RacesOff
 	settled := s.rounds(may)
 	r.Settled = settled
+	if may && !settled && !keep {
+		panic("switchsim: a step settlesAlone said would settle did not")
+	}
 	if may && (len(a.inputs) > 1 || !settled || s.races == RacesEveryStep) {
 		s.raceAnalysis(settled)
 	} else {
@@ -430,7 +542,49 @@ func (s *Sim) Settle() *Result {
 	s.settleWarnings()
 	r.Rounds = s.unit.rounds
 	r.Changed, r.RoundEnd, r.Delay, r.After = s.unit.changed, s.unit.roundEnd, s.unit.delay, s.unit.after
+	if !s.unit.delays {
+		r.Delay = s.nanDelays(len(r.Changed))
+	}
 	return r
+}
+
+// nanDelays returns k NaN delays (ideal mode's Result.Delay) from one
+// buffer that only grows: no step writes them again.
+func (s *Sim) nanDelays(k int) []float64 {
+	if k > len(s.nan) {
+		old := len(s.nan)
+		s.nan = append(s.nan, make([]float64, k-old)...)
+		s.nan = s.nan[:cap(s.nan)]
+		for i := old; i < len(s.nan); i++ {
+			s.nan[i] = math.NaN()
+		}
+	}
+	return s.nan[:k:k]
+}
+
+// settlesAlone reports whether the pending step is sure to settle within
+// the round limit with one input changed, so that race analysis cannot run
+// on it under RacesWhenNeeded and the undo log need not be kept (a quarter
+// of an inverter chain's step). It holds in ideal mode for logic without
+// feedback (no node in a feedback loop, Netlist.InFeedbackLoop): there the
+// channel-connected components, bounded by rails and inputs, form an
+// acyclic graph through the gates, a component changes only in the round
+// after one of its gates changed, and so every node's last change comes
+// within as many rounds as there are components (DefaultRoundLimit). A
+// released input (DriveZ) joins the components it touches into one group
+// the structure did not see, so every input must be driven; fan-out left
+// queued by a stopped settle rules it out too.
+func (s *Sim) settlesAlone() bool {
+	if s.mode != Ideal || s.slowIdeal || s.races != RacesWhenNeeded || len(s.dirtyIn) != 1 || len(s.gates) > 0 ||
+		s.nl.loops || s.limit <= len(s.val) {
+		return false
+	}
+	for _, n := range s.nl.inputs {
+		if s.drive[n] == DriveZ {
+			return false
+		}
+	}
+	return true
 }
 
 // applyInputs gives each input its drive (the ones already in force are
@@ -488,12 +642,14 @@ func (s *Sim) rounds(stop bool) bool {
 	nl := s.nl
 	rec := s.rec
 	limit, extra, forced := s.limit, false, false
+	shorts := len(nl.shortDevs) > 0
 	s.runStart = s.roundNo
 	for round := 1; ; round++ {
 		// Devices whose gate changed in the round before switch now.
 		for _, gn := range s.gates {
+			gv := s.val[gn]
 			for _, d := range nl.gateDev[nl.gateStart[gn]:nl.gateStart[gn+1]] {
-				c := s.condOf(int(d))
+				c := conduction(nl.devKind[d], gv) // condOf: gn is d's gate
 				moved := false
 				if s.mode == Physical {
 					s.logDevice(d)             // physGateMoved records the gate's voltage
@@ -508,7 +664,7 @@ func (s *Sim) rounds(stop bool) bool {
 					if b := nl.devB[d]; !s.source[b] {
 						s.seed(b)
 					}
-					if nl.devFlag[d]&devShort != 0 {
+					if shorts && nl.devFlag[d]&devShort != 0 {
 						s.checkShort(d)
 					}
 				}
@@ -556,7 +712,7 @@ func (s *Sim) rounds(stop bool) bool {
 		if rec != nil {
 			rec.roundEnd = append(rec.roundEnd, int32(len(rec.changed)))
 		}
-		if s.physConverging() { // only voltages moved, each by less than before: not counted
+		if s.mode == Physical && s.physConverging() { // only voltages moved, each by less than before: not counted
 			limit++
 		}
 		s.nextEpoch()
@@ -603,9 +759,10 @@ func (s *Sim) applyDrive(n int) {
 		return // keeps its value as charge; its group is solved
 	}
 	s.source[n] = true
-	s.val[n], s.str[n], s.fight[n] = d.Value(), Supply, false
+	s.val[n], s.str[n] = d.Value(), Supply
+	s.nflag[n] &^= nfFight
 	s.state[n] = [...]State{State0, State1, StateX}[d]
-	s.volts[n] = s.physSourceVolts(d.Value())
+	s.setVolts(int32(n), s.physSourceVolts(d.Value()))
 }
 
 // forceOscillating sets to X every node that changed in the last W rounds
@@ -622,7 +779,8 @@ func (s *Sim) forceOscillating() {
 			}
 			s.logNode(n)
 			if s.val[n] != VX || s.state[n] != st {
-				s.val[n], s.state[n], s.volts[n] = VX, st, math.NaN()
+				s.val[n], s.state[n] = VX, st
+				s.setVolts(n, math.NaN())
 				s.lastChange[n] = round
 				if rec := s.rec; rec != nil {
 					rec.changed = append(rec.changed, n)
@@ -633,7 +791,7 @@ func (s *Sim) forceOscillating() {
 				}
 			}
 			s.gates = append(s.gates, n)
-			s.note[n] = nodeNote{kind: noteOscillation, settle: s.settleID}
+			s.setNote(n, nodeNote{kind: noteOscillation, settle: s.settleID})
 			s.ana.forced(n)
 		}
 	}

@@ -16,7 +16,7 @@ func (s *Sim) solveGroup(seed int32) {
 	done := s.stamp()
 	mark := s.mark
 	g.nodes, g.srcs, g.devs = g.nodes[:0], g.srcs[:0], g.devs[:0]
-	g.hasUnknown, g.strong = false, true
+	g.hasUnknown = false
 	g.srcHas = [3]bool{}
 	g.nodes = append(g.nodes, seed)
 	mark[seed] = gid
@@ -41,7 +41,6 @@ func (s *Sim) solveGroup(seed int32) {
 				continue // listed when o was looked at
 			}
 			g.devs = append(g.devs, d)
-			g.strong = g.strong && nl.devFlag[d]&devStrong != 0
 			if c == Unknown {
 				g.hasUnknown = true
 			}
@@ -58,8 +57,14 @@ func (s *Sim) solveGroup(seed int32) {
 		}
 	}
 	s.ana.visits += len(g.nodes)
+	if len(g.nodes) == 1 && !g.hasUnknown && s.mode == Ideal && !s.slowIdeal {
+		s.solveOne(g)
+		return
+	}
 	s.resolve(g)
-	s.physGroup(g)
+	if s.mode == Physical {
+		s.physGroup(g)
+	}
 	s.commit(g)
 }
 
@@ -69,7 +74,7 @@ func (s *Sim) touch(n int32) {
 	s.touchMark[n] = s.settleID
 	s.touched = append(s.touched, n)
 	s.lastChange[n] = 0
-	if s.note[n].kind != noteNone {
+	if s.note != nil && s.note[n].kind != noteNone {
 		s.note[n] = nodeNote{}
 	}
 }
@@ -79,14 +84,20 @@ func (s *Sim) resolve(g *group) {
 	nl := s.nl
 	k := len(g.nodes)
 	g.nval, g.nstr, g.nstate = grow(g.nval, k), grow(g.nstr, k), grow(g.nstate, k)
-	g.nvolts, g.contested = grow(g.nvolts, k), grow(g.contested, k)
+	g.contested = grow(g.contested, k)
+	if s.mode == Physical { // ideal mode has no voltages: commit reads none
+		g.nvolts = grow(g.nvolts, k)
+		for i := range g.nvolts {
+			g.nvolts[i] = math.NaN()
+		}
+	}
 
 	if !g.hasUnknown && !s.slowIdeal {
 		switch {
 		case k == 1:
 			s.resolveSingle(g)
 			return
-		case g.strong && len(g.srcs) > 0:
+		case len(g.srcs) > 0 && s.allStrong(g):
 			s.resolveDriven(g)
 			return
 		}
@@ -99,12 +110,13 @@ func (s *Sim) resolve(g *group) {
 	// component whose value is the combination of everything injected into it.
 	stamp := s.stamp() // a node's mark is stamp once its level's component took it
 	done := s.mark
+	s.best, s.inj, s.arr = perNode(s.best, len(s.val)), perNode(s.inj, len(s.val)), perNode(s.arr, len(s.val))
 	for i := range s.buckets {
 		s.buckets[i] = s.buckets[i][:0]
 	}
 	for _, n := range g.nodes {
 		s.best[n], s.inj[n], s.arr[n] = nl.nodeCharge[n], s.val[n], 1<<s.val[n]
-		s.shared[n] = false
+		s.nflag[n] &^= nfShared
 		s.buckets[s.best[n]] = append(s.buckets[s.best[n]], n)
 	}
 	// Sources inject through the group's own devices only: a rail touches
@@ -159,7 +171,7 @@ func (s *Sim) resolve(g *group) {
 			mixed := arrived&3 == 3
 			for _, m := range s.comp {
 				s.best[m], s.inj[m] = lvl, cv
-				s.fight[m], s.shared[m] = mixed, shared
+				s.nflag[m] = s.nflag[m]&nfContest | nodeFlags(mixed, false, shared)
 			}
 			for _, m := range s.comp {
 				for _, d := range nl.chanDev[nl.chanStart[m]:nl.chanStart[m+1]] {
@@ -194,10 +206,10 @@ func (s *Sim) resolve(g *group) {
 				st = max(st, p0, p1)
 			}
 		}
-		g.nval[i], g.nstr[i], g.nvolts[i] = v, st, math.NaN()
+		g.nval[i], g.nstr[i] = v, st
 		contested := (v == V0 && (g.srcHas[V1] || g.srcHas[VX])) || (v == V1 && (g.srcHas[V0] || g.srcHas[VX]))
 		g.contested[i] = contested
-		s.contest[n] = contested
+		s.nflag[n] = s.nflag[n]&^nfContest | nodeFlags(false, contested, false)
 		switch {
 		case st.IsCharge() || st == HighZ:
 			g.nstate[i] = StateZ
@@ -216,6 +228,21 @@ func (s *Sim) resolve(g *group) {
 // of its own charge and the sources reaching it through devices that are on
 // wins; equal strengths combine. No blocking or ternary pass is needed.
 func (s *Sim) resolveSingle(g *group) {
+	g.nval[0], g.nstr[0], g.nstate[0], g.contested[0] = s.single(g)
+}
+
+// solveOne is resolveSingle and commit in one for ideal mode, which has no
+// voltages to add: the node's state is written without the group's result
+// arrays.
+func (s *Sim) solveOne(g *group) {
+	n := g.nodes[0]
+	v, st, state, _ := s.single(g)
+	s.write(n, v, st, state, math.NaN())
+}
+
+// single resolves g's one node (resolveSingle) and notes its fight,
+// sharing and contest.
+func (s *Sim) single(g *group) (Value, Strength, State, bool) {
 	nl := s.nl
 	n := g.nodes[0]
 	best, v, arrived := nl.nodeCharge[n], s.val[n], uint8(1)<<s.val[n]
@@ -236,20 +263,28 @@ func (s *Sim) resolveSingle(g *group) {
 			v = lub(v, sv)
 		}
 	}
-	s.fight[n], s.shared[n] = arrived&3 == 3, false
 	contested := (v == V0 && (g.srcHas[V1] || g.srcHas[VX])) || (v == V1 && (g.srcHas[V0] || g.srcHas[VX]))
-	g.nval[0], g.nstr[0], g.nvolts[0], g.contested[0] = v, best, math.NaN(), contested
-	s.contest[n] = contested
+	s.nflag[n] = nodeFlags(arrived&3 == 3, contested, false)
 	switch {
 	case best.IsCharge():
-		g.nstate[0] = StateZ
+		return v, best, StateZ, contested
 	case v == VX:
-		g.nstate[0] = StateX
+		return v, best, StateX, contested
 	case contested || best < Strong:
-		g.nstate[0] = StateL + State(v)
-	default:
-		g.nstate[0] = State0 + State(v)
+		return v, best, StateL + State(v), contested
 	}
+	return v, best, State0 + State(v), contested
+}
+
+// allStrong reports whether every device of g passes every driving signal
+// at strong (devStrong), as resolveDriven needs.
+func (s *Sim) allStrong(g *group) bool {
+	for _, d := range g.devs {
+		if s.nl.devFlag[d]&devStrong == 0 {
+			return false
+		}
+	}
+	return true
 }
 
 // resolveDriven is resolve for a group that a source reaches, whose
@@ -268,10 +303,10 @@ func (s *Sim) resolveDriven(g *group) {
 	default:
 		v, state = V1, State1
 	}
-	mixed, nan := h[V0] && h[V1], math.NaN()
+	mixed := h[V0] && h[V1]
 	for i, n := range g.nodes {
-		s.fight[n], s.shared[n], s.contest[n] = mixed, false, false
-		g.nval[i], g.nstr[i], g.nstate[i], g.nvolts[i], g.contested[i] = v, Strong, state, nan, false
+		s.nflag[n] = nodeFlags(mixed, false, false)
+		g.nval[i], g.nstr[i], g.nstate[i], g.contested[i] = v, Strong, state, false
 	}
 }
 
@@ -348,30 +383,47 @@ func (s *Sim) potential(g *group, v Value) {
 
 // commit writes g's results and records the nodes that changed.
 func (s *Sim) commit(g *group) {
-	rec := s.rec
 	for i, n := range g.nodes {
-		v, st, state, vo := g.nval[i], g.nstr[i], g.nstate[i], g.nvolts[i]
-		if v == VX {
-			s.ana.sawX = true
+		if s.volts == nil { // ideal mode
+			s.write(n, g.nval[i], g.nstr[i], g.nstate[i], math.NaN())
+			continue
 		}
-		moved := s.val[n] != v || s.str[n] != st || s.state[n] != state || voltsMoved(s.volts[n], vo)
-		s.val[n], s.str[n], s.state[n], s.volts[n] = v, st, state, vo
-		if rec == nil && s.fight[n] && st >= s.nl.top {
-			s.ana.contradicted = true // a fight no stronger signal can override: not a real state
-		}
-		if moved {
-			delay := s.physDelay(g, i)
-			if rec != nil {
-				s.lastChange[n] = s.roundNo
-				rec.changed = append(rec.changed, n)
-				if rec.delays {
-					rec.delay = append(rec.delay, delay)
-				}
-				rec.after = append(rec.after, NodeState{v, st, state, st.IsCharge(), vo})
+		if s.write(n, g.nval[i], g.nstr[i], g.nstate[i], g.nvolts[i]) {
+			delay := s.physDelay(g, i) // it notes the delay in the node's record too
+			if rec := s.rec; rec != nil && rec.delays {
+				rec.delay = append(rec.delay, delay)
 			}
-			s.gates = append(s.gates, n)
 		}
 	}
+}
+
+// write gives node n its state and, where that moved it, records the change
+// (the delay is the caller's) and queues its fan-out; it reports whether
+// it moved the node.
+func (s *Sim) write(n int32, v Value, st Strength, state State, vo float64) bool {
+	if v == VX {
+		s.ana.sawX = true
+	}
+	moved := s.val[n] != v || s.str[n] != st || s.state[n] != state
+	if s.volts != nil {
+		moved = moved || voltsMoved(s.volts[n], vo)
+		s.volts[n] = vo
+	}
+	s.val[n], s.str[n], s.state[n] = v, st, state
+	rec := s.rec
+	if rec == nil && s.flag(n, nfFight) && st >= s.nl.top {
+		s.ana.contradicted = true // a fight no stronger signal can override: not a real state
+	}
+	if !moved {
+		return false
+	}
+	if rec != nil {
+		s.lastChange[n] = s.roundNo
+		rec.changed = append(rec.changed, n)
+		rec.after = append(rec.after, NodeState{v, st, state, st.IsCharge(), vo})
+	}
+	s.gates = append(s.gates, n)
+	return true
 }
 
 // voltsMoved reports a voltage change worth a round: more than a microvolt,

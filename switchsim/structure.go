@@ -8,9 +8,10 @@ package switchsim
 
 // Node flags.
 const (
-	nodeLoop     uint8 = 1 << iota // inside a feedback loop: its channel-connected component feeds back to itself through gates
-	nodeOutput                     // a declared output
-	nodeGatePass                   // gates a pass device
+	nodeLoop      uint8 = 1 << iota // inside a feedback loop: its channel-connected component feeds back to itself through gates
+	nodeOutput                      // a declared output
+	nodeGatePass                    // gates a pass device
+	nodeDiffusion                   // a diffusion node (Diffusion), set by diffusionDefaults
 )
 
 // Device flags.
@@ -126,6 +127,7 @@ func (nl *Netlist) structure() {
 	for n := 0; n < nn; n++ {
 		if loop(comp[n]) {
 			nl.nodeFlag[n] |= nodeLoop
+			nl.loops = true
 		}
 	}
 	for d := 0; d < nd; d++ {

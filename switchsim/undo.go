@@ -11,13 +11,22 @@ import "math"
 
 // nodeSave is a node's state as the log keeps it; physical mode's part is
 // in the parallel physSave, kept in physical mode only.
+// Its drive and four flags share one byte (saveBits): 8 bytes an entry,
+// and the log is written on every step that race analysis may look back on.
 type nodeSave struct {
-	n                              int32
-	val                            Value
-	str                            Strength
-	state                          State
-	drive                          Drive
-	fight, contest, shared, source bool
+	n     int32
+	val   Value
+	str   Strength
+	state State
+	bits  uint8 // drive in bits 0-1, the node's flags (nflag) in 2-4, source in 5
+}
+
+func saveBits(d Drive, flags uint8, source bool) uint8 {
+	b := uint8(d) | flags<<2
+	if source {
+		b |= 1 << 5
+	}
+	return b
 }
 
 type physSave struct {
@@ -44,7 +53,7 @@ type undoLog struct {
 	devOn bool     // logging devices too; in ideal mode with no fan-out queued a device's state is its gate's function, recomputed on going back
 	id    uint32   // the open segment's stamp
 	at    []int32  // node -> its entry in segment 0 (valid where that entry names it), set by index
-	nmark []uint32 // node -> stamp of the segment that logged it
+	nmark []uint32 // node -> stamp of the segment that logged it; made when a segment first opens
 	dmark []uint32 // device -> the same; made when devices are first logged
 	nn    int
 	nd    int
@@ -59,7 +68,7 @@ type undoLog struct {
 type undoMark struct{ nodes, devs int }
 
 func (u *undoLog) init(nn, nd int) {
-	u.nmark, u.nn, u.nd = make([]uint32, nn), nn, nd
+	u.nn, u.nd = nn, nd
 }
 
 // logDevices turns the logging of devices on or off for the open segment.
@@ -76,6 +85,7 @@ func (u *undoLog) logDevices(on bool) {
 // again before its first change. It returns the segment's start.
 func (u *undoLog) open() undoMark {
 	u.on = true
+	u.nmark = perNode(u.nmark, u.nn) // made on first use: a Sim with race analysis off may never log
 	u.id++
 	if u.id == 0 { // wrapped: clear the stamps
 		clear(u.nmark)
@@ -89,8 +99,10 @@ func (u *undoLog) open() undoMark {
 // devices or not.
 func (u *undoLog) reset(on, devOn bool) {
 	u.nodes, u.phys, u.devs, u.pdevs = u.nodes[:0], u.phys[:0], u.devs[:0], u.pdevs[:0]
-	u.open()
-	u.on = on
+	u.on = false
+	if on {
+		u.open()
+	}
 	u.logDevices(on && devOn)
 }
 
@@ -131,8 +143,8 @@ func (s *Sim) logNode(n int32) bool {
 func (s *Sim) saveNode(n int32) {
 	u := &s.undo
 	u.nmark[n] = u.id
-	u.nodes = append(u.nodes, nodeSave{n, s.val[n], s.str[n], s.state[n], s.drive[n],
-		s.fight[n], s.contest[n], s.shared[n], s.source[n]})
+	u.nodes = append(u.nodes, nodeSave{n, s.val[n], s.str[n], s.state[n],
+		saveBits(s.drive[n], s.nflag[n], s.source[n])})
 	if s.mode == Physical {
 		u.phys = append(u.phys, physSave{s.volts[n], s.phys.info[n], s.phys.shareMark[n], s.phys.fightV[n]})
 	}
@@ -155,8 +167,8 @@ func (s *Sim) logDevice(d int32) {
 func (s *Sim) restoreNode(i int) {
 	e := &s.undo.nodes[i]
 	n := e.n
-	s.val[n], s.str[n], s.state[n], s.drive[n] = e.val, e.str, e.state, e.drive
-	s.fight[n], s.contest[n], s.shared[n], s.source[n] = e.fight, e.contest, e.shared, e.source
+	s.val[n], s.str[n], s.state[n], s.drive[n] = e.val, e.str, e.state, Drive(e.bits&3)
+	s.nflag[n], s.source[n] = e.bits>>2&7, e.bits&(1<<5) != 0
 	if s.mode == Physical {
 		p := &s.undo.phys[i]
 		s.volts[n], s.phys.info[n], s.phys.shareMark[n], s.phys.fightV[n] = p.volts, p.phys, p.share, p.start

@@ -67,28 +67,30 @@ func (s *Sim) settleWarnings() {
 	nl := s.nl
 	r := &s.res
 	add := func(kind WarnKind, n, d, o int) {
-		r.Warnings = append(r.Warnings, Warning{Kind: kind, Node: n, Device: d, Other: o, Volts: s.volts[n], Margin: math.NaN()})
+		r.Warnings = append(r.Warnings, Warning{Kind: kind, Node: n, Device: d, Other: o, Volts: s.voltsAt(int32(n)), Margin: math.NaN()})
 	}
 	for _, n32 := range s.touched {
 		n := int(n32)
-		if s.warnMark[n] == s.settleID { // already reported as racing or oscillating
+		if s.warned(n32) { // already reported as racing or oscillating
 			continue
 		}
-		fans := nl.gateStart[n+1] > nl.gateStart[n]
 		switch st := s.state[n]; {
-		case st == StateX && s.fight[n]:
+		case st == StateX && s.flag(n32, nfFight):
 			add(WarnConflict, n, -1, -1)
-		case (st == StateL || st == StateH) && s.contest[n] && s.mode == Ideal:
+		case (st == StateL || st == StateH) && s.flag(n32, nfContest) && s.mode == Ideal:
 			add(WarnContention, n, -1, -1)
-		case st == StateZ && s.shared[n]:
+		case st != StateZ: // (only a floating node's warnings are left)
+		case s.flag(n32, nfShared):
 			add(WarnChargeSharing, n, -1, -1)
-		case st == StateZ && s.val[n] != VX && (fans || nl.nodeFlag[n]&nodeOutput != 0):
+		case s.val[n] != VX && (nl.gateStart[n+1] > nl.gateStart[n] || nl.nodeFlag[n]&nodeOutput != 0):
 			add(WarnHeldByCharge, n, -1, -1)
-		case st == StateZ && s.val[n] == VX && fans:
+		case s.val[n] == VX && nl.gateStart[n+1] > nl.gateStart[n]:
 			add(WarnFloatingGate, n, int(nl.gateDev[nl.gateStart[n]]), -1)
 		}
-		s.physWarnings(n, add)
-		if nl.nodeFlag[n]&nodeLoop != 0 && (s.contest[n] || (s.val[n] == VX && s.fight[n])) {
+		if s.mode == Physical {
+			s.physWarnings(n, add)
+		}
+		if nl.nodeFlag[n]&nodeLoop != 0 && (s.flag(n32, nfContest) || (s.val[n] == VX && s.flag(n32, nfFight))) {
 			s.writeFail(n32)
 		}
 	}
@@ -131,7 +133,7 @@ func (s *Sim) writeFail(n int32) {
 	if write < 0 || keeper < 0 || wv == VX || kv == VX || wv == kv || s.val[n] == wv {
 		return
 	}
-	w := Warning{Kind: WarnWriteFail, Node: int(n), Device: int(write), Other: int(keeper), Volts: s.volts[n], Margin: math.NaN()}
+	w := Warning{Kind: WarnWriteFail, Node: int(n), Device: int(write), Other: int(keeper), Volts: s.voltsAt(int32(n)), Margin: math.NaN()}
 	if s.mode == Physical && !math.IsNaN(w.Volts) {
 		vm := s.loopThreshold(n)
 		w.Margin = w.Volts - vm // towards a written 1
@@ -203,9 +205,9 @@ func (s *Sim) loopThreshold(n int32) float64 {
 		}
 		switch nl.devKind[d] {
 		case NMOS:
-			wn = max(wn, nl.devW[d]*t.L/nl.devL[d])
+			wn = max(wn, nl.width(int(d))*t.L/nl.length(int(d)))
 		case PMOS:
-			wp = max(wp, nl.devW[d]*t.L/nl.devL[d])
+			wp = max(wp, nl.width(int(d))*t.L/nl.length(int(d)))
 		}
 	}
 	if wn > 0 && wp > 0 {
@@ -269,7 +271,7 @@ func (s *Sim) Message(w Warning) string {
 			node, s.inputsText())
 	case WarnGlitch:
 		back := "in phase B"
-		if s.note[w.Node].kind == noteGlitchAlone {
+		if s.noteOf(int32(w.Node)).kind == noteGlitchAlone {
 			back = "when the rounds settled"
 		}
 		return fmt.Sprintf("%s may glitch: with %s changing it went X in phase A and came back to %s %s; a pulse here %s",
