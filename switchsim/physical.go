@@ -152,6 +152,7 @@ type physState struct {
 	fdel float64
 
 	conv physConvergeState // converging rounds (physical_converge.go)
+	memo physMemo          // the group memo (physical_memo.go)
 
 	// slow turns the one-node fast path (physSingle) and the precomputed
 	// rail limits and conductances off, so that tests can compare the
@@ -238,6 +239,7 @@ func (s *Sim) physInit() {
 	p.sv[0], p.sv[1] = make([]Strength, nn), make([]Strength, nn)
 	p.stamp = make([]uint32, nn)
 	p.conv.init(nn)
+	p.memo.init(nn)
 }
 
 func noPhysNode() physNode {
@@ -343,7 +345,13 @@ func (s *Sim) physGroup(g *group) {
 		return
 	}
 	p := &s.phys
+	if s.memoLook(g) {
+		p.fast = false
+		s.physConverge(g)
+		return
+	}
 	if !p.slow && s.physSingle(g) {
+		s.memoRecord(g)
 		s.physConverge(g)
 		return
 	}
@@ -374,6 +382,7 @@ func (s *Sim) physGroup(g *group) {
 			s.physLevel(g, int32(c), V0)
 		}
 	}
+	s.memoRecord(g)
 	s.physConverge(g)
 }
 
