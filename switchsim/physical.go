@@ -131,6 +131,7 @@ type physState struct {
 	// channel touches node n, so that a part without any is not searched.
 	leak    []bool
 	leakAt  []int32
+	nLeak   int     // how many devices are partly on: none, and partialOn has nothing to look for
 	cl      []int32 // the leaking devices of the parts, part after part
 	anyLeak bool    // the group being solved touches a partly-on device
 
@@ -264,6 +265,7 @@ func (s *Sim) physRestore(sn physSnapshot) {
 	copy(p.fightV, sn.fightV)
 	copy(p.info, sn.info)
 	clear(p.leakAt)
+	p.nLeak = 0
 	for d := range p.dv {
 		p.dv[d].lim = s.limitFor(int32(d))
 		p.leak[d] = false
@@ -301,6 +303,7 @@ func (s *Sim) setLeak(d int32, on bool) {
 	if !on {
 		inc = -1
 	}
+	p.nLeak += int(inc)
 	a, b := s.nl.devA[d], s.nl.devB[d]
 	p.leakAt[a] += inc
 	if b != a {
@@ -332,8 +335,18 @@ func (s *Sim) physGateMoved(d int32) bool {
 		}
 		return false
 	}
-	p.dv[d].gv = v
-	p.dv[d].lim = s.limitFor(d)
+	pd := &p.dv[d]
+	pd.gv = v
+	switch k := s.nl.devKind[d]; { // limitFor, its commonest cases without the call
+	case k > PMOS || p.slow:
+		pd.lim = s.limitFor(d)
+	case v == 0:
+		pd.lim = p.limRail[k][V0]
+	case v == p.vdd:
+		pd.lim = p.limRail[k][V1]
+	default:
+		pd.lim = s.limitFor(d)
+	}
 	was := p.leak[d]
 	s.setLeak(d, off && s.leakyGate(d, v))
 	return voltsMoved(old, v) && (!off || was || p.leak[d])

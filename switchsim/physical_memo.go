@@ -31,7 +31,7 @@ const (
 	// it no new seed gets entries, and the rest are solved every time.
 	memoBudget = 1 << 22
 	// memoOutWords is a memoOut's size in words, near enough.
-	memoOutWords = 11
+	memoOutWords = 9
 )
 
 // physMemo is the Sim's group memo.
@@ -41,6 +41,7 @@ type physMemo struct {
 	slots []memoSlot
 	words int      // size so far, in 8-byte words
 	key   []uint64 // the key of the group being solved
+	sig   uint32   // and its fight's signature (fightSig), for a fight
 	// hit is the entry replayed for the group being solved, rec the entry
 	// its solve is recorded into (nil: none).
 	hit, rec *memoEntry
@@ -49,10 +50,19 @@ type physMemo struct {
 type memoSlot struct {
 	ents [memoWays]memoEntry
 	next uint8 // the entry the next record replaces
-	last uint8 // the entry last hit
+	last int8  // the entry last hit or recorded, -1 none
+}
+
+// follow notes that entry w is the one hit or recorded after the last.
+func (sl *memoSlot) follow(w int8) {
+	if sl.last >= 0 {
+		sl.ents[sl.last].succ = w
+	}
+	sl.last = w
 }
 
 type memoEntry struct {
+	succ  int8 // the entry hit or recorded after this one last time, -1 none
 	key   []uint64
 	out   []memoOut // per node of the group
 	fight bool
@@ -65,7 +75,7 @@ type memoOut struct {
 	state State
 	volts float64
 	info  physRec
-	start fightStart
+	kept  float64 // a fight's end point, kept for the node's next fight (fightStart.keep)
 	delay float64 // physDelay's result, where commit asked for it
 }
 
@@ -74,6 +84,14 @@ func (m *physMemo) init(nn int) {
 	for n := range m.slot {
 		m.slot[n] = -1
 	}
+}
+
+func newMemoSlot() memoSlot {
+	sl := memoSlot{last: -1}
+	for w := range sl.ents {
+		sl.ents[w].succ = -1
+	}
+	return sl
 }
 
 // memoFight reports whether a group without devices of unknown state, whose
@@ -95,7 +113,9 @@ func (s *Sim) memoLook(g *group) bool {
 		return false
 	}
 	// the devices first: their conduction and gates tell a toggle's solves apart soonest
-	k := append(m.key[:0], uint64(len(g.nodes))|uint64(len(g.devs))<<32, uint64(len(g.srcs)))
+	k := grow(m.key, 2+2*len(g.devs)+(2+b2i(fight))*len(g.nodes)+len(g.srcs))
+	k[0], k[1] = uint64(len(g.nodes))|uint64(len(g.devs))<<32, uint64(len(g.srcs))
+	j := 2
 	nl := s.nl
 	for _, d := range g.devs {
 		// passLimit and gateVoltsRecorded read the recorded gate voltage
@@ -104,26 +124,32 @@ func (s *Sim) memoLook(g *group) bool {
 		if gn := nl.devGate[d]; gn >= 0 && s.source[gn] {
 			w |= uint64(1+s.val[gn]) << 40
 		}
-		k = append(k, w, math.Float64bits(p.dv[d].gv))
+		k[j], k[j+1] = w, math.Float64bits(p.dv[d].gv)
+		j += 2
+	}
+	if fight {
+		m.sig = fightSig(g.devs, nil)
 	}
 	for i, n := range g.nodes {
 		if p.leakAt[n] > 0 {
 			m.key = k
 			return false
 		}
-		in := &p.info[n]
-		k = append(k,
-			uint64(uint32(n))|uint64(s.val[n])<<32|uint64(s.str[n])<<40|uint64(s.state[n])<<48|uint64(in.How)<<56,
-			uint64(g.nval[i])|uint64(g.nstr[i])<<8|uint64(g.nstate[i])<<16|uint64(uint32(in.Drop))<<32,
-			math.Float64bits(s.volts[n]))
-		if fight {
-			f := &p.fightV[n]
-			k = append(k, uint64(f.sig[0])|uint64(f.sig[1])<<32, math.Float64bits(f.volts[0]),
-				math.Float64bits(f.volts[1]), uint64(f.last))
+		// Value, Strength and State each fit in 4 bits (value.go). A node's
+		// old record is read only by a lone node's level (retained), which
+		// the memo leaves to physSingle.
+		k[j] = uint64(uint32(n)) | uint64(s.val[n])<<32 | uint64(s.str[n])<<36 | uint64(s.state[n])<<40 |
+			uint64(g.nval[i])<<44 | uint64(g.nstr[i])<<48 | uint64(g.nstate[i])<<52
+		k[j+1] = math.Float64bits(s.volts[n])
+		j += 2
+		if fight { // where the fight starts (netBuild)
+			k[j] = math.Float64bits(p.fightV[n].find(m.sig))
+			j++
 		}
 	}
 	for _, src := range g.srcs {
-		k = append(k, uint64(uint32(src))|uint64(s.val[src])<<32)
+		k[j] = uint64(uint32(src)) | uint64(s.val[src])<<32
+		j++
 	}
 	m.key = k
 	seed := g.nodes[0]
@@ -133,22 +159,37 @@ func (s *Sim) memoLook(g *group) bool {
 			return false
 		}
 		si = int32(len(m.slots))
-		m.slots = append(m.slots, memoSlot{})
+		m.slots = append(m.slots, newMemoSlot())
 		m.slot[seed] = si
 	}
 	sl := &m.slots[si]
-	for j := range memoWays {
-		w := (int(sl.last) + 1 + j) % memoWays // a toggle's solves recur in turn: the one after the last hit first
+	// The solves of a seed's group recur in the same order (a toggle's
+	// steps and rounds): the entry that followed the last one hit comes first.
+	first := int8(-1)
+	if sl.last >= 0 {
+		first = sl.ents[sl.last].succ
+	}
+	for j := -1; j < memoWays; j++ {
+		w := j
+		if j < 0 {
+			w = int(first)
+		} else if j == int(first) {
+			continue
+		}
+		if w < 0 {
+			continue
+		}
 		if e := &sl.ents[w]; len(e.key) > 0 && slices.Equal(e.key, k) {
-			sl.last = uint8(w)
+			sl.follow(int8(w))
 			s.memoReplay(g, e)
 			m.hit = e
 			return true
 		}
 	}
 	e := &sl.ents[sl.next]
+	sl.follow(int8(sl.next))
 	sl.next = (sl.next + 1) % memoWays
-	e.key = e.key[:0] // incomplete until memoRecord
+	e.key, e.succ = e.key[:0], -1 // incomplete until memoRecord
 	m.rec = e
 	return false
 }
@@ -160,8 +201,8 @@ func (s *Sim) memoReplay(g *group, e *memoEntry) {
 		o := &e.out[i]
 		g.nval[i], g.nstr[i], g.nstate[i], g.nvolts[i] = o.val, o.str, o.state, o.volts
 		p.info[n] = o.info
-		if e.fight { // only a fight reads and moves where the node's fights start
-			p.fightV[n] = o.start
+		if e.fight { // as solveFight keeps it
+			p.fightV[n].keep(p.memo.sig, o.kept)
 			g.contested[i] = true
 			s.contest[n], s.fight[n] = true, false
 		}
@@ -183,7 +224,17 @@ func (s *Sim) memoRecord(g *group) {
 	e.fight = memoFight(g.srcHas)
 	for i, n := range g.nodes {
 		e.out[i] = memoOut{val: g.nval[i], str: g.nstr[i], state: g.nstate[i], volts: g.nvolts[i],
-			info: p.info[n], start: p.fightV[n], delay: math.NaN()}
+			info: p.info[n], kept: math.NaN(), delay: math.NaN()}
+		if e.fight { // the fight just solved (solveFight): its node i is the net's node i
+			e.out[i].kept = p.net.v[i]
+		}
 	}
 	m.words += cap(e.key) + cap(e.out)*memoOutWords - before
+}
+
+func b2i(b bool) int {
+	if b {
+		return 1
+	}
+	return 0
 }
