@@ -69,7 +69,8 @@ type physNode struct {
 }
 
 // physRec is the part of physNode kept per node between settles; the rest
-// is worked out when asked for (physInfo).
+// is worked out when asked for (physInfo). The group memo writes every
+// field into its entries (memoRecord, memoReplay): a new field goes there too.
 type physRec struct {
 	How physHow
 	// Lost is the value whose level the estimate lost (the node is X), VX

@@ -21,13 +21,13 @@ func (s *Sim) physDelay(g *group, i int) float64 {
 	p := &s.phys
 	m := &p.memo
 	if m.hit != nil { // the memo's entry holds it (physical_memo.go)
-		d := m.hit.out[i].delay
+		d := math.Float64frombits(m.hit.out(i)[outDelay])
 		p.info[g.nodes[i]].Delay = d
 		return d
 	}
 	d := s.groupDelay(g, i)
 	if m.rec != nil {
-		m.rec.out[i].delay = d
+		m.rec.out(i)[outDelay] = math.Float64bits(d)
 	}
 	return d
 }

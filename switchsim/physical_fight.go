@@ -186,11 +186,14 @@ func fightSig(devs, leaks []int32) uint32 {
 	sig := uint32(0)
 	for _, list := range [2][]int32{devs, leaks} {
 		for _, d := range list {
-			sig = sig*0x9e3779b1 + uint32(d) + 1
+			sig = sigStep(sig, d)
 		}
 	}
 	return sig
 }
+
+// sigStep adds device d to a fight's signature.
+func sigStep(sig uint32, d int32) uint32 { return sig*0x9e3779b1 + uint32(d) + 1 }
 
 // fightStart keeps where a node's last two fights ended, by the fights'
 // signatures, so that the next solve of either starts there.

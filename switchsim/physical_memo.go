@@ -13,15 +13,20 @@ import (
 // bit, and is copied rather than worked out again.
 //
 // The key is everything physGroup and physDelay read for a group without
-// devices of unknown state, partly-on devices or floating parts: its nodes
-// in order (each node's value, strength, state, voltage, the ideal
-// resolution's value, strength and state, the kind and last-drop device of
-// its record, and for a fight where its last two fights ended), its
-// devices in order with their conduction, recorded gate voltage and pass
-// limit, and its sources with their values. Every comparison is exact (the
-// floats bit for bit), so a hit gives what the solve would give, delays
-// included: a node moves in commit exactly when it moved then. Lone nodes
-// driven by one value are left to physSingle, which is as cheap as a look-up.
+// devices of unknown state, partly-on devices or floating parts: its
+// devices in order with their conduction and recorded gate voltage (and a
+// gate source's value: passLimit and gateVoltsRecorded read nothing else),
+// its nodes in order (each node's value, strength, state and voltage, the
+// ideal resolution's value, strength and state, and for a fight where it
+// starts: fightStart.find of the fight's signature), and its sources with
+// their values. Every comparison is exact (the floats bit for bit), so a
+// hit gives what the solve would give, delays included: a node moves in
+// commit exactly when it moved then. Lone nodes driven by one value are
+// left to physSingle, which is as cheap as a look-up (and the only reader
+// of a node's old record, through retained).
+//
+// An entry is one slice: the key, then memoOutWords words per node of what
+// the solve left (memoOut), so that a hit reads one run of memory.
 
 const (
 	memoWays     = 8   // entries per group seed: a toggle's two steps of two rounds
@@ -30,8 +35,8 @@ const (
 	// memoBudget bounds the memo's size in 8-byte words (about 32 MB); past
 	// it no new seed gets entries, and the rest are solved every time.
 	memoBudget = 1 << 22
-	// memoOutWords is a memoOut's size in words, near enough.
-	memoOutWords = 9
+	// memoOutWords is a node's record in an entry, in words (memoOut)
+	memoOutWords = 8
 )
 
 // physMemo is the Sim's group memo.
@@ -63,20 +68,24 @@ func (sl *memoSlot) follow(w int8) {
 
 type memoEntry struct {
 	succ  int8 // the entry hit or recorded after this one last time, -1 none
-	key   []uint64
-	out   []memoOut // per node of the group
 	fight bool
+	klen  int32    // the key's length in data; 0: the entry is empty
+	data  []uint64 // the key, then each node's memoOut
 }
 
-// memoOut is what the solve left for one node of the group.
-type memoOut struct {
-	val   Value
-	str   Strength
-	state State
-	volts float64
-	info  physRec
-	kept  float64 // a fight's end point, kept for the node's next fight (fightStart.keep)
-	delay float64 // physDelay's result, where commit asked for it
+// memoOut is what the solve left for one node of the group, as the words
+// of an entry: its value, strength and state with its record's kind and
+// lost value; its voltage; the record's devices (Drop, Up, Down) and
+// voltages (Before, Delay); a fight's end point, kept for the node's next
+// fight (fightStart.keep); physDelay's result, where commit asked for it.
+const (
+	outLogic, outVolts, outDrop, outDown, outBefore, outInfoDelay, outKept, outDelay = 0, 1, 2, 3, 4, 5, 6, 7
+)
+
+// out returns node i's words in e.
+func (e *memoEntry) out(i int) []uint64 {
+	o := int(e.klen) + i*memoOutWords
+	return e.data[o : o+memoOutWords : o+memoOutWords]
 }
 
 func (m *physMemo) init(nn int) {
@@ -117,6 +126,7 @@ func (s *Sim) memoLook(g *group) bool {
 	k[0], k[1] = uint64(len(g.nodes))|uint64(len(g.devs))<<32, uint64(len(g.srcs))
 	j := 2
 	nl := s.nl
+	sig := uint32(0) // fightSig(g.devs, nil), as netBuild names the fight
 	for _, d := range g.devs {
 		// passLimit and gateVoltsRecorded read the recorded gate voltage
 		// (the limit kept with it is a function of it) and a source gate's value
@@ -126,10 +136,9 @@ func (s *Sim) memoLook(g *group) bool {
 		}
 		k[j], k[j+1] = w, math.Float64bits(p.dv[d].gv)
 		j += 2
+		sig = sigStep(sig, d)
 	}
-	if fight {
-		m.sig = fightSig(g.devs, nil)
-	}
+	m.sig = sig
 	for i, n := range g.nodes {
 		if p.leakAt[n] > 0 {
 			m.key = k
@@ -179,7 +188,7 @@ func (s *Sim) memoLook(g *group) bool {
 		if w < 0 {
 			continue
 		}
-		if e := &sl.ents[w]; len(e.key) > 0 && slices.Equal(e.key, k) {
+		if e := &sl.ents[w]; e.klen > 0 && slices.Equal(e.data[:e.klen], k) {
 			sl.follow(int8(w))
 			s.memoReplay(g, e)
 			m.hit = e
@@ -189,7 +198,7 @@ func (s *Sim) memoLook(g *group) bool {
 	e := &sl.ents[sl.next]
 	sl.follow(int8(sl.next))
 	sl.next = (sl.next + 1) % memoWays
-	e.key, e.succ = e.key[:0], -1 // incomplete until memoRecord
+	e.klen, e.succ = 0, -1 // empty until memoRecord
 	m.rec = e
 	return false
 }
@@ -198,11 +207,15 @@ func (s *Sim) memoLook(g *group) bool {
 func (s *Sim) memoReplay(g *group, e *memoEntry) {
 	p := &s.phys
 	for i, n := range g.nodes {
-		o := &e.out[i]
-		g.nval[i], g.nstr[i], g.nstate[i], g.nvolts[i] = o.val, o.str, o.state, o.volts
-		p.info[n] = o.info
+		o := e.out(i)
+		w := o[outLogic]
+		g.nval[i], g.nstr[i], g.nstate[i] = Value(w), Strength(w>>8), State(w>>16)
+		g.nvolts[i] = math.Float64frombits(o[outVolts])
+		p.info[n] = physRec{How: physHow(w >> 24), Lost: Value(w >> 32), Drop: int32(uint32(o[outDrop])),
+			Up: int32(uint32(o[outDrop] >> 32)), Down: int32(uint32(o[outDown])),
+			Before: math.Float64frombits(o[outBefore]), Delay: math.Float64frombits(o[outInfoDelay])}
 		if e.fight { // as solveFight keeps it
-			p.fightV[n].keep(p.memo.sig, o.kept)
+			p.fightV[n].keep(p.memo.sig, math.Float64frombits(o[outKept]))
 			g.contested[i] = true
 			s.contest[n], s.fight[n] = true, false
 		}
@@ -218,18 +231,25 @@ func (s *Sim) memoRecord(g *group) {
 	if e == nil {
 		return
 	}
-	before := cap(e.key) + cap(e.out)*memoOutWords
-	e.key = append(e.key[:0], m.key...)
-	e.out = grow(e.out, len(g.nodes))
+	before := cap(e.data)
 	e.fight = memoFight(g.srcHas)
+	e.klen = int32(len(m.key))
+	e.data = append(e.data[:0], m.key...)
+	nan := math.Float64bits(math.NaN())
 	for i, n := range g.nodes {
-		e.out[i] = memoOut{val: g.nval[i], str: g.nstr[i], state: g.nstate[i], volts: g.nvolts[i],
-			info: p.info[n], kept: math.NaN(), delay: math.NaN()}
+		in := &p.info[n]
+		kept := nan
 		if e.fight { // the fight just solved (solveFight): its node i is the net's node i
-			e.out[i].kept = p.net.v[i]
+			kept = math.Float64bits(p.net.v[i])
 		}
+		e.data = append(e.data,
+			uint64(g.nval[i])|uint64(g.nstr[i])<<8|uint64(g.nstate[i])<<16|uint64(in.How)<<24|uint64(in.Lost)<<32,
+			math.Float64bits(g.nvolts[i]),
+			uint64(uint32(in.Drop))|uint64(uint32(in.Up))<<32,
+			uint64(uint32(in.Down)),
+			math.Float64bits(in.Before), math.Float64bits(in.Delay), kept, nan)
 	}
-	m.words += cap(e.key) + cap(e.out)*memoOutWords - before
+	m.words += cap(e.data) - before
 }
 
 func b2i(b bool) int {
