@@ -15,7 +15,8 @@ import (
 // The key is everything physGroup and physDelay read for a group without
 // devices of unknown state, partly-on devices or floating parts: its
 // devices in order with their conduction and recorded gate voltage (and a
-// gate source's value: passLimit and gateVoltsRecorded read nothing else),
+// gate source's value: passLimit and gateVoltsRecorded read nothing else,
+// the limit kept with the voltage being a function of it),
 // its nodes in order (each node's value, strength, state and voltage, the
 // ideal resolution's value, strength and state, and for a fight where it
 // starts: fightStart.find of the fight's signature), and its sources with
@@ -29,13 +30,15 @@ import (
 // the solve left (memoOut), so that a hit reads one run of memory.
 
 const (
-	memoWays     = 8   // entries per group seed: a toggle's two steps of two rounds
-	memoMaxNodes = 32  // larger groups are solved every time
-	memoMaxDevs  = 128 //
+	// entries per group seed: a toggle's two steps of two rounds, and the
+	// phases of race analysis where it runs
+	memoWays = 8
+	// larger groups are solved every time
+	memoMaxNodes, memoMaxDevs = 32, 128
 	// memoBudget bounds the memo's size in 8-byte words (about 32 MB); past
 	// it no new seed gets entries, and the rest are solved every time.
 	memoBudget = 1 << 22
-	// memoOutWords is a node's record in an entry, in words (memoOut)
+	// memoOutWords is a node's record in an entry, in words (memoOut).
 	memoOutWords = 8
 )
 
