@@ -5,6 +5,11 @@ package switchsim
 // compare it with the general path. It is on in every new Sim.
 func (s *Sim) SetPhysFastPath(on bool) { s.phys.slow = !on }
 
+// SetPhysMemo switches s's group memo of physical mode on or off, so that
+// the external tests can compare it with solving every group afresh. It is
+// on in every new Sim (and off while the fast path is).
+func (s *Sim) SetPhysMemo(on bool) { s.phys.memo.off = !on }
+
 // PhysFastPath reports whether s's fast path is on.
 func (s *Sim) PhysFastPath() bool { return !s.phys.slow }
 

@@ -69,7 +69,8 @@ type physNode struct {
 }
 
 // physRec is the part of physNode kept per node between settles; the rest
-// is worked out when asked for (physInfo).
+// is worked out when asked for (physInfo). The group memo writes every
+// field into its entries (memoRecord, memoReplay): a new field goes there too.
 type physRec struct {
 	How physHow
 	// Lost is the value whose level the estimate lost (the node is X), VX
@@ -131,6 +132,7 @@ type physState struct {
 	// channel touches node n, so that a part without any is not searched.
 	leak    []bool
 	leakAt  []int32
+	nLeak   int     // how many devices are partly on: none, and partialOn has nothing to look for
 	cl      []int32 // the leaking devices of the parts, part after part
 	anyLeak bool    // the group being solved touches a partly-on device
 
@@ -152,6 +154,7 @@ type physState struct {
 	fdel float64
 
 	conv physConvergeState // converging rounds (physical_converge.go)
+	memo physMemo          // the group memo (physical_memo.go)
 
 	// slow turns the one-node fast path (physSingle) and the precomputed
 	// rail limits and conductances off, so that tests can compare the
@@ -238,6 +241,7 @@ func (s *Sim) physInit() {
 	p.sv[0], p.sv[1] = make([]Strength, nn), make([]Strength, nn)
 	p.stamp = make([]uint32, nn)
 	p.conv.init(nn)
+	p.memo.init(nn)
 }
 
 func noPhysNode() physNode {
@@ -262,6 +266,7 @@ func (s *Sim) physRestore(sn physSnapshot) {
 	copy(p.fightV, sn.fightV)
 	copy(p.info, sn.info)
 	clear(p.leakAt)
+	p.nLeak = 0
 	for d := range p.dv {
 		p.dv[d].lim = s.limitFor(int32(d))
 		p.leak[d] = false
@@ -299,6 +304,7 @@ func (s *Sim) setLeak(d int32, on bool) {
 	if !on {
 		inc = -1
 	}
+	p.nLeak += int(inc)
 	a, b := s.nl.devA[d], s.nl.devB[d]
 	p.leakAt[a] += inc
 	if b != a {
@@ -330,8 +336,18 @@ func (s *Sim) physGateMoved(d int32) bool {
 		}
 		return false
 	}
-	p.dv[d].gv = v
-	p.dv[d].lim = s.limitFor(d)
+	pd := &p.dv[d]
+	pd.gv = v
+	switch k := s.nl.devKind[d]; { // limitFor, its commonest cases without the call
+	case k > PMOS || p.slow:
+		pd.lim = s.limitFor(d)
+	case v == 0:
+		pd.lim = p.limRail[k][V0]
+	case v == p.vdd:
+		pd.lim = p.limRail[k][V1]
+	default:
+		pd.lim = s.limitFor(d)
+	}
 	was := p.leak[d]
 	s.setLeak(d, off && s.leakyGate(d, v))
 	return voltsMoved(old, v) && (!off || was || p.leak[d])
@@ -343,7 +359,13 @@ func (s *Sim) physGroup(g *group) {
 		return
 	}
 	p := &s.phys
+	if s.memoLook(g) {
+		p.fast = false
+		s.physConverge(g)
+		return
+	}
 	if !p.slow && s.physSingle(g) {
+		s.memoRecord(g)
 		s.physConverge(g)
 		return
 	}
@@ -374,6 +396,7 @@ func (s *Sim) physGroup(g *group) {
 			s.physLevel(g, int32(c), V0)
 		}
 	}
+	s.memoRecord(g)
 	s.physConverge(g)
 }
 

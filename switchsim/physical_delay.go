@@ -19,6 +19,22 @@ func (s *Sim) physDelay(g *group, i int) float64 {
 		return math.NaN()
 	}
 	p := &s.phys
+	m := &p.memo
+	if m.hit != nil { // the memo's entry holds it (physical_memo.go)
+		d := math.Float64frombits(m.hit.out(i)[outDelay])
+		p.info[g.nodes[i]].Delay = d
+		return d
+	}
+	d := s.groupDelay(g, i)
+	if m.rec != nil {
+		m.rec.out(i)[outDelay] = math.Float64bits(d)
+	}
+	return d
+}
+
+// groupDelay is physDelay worked out from the group's solve.
+func (s *Sim) groupDelay(g *group, i int) float64 {
+	p := &s.phys
 	n := g.nodes[i]
 	in := &p.info[n]
 	if p.fast {

@@ -14,7 +14,8 @@ import (
 
 // fastPair runs one network through two Sims in physical mode, the general
 // path alone (slow) and with the fast path (fast), and fails at the first
-// difference. The oracle is the general path itself (DEVELOPERS.md (physical mode) as
+// difference. newPathPair makes one for another path: slow is then the Sim
+// with that path turned off. The oracle is the general path itself (DEVELOPERS.md (physical mode) as
 // DEVELOPERS.md words it, checked against the reference solver by
 // diff_test.go): the fast path must give exactly what it gives.
 type fastPair struct {
@@ -27,9 +28,13 @@ type fastPair struct {
 }
 
 func newFastPair(t *testing.T, name string, nl *sw.Netlist) *fastPair {
+	return newPathPair(t, name, nl, func(s *sw.Sim) { s.SetPhysFastPath(false) })
+}
+
+func newPathPair(t *testing.T, name string, nl *sw.Netlist, off func(*sw.Sim)) *fastPair {
 	fp := &fastPair{t: t, name: name, nl: nl,
 		slow: sw.NewSim(nl, sw.Options{Mode: sw.Physical}), fast: sw.NewSim(nl, sw.Options{Mode: sw.Physical})}
-	fp.slow.SetPhysFastPath(false)
+	off(fp.slow)
 	return fp
 }
 
@@ -135,7 +140,14 @@ func TestPhysFastPathLinked(t *testing.T) {
 // technology now and then so that thresholds and limits move (a preset
 // variant: thresholds near the rails make full and lost levels common).
 func TestPhysFastPathRandom(t *testing.T) {
-	rng := rand.New(rand.NewPCG(17, 5))
+	randomPairs(t, rand.New(rand.NewPCG(17, 5)), 0, newFastPair)
+}
+
+// randomPairs runs random networks through the pairs mk makes. With
+// vectors 0 each step drives a random third of the inputs afresh; with
+// vectors > 0 each step applies one of that many drive vectors chosen once
+// per network, so that the same states come back.
+func randomPairs(t *testing.T, rng *rand.Rand, vectors int, mk func(*testing.T, string, *sw.Netlist) *fastPair) {
 	drives := []sw.Drive{sw.Drive0, sw.Drive1, sw.Drive0, sw.Drive1, sw.DriveX, sw.DriveZ}
 	nets := 300
 	if testing.Short() {
@@ -160,12 +172,31 @@ func TestPhysFastPathRandom(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		fp := newFastPair(t, fmt.Sprintf("net %d\n%s", net, spec), nl)
+		fp := mk(t, fmt.Sprintf("net %d\n%s", net, spec), nl)
+		ins := nl.Inputs()
+		pool := make([][]sw.Drive, vectors)
+		for i := range pool {
+			pool[i] = make([]sw.Drive, len(ins))
+			for j := range pool[i] {
+				pool[i][j] = drives[rng.IntN(len(drives))]
+			}
+		}
 		var snaps [2]*sw.Snapshot
-		for step := 0; step < 10; step++ {
-			for _, in := range nl.Inputs() {
-				if step == 0 || rng.IntN(3) == 0 {
-					fp.set(in, drives[rng.IntN(len(drives))])
+		steps := 10
+		if vectors > 0 {
+			steps = 24
+		}
+		for step := 0; step < steps; step++ {
+			if vectors > 0 {
+				vec := pool[rng.IntN(vectors)]
+				for j, in := range ins {
+					fp.set(in, vec[j])
+				}
+			} else {
+				for _, in := range ins {
+					if step == 0 || rng.IntN(3) == 0 {
+						fp.set(in, drives[rng.IntN(len(drives))])
+					}
 				}
 			}
 			fp.settle("random drives")
@@ -181,7 +212,11 @@ func TestPhysFastPathRandom(t *testing.T) {
 
 // The engine's benchmark networks (physical_bench_test.go), whose groups
 // are mostly lone nodes: inverter outputs, selector outputs, latch nodes.
-func TestPhysFastPathBenchNets(t *testing.T) {
+func TestPhysFastPathBenchNets(t *testing.T) { benchPairs(t, newFastPair) }
+
+// benchPairs runs the benchmark networks through the pairs mk makes, each
+// toggling its inputs as the benchmark does (and one at random now and then).
+func benchPairs(t *testing.T, mk func(*testing.T, string, *sw.Netlist) *fastPair) {
 	rng := rand.New(rand.NewPCG(2, 9))
 	for _, bn := range physBenchNets() {
 		if bn.name == "datapath200" || bn.name == "invchain1000" {
@@ -191,7 +226,7 @@ func TestPhysFastPathBenchNets(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		fp := newFastPair(t, bn.name, nl)
+		fp := mk(t, bn.name, nl)
 		for i, n := range nl.Inputs() {
 			d, ok := bn.setup[nl.NodeName(n)]
 			if !ok {
@@ -218,7 +253,7 @@ func TestPhysFastPathBenchNets(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		fp := newFastPair(t, name, nl)
+		fp := mk(t, name, nl)
 		ins := nl.Inputs()
 		for step := 0; step < 16; step++ {
 			for _, n := range ins {
@@ -320,3 +355,17 @@ func TestPhysFastPathSharedPulse(t *testing.T) {
 		t.Fatalf("the pulse did not share b's charge: %+v", fp.lastWarn)
 	}
 }
+
+// The group memo (physical_memo.go) against solving every group afresh,
+// the fast path on in both: on random networks whose drive vectors recur
+// (so that groups come back to states they were solved in) and on the
+// benchmark networks, whose toggles bring the same fights back each step.
+func newMemoPair(t *testing.T, name string, nl *sw.Netlist) *fastPair {
+	return newPathPair(t, name, nl, func(s *sw.Sim) { s.SetPhysMemo(false) })
+}
+
+func TestPhysMemoRandom(t *testing.T) {
+	randomPairs(t, rand.New(rand.NewPCG(23, 4)), 3, newMemoPair)
+}
+
+func TestPhysMemoBenchNets(t *testing.T) { benchPairs(t, newMemoPair) }

@@ -142,11 +142,10 @@ func (s *Sim) netBuild(nodes, devs, leaks []int32, xv float64) {
 	// The fight's signature names its devices, so that a node fought over
 	// by two sets of devices in turn (a select line toggling) starts each
 	// fight where the same one last ended.
-	nt.sig = 0
+	nt.sig = fightSig(devs, leaks)
 	scale := 0.0
 	for _, list := range [2][]int32{devs, leaks} {
 		for _, d := range list {
-			nt.sig = nt.sig*0x9e3779b1 + uint32(d) + 1
 			a, b := nl.devA[d], nl.devB[d]
 			if a == b {
 				continue
@@ -181,6 +180,20 @@ func (s *Sim) netBuild(nodes, devs, leaks []int32, xv float64) {
 	nt.gmin = 1e-12 * scale
 	nt.index()
 }
+
+// fightSig is the signature of a fight of devices devs and partly-on devices leaks.
+func fightSig(devs, leaks []int32) uint32 {
+	sig := uint32(0)
+	for _, list := range [2][]int32{devs, leaks} {
+		for _, d := range list {
+			sig = sigStep(sig, d)
+		}
+	}
+	return sig
+}
+
+// sigStep adds device d to a fight's signature.
+func sigStep(sig uint32, d int32) uint32 { return sig*0x9e3779b1 + uint32(d) + 1 }
 
 // fightStart keeps where a node's last two fights ended, by the fights'
 // signatures, so that the next solve of either starts there.

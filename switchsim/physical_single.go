@@ -40,22 +40,27 @@ func (s *Sim) physSingle(g *group) bool {
 	}
 	full := p.full(v)
 	degr := false
+	// with the search for a drop, loneDelay's: the least-resistance device fed by v
+	dist, par := math.Inf(1), int32(-1)
 	for _, d := range g.devs {
 		if k := nl.devKind[d]; k < PullUp && !s.passesFully(d, v) {
 			degr = true
-			break
 		}
+		if _, ok := s.fedBy(d, v); ok && p.res[d] < dist {
+			dist, par = p.res[d], d
+		}
+	}
+	if !degr { // the least-resistance device to a source of the node's value sets the delay (delayTree)
+		p.info[n] = noPhysRec()
+		s.decideLevel(g, 0, v, full, -1)
+		if g.nval[0] != v || par < 0 {
+			return true
+		}
+		p.fdel = dist * nl.nodeCap[n]
+		return true
 	}
 	old := p.info[n]
 	p.info[n] = noPhysRec()
-	if !degr { // the least-resistance device to a source of the node's value sets the delay (delayTree)
-		s.decideLevel(g, 0, v, full, -1)
-		if g.nval[0] != v {
-			return true
-		}
-		p.fdel = s.loneDelay(g, n, v)
-		return true
-	}
 	if g.nstr[0] < Weak {
 		g.nvolts[0] = math.NaN()
 		return true

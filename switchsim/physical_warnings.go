@@ -89,7 +89,7 @@ func (s *Sim) levelMatters(n int) bool {
 func (s *Sim) partialOn(n int, add func(kind WarnKind, n, d, o int)) {
 	nl := s.nl
 	vg := s.volts[n]
-	if math.IsNaN(vg) {
+	if math.IsNaN(vg) || s.phys.nLeak == 0 {
 		return
 	}
 	for _, d := range nl.gateDev[nl.gateStart[n]:nl.gateStart[n+1]] {
