@@ -220,7 +220,7 @@ func (s *Sim) memoReplay(g *group, e *memoEntry) {
 		if e.fight { // as solveFight keeps it
 			p.fightV[n].keep(p.memo.sig, math.Float64frombits(o[outKept]))
 			g.contested[i] = true
-			s.contest[n], s.fight[n] = true, false
+			s.nflag[n] = s.nflag[n]&^nfFight | nfContest
 		}
 	}
 }

@@ -56,7 +56,7 @@ func (s *Sim) physSingle(g *group) bool {
 		if g.nval[0] != v || par < 0 {
 			return true
 		}
-		p.fdel = dist * nl.nodeCap[n]
+		p.fdel = dist * nl.capOf(int(n))
 		return true
 	}
 	old := p.info[n]
