@@ -163,7 +163,21 @@ func (s *Sim) physVertices(g *group) {
 			contest: g.contested[i], info: p.info[n], fightV: p.fightV[n], flags: nodeFlags(s, n), shareMark: p.shareMark[n]}
 	}
 	v.acc = grow(v.acc, k)
-	for mask := 0; mask < 1<<len(v.unk); mask++ {
+	// Every device on comes second, after every device off: the two
+	// assignments most likely to disagree. The solve stops as soon as no
+	// node the ternary pass left X can still be decided.
+	all := 1<<len(v.unk) - 1
+	for step := 0; step <= all; step++ {
+		mask := step
+		switch step {
+		case 1:
+			mask = all
+		case all:
+			mask = 1
+		}
+		if step > 1 && !v.open(g) {
+			break
+		}
 		for j, d := range v.unk {
 			s.cond[d] = Off
 			if mask>>j&1 == 1 {
@@ -174,7 +188,7 @@ func (s *Sim) physVertices(g *group) {
 			p.info[n], p.fightV[n], p.shareMark[n] = v.info0[i], v.fv0[i], v.mark0[i]
 			setNodeFlags(s, n, v.flag0[i])
 		}
-		s.vertexSolve(g, mask == 0)
+		s.vertexSolve(g, step == 0)
 	}
 	for _, d := range v.unk {
 		s.cond[d] = Unknown
@@ -191,6 +205,17 @@ func (s *Sim) physVertices(g *group) {
 		p.info[n], p.fightV[n], p.shareMark[n] = a.info, a.fightV, v.tern[i].shareMark
 	}
 	v.done = true
+}
+
+// open reports whether a node the ternary pass left X still has one
+// driven value at every vertex solved so far.
+func (v *vertexState) open(g *group) bool {
+	for i := range g.nodes {
+		if v.tern[i].val == VX && v.acc[i].val != VX && !v.acc[i].floats {
+			return true
+		}
+	}
+	return false
 }
 
 func b2u(b bool) uint8 {
