@@ -167,6 +167,8 @@ func (s *Sim) physVertices(g *group) {
 	// assignments most likely to disagree. The solve stops as soon as no
 	// node the ternary pass left X can still be decided.
 	all := 1<<len(v.unk) - 1
+	p.net.quick = true
+	gaveUp := false
 	for step := 0; step <= all; step++ {
 		mask := step
 		switch step {
@@ -188,14 +190,18 @@ func (s *Sim) physVertices(g *group) {
 			p.info[n], p.fightV[n], p.shareMark[n] = v.info0[i], v.fv0[i], v.mark0[i]
 			setNodeFlags(s, n, v.flag0[i])
 		}
-		s.vertexSolve(g, step == 0)
+		if !s.vertexSolve(g, step == 0) {
+			gaveUp = true
+			break
+		}
 	}
+	p.net.quick, p.net.gaveUp = false, false
 	for _, d := range v.unk {
 		s.cond[d] = Unknown
 	}
 	for i, n := range g.nodes {
 		a := &v.acc[i]
-		if v.tern[i].val != VX || a.floats || a.val == VX {
+		if gaveUp || v.tern[i].val != VX || a.floats || a.val == VX {
 			a = &v.tern[i] // decided by the ternary rule, or its charge decides somewhere, or the vertices disagree
 		} else {
 			a.info.Vertex = true
@@ -227,8 +233,10 @@ func b2u(b bool) uint8 {
 
 // vertexSolve solves the parts of g that the devices on in this vertex
 // join, each as a group of its own, and merges each node's result into its
-// accumulator (first: the first vertex, which sets them).
-func (s *Sim) vertexSolve(g *group, first bool) {
+// accumulator (first: the first vertex, which sets them). It reports false
+// when a part's network defeats Newton's method: the vertex solve then
+// gives up, every node keeping the ternary result.
+func (s *Sim) vertexSolve(g *group, first bool) bool {
 	nl := s.nl
 	p := &s.phys
 	v := &p.vert
@@ -275,6 +283,9 @@ func (s *Sim) vertexSolve(g *group, first bool) {
 		}
 		s.resolve(sub)
 		s.physSolve(sub)
+		if p.net.gaveUp {
+			return false
+		}
 		for j, n := range sub.nodes {
 			s.physDelay(sub, j) // into p.info[n].Delay, while the part's trees are at hand
 			r := vertexAcc{val: sub.nval[j], str: sub.nstr[j], state: sub.nstate[j], volts: sub.nvolts[j],
@@ -297,4 +308,5 @@ func (s *Sim) vertexSolve(g *group, first bool) {
 			}
 		}
 	}
+	return true
 }
