@@ -92,6 +92,17 @@
 //     method with a bracketed fallback; the voltages decide by VIL/VIH. A
 //     device off by logic whose gate still passes its threshold (partly on)
 //     takes part in the solve and is reported with its static current.
+//   - Devices of unknown state: where the ternary method of §2 leaves a node
+//     X in a group with at most 8 devices of unknown state, the group is
+//     solved at every on/off assignment of them (each on with its gate at
+//     the full level, or off). A node voltage moves monotonically with each
+//     device's conductance, so a node driven to one value at every
+//     assignment has it whatever those devices do, at the level of its worst
+//     assignment; one that floats at some assignment, or differs, stays X.
+//     Strengths cannot tell an inverter that holds its node through a
+//     transmission gate against a clocked inverter's stack from a write that
+//     loses; the devices can (a flip-flop's clock edge, both phases briefly
+//     at one level).
 //   - Margins: a node's noise margin is V - VIH for a 1, VIL - V for a 0; a
 //     contested node that drives a stage also has a write margin |V - VM|
 //     against that stage's own switching threshold.

@@ -18,3 +18,7 @@ func (s *Sim) PhysFastPath() bool { return !s.phys.slow }
 // source) on or off, so that the external tests can compare them with the
 // general path. They are on in every new Sim.
 func (s *Sim) SetIdealFastPaths(on bool) { s.slowIdeal = !on }
+
+// VertexDecided reports whether the vertex solve decided node n's present
+// value (physical_vertex.go).
+func (s *Sim) VertexDecided(n int) bool { return s.mode == Physical && s.phys.info[n].Vertex }

@@ -77,7 +77,11 @@ type physRec struct {
 	// where none was: a degraded path's value, or a stored value that
 	// charge sharing took out of its band.
 	Lost Value
-	Drop int32
+	// Vertex is set where the vertex solve decided the node
+	// (physical_vertex.go): its value holds at every on/off assignment of
+	// the devices of unknown state, its level is the worst of them.
+	Vertex bool
+	Drop   int32
 	// Up and Down are, for a node of a fight, the devices carrying the most
 	// current into it from the 1 side and out of it to the 0 side, as the
 	// solve left them (-1: none); upLater where fightInfo must work them out.
@@ -155,6 +159,7 @@ type physState struct {
 
 	conv physConvergeState // converging rounds (physical_converge.go)
 	memo physMemo          // the group memo (physical_memo.go)
+	vert vertexState       // the vertex solve of devices of unknown state (physical_vertex.go)
 
 	// slow turns the one-node fast path (physSingle) and the precomputed
 	// rail limits and conductances off, so that tests can compare the
@@ -353,20 +358,31 @@ func (s *Sim) physGateMoved(d int32) bool {
 	return voltsMoved(old, v) && (!off || was || p.leak[d])
 }
 
-// physGroup adds the voltage estimates to the ideal resolution of g.
+// physGroup adds the voltage estimates to the ideal resolution of g: at
+// every vertex of its devices of unknown state where the ternary pass left
+// a node X (physical_vertex.go), else at once.
 func (s *Sim) physGroup(g *group) {
 	if s.mode != Physical {
 		return
 	}
+	s.phys.vert.done = false
+	vertices := s.vertexWanted(g)
+	s.physSolve(g)
+	if vertices {
+		s.physVertices(g)
+	}
+	s.physConverge(g)
+}
+
+// physSolve is physGroup's estimate of g, its devices' states known or not.
+func (s *Sim) physSolve(g *group) {
 	p := &s.phys
 	if s.memoLook(g) {
 		p.fast = false
-		s.physConverge(g)
 		return
 	}
 	if !p.slow && s.physSingle(g) {
 		s.memoRecord(g)
-		s.physConverge(g)
 		return
 	}
 	p.fast = false
@@ -397,7 +413,6 @@ func (s *Sim) physGroup(g *group) {
 		}
 	}
 	s.memoRecord(g)
-	s.physConverge(g)
 }
 
 func (p *physState) next() {

@@ -37,6 +37,9 @@ func (s *Sim) groupDelay(g *group, i int) float64 {
 	p := &s.phys
 	n := g.nodes[i]
 	in := &p.info[n]
+	if p.vert.done {
+		return in.Delay // each vertex's part set it (vertexSolve)
+	}
 	if p.fast {
 		in.Delay = p.fdel
 		return in.Delay

@@ -58,6 +58,10 @@ type physElem struct {
 
 // physNet is the scratch of one fight's solve and the technology it uses.
 type physNet struct {
+	// quick is set while the vertex solve runs (physical_vertex.go): a
+	// network Newton's method does not solve is given up (gaveUp) rather
+	// than swept, and the vertex solve keeps the ternary result.
+	quick, gaveUp                 bool
 	denseMax                      int
 	k                             int
 	vdd, vtn, vtp, gamma, phi, sp float64 // sp = sqrt(phi)
@@ -508,6 +512,10 @@ func (nt *physNet) solveCore() {
 		if nt.newton() {
 			return
 		}
+	}
+	if nt.quick {
+		nt.gaveUp = true
+		return
 	}
 	// about 4 million element visits at most: a few milliseconds
 	budget := max(50, 2000000/max(len(nt.el), 1))

@@ -30,6 +30,9 @@ func (s *Sim) physWarnings(n int, add func(kind WarnKind, n, d, o int)) {
 			add(WarnContention, n, -1, -1) // the other value reaches it through a device of unknown state
 		}
 	case howFight:
+		if in.Vertex && !matters {
+			break // contended at some assignment of devices of unknown state, and nothing reads its level
+		}
 		win, lose := s.fightSides(int32(n))
 		if s.val[n] == V0 {
 			win, lose = lose, win
