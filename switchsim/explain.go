@@ -2,8 +2,11 @@ package switchsim
 
 import (
 	"cmp"
+	"fmt"
 	"math"
 	"slices"
+
+	"railyard/switchsim/diag"
 )
 
 // Explanation says why a node holds its state (switchsim §6).
@@ -53,10 +56,14 @@ type AnalysisNote struct {
 	// Alone: the glitch came from phase A run alone (RacesGlitches), the
 	// rounds bringing the node back.
 	Alone bool
+	// Vertex: physical mode decided the node at every on/off assignment of
+	// its group's devices of unknown state (physical_vertex.go), where the
+	// ternary rule left it X.
+	Vertex bool
 }
 
 // Any reports whether the note says anything.
-func (a AnalysisNote) Any() bool { return a.Kind != "" || a.Decided || a.Case }
+func (a AnalysisNote) Any() bool { return a.Kind != "" || a.Decided || a.Case || a.Vertex }
 
 // Divider describes a node of a fight at its DC operating point (the
 // level-1 solve, physical_fight.go) by the effective resistances of its two
@@ -316,6 +323,7 @@ func (s *Sim) opposingPaths(n int) []Path {
 func (s *Sim) analysisNote(n int) AnalysisNote {
 	nt := s.noteOf(int32(n))
 	an := AnalysisNote{Split: -1}
+	an.Vertex = s.mode == Physical && s.phys.info[n].Vertex && s.val[n] != VX
 	if nt.kind == noteNone {
 		return an
 	}
@@ -372,6 +380,10 @@ func (s *Sim) AnalysisText(e Explanation) string {
 	case an.Case:
 		return "resolved by case analysis on " + nl.DisplayName(an.Split) + ": the ternary rules leave it X only because X nodes gate the devices around it; settled with " +
 			nl.DisplayName(an.Split) + " stored as 0 and as 1, it ends at this value both times"
+	case an.Vertex:
+		return fmt.Sprintf("decided at every assignment of the %s of unknown state in its group: "+
+			"strengths alone leave it X, but solved with each of them on and off it is driven to this value every time (its level is the worst of them)",
+			diag.Count(len(e.Unknown), "device"))
 	}
 	return ""
 }

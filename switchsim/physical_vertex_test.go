@@ -3,6 +3,7 @@ package switchsim_test
 import (
 	"math"
 	"math/rand/v2"
+	"strings"
 	"testing"
 
 	sw "railyard/switchsim"
@@ -145,6 +146,10 @@ func TestVertexDecidesAFightOfUnknownDevices(t *testing.T) {
 				t.Errorf("k=%d: y = %s, decided by the vertex solve %v; want the ternary X beyond 8 devices", k, stateString(y), s.VertexDecided(yn))
 			}
 			continue
+		}
+		e := s.Explain(yn)
+		if want := "decided at every assignment of the " + map[int]string{1: "1 device", 8: "8 devices"}[k] + " of unknown state"; !e.Analysis.Vertex || !strings.HasPrefix(s.AnalysisText(e), want) {
+			t.Errorf("k=%d: y explained %+v %q, want %q...", k, e.Analysis, s.AnalysisText(e), want)
 		}
 		_, on := at(sw.Physical, sw.Drive0)
 		if y.Value != sw.V0 || !s.VertexDecided(yn) || y.Volts != on.Volts {
