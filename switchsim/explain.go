@@ -352,12 +352,15 @@ func (s *Sim) analysisNote(n int) AnalysisNote {
 // AnalysisText words an explanation's analysis note for a person, or
 // returns "" where there is none: which phase made the node X and why, or
 // which node case analysis split on.
-func (s *Sim) AnalysisText(e Explanation) string {
+func (s *Sim) AnalysisText(e Explanation) string { return AnalysisWords(s.nl, e) }
+
+// AnalysisWords is AnalysisText for a caller holding the netlist alone
+// (the explorer's Why view).
+func AnalysisWords(nl *Netlist, e Explanation) string {
 	an := e.Analysis
 	if !an.Any() {
 		return ""
 	}
-	nl := s.nl
 	ins := "the inputs changed together in an earlier step"
 	if len(an.Inputs) > 0 {
 		var names []string

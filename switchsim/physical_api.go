@@ -167,8 +167,12 @@ func (s *Sim) Fight(n int) (FightPicture, bool) {
 	if s.val[n] == V1 {
 		xv = 0
 	}
+	// A node the vertex solve decided is drawn with its devices of unknown
+	// state on (at the full gate level), the assignment that fights it most.
+	vertex := p.info[n].Vertex
 	for _, d := range nl.chanDev[nl.chanStart[n]:nl.chanStart[n+1]] {
-		if (s.cond[d] != On && !p.leak[d]) || nl.devA[d] == nl.devB[d] {
+		c := s.cond[d]
+		if (c == Off && !p.leak[d]) || (c == Unknown && !vertex) || nl.devA[d] == nl.devB[d] {
 			continue
 		}
 		e := s.element(d, xv)

@@ -242,6 +242,9 @@ func Lines(nl *switchsim.Netlist, names *panel.Names, e switchsim.Explanation, l
 	out = append(out, head)
 	out = append(out, st.Dim.Render(stateMeaning(e)))
 	out = append(out, marginLines(e, lv, st)...)
+	if a := switchsim.AnalysisWords(nl, e); a != "" {
+		out = append(out, st.Heading.Render("How it was decided:")+" "+diag.Printable(a))
+	}
 
 	if e.Source {
 		switch nl.NodeKind(e.Node) {

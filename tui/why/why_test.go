@@ -136,3 +136,33 @@ func TestGolden(t *testing.T) {
 		})
 	}
 }
+
+// How a node was decided, when more than the rounds decided it, heads the
+// Why view: y pulled down by a wide nMOS against two long pMOS whose gate
+// en is X is decided by the vertex solve (every assignment of the pMOS
+// leaves it at 0); the input a, which nothing but its drive decides, says
+// nothing of it.
+func TestHowItWasDecided(t *testing.T) {
+	b := switchsim.NewBuilder()
+	b.Input("a")
+	b.Input("en")
+	b.Output("y")
+	b.NMOS("pd", "a", "y", "gnd", switchsim.DeviceOpts{W: 2e-6, L: 0.18e-6})
+	b.PMOS("pu1", "en", "vdd", "y", switchsim.DeviceOpts{W: 0.36e-6, L: 3.6e-6})
+	b.PMOS("pu2", "en", "vdd", "y", switchsim.DeviceOpts{W: 0.36e-6, L: 3.6e-6})
+	nl, err := b.Compile()
+	if err != nil {
+		t.Fatal(err)
+	}
+	s := paneltest.Session(nl, switchsim.Physical)
+	if _, err := s.SetInput(paneltest.Node(t, nl, "a"), switchsim.Drive1); err != nil {
+		t.Fatal(err)
+	}
+	v := inspector(s, paneltest.Node(t, nl, "y"), 100, 12, nil).View()
+	if want := "How it was decided: decided at every assignment of the 2 devices of unknown state"; !strings.Contains(v, want) {
+		t.Errorf("y: no %q:\n%s", want, v)
+	}
+	if v := inspector(s, paneltest.Node(t, nl, "a"), 100, 12, nil).View(); strings.Contains(v, "How it was decided") {
+		t.Errorf("a:\n%s", v)
+	}
+}
