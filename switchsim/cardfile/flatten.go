@@ -6,6 +6,7 @@ import (
 	"math"
 	"path/filepath"
 	"sort"
+	"strconv"
 	"strings"
 
 	"railyard/switchsim"
@@ -487,8 +488,10 @@ func (f *flattener) mos(e *elem, in *inst, t []tok, modelTok tok) {
 	if !good {
 		return
 	}
-	w *= f.d.scale * mult * nf
-	l *= f.d.scale
+	// A product of decimal numbers carries binary noise (0.42 x 1e-6 is
+	// 4.1999999999999995e-07): 12 significant digits keep what was written.
+	w = roundDigits(w * f.d.scale * mult * nf)
+	l = roundDigits(l * f.d.scale)
 	if f.tooMany(e.pos) {
 		return
 	}
@@ -1040,4 +1043,13 @@ func (f *flattener) summaryNotes() {
 	for _, n := range f.sizes.Notes() {
 		f.notes.Add(n.Pos, "%s", n.Msg)
 	}
+}
+
+// roundDigits rounds v to 12 significant digits.
+func roundDigits(v float64) float64 {
+	r, err := strconv.ParseFloat(strconv.FormatFloat(v, 'g', 12, 64), 64)
+	if err != nil {
+		return v
+	}
+	return r
 }

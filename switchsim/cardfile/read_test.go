@@ -176,6 +176,17 @@ func TestOptionScale(t *testing.T) {
 	}
 }
 
+// A scaled size is the decimal number written, not the product's binary
+// noise (0.42 x 1e-6 in float64 is 4.1999999999999995e-07), so that a
+// converted design reads w=420n.
+func TestOptionScaleExact(t *testing.T) {
+	d := read(t, ".option scale=1e-6\n.subckt c a y\nmn y a 0 0 nch w=0.42 l=0.15\n.ends\n", cardfile.Options{})
+	dv := device(t, d.Netlist, "mn")
+	if dv.W != 0.42e-6 || dv.L != 0.15e-6 {
+		t.Errorf("w=%v l=%v, want exactly 4.2e-07 and 1.5e-07", dv.W, dv.L)
+	}
+}
+
 // .global names a node that every subcircuit shares; so does a trailing !.
 func TestGlobal(t *testing.T) {
 	d := read(t, `.global clk
