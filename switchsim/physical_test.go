@@ -1046,3 +1046,41 @@ func TestPhysFightPicture(t *testing.T) {
 		t.Error("a fight at a rail")
 	}
 }
+
+// A stack's inner node that shares charge with a storage node leaves the
+// warning to the storage node, which a gate reads (the inner node gates
+// nothing: the warning on it said nothing more); two such inner nodes
+// sharing with each other both warn (TestPhysChargeSharingThroughThreshold).
+func TestPhysChargeSharingWarnsWhereItIsRead(t *testing.T) {
+	b := NewBuilder()
+	for _, n := range []string{"pre", "clr", "en"} {
+		b.Input(n)
+	}
+	b.Node("st", 20e-15, HighZ)
+	b.PMOS("mp", "pre", "vdd", "st", DeviceOpts{}) // st stores 1
+	b.NMOS("pass", "en", "st", "x", DeviceOpts{})  // x: between two channels only
+	b.NMOS("mc", "clr", "x", "gnd", DeviceOpts{})  // x stores 0
+	b.PMOS("rd", "st", "vdd", "y", DeviceOpts{})   // st gates something
+	s := phSim(t, b, Physical)
+	if !s.Netlist().Diffusion(lookupNode(t, s, "x")) || s.Netlist().Diffusion(lookupNode(t, s, "st")) {
+		t.Fatal("x should be a diffusion node and st not")
+	}
+	phApply(t, s, map[string]Drive{"pre": Drive0, "clr": Drive1, "en": Drive0})
+	phApply(t, s, map[string]Drive{"pre": Drive1, "clr": Drive0})
+	r := phApply(t, s, map[string]Drive{"en": Drive1})
+	if w := phWarning(s, r, WarnChargeSharing, "st"); len(w) != 1 {
+		t.Errorf("st: charge-sharing warnings %+v, want one", w)
+	}
+	if w := phWarning(s, r, WarnChargeSharing, "x"); len(w) != 0 {
+		t.Errorf("x: charge-sharing warnings %+v, want none (st carries it)", w)
+	}
+}
+
+func lookupNode(t *testing.T, s *Sim, name string) int {
+	t.Helper()
+	n, ok := s.Netlist().Lookup(name)
+	if !ok {
+		t.Fatalf("no node %s", name)
+	}
+	return n
+}

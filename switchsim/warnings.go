@@ -80,6 +80,7 @@ func (s *Sim) settleWarnings() {
 		case (st == StateL || st == StateH) && s.flag(n32, nfContest) && s.mode == Ideal:
 			add(WarnContention, n, -1, -1)
 		case st != StateZ: // (only a floating node's warnings are left)
+		case s.flag(n32, nfShared) && s.quietSharing(n):
 		case s.flag(n32, nfShared):
 			add(WarnChargeSharing, n, -1, -1)
 		case s.val[n] != VX && (nl.gateStart[n+1] > nl.gateStart[n] || nl.nodeFlag[n]&nodeOutput != 0):
@@ -340,6 +341,28 @@ func (s *Sim) writeFailText(w Warning, node string, dev func(int) string, volts 
 			head, math.Abs(w.Volts-vm), side, vm)
 	}
 	return fmt.Sprintf("%s: the write path is %s, the keeper %s", head, nl.devCap[w.Device], nl.devCap[w.Other])
+}
+
+// quietSharing reports a diffusion node (a stack's inner node, between pass
+// devices: it gates nothing) whose charge sharing is not worth its own
+// warning: it floats alone now (it shared earlier in the settle, and only
+// its level, which nothing reads, is left of it), or a node of its floating
+// group that is not a diffusion node carries the warning.
+func (s *Sim) quietSharing(n int) bool {
+	nl := s.nl
+	if nl.nodeFlag[n]&nodeDiffusion == 0 {
+		return false
+	}
+	g := s.floatingGroup(n)
+	if len(g) == 1 {
+		return true
+	}
+	for _, m := range g {
+		if nl.nodeFlag[m]&nodeDiffusion == 0 && s.flag(int32(m), nfShared) {
+			return true
+		}
+	}
+	return false
 }
 
 // sharingNames lists the other floating nodes joined to n by devices that are on.
