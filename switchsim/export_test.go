@@ -10,6 +10,11 @@ func (s *Sim) SetPhysFastPath(on bool) { s.phys.slow = !on }
 // on in every new Sim (and off while the fast path is).
 func (s *Sim) SetPhysMemo(on bool) { s.phys.memo.off = !on }
 
+// SetPhysSettlesAlone switches physical mode's steps without an undo log
+// (settlesAlone) on or off, so that the external tests can compare them
+// with the logged step. They are on in every new Sim.
+func (s *Sim) SetPhysSettlesAlone(on bool) { s.phys.logAll = !on }
+
 // PhysFastPath reports whether s's fast path is on.
 func (s *Sim) PhysFastPath() bool { return !s.phys.slow }
 

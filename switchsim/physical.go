@@ -165,6 +165,10 @@ type physState struct {
 	// rail limits and conductances off, so that tests can compare the
 	// general path with them (export_test.go).
 	slow bool
+	// logAll keeps the undo log on every step that race analysis may look
+	// back on, the steps settlesAlone would spare included, so that tests
+	// can compare the two (export_test.go).
+	logAll bool
 }
 
 // physDev is what physical mode keeps per device and reads together.

@@ -367,3 +367,17 @@ func TestPhysMemoRandom(t *testing.T) {
 }
 
 func TestPhysMemoBenchNets(t *testing.T) { benchPairs(t, newMemoPair) }
+
+// The step without an undo log (settlesAlone) against the logged step, in
+// physical mode: on random networks (those without feedback loops take it
+// wherever one input changed) and on the benchmark networks, whose
+// inverter chain, selectors and ratioed chain change one input a step.
+func newAlonePair(t *testing.T, name string, nl *sw.Netlist) *fastPair {
+	return newPathPair(t, name, nl, func(s *sw.Sim) { s.SetPhysSettlesAlone(false) })
+}
+
+func TestPhysSettlesAloneRandom(t *testing.T) {
+	randomPairs(t, rand.New(rand.NewPCG(29, 6)), 0, newAlonePair)
+}
+
+func TestPhysSettlesAloneBenchNets(t *testing.T) { benchPairs(t, newAlonePair) }

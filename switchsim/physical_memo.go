@@ -44,12 +44,18 @@ const (
 
 // physMemo is the Sim's group memo.
 type physMemo struct {
-	off   bool    // turned off (export_test.go), or the general path is forced (slow)
-	slot  []int32 // node -> its seed's entries in slots, -1 none
-	slots []memoSlot
-	words int      // size so far, in 8-byte words
-	key   []uint64 // the key of the group being solved
-	sig   uint32   // and its fight's signature (fightSig), for a fight
+	off  bool    // turned off (export_test.go), or the general path is forced (slow)
+	slot []int32 // node -> its seed's entries in slots, -1 none
+	// vslot is slot for the parts of vertex solves, by seed and vertex
+	// (vertexKey): a group's up to 256 vertices would cycle through one
+	// seed's ways. Made on first use.
+	vslot map[uint64]int32
+	// vertex is the vertex being solved plus one (physical_vertex.go), 0 outside the vertex solve
+	vertex uint64
+	slots  []memoSlot
+	words  int      // size so far, in 8-byte words
+	key    []uint64 // the key of the group being solved
+	sig    uint32   // and its fight's signature (fightSig), for a fight
 	// hit is the entry replayed for the group being solved, rec the entry
 	// its solve is recorded into (nil: none).
 	hit, rec *memoEntry
@@ -126,7 +132,9 @@ func (s *Sim) memoLook(g *group) bool {
 	}
 	// the devices first: their conduction and gates tell a toggle's solves apart soonest
 	k := grow(m.key, 2+2*len(g.devs)+(2+b2i(fight))*len(g.nodes)+len(g.srcs))
-	k[0], k[1] = uint64(len(g.nodes))|uint64(len(g.devs))<<32, uint64(len(g.srcs))
+	// A vertex solve's part (physical_vertex.go) gives up where Newton's
+	// method fails, where a group's solve sweeps on: the two never share entries.
+	k[0], k[1] = uint64(len(g.nodes))|uint64(len(g.devs))<<32, uint64(len(g.srcs))|uint64(b2i(p.net.quick))<<32
 	j := 2
 	nl := s.nl
 	sig := uint32(0) // fightSig(g.devs, nil), as netBuild names the fight
@@ -165,14 +173,26 @@ func (s *Sim) memoLook(g *group) bool {
 	}
 	m.key = k
 	seed := g.nodes[0]
-	si := m.slot[seed]
+	si := int32(-1)
+	if m.vertex == 0 {
+		si = m.slot[seed]
+	} else if i, ok := m.vslot[uint64(seed)<<16|m.vertex]; ok {
+		si = i
+	}
 	if si < 0 {
 		if m.words >= memoBudget {
 			return false
 		}
 		si = int32(len(m.slots))
 		m.slots = append(m.slots, newMemoSlot())
-		m.slot[seed] = si
+		if m.vertex == 0 {
+			m.slot[seed] = si
+		} else {
+			if m.vslot == nil {
+				m.vslot = map[uint64]int32{}
+			}
+			m.vslot[uint64(seed)<<16|m.vertex] = si
+		}
 	}
 	sl := &m.slots[si]
 	// The solves of a seed's group recur in the same order (a toggle's
@@ -232,6 +252,10 @@ func (s *Sim) memoRecord(g *group) {
 	m := &p.memo
 	e := m.rec
 	if e == nil {
+		return
+	}
+	if p.net.gaveUp { // the vertex solve keeps the ternary result: nothing to replay
+		m.rec = nil
 		return
 	}
 	before := cap(e.data)

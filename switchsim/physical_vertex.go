@@ -166,9 +166,10 @@ func (s *Sim) physVertices(g *group) {
 	// assignments most likely to disagree. The solve stops as soon as no
 	// node the ternary pass left X can still be decided.
 	all := 1<<len(v.unk) - 1
+	// The parts are memoised as groups are (a clock edge's phase A brings
+	// the same vertices back step after step), their entries apart from the
+	// groups' by the quick solve in their keys (memoLook).
 	p.net.quick = true
-	memoOff := p.memo.off
-	p.memo.off = true // the assignments' parts are no groups of the design: the memo keeps to those
 	gaveUp := false
 	for step := 0; step <= all; step++ {
 		mask := step
@@ -191,13 +192,15 @@ func (s *Sim) physVertices(g *group) {
 			p.info[n], p.fightV[n], p.shareMark[n] = v.info0[i], v.fv0[i], v.mark0[i]
 			s.setSolveFlags(n, v.flag0[i])
 		}
+		p.memo.vertex = uint64(step) + 1
 		if !s.vertexSolve(g, step == 0) {
 			gaveUp = true
 			break
 		}
 	}
 	p.net.quick, p.net.gaveUp = false, false
-	p.memo.off = memoOff
+	p.memo.vertex = 0
+	p.memo.hit, p.memo.rec = nil, nil // the last part's: g's own delays are read from the vertices (groupDelay)
 	for _, d := range v.unk {
 		s.cond[d] = Unknown
 	}

@@ -565,17 +565,20 @@ func (s *Sim) nanDelays(k int) []float64 {
 // settlesAlone reports whether the pending step is sure to settle within
 // the round limit with one input changed, so that race analysis cannot run
 // on it under RacesWhenNeeded and the undo log need not be kept (a quarter
-// of an inverter chain's step). It holds in ideal mode for logic without
-// feedback (no node in a feedback loop, Netlist.InFeedbackLoop): there the
+// of an inverter chain's step). It holds for logic without feedback (no
+// node in a feedback loop, Netlist.InFeedbackLoop): there the
 // channel-connected components, bounded by rails and inputs, form an
 // acyclic graph through the gates, a component changes only in the round
 // after one of its gates changed, and so every node's last change comes
-// within as many rounds as there are components (DefaultRoundLimit). A
-// released input (DriveZ) joins the components it touches into one group
-// the structure did not see, so every input must be driven; fan-out left
-// queued by a stopped settle rules it out too.
+// within as many rounds as there are components (DefaultRoundLimit). In
+// physical mode a gate's voltage moving counts as its change, and a round
+// in which only voltages converged does not count against the limit, so
+// the same bound holds. A released input (DriveZ) joins the components it
+// touches into one group the structure did not see, so every input must
+// be driven; fan-out left queued by a stopped settle rules it out too.
 func (s *Sim) settlesAlone() bool {
-	if s.mode != Ideal || s.slowIdeal || s.races != RacesWhenNeeded || len(s.dirtyIn) != 1 || len(s.gates) > 0 ||
+	if s.slowIdeal && s.mode == Ideal || s.phys.logAll && s.mode == Physical ||
+		s.races != RacesWhenNeeded || len(s.dirtyIn) != 1 || len(s.gates) > 0 ||
 		s.nl.loops || s.limit <= len(s.val) {
 		return false
 	}
