@@ -93,7 +93,7 @@
 //     device off by logic whose gate still passes its threshold (partly on)
 //     takes part in the solve and is reported with its static current.
 //   - Devices of unknown state: where the ternary method of §2 leaves a node
-//     X in a group with at most 8 devices of unknown state, the group is
+//     X in a group with at most 6 devices of unknown state, the group is
 //     solved at every on/off assignment of them (each on with its gate at
 //     the full level, or off). A node voltage moves monotonically with each
 //     device's conductance, so a node driven to one value at every

@@ -30,9 +30,10 @@ import "math"
 // rule: with strengths alone a fight of equals has no winner.
 
 // maxVertexDevices bounds the devices of unknown state a group is solved
-// at every assignment of (2^8 = 256 solves); a larger group keeps the
+// at every assignment of (2^6 = 64 solves; 8 made a datapath's clock edges 20 times slower, its
+// selector-and-latch groups having 8); a larger group keeps the
 // ternary result.
-const maxVertexDevices = 8
+const maxVertexDevices = 6
 
 // vertexState is the scratch of the vertex solve, allocated on first use.
 type vertexState struct {

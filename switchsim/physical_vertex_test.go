@@ -127,10 +127,10 @@ func fightUnknown(t *testing.T, k int) *sw.Netlist {
 // 0 V whether they conduct or not (level-1 equations, Shichman and Hodges
 // 1968), so y is 0 with en unknown, at the level of its worst assignment,
 // all of them on: exactly the level it has with en at 0. Ideal mode keeps
-// the ternary X, and beyond maxVertexDevices (8) devices of unknown state
+// the ternary X, and beyond maxVertexDevices (6) devices of unknown state
 // so does physical mode.
 func TestVertexDecidesAFightOfUnknownDevices(t *testing.T) {
-	for _, k := range []int{1, 8, 9} {
+	for _, k := range []int{1, 6, 7} {
 		nl := fightUnknown(t, k)
 		at := func(mode sw.Mode, en sw.Drive) (*sw.Sim, sw.NodeState) {
 			s := sw.NewSim(nl, sw.Options{Mode: mode})
@@ -141,14 +141,14 @@ func TestVertexDecidesAFightOfUnknownDevices(t *testing.T) {
 		}
 		s, y := at(sw.Physical, sw.DriveX)
 		yn, _ := nl.Lookup("y")
-		if k > 8 {
+		if k > 6 {
 			if y.Value != sw.VX || s.VertexDecided(yn) {
-				t.Errorf("k=%d: y = %s, decided by the vertex solve %v; want the ternary X beyond 8 devices", k, stateString(y), s.VertexDecided(yn))
+				t.Errorf("k=%d: y = %s, decided by the vertex solve %v; want the ternary X beyond 6 devices", k, stateString(y), s.VertexDecided(yn))
 			}
 			continue
 		}
 		e := s.Explain(yn)
-		if want := "decided at every assignment of the " + map[int]string{1: "1 device", 8: "8 devices"}[k] + " of unknown state"; !e.Analysis.Vertex || !strings.HasPrefix(s.AnalysisText(e), want) {
+		if want := "decided at every assignment of the " + map[int]string{1: "1 device", 6: "6 devices"}[k] + " of unknown state"; !e.Analysis.Vertex || !strings.HasPrefix(s.AnalysisText(e), want) {
 			t.Errorf("k=%d: y explained %+v %q, want %q...", k, e.Analysis, s.AnalysisText(e), want)
 		}
 		_, on := at(sw.Physical, sw.Drive0)
