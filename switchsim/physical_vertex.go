@@ -30,16 +30,15 @@ import "math"
 // rule: with strengths alone a fight of equals has no winner.
 
 // maxVertexDevices bounds the devices of unknown state a group is solved
-// at every assignment of (2^6 = 64 solves; 8 made a datapath's clock edges 20 times slower, its
-// selector-and-latch groups having 8); a larger group keeps the
-// ternary result.
+// at every assignment of (2^6 = 64 solves; at 8, a datapath's clock edges
+// took 20 times ideal mode, its selector-and-latch groups having 8); a
+// larger group keeps the ternary result.
 const maxVertexDevices = 6
 
 // vertexState is the scratch of the vertex solve, allocated on first use.
 type vertexState struct {
 	unk   []int32  // the group's devices of unknown state
-	devs  []int32  // the group's devices (not off)
-	pos   []int32  // node -> its index in the group being solved; device -> mark
+	pos   []int32  // node -> its index in the group being solved
 	mark  []uint32 // node -> gen when taken by a part of this vertex
 	dmark []uint32 // device -> gen when listed in a part of this vertex
 	gen   uint32
