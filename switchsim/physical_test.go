@@ -1062,7 +1062,9 @@ func TestPhysChargeSharingWarnsWhereItIsRead(t *testing.T) {
 	b.NMOS("mc", "clr", "x", "gnd", DeviceOpts{})  // x stores 0
 	b.PMOS("rd", "st", "vdd", "y", DeviceOpts{})   // st gates something
 	s := phSim(t, b, Physical)
-	if !s.Netlist().Diffusion(lookupNode(t, s, "x")) || s.Netlist().Diffusion(lookupNode(t, s, "st")) {
+	x, okx := s.Netlist().Lookup("x")
+	st, oks := s.Netlist().Lookup("st")
+	if !okx || !oks || !s.Netlist().Diffusion(x) || s.Netlist().Diffusion(st) {
 		t.Fatal("x should be a diffusion node and st not")
 	}
 	phApply(t, s, map[string]Drive{"pre": Drive0, "clr": Drive1, "en": Drive0})
@@ -1074,13 +1076,4 @@ func TestPhysChargeSharingWarnsWhereItIsRead(t *testing.T) {
 	if w := phWarning(s, r, WarnChargeSharing, "x"); len(w) != 0 {
 		t.Errorf("x: charge-sharing warnings %+v, want none (st carries it)", w)
 	}
-}
-
-func lookupNode(t *testing.T, s *Sim, name string) int {
-	t.Helper()
-	n, ok := s.Netlist().Lookup(name)
-	if !ok {
-		t.Fatalf("no node %s", name)
-	}
-	return n
 }
