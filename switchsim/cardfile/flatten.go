@@ -471,7 +471,7 @@ func (f *flattener) mos(e *elem, in *inst, t []tok, modelTok tok) {
 		case "m":
 			dst = &mult
 		case "nf":
-			dst = &nf
+			dst = &nf // checked, but w is already the width over all fingers (BSIM4)
 		default:
 			continue // other keys (ad as pd ps nrd nrs sa sb ...) are kept in the card but mean nothing here
 		}
@@ -490,7 +490,10 @@ func (f *flattener) mos(e *elem, in *inst, t []tok, modelTok tok) {
 	}
 	// A product of decimal numbers carries binary noise (0.42 x 1e-6 is
 	// 4.1999999999999995e-07): 12 significant digits keep what was written.
-	w = roundDigits(w * f.d.scale * mult * nf)
+	// w is the total width over nf fingers, as the BSIM4 compact model
+	// reads it (Weff = W/NF per finger, from memory), so nf leaves the
+	// DC width alone; m parallel devices multiply it.
+	w = roundDigits(w * f.d.scale * mult)
 	l = roundDigits(l * f.d.scale)
 	if f.tooMany(e.pos) {
 		return

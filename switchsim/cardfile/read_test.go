@@ -126,7 +126,8 @@ MP3 o i vdd vdd pch
 
 // Parameters: .param at the top, defaults on the .subckt line, values on the
 // X card, .param inside a subcircuit, {expressions} and 'expressions', and
-// m= and nf= multiplying the width.
+// m= multiplying the width and nf= leaving it (w is the total width over
+// the fingers, as BSIM4 reads it; from memory).
 func TestParams(t *testing.T) {
 	d := read(t, `.param lmin=0.18u wunit='2*lmin'
 .subckt top a y
@@ -145,9 +146,9 @@ mp y a vdd vdd pch w={wp} l={lmin} m=2 nf=3
 		w, l float64
 	}{
 		{"x1.mn", 3 * 2 * 0.18e-6, 0.18e-6},
-		{"x1.mp", 2 * 3 * 2 * 0.18e-6 * 2 * 3, 0.18e-6}, // w = 2 wn, times m=2 and nf=3
+		{"x1.mp", 2 * 3 * 2 * 0.18e-6 * 2, 0.18e-6}, // w = 2 wn, times m=2; nf=3 fingers share it
 		{"x2.mn", 1e-6, 0.18e-6},
-		{"x2.mp", 2e-6 * 6, 0.18e-6},
+		{"x2.mp", 2e-6 * 2, 0.18e-6},
 	} {
 		dv := device(t, nl, c.dev)
 		if !near(dv.W, c.w) || !near(dv.L, c.l) {
