@@ -209,8 +209,14 @@ type Sim struct {
 	// that tests can compare the general path with them (export_test.go).
 	slowIdeal bool
 
-	phys physState
+	phys physRef // physical mode's state; nil in ideal mode
 }
+
+// physRef holds physical mode's state by pointer, so that an ideal Sim,
+// which never reads it, does not carry its 2 kB (a small design's Sim was
+// mostly that). The physical files read it as s.phys.field through the
+// embedded pointer.
+type physRef struct{ *physState }
 
 // roundLog records the changes of a run of rounds. Only the unit-delay
 // rounds' log keeps delays (Result.Delay), and only in physical mode: the
@@ -259,6 +265,9 @@ func NewSim(nl *Netlist, opt Options) *Sim {
 	s.drive, s.source, s.nflag = make([]Drive, nn), make([]bool, nn), make([]uint8, nn)
 	if s.mode == Physical {
 		s.volts = make([]float64, nn)
+	}
+	if s.mode == Physical {
+		s.phys.physState = new(physState)
 	}
 	s.cond = make([]Conduction, nd)
 	s.mark, s.touchMark = make([]uint32, nn), make([]uint32, nn)
@@ -577,7 +586,7 @@ func (s *Sim) nanDelays(k int) []float64 {
 // touches into one group the structure did not see, so every input must
 // be driven; fan-out left queued by a stopped settle rules it out too.
 func (s *Sim) settlesAlone() bool {
-	if s.slowIdeal && s.mode == Ideal || s.phys.logAll && s.mode == Physical ||
+	if s.slowIdeal && s.mode == Ideal || s.mode == Physical && s.phys.logAll ||
 		s.races != RacesWhenNeeded || len(s.dirtyIn) != 1 || len(s.gates) > 0 ||
 		s.nl.loops || s.limit <= len(s.val) {
 		return false
