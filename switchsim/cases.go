@@ -336,7 +336,7 @@ func (s *Sim) adopt() bool {
 		}
 		any = true
 		s.logNode(n)
-		if s.touchMark[n] != s.settleID {
+		if s.mark[n].touch != s.settleID {
 			s.touch(n)
 		}
 		s.val[n], s.str[n], s.state[n] = cs.st.Value, cs.st.Strength, cs.st.State

@@ -19,16 +19,16 @@ func (s *Sim) solveGroup(seed int32) {
 	g.hasUnknown = false
 	g.srcHas = [3]bool{}
 	g.nodes = append(g.nodes, seed)
-	mark[seed] = gid
+	mark[seed].round = gid
 	log, rec := s.undo.on, s.rec != nil
 	for i := 0; i < len(g.nodes); i++ {
 		n := g.nodes[i]
-		mark[n] = done
+		mark[n].round = done
 		// log before the solve that may change it; mark it solved in this settle
 		if log && s.undo.nmark[n] != s.undo.id {
 			s.saveNode(n)
 		}
-		if rec && s.touchMark[n] != s.settleID {
+		if rec && mark[n].touch != s.settleID {
 			s.touch(n)
 		}
 		for _, d := range nl.chanDev[nl.chanStart[n]:nl.chanStart[n+1]] {
@@ -37,7 +37,7 @@ func (s *Sim) solveGroup(seed int32) {
 				continue
 			}
 			o := nl.other(d, n)
-			if o != n && mark[o] == done {
+			if o != n && mark[o].round == done {
 				continue // listed when o was looked at
 			}
 			g.devs = append(g.devs, d)
@@ -45,13 +45,13 @@ func (s *Sim) solveGroup(seed int32) {
 				g.hasUnknown = true
 			}
 			if s.source[o] {
-				if mark[o] != gid {
-					mark[o] = gid
+				if mark[o].round != gid {
+					mark[o].round = gid
 					g.srcs = append(g.srcs, o)
 					g.srcHas[s.val[o]] = true
 				}
-			} else if mark[o] != gid && o != n {
-				mark[o] = gid
+			} else if mark[o].round != gid && o != n {
+				mark[o].round = gid
 				g.nodes = append(g.nodes, o)
 			}
 		}
@@ -71,9 +71,8 @@ func (s *Sim) solveGroup(seed int32) {
 // touch marks node n solved in this settle (outside case-analysis branches,
 // which are undone): its last change and its analysis note start afresh.
 func (s *Sim) touch(n int32) {
-	s.touchMark[n] = s.settleID
+	s.mark[n].touch, s.mark[n].last = s.settleID, 0
 	s.touched = append(s.touched, n)
-	s.lastChange[n] = 0
 	if s.note != nil && s.note[n].kind != noteNone {
 		s.note[n] = nodeNote{}
 	}
@@ -137,11 +136,11 @@ func (s *Sim) resolve(g *group) {
 	for lvl := Supply; lvl >= Small; lvl-- {
 		for bi := 0; bi < len(s.buckets[lvl]); bi++ {
 			t := s.buckets[lvl][bi]
-			if done[t] == stamp || s.best[t] != lvl {
+			if done[t].round == stamp || s.best[t] != lvl {
 				continue
 			}
 			s.comp = append(s.comp[:0], t)
-			done[t] = stamp
+			done[t].round = stamp
 			cv := s.inj[t]
 			arrived := s.arr[t] // the values that arrived at this level; a 0 and a 1 are a fight, not an unknown
 			for ci := 0; ci < len(s.comp); ci++ {
@@ -151,10 +150,10 @@ func (s *Sim) resolve(g *group) {
 						continue
 					}
 					o := nl.other(d, m)
-					if s.source[o] || done[o] == stamp {
+					if s.source[o] || done[o].round == stamp {
 						continue
 					}
-					done[o] = stamp
+					done[o].round = stamp
 					if s.best[o] == lvl {
 						arrived |= s.arr[o]
 						cv = lub(cv, s.inj[o])
@@ -179,7 +178,7 @@ func (s *Sim) resolve(g *group) {
 						continue
 					}
 					o := nl.other(d, m)
-					if !s.source[o] && done[o] != stamp {
+					if !s.source[o] && done[o].round != stamp {
 						s.relax(o, nl.pass(d, lvl), cv, stamp)
 					}
 				}
@@ -361,10 +360,10 @@ func (s *Sim) potential(g *group, v Value) {
 	for lvl := Supply; lvl >= Small; lvl-- {
 		for bi := 0; bi < len(s.buckets[lvl]); bi++ {
 			t := s.buckets[lvl][bi]
-			if pdone[t] == stamp || pot[t] != lvl {
+			if pdone[t].round == stamp || pot[t] != lvl {
 				continue
 			}
-			pdone[t] = stamp
+			pdone[t].round = stamp
 			if lvl < s.best[t] {
 				continue // blocked by a stronger sure signal
 			}
@@ -373,7 +372,7 @@ func (s *Sim) potential(g *group, v Value) {
 					continue
 				}
 				o := nl.other(d, t)
-				if !s.source[o] && pdone[o] != stamp {
+				if !s.source[o] && pdone[o].round != stamp {
 					push(o, nl.pass(d, lvl))
 				}
 			}
@@ -418,7 +417,7 @@ func (s *Sim) write(n int32, v Value, st Strength, state State, vo float64) bool
 		return false
 	}
 	if rec != nil {
-		s.lastChange[n] = s.roundNo
+		s.mark[n].last = s.roundNo
 		rec.changed = append(rec.changed, n)
 		rec.after = append(rec.after, NodeState{v, st, state, st.IsCharge(), vo})
 	}

@@ -158,7 +158,7 @@ func (s *Sim) pathSides(n int32, side func(src, first, feedback int32, switched 
 	s.nextEpoch()
 	stamp := s.epoch
 	s.comp = append(s.comp[:0], n)
-	s.mark[n] = stamp
+	s.mark[n].round = stamp
 	s.wpar[n], s.wdev[n] = -1, -1
 	for i := 0; i < len(s.comp); i++ {
 		m := s.comp[i]
@@ -184,8 +184,8 @@ func (s *Sim) pathSides(n int32, side func(src, first, feedback int32, switched 
 				side(o, first, feedback, switched)
 				continue
 			}
-			if s.mark[o] != stamp {
-				s.mark[o] = stamp
+			if s.mark[o].round != stamp {
+				s.mark[o].round = stamp
 				s.wpar[o], s.wdev[o] = m, d
 				s.comp = append(s.comp, o)
 			}
