@@ -6,6 +6,9 @@ import "math"
 // not off, bounded by sources), resolves it (DEVELOPERS.md "Resolving a
 // group") and writes the results, recording the changes.
 func (s *Sim) solveGroup(seed int32) {
+	if s.mode == Ideal && !s.slowIdeal && s.solveAlone(seed) {
+		return
+	}
 	nl := s.nl
 	g := &s.g
 	// A node the group takes is marked gid; a source it lists too. A node
@@ -66,6 +69,70 @@ func (s *Sim) solveGroup(seed int32) {
 		s.physGroup(g)
 	}
 	s.commit(g)
+}
+
+// solveAlone solves seed's group in ideal mode where it is seed alone with
+// no device of unknown state (an inverter's output, a closed latch's node:
+// the commonest group), in one pass over seed's devices and without the
+// group's lists; it reports false, having changed nothing, where the group
+// is more (a device not off leads to another node) or a device is of
+// unknown state. The result is solveOne's: the strongest of seed's charge
+// and the sources reaching it through devices that are on wins, equal
+// strengths combine.
+func (s *Sim) solveAlone(seed int32) bool {
+	nl := s.nl
+	best, v, arrived := nl.nodeCharge[seed], s.val[seed], uint8(1)<<s.val[seed]
+	var has uint8 // the values of the boundary's sources, bit 1<<value (group.srcHas)
+	for _, d := range nl.chanDev[nl.chanStart[seed]:nl.chanStart[seed+1]] {
+		c := s.cond[d]
+		if c == Off {
+			continue
+		}
+		o := nl.other(d, seed)
+		if o == seed {
+			if c == Unknown {
+				return false
+			}
+			continue // a device from the node to itself
+		}
+		if c == Unknown || !s.source[o] {
+			return false
+		}
+		sv := s.val[o]
+		has |= 1 << sv
+		switch st := nl.pass(d, Supply); {
+		case st > best:
+			best, v, arrived = st, sv, 1<<sv
+		case st == best:
+			arrived |= 1 << sv
+			v = lub(v, sv)
+		}
+	}
+	s.mark[seed].round = s.stamp()
+	if s.undo.on && s.undo.nmark[seed] != s.undo.id {
+		s.saveNode(seed)
+	}
+	if s.rec != nil && s.mark[seed].touch != s.settleID {
+		s.touch(seed)
+	}
+	s.ana.visits++
+	other := uint8(1<<V1 | 1<<VX) // the sources that contest a 0
+	if v == V1 {
+		other = 1<<V0 | 1<<VX
+	}
+	contested := v != VX && has&other != 0
+	s.nflag[seed] = nodeFlags(arrived&3 == 3, contested, false)
+	state := State0 + State(v)
+	switch {
+	case best.IsCharge():
+		state = StateZ
+	case v == VX:
+		state = StateX
+	case contested || best < Strong:
+		state = StateL + State(v)
+	}
+	s.write(seed, v, best, state, math.NaN())
+	return true
 }
 
 // touch marks node n solved in this settle (outside case-analysis branches,
