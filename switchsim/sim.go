@@ -179,8 +179,8 @@ type Sim struct {
 	settleID    uint32
 	seeds       []int32
 	gates       []int32
-	roundNo     int32   // rounds run in this settle so far, phases and branches included
-	runStart    int32   // roundNo when the present run of rounds began
+	roundNo     int32 // rounds run in this settle so far, phases and branches included
+	runStart    int32 // roundNo when the present run of rounds began
 	touched     []int32
 	g           group
 	res         Result
@@ -202,7 +202,7 @@ type Sim struct {
 	buckets [Supply + 1][]int32
 	comp    []int32
 
-	// slowIdeal turns ideal mode's fast paths (resolveSingle, solveOne,
+	// slowIdeal turns ideal mode's fast paths (resolveSingle, solveAlone,
 	// resolveDriven, and settlesAlone's step without an undo log) off, so
 	// that tests can compare the general path with them (export_test.go).
 	slowIdeal bool

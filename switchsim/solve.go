@@ -60,10 +60,6 @@ func (s *Sim) solveGroup(seed int32) {
 		}
 	}
 	s.ana.visits += len(g.nodes)
-	if len(g.nodes) == 1 && !g.hasUnknown && s.mode == Ideal && !s.slowIdeal {
-		s.solveOne(g)
-		return
-	}
 	s.resolve(g)
 	if s.mode == Physical {
 		s.physGroup(g)
@@ -76,12 +72,12 @@ func (s *Sim) solveGroup(seed int32) {
 // the commonest group), in one pass over seed's devices and without the
 // group's lists; it reports false, having changed nothing, where the group
 // is more (a device not off leads to another node) or a device is of
-// unknown state. The result is solveOne's: the strongest of seed's charge
+// unknown state. The result is resolveSingle's: the strongest of seed's charge
 // and the sources reaching it through devices that are on wins, equal
 // strengths combine.
 func (s *Sim) solveAlone(seed int32) bool {
 	nl := s.nl
-	best, v, arrived := nl.nodeCharge[seed], s.val[seed], uint8(1)<<s.val[seed]
+	in := arrival{nl.nodeCharge[seed], s.val[seed], 1 << s.val[seed]}
 	var has uint8 // the values of the boundary's sources, bit 1<<value (group.srcHas)
 	for _, d := range nl.chanDev[nl.chanStart[seed]:nl.chanStart[seed+1]] {
 		c := s.cond[d]
@@ -100,13 +96,7 @@ func (s *Sim) solveAlone(seed int32) bool {
 		}
 		sv := s.val[o]
 		has |= 1 << sv
-		switch st := nl.pass(d, Supply); {
-		case st > best:
-			best, v, arrived = st, sv, 1<<sv
-		case st == best:
-			arrived |= 1 << sv
-			v = lub(v, sv)
-		}
+		in.add(nl.pass(d, Supply), sv)
 	}
 	s.mark[seed].round = s.stamp()
 	if s.undo.on && s.undo.nmark[seed] != s.undo.id {
@@ -117,22 +107,46 @@ func (s *Sim) solveAlone(seed int32) bool {
 	}
 	s.ana.visits++
 	other := uint8(1<<V1 | 1<<VX) // the sources that contest a 0
-	if v == V1 {
+	if in.v == V1 {
 		other = 1<<V0 | 1<<VX
 	}
-	contested := v != VX && has&other != 0
-	s.nflag[seed] = nodeFlags(arrived&3 == 3, contested, false)
-	state := State0 + State(v)
-	switch {
-	case best.IsCharge():
-		state = StateZ
-	case v == VX:
-		state = StateX
-	case contested || best < Strong:
-		state = StateL + State(v)
-	}
-	s.write(seed, v, best, state, math.NaN())
+	contested := in.v != VX && has&other != 0
+	s.nflag[seed] = nodeFlags(in.arrived&3 == 3, contested, false)
+	s.write(seed, in.v, in.best, in.state(contested), math.NaN())
 	return true
+}
+
+// arrival is what reaches one node of a one-node group: the strongest
+// strength, its value (combined where equal strengths meet) and the values
+// that arrived at it (bit 1<<value; a 0 and a 1 are a fight).
+type arrival struct {
+	best    Strength
+	v       Value
+	arrived uint8
+}
+
+// add meets a signal of value sv arriving at strength st.
+func (a *arrival) add(st Strength, sv Value) {
+	switch {
+	case st > a.best:
+		a.best, a.v, a.arrived = st, sv, 1<<sv
+	case st == a.best:
+		a.arrived |= 1 << sv
+		a.v = lub(a.v, sv)
+	}
+}
+
+// state is the node's summary once everything has arrived.
+func (a *arrival) state(contested bool) State {
+	switch {
+	case a.best.IsCharge():
+		return StateZ
+	case a.v == VX:
+		return StateX
+	case contested || a.best < Strong:
+		return StateL + State(a.v)
+	}
+	return State0 + State(a.v)
 }
 
 // touch marks node n solved in this settle (outside case-analysis branches,
@@ -297,21 +311,12 @@ func (s *Sim) resolveSingle(g *group) {
 	g.nval[0], g.nstr[0], g.nstate[0], g.contested[0] = s.single(g)
 }
 
-// solveOne is resolveSingle and commit in one for ideal mode, which has no
-// voltages to add: the node's state is written without the group's result
-// arrays.
-func (s *Sim) solveOne(g *group) {
-	n := g.nodes[0]
-	v, st, state, _ := s.single(g)
-	s.write(n, v, st, state, math.NaN())
-}
-
 // single resolves g's one node (resolveSingle) and notes its fight,
 // sharing and contest.
 func (s *Sim) single(g *group) (Value, Strength, State, bool) {
 	nl := s.nl
 	n := g.nodes[0]
-	best, v, arrived := nl.nodeCharge[n], s.val[n], uint8(1)<<s.val[n]
+	in := arrival{nl.nodeCharge[n], s.val[n], 1 << s.val[n]}
 	for _, d := range g.devs {
 		if s.cond[d] != On {
 			continue
@@ -320,26 +325,12 @@ func (s *Sim) single(g *group) (Value, Strength, State, bool) {
 		if !s.source[src] {
 			continue // a device from the node to itself
 		}
-		sv := s.val[src]
-		switch st := nl.pass(d, Supply); {
-		case st > best:
-			best, v, arrived = st, sv, 1<<sv
-		case st == best:
-			arrived |= 1 << sv
-			v = lub(v, sv)
-		}
+		in.add(nl.pass(d, Supply), s.val[src])
 	}
+	v := in.v
 	contested := (v == V0 && (g.srcHas[V1] || g.srcHas[VX])) || (v == V1 && (g.srcHas[V0] || g.srcHas[VX]))
-	s.nflag[n] = nodeFlags(arrived&3 == 3, contested, false)
-	switch {
-	case best.IsCharge():
-		return v, best, StateZ, contested
-	case v == VX:
-		return v, best, StateX, contested
-	case contested || best < Strong:
-		return v, best, StateL + State(v), contested
-	}
-	return v, best, State0 + State(v), contested
+	s.nflag[n] = nodeFlags(in.arrived&3 == 3, contested, false)
+	return v, in.best, in.state(contested), contested
 }
 
 // allStrong reports whether every device of g passes every driving signal
