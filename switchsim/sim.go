@@ -481,6 +481,8 @@ func (s *Sim) Settle() *Result {
 		// stamps, made again on first use: many designs' steps need neither.
 		s.best, s.inj, s.arr, s.pot = nil, nil, nil, [2][]Strength{}
 		s.undo.nmark = nil
+		a := &s.ana // case analysis's, where the first settle split
+		a.taint, a.taintMark, a.b0At, a.resAt, a.failMark, a.firstMark = nil, nil, nil, nil, nil, nil
 		if len(s.gates) == 0 { // (a stopped settle can leave fan-out queued)
 			s.gates = nil
 		}
