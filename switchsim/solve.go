@@ -60,6 +60,15 @@ func (s *Sim) solveGroup(seed int32) {
 		}
 	}
 	s.ana.visits += len(g.nodes)
+	if s.mode == Ideal && !s.slowIdeal && !g.hasUnknown && len(g.srcs) > 0 && s.allStrong(g) {
+		// resolveDriven and commit in one: ideal mode has no voltages to add
+		v, state, mixed := drivenBy(g.srcHas)
+		for _, n := range g.nodes {
+			s.nflag[n] = nodeFlags(mixed, false, false)
+			s.write(n, v, Strong, state, math.NaN())
+		}
+		return
+	}
 	s.resolve(g)
 	if s.mode == Physical {
 		s.physGroup(g)
@@ -351,20 +360,24 @@ func (s *Sim) allStrong(g *group) bool {
 // the boundary (a fight where it holds a 0 and a 1). No node is contested:
 // the node's value is the boundary's, or X.
 func (s *Sim) resolveDriven(g *group) {
-	h := g.srcHas
-	v, state := VX, StateX
-	switch {
-	case h[VX] || (h[V0] && h[V1]):
-	case h[V0]:
-		v, state = V0, State0
-	default:
-		v, state = V1, State1
-	}
-	mixed := h[V0] && h[V1]
+	v, state, mixed := drivenBy(g.srcHas)
 	for i, n := range g.nodes {
 		s.nflag[n] = nodeFlags(mixed, false, false)
 		g.nval[i], g.nstr[i], g.nstate[i], g.contested[i] = v, Strong, state, false
 	}
+}
+
+// drivenBy is the value and state of every node of a group resolveDriven
+// takes, from the values its boundary holds, and whether that is a fight
+// (a 0 and a 1).
+func drivenBy(h [3]bool) (Value, State, bool) {
+	switch {
+	case h[VX] || (h[V0] && h[V1]):
+		return VX, StateX, h[V0] && h[V1]
+	case h[V0]:
+		return V0, State0, false
+	}
+	return V1, State1, false
 }
 
 func (s *Sim) relax(o int32, st Strength, v Value, stamp uint32) {
