@@ -616,6 +616,7 @@ func (s *Sim) applyInputs(ins []int32, to []Drive) {
 	a := &s.ana
 	a.was = a.was[:0]
 	a.moved = a.moved[:0]
+	shorts := len(nl.shortDevs) > 0 // (most designs have no device between two sources)
 	for i, n := range ins {
 		if s.inForce(n, to[i]) {
 			continue
@@ -630,7 +631,7 @@ func (s *Sim) applyInputs(ins []int32, to []Drive) {
 			s.gates = append(s.gates, n)
 		}
 		for _, d := range nl.chanDev[nl.chanStart[n]:nl.chanStart[n+1]] {
-			if nl.devFlag[d]&devShort != 0 {
+			if shorts && nl.devFlag[d]&devShort != 0 {
 				s.checkShort(d)
 			}
 		}
