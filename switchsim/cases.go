@@ -44,8 +44,13 @@ func (s *Sim) caseAnalysis() {
 	if s.splits < 0 || !a.sawX {
 		return // no node solved in this settle is X
 	}
+	if !slices.ContainsFunc(s.touched, func(n int32) bool { return s.splittable(n) }) {
+		// No candidate (the X was a transient, as in a transmission gate's
+		// two halves switching a round apart): nothing to split, and no
+		// segment or taint arrays to make.
+		return
+	}
 	an := &s.res.Analysis
-	nl := s.nl
 	a.visits = 0
 	budget := caseVisits(len(s.val))
 	rec := s.rec
@@ -58,7 +63,7 @@ func (s *Sim) caseAnalysis() {
 		a.newTaint()
 		a.cands = a.cands[:0]
 		for _, n := range s.touched {
-			if s.val[n] == VX && !s.source[n] && nl.gateStart[n+1] > nl.gateStart[n] && !s.tainted(n) {
+			if s.splittable(n) && !s.tainted(n) {
 				a.cands = append(a.cands, n)
 			}
 		}
@@ -79,6 +84,12 @@ func (s *Sim) caseAnalysis() {
 			return
 		}
 	}
+}
+
+// splittable reports whether node n could be split on: X, not a source,
+// gating devices (taint aside).
+func (s *Sim) splittable(n int32) bool {
+	return s.val[n] == VX && !s.source[n] && s.nl.gateStart[n+1] > s.nl.gateStart[n]
 }
 
 // newTaint forgets what tainted found: the state changed.
@@ -336,7 +347,7 @@ func (s *Sim) adopt() bool {
 		}
 		any = true
 		s.logNode(n)
-		if s.touchMark[n] != s.settleID {
+		if s.mark[n].touch != s.settleID {
 			s.touch(n)
 		}
 		s.val[n], s.str[n], s.state[n] = cs.st.Value, cs.st.Strength, cs.st.State

@@ -11,7 +11,7 @@ import (
 
 // idealPair runs one network through two Sims in ideal mode, the general
 // resolve alone (slow) and with its fast paths (fast: one node, solved and
-// written without the group's arrays, solveOne; a group every device of
+// written in one pass without the group's lists, solveAlone; a group every device of
 // which is on and passes at strong, reached by a source; a one-input step
 // of logic without feedback, which keeps no undo log, settlesAlone),
 // and fails at the first difference. The oracle is the general path (the

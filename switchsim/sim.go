@@ -175,14 +175,12 @@ type Sim struct {
 	// group's stamps, then resolve's); a source's mark is the group's stamp
 	// when that group listed it in its boundary.
 	tick, epoch uint32
-	mark        []uint32
-	touchMark   []uint32 // node -> settle stamp: solved during this settle
+	mark        []nodeMark // node -> its stamps, together: a group solve reads and writes all three
 	settleID    uint32
 	seeds       []int32
 	gates       []int32
-	lastChange  []int32 // node -> the settle's round count when it last changed (0: not in this settle)
-	roundNo     int32   // rounds run in this settle so far, phases and branches included
-	runStart    int32   // roundNo when the present run of rounds began
+	roundNo     int32 // rounds run in this settle so far, phases and branches included
+	runStart    int32 // roundNo when the present run of rounds began
 	touched     []int32
 	g           group
 	res         Result
@@ -204,12 +202,26 @@ type Sim struct {
 	buckets [Supply + 1][]int32
 	comp    []int32
 
-	// slowIdeal turns ideal mode's fast paths (resolveSingle, solveOne,
+	// slowIdeal turns ideal mode's fast paths (resolveSingle, solveAlone,
 	// resolveDriven, and settlesAlone's step without an undo log) off, so
 	// that tests can compare the general path with them (export_test.go).
 	slowIdeal bool
 
-	phys physState
+	phys physRef // physical mode's state; nil in ideal mode
+}
+
+// physRef holds physical mode's state by pointer, so that an ideal Sim,
+// which never reads it, does not carry its 2 kB (a small design's Sim was
+// mostly that). The physical files read it as s.phys.field through the
+// embedded pointer.
+type physRef struct{ *physState }
+
+// nodeMark is a node's stamps (DEVELOPERS.md "Data layout"), in one
+// entry so that a group solve meets one cache line for them, not three.
+type nodeMark struct {
+	round uint32 // the rounds' stamp (Sim.mark's comment above)
+	touch uint32 // settle stamp: solved during this settle
+	last  int32  // the settle's round count when it last changed (0: not in this settle)
 }
 
 // roundLog records the changes of a run of rounds. Only the unit-delay
@@ -260,10 +272,12 @@ func NewSim(nl *Netlist, opt Options) *Sim {
 	if s.mode == Physical {
 		s.volts = make([]float64, nn)
 	}
+	if s.mode == Physical {
+		s.phys.physState = new(physState)
+	}
 	s.cond = make([]Conduction, nd)
-	s.mark, s.touchMark = make([]uint32, nn), make([]uint32, nn)
+	s.mark = make([]nodeMark, nn)
 	s.shortMark = make([]uint32, len(nl.shortDevs))
-	s.lastChange = make([]int32, nn)
 	s.undo.init(nn, nd)
 	s.ana.init(nn)
 	for n := 0; n < nn; n++ {
@@ -467,6 +481,8 @@ func (s *Sim) Settle() *Result {
 		// stamps, made again on first use: many designs' steps need neither.
 		s.best, s.inj, s.arr, s.pot = nil, nil, nil, [2][]Strength{}
 		s.undo.nmark = nil
+		a := &s.ana // case analysis's, where the first settle split
+		a.taint, a.taintMark, a.b0At, a.resAt, a.failMark, a.firstMark = nil, nil, nil, nil, nil, nil
 		if len(s.gates) == 0 { // (a stopped settle can leave fan-out queued)
 			s.gates = nil
 		}
@@ -577,7 +593,7 @@ func (s *Sim) nanDelays(k int) []float64 {
 // touches into one group the structure did not see, so every input must
 // be driven; fan-out left queued by a stopped settle rules it out too.
 func (s *Sim) settlesAlone() bool {
-	if s.slowIdeal && s.mode == Ideal || s.phys.logAll && s.mode == Physical ||
+	if s.slowIdeal && s.mode == Ideal || s.mode == Physical && s.phys.logAll ||
 		s.races != RacesWhenNeeded || len(s.dirtyIn) != 1 || len(s.gates) > 0 ||
 		s.nl.loops || s.limit <= len(s.val) {
 		return false
@@ -600,6 +616,7 @@ func (s *Sim) applyInputs(ins []int32, to []Drive) {
 	a := &s.ana
 	a.was = a.was[:0]
 	a.moved = a.moved[:0]
+	shorts := len(nl.shortDevs) > 0 // (most designs have no device between two sources)
 	for i, n := range ins {
 		if s.inForce(n, to[i]) {
 			continue
@@ -614,7 +631,7 @@ func (s *Sim) applyInputs(ins []int32, to []Drive) {
 			s.gates = append(s.gates, n)
 		}
 		for _, d := range nl.chanDev[nl.chanStart[n]:nl.chanStart[n+1]] {
-			if nl.devFlag[d]&devShort != 0 {
+			if shorts && nl.devFlag[d]&devShort != 0 {
 				s.checkShort(d)
 			}
 		}
@@ -707,7 +724,7 @@ func (s *Sim) rounds(stop bool) bool {
 			rec.rounds = round
 		}
 		for _, n := range s.seeds {
-			if s.mark[n] == s.epoch { // not taken by a group of this round yet
+			if s.mark[n].round == s.epoch { // not taken by a group of this round yet
 				s.solveGroup(n)
 			}
 		}
@@ -728,7 +745,9 @@ func (s *Sim) rounds(stop bool) bool {
 // they can start again from zero.
 func (s *Sim) nextEpoch() {
 	if uint64(s.tick)+stampsPerGroup*uint64(len(s.mark))+2 > math.MaxUint32 {
-		clear(s.mark)
+		for i := range s.mark {
+			s.mark[i].round = 0
+		}
 		s.tick = 0
 	}
 	s.tick++
@@ -748,10 +767,10 @@ func (s *Sim) stamp() uint32 {
 // seed queues node n's group for this round, unless n was queued or taken
 // by a group in it already.
 func (s *Sim) seed(n int32) {
-	if s.mark[n] >= s.epoch {
+	if s.mark[n].round >= s.epoch {
 		return
 	}
-	s.mark[n] = s.epoch
+	s.mark[n].round = s.epoch
 	s.seeds = append(s.seeds, n)
 }
 
@@ -775,7 +794,7 @@ func (s *Sim) forceOscillating() {
 	window := int32(max(16, s.limit/8))
 	round := s.roundNo
 	for _, n := range s.touched {
-		if lc := s.lastChange[n]; lc > s.runStart && lc >= round-window && !s.source[n] {
+		if lc := s.mark[n].last; lc > s.runStart && lc >= round-window && !s.source[n] {
 			st := StateX
 			if s.str[n].IsCharge() {
 				st = StateZ
@@ -784,7 +803,7 @@ func (s *Sim) forceOscillating() {
 			if s.val[n] != VX || s.state[n] != st {
 				s.val[n], s.state[n] = VX, st
 				s.setVolts(n, math.NaN())
-				s.lastChange[n] = round
+				s.mark[n].last = round
 				if rec := s.rec; rec != nil {
 					rec.changed = append(rec.changed, n)
 					if rec.delays {

@@ -6,6 +6,9 @@ import "math"
 // not off, bounded by sources), resolves it (DEVELOPERS.md "Resolving a
 // group") and writes the results, recording the changes.
 func (s *Sim) solveGroup(seed int32) {
+	if s.mode == Ideal && !s.slowIdeal && s.solveAlone(seed) {
+		return
+	}
 	nl := s.nl
 	g := &s.g
 	// A node the group takes is marked gid; a source it lists too. A node
@@ -19,16 +22,16 @@ func (s *Sim) solveGroup(seed int32) {
 	g.hasUnknown = false
 	g.srcHas = [3]bool{}
 	g.nodes = append(g.nodes, seed)
-	mark[seed] = gid
+	mark[seed].round = gid
 	log, rec := s.undo.on, s.rec != nil
 	for i := 0; i < len(g.nodes); i++ {
 		n := g.nodes[i]
-		mark[n] = done
+		mark[n].round = done
 		// log before the solve that may change it; mark it solved in this settle
 		if log && s.undo.nmark[n] != s.undo.id {
 			s.saveNode(n)
 		}
-		if rec && s.touchMark[n] != s.settleID {
+		if rec && mark[n].touch != s.settleID {
 			s.touch(n)
 		}
 		for _, d := range nl.chanDev[nl.chanStart[n]:nl.chanStart[n+1]] {
@@ -37,7 +40,7 @@ func (s *Sim) solveGroup(seed int32) {
 				continue
 			}
 			o := nl.other(d, n)
-			if o != n && mark[o] == done {
+			if o != n && mark[o].round == done {
 				continue // listed when o was looked at
 			}
 			g.devs = append(g.devs, d)
@@ -45,20 +48,25 @@ func (s *Sim) solveGroup(seed int32) {
 				g.hasUnknown = true
 			}
 			if s.source[o] {
-				if mark[o] != gid {
-					mark[o] = gid
+				if mark[o].round != gid {
+					mark[o].round = gid
 					g.srcs = append(g.srcs, o)
 					g.srcHas[s.val[o]] = true
 				}
-			} else if mark[o] != gid && o != n {
-				mark[o] = gid
+			} else if mark[o].round != gid && o != n {
+				mark[o].round = gid
 				g.nodes = append(g.nodes, o)
 			}
 		}
 	}
 	s.ana.visits += len(g.nodes)
-	if len(g.nodes) == 1 && !g.hasUnknown && s.mode == Ideal && !s.slowIdeal {
-		s.solveOne(g)
+	if s.mode == Ideal && !s.slowIdeal && !g.hasUnknown && len(g.srcs) > 0 && s.allStrong(g) {
+		// resolveDriven and commit in one: ideal mode has no voltages to add
+		v, state, mixed := drivenBy(g.srcHas)
+		for _, n := range g.nodes {
+			s.nflag[n] = nodeFlags(mixed, false, false)
+			s.write(n, v, Strong, state, math.NaN())
+		}
 		return
 	}
 	s.resolve(g)
@@ -68,12 +76,93 @@ func (s *Sim) solveGroup(seed int32) {
 	s.commit(g)
 }
 
+// solveAlone solves seed's group in ideal mode where it is seed alone with
+// no device of unknown state (an inverter's output, a closed latch's node:
+// the commonest group), in one pass over seed's devices and without the
+// group's lists; it reports false, having changed nothing, where the group
+// is more (a device not off leads to another node) or a device is of
+// unknown state. The result is resolveSingle's: the strongest of seed's charge
+// and the sources reaching it through devices that are on wins, equal
+// strengths combine.
+func (s *Sim) solveAlone(seed int32) bool {
+	nl := s.nl
+	in := arrival{nl.nodeCharge[seed], s.val[seed], 1 << s.val[seed]}
+	var has uint8 // the values of the boundary's sources, bit 1<<value (group.srcHas)
+	for _, d := range nl.chanDev[nl.chanStart[seed]:nl.chanStart[seed+1]] {
+		c := s.cond[d]
+		if c == Off {
+			continue
+		}
+		o := nl.other(d, seed)
+		if o == seed {
+			if c == Unknown {
+				return false
+			}
+			continue // a device from the node to itself
+		}
+		if c == Unknown || !s.source[o] {
+			return false
+		}
+		sv := s.val[o]
+		has |= 1 << sv
+		in.add(nl.pass(d, Supply), sv)
+	}
+	s.mark[seed].round = s.stamp()
+	if s.undo.on && s.undo.nmark[seed] != s.undo.id {
+		s.saveNode(seed)
+	}
+	if s.rec != nil && s.mark[seed].touch != s.settleID {
+		s.touch(seed)
+	}
+	s.ana.visits++
+	other := uint8(1<<V1 | 1<<VX) // the sources that contest a 0
+	if in.v == V1 {
+		other = 1<<V0 | 1<<VX
+	}
+	contested := in.v != VX && has&other != 0
+	s.nflag[seed] = nodeFlags(in.arrived&3 == 3, contested, false)
+	s.write(seed, in.v, in.best, in.state(contested), math.NaN())
+	return true
+}
+
+// arrival is what reaches one node of a one-node group: the strongest
+// strength, its value (combined where equal strengths meet) and the values
+// that arrived at it (bit 1<<value; a 0 and a 1 are a fight).
+type arrival struct {
+	best    Strength
+	v       Value
+	arrived uint8
+}
+
+// add meets a signal of value sv arriving at strength st.
+func (a *arrival) add(st Strength, sv Value) {
+	switch {
+	case st > a.best:
+		a.best, a.v, a.arrived = st, sv, 1<<sv
+	case st == a.best:
+		a.arrived |= 1 << sv
+		a.v = lub(a.v, sv)
+	}
+}
+
+// state is the node's summary once everything has arrived.
+func (a *arrival) state(contested bool) State {
+	switch {
+	case a.best.IsCharge():
+		return StateZ
+	case a.v == VX:
+		return StateX
+	case contested || a.best < Strong:
+		return StateL + State(a.v)
+	}
+	return State0 + State(a.v)
+}
+
 // touch marks node n solved in this settle (outside case-analysis branches,
 // which are undone): its last change and its analysis note start afresh.
 func (s *Sim) touch(n int32) {
-	s.touchMark[n] = s.settleID
+	s.mark[n].touch, s.mark[n].last = s.settleID, 0
 	s.touched = append(s.touched, n)
-	s.lastChange[n] = 0
 	if s.note != nil && s.note[n].kind != noteNone {
 		s.note[n] = nodeNote{}
 	}
@@ -137,11 +226,11 @@ func (s *Sim) resolve(g *group) {
 	for lvl := Supply; lvl >= Small; lvl-- {
 		for bi := 0; bi < len(s.buckets[lvl]); bi++ {
 			t := s.buckets[lvl][bi]
-			if done[t] == stamp || s.best[t] != lvl {
+			if done[t].round == stamp || s.best[t] != lvl {
 				continue
 			}
 			s.comp = append(s.comp[:0], t)
-			done[t] = stamp
+			done[t].round = stamp
 			cv := s.inj[t]
 			arrived := s.arr[t] // the values that arrived at this level; a 0 and a 1 are a fight, not an unknown
 			for ci := 0; ci < len(s.comp); ci++ {
@@ -151,10 +240,10 @@ func (s *Sim) resolve(g *group) {
 						continue
 					}
 					o := nl.other(d, m)
-					if s.source[o] || done[o] == stamp {
+					if s.source[o] || done[o].round == stamp {
 						continue
 					}
-					done[o] = stamp
+					done[o].round = stamp
 					if s.best[o] == lvl {
 						arrived |= s.arr[o]
 						cv = lub(cv, s.inj[o])
@@ -179,7 +268,7 @@ func (s *Sim) resolve(g *group) {
 						continue
 					}
 					o := nl.other(d, m)
-					if !s.source[o] && done[o] != stamp {
+					if !s.source[o] && done[o].round != stamp {
 						s.relax(o, nl.pass(d, lvl), cv, stamp)
 					}
 				}
@@ -231,21 +320,12 @@ func (s *Sim) resolveSingle(g *group) {
 	g.nval[0], g.nstr[0], g.nstate[0], g.contested[0] = s.single(g)
 }
 
-// solveOne is resolveSingle and commit in one for ideal mode, which has no
-// voltages to add: the node's state is written without the group's result
-// arrays.
-func (s *Sim) solveOne(g *group) {
-	n := g.nodes[0]
-	v, st, state, _ := s.single(g)
-	s.write(n, v, st, state, math.NaN())
-}
-
 // single resolves g's one node (resolveSingle) and notes its fight,
 // sharing and contest.
 func (s *Sim) single(g *group) (Value, Strength, State, bool) {
 	nl := s.nl
 	n := g.nodes[0]
-	best, v, arrived := nl.nodeCharge[n], s.val[n], uint8(1)<<s.val[n]
+	in := arrival{nl.nodeCharge[n], s.val[n], 1 << s.val[n]}
 	for _, d := range g.devs {
 		if s.cond[d] != On {
 			continue
@@ -254,26 +334,12 @@ func (s *Sim) single(g *group) (Value, Strength, State, bool) {
 		if !s.source[src] {
 			continue // a device from the node to itself
 		}
-		sv := s.val[src]
-		switch st := nl.pass(d, Supply); {
-		case st > best:
-			best, v, arrived = st, sv, 1<<sv
-		case st == best:
-			arrived |= 1 << sv
-			v = lub(v, sv)
-		}
+		in.add(nl.pass(d, Supply), s.val[src])
 	}
+	v := in.v
 	contested := (v == V0 && (g.srcHas[V1] || g.srcHas[VX])) || (v == V1 && (g.srcHas[V0] || g.srcHas[VX]))
-	s.nflag[n] = nodeFlags(arrived&3 == 3, contested, false)
-	switch {
-	case best.IsCharge():
-		return v, best, StateZ, contested
-	case v == VX:
-		return v, best, StateX, contested
-	case contested || best < Strong:
-		return v, best, StateL + State(v), contested
-	}
-	return v, best, State0 + State(v), contested
+	s.nflag[n] = nodeFlags(in.arrived&3 == 3, contested, false)
+	return v, in.best, in.state(contested), contested
 }
 
 // allStrong reports whether every device of g passes every driving signal
@@ -294,20 +360,24 @@ func (s *Sim) allStrong(g *group) bool {
 // the boundary (a fight where it holds a 0 and a 1). No node is contested:
 // the node's value is the boundary's, or X.
 func (s *Sim) resolveDriven(g *group) {
-	h := g.srcHas
-	v, state := VX, StateX
-	switch {
-	case h[VX] || (h[V0] && h[V1]):
-	case h[V0]:
-		v, state = V0, State0
-	default:
-		v, state = V1, State1
-	}
-	mixed := h[V0] && h[V1]
+	v, state, mixed := drivenBy(g.srcHas)
 	for i, n := range g.nodes {
 		s.nflag[n] = nodeFlags(mixed, false, false)
 		g.nval[i], g.nstr[i], g.nstate[i], g.contested[i] = v, Strong, state, false
 	}
+}
+
+// drivenBy is the value and state of every node of a group resolveDriven
+// takes, from the values its boundary holds, and whether that is a fight
+// (a 0 and a 1).
+func drivenBy(h [3]bool) (Value, State, bool) {
+	switch {
+	case h[VX] || (h[V0] && h[V1]):
+		return VX, StateX, h[V0] && h[V1]
+	case h[V0]:
+		return V0, State0, false
+	}
+	return V1, State1, false
 }
 
 func (s *Sim) relax(o int32, st Strength, v Value, stamp uint32) {
@@ -361,10 +431,10 @@ func (s *Sim) potential(g *group, v Value) {
 	for lvl := Supply; lvl >= Small; lvl-- {
 		for bi := 0; bi < len(s.buckets[lvl]); bi++ {
 			t := s.buckets[lvl][bi]
-			if pdone[t] == stamp || pot[t] != lvl {
+			if pdone[t].round == stamp || pot[t] != lvl {
 				continue
 			}
-			pdone[t] = stamp
+			pdone[t].round = stamp
 			if lvl < s.best[t] {
 				continue // blocked by a stronger sure signal
 			}
@@ -373,7 +443,7 @@ func (s *Sim) potential(g *group, v Value) {
 					continue
 				}
 				o := nl.other(d, t)
-				if !s.source[o] && pdone[o] != stamp {
+				if !s.source[o] && pdone[o].round != stamp {
 					push(o, nl.pass(d, lvl))
 				}
 			}
@@ -418,7 +488,7 @@ func (s *Sim) write(n int32, v Value, st Strength, state State, vo float64) bool
 		return false
 	}
 	if rec != nil {
-		s.lastChange[n] = s.roundNo
+		s.mark[n].last = s.roundNo
 		rec.changed = append(rec.changed, n)
 		rec.after = append(rec.after, NodeState{v, st, state, st.IsCharge(), vo})
 	}

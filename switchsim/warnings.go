@@ -69,12 +69,17 @@ func (s *Sim) settleWarnings() {
 	add := func(kind WarnKind, n, d, o int) {
 		r.Warnings = append(r.Warnings, Warning{Kind: kind, Node: n, Device: d, Other: o, Volts: s.voltsAt(int32(n)), Margin: math.NaN()})
 	}
+	ideal := s.mode == Ideal
 	for _, n32 := range s.touched {
 		n := int(n32)
+		st := s.state[n]
+		if ideal && st <= State1 {
+			continue // a driven 0 or 1 is neither contested nor a fight: none of the below applies
+		}
 		if s.warned(n32) { // already reported as racing or oscillating
 			continue
 		}
-		switch st := s.state[n]; {
+		switch {
 		case st == StateX && s.flag(n32, nfFight):
 			add(WarnConflict, n, -1, -1)
 		case (st == StateL || st == StateH) && s.flag(n32, nfContest) && s.mode == Ideal:
@@ -158,7 +163,7 @@ func (s *Sim) pathSides(n int32, side func(src, first, feedback int32, switched 
 	s.nextEpoch()
 	stamp := s.epoch
 	s.comp = append(s.comp[:0], n)
-	s.mark[n] = stamp
+	s.mark[n].round = stamp
 	s.wpar[n], s.wdev[n] = -1, -1
 	for i := 0; i < len(s.comp); i++ {
 		m := s.comp[i]
@@ -184,8 +189,8 @@ func (s *Sim) pathSides(n int32, side func(src, first, feedback int32, switched 
 				side(o, first, feedback, switched)
 				continue
 			}
-			if s.mark[o] != stamp {
-				s.mark[o] = stamp
+			if s.mark[o].round != stamp {
+				s.mark[o].round = stamp
 				s.wpar[o], s.wdev[o] = m, d
 				s.comp = append(s.comp, o)
 			}
