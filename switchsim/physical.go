@@ -370,7 +370,7 @@ func (s *Sim) physGroup(g *group) {
 		return
 	}
 	s.phys.vert.done = false
-	vertices := s.vertexWanted(g)
+	vertices := g.hasUnknown && s.vertexWanted(g)
 	s.physSolve(g)
 	if vertices {
 		s.physVertices(g)
@@ -381,7 +381,9 @@ func (s *Sim) physGroup(g *group) {
 // physSolve is physGroup's estimate of g, its devices' states known or not.
 func (s *Sim) physSolve(g *group) {
 	p := &s.phys
-	if s.memoLook(g) {
+	if len(g.nodes) == 1 && !memoFight(g.srcHas) { // a lone node driven by one value or floating: memoLook leaves it to physSingle
+		p.memo.hit, p.memo.rec = nil, nil
+	} else if s.memoLook(g) {
 		p.fast = false
 		return
 	}
