@@ -92,9 +92,11 @@ type physRec struct {
 // upLater marks a fight's devices as not recorded by the solve.
 const upLater = -2
 
-func noPhysRec() physRec {
-	return physRec{Lost: VX, Drop: -1, Up: -1, Down: -1, Before: math.NaN(), Delay: math.NaN()}
-}
+func noPhysRec() physRec { return blankRec }
+
+// blankRec is the record of a node with no estimate, made once: a copy is
+// cheaper than building it with its NaNs at every solve.
+var blankRec = physRec{Lost: VX, Drop: -1, Up: -1, Down: -1, Before: math.NaN(), Delay: math.NaN()}
 
 // physState is the Sim's physical-mode state. Every slice is allocated in
 // physInit; the scratch grows on first use and is reused afterwards.
