@@ -371,10 +371,16 @@ func (s *Sim) physGroup(g *group) {
 	if s.mode != Physical {
 		return
 	}
-	s.phys.vert.done = false
-	vertices := g.hasUnknown && s.vertexWanted(g)
-	s.physSolve(g)
-	if vertices {
+	p := &s.phys
+	p.vert.done = false
+	switch {
+	case !g.hasUnknown || !s.vertexWanted(g):
+		s.physSolve(g)
+	case s.vertexMemoLook(g): // solved at its vertices from this state before
+		p.fast, p.memo.hit, p.memo.rec = false, nil, nil
+		p.vert.done = true
+	default:
+		s.physSolve(g)
 		s.physVertices(g)
 	}
 	s.physConverge(g)

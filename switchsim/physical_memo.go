@@ -307,29 +307,29 @@ func b2i(b bool) int {
 	return 0
 }
 
-// The vertex solve's memo: a group's whole vertex solve (physical_vertex.go),
-// replayed when the group is solved at its vertices again from exactly the
-// same state. A clock edge's phase A brings the same latch groups back
-// step after step, each worth up to 64 solves of its parts.
+// The vertex solve's memo: the whole physical solve of a group that is
+// solved at its vertices (physical_vertex.go; vertexWanted said yes), the
+// ternary solve and every vertex, replayed when the group is solved again
+// from exactly the same state. A clock edge's phase A brings the same latch
+// groups back step after step, each worth up to 64 solves of its parts.
 //
-// The key is everything the parts' solves read, as for a group (memoLook),
-// over the whole group: its devices with their conduction (which are of
-// unknown state), recorded gate voltage and a gate source's value; its
-// nodes with their value, strength, state and voltage, whether the ternary
-// pass left them X, and the state every vertex starts from (the solve's
+// The key is everything the ternary solve and the parts' solves read, as
+// for a group (memoLook) over the whole group: its devices with their
+// conduction (which are of unknown state), recorded gate voltage and a gate
+// source's value; its nodes with their value, strength, state and voltage,
+// the ideal resolution, and the state every solve starts from (the solve's
 // flags, whether the node shared charge in this settle, its whole record
 // and where its fights start); its sources with their values. An entry
-// holds, per node, whether the vertices decided it and, if so, what they
-// gave (vertexAcc); the nodes they did not decide keep the ternary
-// result, which is solved every time.
+// holds what the solve left for each node: its result, flags, record
+// (delay included), fight starts, and whether it shared charge.
 
 // vertexOutWords is a node's result in a vertex solve's entry, in words.
 const vertexOutWords = 9
 
-// vertexMemoLook looks g's vertex solve up (vertexWanted and the ternary
-// solve made, v.tern filled). On a hit it writes what the vertices decided
-// and returns true; otherwise it leaves in v.memoSlot the slot to record
-// the solve into (-1: none).
+// vertexMemoLook looks g's solve up (vertexWanted having kept the state
+// before it, g holding the ideal resolution). On a hit it writes what the
+// solve wrote and returns true; otherwise it leaves in v.memoSlot the slot
+// to record the solve into (-1: none).
 func (s *Sim) vertexMemoLook(g *group) bool {
 	p := &s.phys
 	m := &p.memo
@@ -349,9 +349,10 @@ func (s *Sim) vertexMemoLook(g *group) bool {
 		}
 		in, fv := &v.info0[i], &v.fv0[i]
 		k[j] = uint64(uint32(n)) | uint64(s.val[n])<<32 | uint64(s.str[n])<<36 | uint64(s.state[n])<<40 |
-			uint64(b2i(v.tern[i].val == VX))<<44 | uint64(v.flag0[i])<<48 | uint64(b2i(v.mark0[i] == s.settleID))<<56
+			uint64(g.nval[i])<<44 | uint64(g.nstr[i])<<48 | uint64(g.nstate[i])<<52 | uint64(b2i(g.contested[i]))<<56 |
+			uint64(b2i(v.mark0[i] == s.settleID))<<57
 		k[j+1] = math.Float64bits(s.volts[n])
-		k[j+2] = uint64(in.How) | uint64(in.Lost)<<8 | uint64(b2i(in.Vertex))<<16 | uint64(fv.last)<<24
+		k[j+2] = uint64(in.How) | uint64(in.Lost)<<8 | uint64(b2i(in.Vertex))<<16 | uint64(fv.last)<<24 | uint64(v.flag0[i])<<32
 		k[j+3], k[j+4] = uint64(uint32(in.Drop))|uint64(uint32(in.Up))<<32, uint64(uint32(in.Down))
 		k[j+5], k[j+6] = math.Float64bits(in.Before), math.Float64bits(in.Delay)
 		k[j+7] = uint64(fv.sig[0]) | uint64(fv.sig[1])<<32
@@ -387,23 +388,23 @@ func (s *Sim) vertexMemoLook(g *group) bool {
 	for i, n := range g.nodes {
 		o := e.data[int(e.klen)+i*vertexOutWords:][:vertexOutWords]
 		w := o[0]
-		if w&1 == 0 {
-			continue // the ternary result stands
-		}
-		g.nval[i], g.nstr[i], g.nstate[i], g.contested[i] = Value(w>>4&15), Strength(w>>8&15), State(w>>12&15), w>>16&1 == 1
+		g.nval[i], g.nstr[i], g.nstate[i], g.contested[i] = Value(w&15), Strength(w>>4&15), State(w>>8&15), w>>12&1 == 1
 		g.nvolts[i] = math.Float64frombits(o[1])
-		s.setSolveFlags(n, uint8(w>>20))
-		p.info[n] = physRec{How: physHow(w >> 28 & 15), Lost: Value(w >> 32 & 15), Vertex: true,
+		s.setSolveFlags(n, uint8(w>>16))
+		p.info[n] = physRec{How: physHow(w >> 24 & 15), Lost: Value(w >> 28 & 15), Vertex: w>>32&1 == 1,
 			Drop: int32(uint32(o[2])), Up: int32(uint32(o[2] >> 32)), Down: int32(uint32(o[3])),
 			Before: math.Float64frombits(o[4]), Delay: math.Float64frombits(o[5])}
 		p.fightV[n] = fightStart{sig: [2]uint32{uint32(o[6]), uint32(o[6] >> 32)},
 			volts: [2]float64{math.Float64frombits(o[7]), math.Float64frombits(o[8])}, last: uint8(w >> 40)}
+		if w>>33&1 == 1 {
+			p.shareMark[n] = s.settleID
+		}
 	}
 	v.memoSlot = -1
 	return true
 }
 
-// vertexMemoRecord records g's vertex solve, just made, into the slot
+// vertexMemoRecord records g's solve, just made, into the slot
 // vertexMemoLook left.
 func (s *Sim) vertexMemoRecord(g *group) {
 	p := &s.phys
@@ -417,15 +418,10 @@ func (s *Sim) vertexMemoRecord(g *group) {
 	e.klen = int32(len(v.key))
 	e.data = append(e.data[:0], v.key...)
 	for i, n := range g.nodes {
-		if !v.decided[i] {
-			var none [vertexOutWords]uint64
-			e.data = append(e.data, none[:]...)
-			continue
-		}
 		in, fv := &p.info[n], &p.fightV[n]
-		w := uint64(1) | uint64(g.nval[i])<<4 | uint64(g.nstr[i])<<8 | uint64(g.nstate[i])<<12 |
-			uint64(b2i(g.contested[i]))<<16 | uint64(s.solveFlags(n))<<20 | uint64(in.How)<<28 |
-			uint64(in.Lost)<<32 | uint64(fv.last)<<40
+		w := uint64(g.nval[i]) | uint64(g.nstr[i])<<4 | uint64(g.nstate[i])<<8 | uint64(b2i(g.contested[i]))<<12 |
+			uint64(s.solveFlags(n))<<16 | uint64(in.How)<<24 | uint64(in.Lost)<<28 | uint64(b2i(in.Vertex))<<32 |
+			uint64(b2i(p.shareMark[n] == s.settleID))<<33 | uint64(fv.last)<<40
 		e.data = append(e.data, w, math.Float64bits(g.nvolts[i]),
 			uint64(uint32(in.Drop))|uint64(uint32(in.Up))<<32, uint64(uint32(in.Down)),
 			math.Float64bits(in.Before), math.Float64bits(in.Delay),

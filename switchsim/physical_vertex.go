@@ -37,23 +37,22 @@ const maxVertexDevices = 6
 
 // vertexState is the scratch of the vertex solve, allocated on first use.
 type vertexState struct {
-	unk     []int32  // the group's devices of unknown state
-	pos     []int32  // node -> its index in the group being solved
-	mark    []uint32 // node -> gen when taken by a part of this vertex
-	dmark   []uint32 // device -> gen when listed in a part of this vertex
-	gen     uint32
-	queue   []int32     // vertexDrivable's walk
-	sub     group       // one part of one vertex, solved as a group
-	acc     []vertexAcc // per node of the group: what the vertices agree on
-	tern    []vertexAcc // per node of the group: the ternary solve's result
-	info0   []physRec   // per node of the group: its record before the solve
-	mark0   []uint32    // and its charge-sharing stamp (shareMark)
-	flag0   []uint8     // per node of the group: fight, contest, shared before
-	fv0     []fightStart
-	decided []bool // per node of the group: the vertices decided it
+	unk   []int32  // the group's devices of unknown state
+	pos   []int32  // node -> its index in the group being solved
+	mark  []uint32 // node -> gen when taken by a part of this vertex
+	dmark []uint32 // device -> gen when listed in a part of this vertex
+	gen   uint32
+	queue []int32     // vertexDrivable's walk
+	sub   group       // one part of one vertex, solved as a group
+	acc   []vertexAcc // per node of the group: what the vertices agree on
+	tern  []vertexAcc // per node of the group: the ternary solve's result
+	info0 []physRec   // per node of the group: its record before the solve
+	mark0 []uint32    // and its charge-sharing stamp (shareMark)
+	flag0 []uint8     // per node of the group: fight, contest, shared before
+	fv0   []fightStart
 	// the vertex solves' memo (physical_memo.go): node -> the slot of the
 	// group seeded there in physMemo.slots, -1 none (made on first use); the
-	// key of the group being solved, and the slot to record it into
+	// key of the group being solved, and the slot to record its solve into
 	slot     []int32
 	key      []uint64
 	memoSlot int32
@@ -170,7 +169,8 @@ func (s *Sim) physVertices(g *group) {
 			contest: g.contested[i], info: p.info[n], fightV: p.fightV[n], flags: s.solveFlags(n), shareMark: p.shareMark[n]}
 	}
 	v.acc = grow(v.acc, k)
-	if !s.vertexDrivable(g) || s.vertexMemoLook(g) { // every vertex would keep the ternary result, or the memo has it
+	if !s.vertexDrivable(g) { // every vertex would keep the ternary result
+		s.vertexMemoRecord(g)
 		v.done = true
 		return
 	}
@@ -216,14 +216,12 @@ func (s *Sim) physVertices(g *group) {
 	for _, d := range v.unk {
 		s.cond[d] = Unknown
 	}
-	v.decided = grow(v.decided, k)
 	for i, n := range g.nodes {
 		a := &v.acc[i]
-		v.decided[i] = !gaveUp && v.tern[i].val == VX && !a.floats && a.val != VX
-		if v.decided[i] {
-			a.info.Vertex = true
-		} else {
+		if gaveUp || v.tern[i].val != VX || a.floats || a.val == VX {
 			a = &v.tern[i] // decided by the ternary rule, or its charge decides somewhere, or the vertices disagree
+		} else {
+			a.info.Vertex = true
 		}
 		g.nval[i], g.nstr[i], g.nstate[i], g.nvolts[i], g.contested[i] = a.val, a.str, a.state, a.volts, a.contest
 		s.setSolveFlags(n, a.flags)
