@@ -92,9 +92,11 @@ type physRec struct {
 // upLater marks a fight's devices as not recorded by the solve.
 const upLater = -2
 
-func noPhysRec() physRec {
-	return physRec{Lost: VX, Drop: -1, Up: -1, Down: -1, Before: math.NaN(), Delay: math.NaN()}
-}
+func noPhysRec() physRec { return blankRec }
+
+// blankRec is the record of a node with no estimate, made once: a copy is
+// cheaper than building it with its NaNs at every solve.
+var blankRec = physRec{Lost: VX, Drop: -1, Up: -1, Down: -1, Before: math.NaN(), Delay: math.NaN()}
 
 // physState is the Sim's physical-mode state. Every slice is allocated in
 // physInit; the scratch grows on first use and is reused afterwards.
@@ -369,10 +371,16 @@ func (s *Sim) physGroup(g *group) {
 	if s.mode != Physical {
 		return
 	}
-	s.phys.vert.done = false
-	vertices := s.vertexWanted(g)
-	s.physSolve(g)
-	if vertices {
+	p := &s.phys
+	p.vert.done = false
+	switch {
+	case !g.hasUnknown || !s.vertexWanted(g):
+		s.physSolve(g)
+	case s.vertexMemoLook(g): // solved at its vertices from this state before
+		p.fast, p.memo.hit, p.memo.rec = false, nil, nil
+		p.vert.done = true
+	default:
+		s.physSolve(g)
 		s.physVertices(g)
 	}
 	s.physConverge(g)
@@ -381,7 +389,9 @@ func (s *Sim) physGroup(g *group) {
 // physSolve is physGroup's estimate of g, its devices' states known or not.
 func (s *Sim) physSolve(g *group) {
 	p := &s.phys
-	if s.memoLook(g) {
+	if len(g.nodes) == 1 && !memoFight(g.srcHas) { // a lone node driven by one value or floating: memoLook leaves it to physSingle
+		p.memo.hit, p.memo.rec = nil, nil
+	} else if s.memoLook(g) {
 		p.fast = false
 		return
 	}

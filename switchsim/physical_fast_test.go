@@ -248,6 +248,28 @@ func benchPairs(t *testing.T, mk func(*testing.T, string, *sw.Netlist) *fastPair
 			fp.settle("step")
 		}
 	}
+	// A datapath clocked as the benchmark clocks it, select and clock edge
+	// together: race analysis's phase A brings the latches' vertex solves
+	// back step after step (physical_vertex.go, and its memo).
+	nl, err := gen.Sized(40).Compile()
+	if err != nil {
+		t.Fatal(err)
+	}
+	fp := mk(t, "datapath40 clocked", nl)
+	for i, n := range nl.Inputs() {
+		fp.set(n, sw.Drive(i&1))
+	}
+	for step := 0; step < 16; step++ {
+		for _, name := range []string{"sel0", "clk", "clkb"} {
+			n, _ := nl.Lookup(name)
+			fp.set(n, 1-fp.slow.InputDrive(n))
+		}
+		if step == 9 {
+			n, _ := nl.Lookup("sel1")
+			fp.set(n, 1-fp.slow.InputDrive(n))
+		}
+		fp.settle("clock and select")
+	}
 	for name, b := range map[string]*sw.Builder{"datapath12": gen.Sized(12), "invchain40": gen.InverterChain(40)} {
 		nl, err := b.Compile()
 		if err != nil {

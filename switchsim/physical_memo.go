@@ -135,18 +135,10 @@ func (s *Sim) memoLook(g *group) bool {
 	// A vertex solve's part (physical_vertex.go) gives up where Newton's
 	// method fails, where a group's solve sweeps on: the two never share entries.
 	k[0], k[1] = uint64(len(g.nodes))|uint64(len(g.devs))<<32, uint64(len(g.srcs))|uint64(b2i(p.net.quick))<<32
-	j := 2
-	nl := s.nl
+	j := 2 + 2*len(g.devs)
+	s.memoDevices(k[2:j], g.devs)
 	sig := uint32(0) // fightSig(g.devs, nil), as netBuild names the fight
 	for _, d := range g.devs {
-		// passLimit and gateVoltsRecorded read the recorded gate voltage
-		// (the limit kept with it is a function of it) and a source gate's value
-		w := uint64(uint32(d)) | uint64(s.cond[d])<<32
-		if gn := nl.devGate[d]; gn >= 0 && s.source[gn] {
-			w |= uint64(1+s.val[gn]) << 40
-		}
-		k[j], k[j+1] = w, math.Float64bits(p.dv[d].gv)
-		j += 2
 		sig = sigStep(sig, d)
 	}
 	m.sig = sig
@@ -195,6 +187,17 @@ func (s *Sim) memoLook(g *group) bool {
 		}
 	}
 	sl := &m.slots[si]
+	if e := sl.find(k); e != nil {
+		s.memoReplay(g, e)
+		m.hit = e
+		return true
+	}
+	m.rec = sl.take()
+	return false
+}
+
+// find returns the entry of sl whose key is k, nil if none is.
+func (sl *memoSlot) find(k []uint64) *memoEntry {
 	// The solves of a seed's group recur in the same order (a toggle's
 	// steps and rounds): the entry that followed the last one hit comes first.
 	first := int8(-1)
@@ -213,17 +216,35 @@ func (s *Sim) memoLook(g *group) bool {
 		}
 		if e := &sl.ents[w]; e.klen > 0 && slices.Equal(e.data[:e.klen], k) {
 			sl.follow(int8(w))
-			s.memoReplay(g, e)
-			m.hit = e
-			return true
+			return e
 		}
 	}
+	return nil
+}
+
+// take returns the entry of sl to record a solve into, emptied (the
+// oldest; find having found none).
+func (sl *memoSlot) take() *memoEntry {
 	e := &sl.ents[sl.next]
 	sl.follow(int8(sl.next))
 	sl.next = (sl.next + 1) % memoWays
-	e.klen, e.succ = 0, -1 // empty until memoRecord
-	m.rec = e
-	return false
+	e.klen, e.succ = 0, -1 // empty until recorded
+	return e
+}
+
+// memoDevices writes the key words of devs into k, two a device: its
+// conduction, and what passLimit and gateVoltsRecorded read, the recorded
+// gate voltage (the limit kept with it is a function of it) and a source
+// gate's value.
+func (s *Sim) memoDevices(k []uint64, devs []int32) {
+	nl := s.nl
+	for i, d := range devs {
+		w := uint64(uint32(d)) | uint64(s.cond[d])<<32
+		if gn := nl.devGate[d]; gn >= 0 && s.source[gn] {
+			w |= uint64(1+s.val[gn]) << 40
+		}
+		k[2*i], k[2*i+1] = w, math.Float64bits(s.phys.dv[d].gv)
+	}
 }
 
 // memoReplay writes entry e's results for group g, as the solve wrote them.
@@ -284,4 +305,128 @@ func b2i(b bool) int {
 		return 1
 	}
 	return 0
+}
+
+// The vertex solve's memo: the whole physical solve of a group that is
+// solved at its vertices (physical_vertex.go; vertexWanted said yes), the
+// ternary solve and every vertex, replayed when the group is solved again
+// from exactly the same state. A clock edge's phase A brings the same latch
+// groups back step after step, each worth up to 64 solves of its parts.
+//
+// The key is everything the ternary solve and the parts' solves read, as
+// for a group (memoLook) over the whole group: its devices with their
+// conduction (which are of unknown state), recorded gate voltage and a gate
+// source's value; its nodes with their value, strength, state and voltage,
+// the ideal resolution, and the state every solve starts from (the solve's
+// flags, whether the node shared charge in this settle, its whole record
+// and where its fights start); its sources with their values. An entry
+// holds what the solve left for each node: its result, flags, record
+// (delay included), fight starts, and whether it shared charge.
+
+// vertexOutWords is a node's result in a vertex solve's entry, in words.
+const vertexOutWords = 9
+
+// vertexMemoLook looks g's solve up (vertexWanted having kept the state
+// before it, g holding the ideal resolution). On a hit it writes what the
+// solve wrote and returns true; otherwise it leaves in v.memoSlot the slot
+// to record the solve into (-1: none).
+func (s *Sim) vertexMemoLook(g *group) bool {
+	p := &s.phys
+	m := &p.memo
+	v := &p.vert
+	v.memoSlot = -1
+	if m.off || p.slow || len(g.nodes) > memoMaxNodes || len(g.devs) > memoMaxDevs {
+		return false
+	}
+	nl := s.nl
+	k := grow(v.key, 2+2*len(g.devs)+10*len(g.nodes)+len(g.srcs))
+	k[0], k[1] = uint64(len(g.nodes))|uint64(len(g.devs))<<32, uint64(len(g.srcs))
+	j := 2 + 2*len(g.devs)
+	s.memoDevices(k[2:j], g.devs)
+	for i, n := range g.nodes {
+		if p.leakAt[n] > 0 {
+			return false
+		}
+		in, fv := &v.info0[i], &v.fv0[i]
+		k[j] = uint64(uint32(n)) | uint64(s.val[n])<<32 | uint64(s.str[n])<<36 | uint64(s.state[n])<<40 |
+			uint64(g.nval[i])<<44 | uint64(g.nstr[i])<<48 | uint64(g.nstate[i])<<52 | uint64(b2i(g.contested[i]))<<56 |
+			uint64(b2i(v.mark0[i] == s.settleID))<<57
+		k[j+1] = math.Float64bits(s.volts[n])
+		k[j+2] = uint64(in.How) | uint64(in.Lost)<<8 | uint64(b2i(in.Vertex))<<16 | uint64(fv.last)<<24 | uint64(v.flag0[i])<<32
+		k[j+3], k[j+4] = uint64(uint32(in.Drop))|uint64(uint32(in.Up))<<32, uint64(uint32(in.Down))
+		k[j+5], k[j+6] = math.Float64bits(in.Before), math.Float64bits(in.Delay)
+		k[j+7] = uint64(fv.sig[0]) | uint64(fv.sig[1])<<32
+		k[j+8], k[j+9] = math.Float64bits(fv.volts[0]), math.Float64bits(fv.volts[1])
+		j += 10
+	}
+	for _, src := range g.srcs {
+		k[j] = uint64(uint32(src)) | uint64(s.val[src])<<32
+		j++
+	}
+	v.key = k
+	if v.slot == nil {
+		v.slot = make([]int32, nl.NumNodes())
+		for n := range v.slot {
+			v.slot[n] = -1
+		}
+	}
+	seed := g.nodes[0]
+	si := v.slot[seed]
+	if si < 0 {
+		if m.words >= memoBudget {
+			return false
+		}
+		si = int32(len(m.slots))
+		m.slots = append(m.slots, newMemoSlot())
+		v.slot[seed] = si
+	}
+	v.memoSlot = si
+	e := m.slots[si].find(k)
+	if e == nil {
+		return false
+	}
+	for i, n := range g.nodes {
+		o := e.data[int(e.klen)+i*vertexOutWords:][:vertexOutWords]
+		w := o[0]
+		g.nval[i], g.nstr[i], g.nstate[i], g.contested[i] = Value(w&15), Strength(w>>4&15), State(w>>8&15), w>>12&1 == 1
+		g.nvolts[i] = math.Float64frombits(o[1])
+		s.setSolveFlags(n, uint8(w>>16))
+		p.info[n] = physRec{How: physHow(w >> 24 & 15), Lost: Value(w >> 28 & 15), Vertex: w>>32&1 == 1,
+			Drop: int32(uint32(o[2])), Up: int32(uint32(o[2] >> 32)), Down: int32(uint32(o[3])),
+			Before: math.Float64frombits(o[4]), Delay: math.Float64frombits(o[5])}
+		p.fightV[n] = fightStart{sig: [2]uint32{uint32(o[6]), uint32(o[6] >> 32)},
+			volts: [2]float64{math.Float64frombits(o[7]), math.Float64frombits(o[8])}, last: uint8(w >> 40)}
+		if w>>33&1 == 1 {
+			p.shareMark[n] = s.settleID
+		}
+	}
+	v.memoSlot = -1
+	return true
+}
+
+// vertexMemoRecord records g's solve, just made, into the slot
+// vertexMemoLook left.
+func (s *Sim) vertexMemoRecord(g *group) {
+	p := &s.phys
+	m := &p.memo
+	v := &p.vert
+	if v.memoSlot < 0 {
+		return
+	}
+	e := m.slots[v.memoSlot].take()
+	before := cap(e.data)
+	e.klen = int32(len(v.key))
+	e.data = append(e.data[:0], v.key...)
+	for i, n := range g.nodes {
+		in, fv := &p.info[n], &p.fightV[n]
+		w := uint64(g.nval[i]) | uint64(g.nstr[i])<<4 | uint64(g.nstate[i])<<8 | uint64(b2i(g.contested[i]))<<12 |
+			uint64(s.solveFlags(n))<<16 | uint64(in.How)<<24 | uint64(in.Lost)<<28 | uint64(b2i(in.Vertex))<<32 |
+			uint64(b2i(p.shareMark[n] == s.settleID))<<33 | uint64(fv.last)<<40
+		e.data = append(e.data, w, math.Float64bits(g.nvolts[i]),
+			uint64(uint32(in.Drop))|uint64(uint32(in.Up))<<32, uint64(uint32(in.Down)),
+			math.Float64bits(in.Before), math.Float64bits(in.Delay),
+			uint64(fv.sig[0])|uint64(fv.sig[1])<<32, math.Float64bits(fv.volts[0]), math.Float64bits(fv.volts[1]))
+	}
+	m.words += cap(e.data) - before
+	v.memoSlot = -1
 }

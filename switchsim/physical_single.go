@@ -11,7 +11,7 @@ import "math"
 // having done nothing, for a group it does not take.
 func (s *Sim) physSingle(g *group) bool {
 	has := g.srcHas
-	if len(g.nodes) != 1 || g.hasUnknown || s.phys.leakAt[g.nodes[0]] > 0 {
+	if len(g.nodes) != 1 || g.hasUnknown || (s.phys.nLeak > 0 && s.phys.leakAt[g.nodes[0]] > 0) {
 		return false
 	}
 	nl := s.nl

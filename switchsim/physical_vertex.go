@@ -42,6 +42,7 @@ type vertexState struct {
 	mark  []uint32 // node -> gen when taken by a part of this vertex
 	dmark []uint32 // device -> gen when listed in a part of this vertex
 	gen   uint32
+	queue []int32     // vertexDrivable's walk
 	sub   group       // one part of one vertex, solved as a group
 	acc   []vertexAcc // per node of the group: what the vertices agree on
 	tern  []vertexAcc // per node of the group: the ternary solve's result
@@ -49,6 +50,12 @@ type vertexState struct {
 	mark0 []uint32    // and its charge-sharing stamp (shareMark)
 	flag0 []uint8     // per node of the group: fight, contest, shared before
 	fv0   []fightStart
+	// the vertex solves' memo (physical_memo.go): node -> the slot of the
+	// group seeded there in physMemo.slots, -1 none (made on first use); the
+	// key of the group being solved, and the slot to record its solve into
+	slot     []int32
+	key      []uint64
+	memoSlot int32
 	// done is set when the group just solved was solved at its vertices:
 	// physDelay reads each node's delay from its record.
 	done bool
@@ -162,6 +169,11 @@ func (s *Sim) physVertices(g *group) {
 			contest: g.contested[i], info: p.info[n], fightV: p.fightV[n], flags: s.solveFlags(n), shareMark: p.shareMark[n]}
 	}
 	v.acc = grow(v.acc, k)
+	if !s.vertexDrivable(g) { // every vertex would keep the ternary result
+		s.vertexMemoRecord(g)
+		v.done = true
+		return
+	}
 	// Every device on comes second, after every device off: the two
 	// assignments most likely to disagree. The solve stops as soon as no
 	// node the ternary pass left X can still be decided.
@@ -179,7 +191,7 @@ func (s *Sim) physVertices(g *group) {
 		case all:
 			mask = 1
 		}
-		if step > 1 && !v.open(g) {
+		if step > 0 && !v.open(g) {
 			break
 		}
 		for j, d := range v.unk {
@@ -215,6 +227,7 @@ func (s *Sim) physVertices(g *group) {
 		s.setSolveFlags(n, a.flags)
 		p.info[n], p.fightV[n], p.shareMark[n] = a.info, a.fightV, v.tern[i].shareMark
 	}
+	s.vertexMemoRecord(g)
 	v.done = true
 }
 
@@ -229,6 +242,52 @@ func (v *vertexState) open(g *group) bool {
 	return false
 }
 
+// vertexDrivable reports whether a node the ternary pass left X reaches a
+// source through devices that are on. If none does, every such node floats
+// at the vertex with every device of unknown state off (a part without
+// sources keeps its charge, StateZ), so no vertex can decide it: the
+// vertex solve would keep the ternary result, and is not run.
+func (s *Sim) vertexDrivable(g *group) bool {
+	nl := s.nl
+	v := &s.phys.vert
+	gen := v.next()
+	q := v.queue[:0]
+	for i, seed := range g.nodes {
+		if v.tern[i].val != VX || v.mark[seed] == gen {
+			continue
+		}
+		v.mark[seed] = gen
+		q = append(q[:0], seed)
+		for j := 0; j < len(q); j++ {
+			n := q[j]
+			for _, d := range nl.chanDev[nl.chanStart[n]:nl.chanStart[n+1]] {
+				switch o := nl.other(d, n); {
+				case s.cond[d] != On:
+				case s.source[o]:
+					v.queue = q
+					return true
+				case v.mark[o] != gen:
+					v.mark[o] = gen
+					q = append(q, o)
+				}
+			}
+		}
+	}
+	v.queue = q
+	return false
+}
+
+// next starts a new walk over the marks.
+func (v *vertexState) next() uint32 {
+	v.gen++
+	if v.gen == 0 {
+		clear(v.mark)
+		clear(v.dmark)
+		v.gen = 1
+	}
+	return v.gen
+}
+
 // vertexSolve solves the parts of g that the devices on in this vertex
 // join, each as a group of its own, and merges each node's result into its
 // accumulator (first: the first vertex, which sets them). It reports false
@@ -238,13 +297,7 @@ func (s *Sim) vertexSolve(g *group, first bool) bool {
 	nl := s.nl
 	p := &s.phys
 	v := &p.vert
-	v.gen++
-	if v.gen == 0 {
-		clear(v.mark)
-		clear(v.dmark)
-		v.gen = 1
-	}
-	gen := v.gen
+	gen := v.next()
 	sub := &v.sub
 	for _, seed := range g.nodes {
 		if v.mark[seed] == gen {

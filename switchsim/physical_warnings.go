@@ -90,9 +90,12 @@ func (s *Sim) levelMatters(n int) bool {
 // the channel terminal acting as source: the lower one for an nMOS, the
 // higher for a pMOS. They leak static current (common practice).
 func (s *Sim) partialOn(n int, add func(kind WarnKind, n, d, o int)) {
+	if s.phys.nLeak == 0 {
+		return
+	}
 	nl := s.nl
 	vg := s.volts[n]
-	if math.IsNaN(vg) || s.phys.nLeak == 0 {
+	if math.IsNaN(vg) {
 		return
 	}
 	for _, d := range nl.gateDev[nl.gateStart[n]:nl.gateStart[n+1]] {
