@@ -1077,3 +1077,25 @@ func TestPhysChargeSharingWarnsWhereItIsRead(t *testing.T) {
 		t.Errorf("x: charge-sharing warnings %+v, want none (st carries it)", w)
 	}
 }
+
+// A level-lost warning on a node whose level is unknown says so once: "its
+// level is unknown", not the level's words twice (seen on an X that a fight
+// of unknown devices left without a voltage).
+func TestLostTextUnknownLevel(t *testing.T) {
+	b := NewBuilder()
+	b.Input("a")
+	b.NMOS("n1", "a", "y", "gnd", DeviceOpts{})
+	s := phSim(t, b, Physical)
+	phApply(t, s, map[string]Drive{"a": Drive1})
+	y, _ := s.Netlist().Lookup("y")
+	w := Warning{Kind: WarnLevelLost, Node: y, Device: -1}
+	s.phys.info[y].Lost = VX
+	s.volts[y] = math.NaN()
+	if got, want := s.lostText(w), "y is X: its level is unknown"; got != want {
+		t.Errorf("unknown level: %q, want %q", got, want)
+	}
+	s.phys.info[y].Lost = V1
+	if got, want := s.lostText(w), "y is X: its 1 is lost: the estimated level is unknown"; got != want {
+		t.Errorf("lost 1, unknown level: %q, want %q", got, want)
+	}
+}

@@ -160,6 +160,10 @@ func (s *Sim) lostText(w Warning) string {
 	if lost := in.Lost; lost != VX {
 		what = fmt.Sprintf("its %s is lost: the estimated level", lost)
 	}
+	level := s.levelText(w.Node)
+	if math.IsNaN(s.volts[w.Node]) {
+		level = "is unknown" // levelText's own words would repeat "its level"
+	}
 	flipped := ""
 	if lost, v := in.Lost, s.volts[w.Node]; (lost == V1 && v <= p.vil) || (lost == V0 && v >= p.vih) {
 		flipped = ", the value flipped"
@@ -171,7 +175,7 @@ func (s *Sim) lostText(w Warning) string {
 			by = fmt.Sprintf("; pulled there by %s, which conducts partly", nl.DeviceDisplayName(w.Device))
 		}
 	}
-	return fmt.Sprintf("%s is X: %s %s%s%s", nl.DisplayName(w.Node), what, s.levelText(w.Node), flipped, by)
+	return fmt.Sprintf("%s is X: %s %s%s%s", nl.DisplayName(w.Node), what, level, flipped, by)
 }
 
 // partialOnText words a partial-on warning with the gate's voltage and the
