@@ -167,6 +167,9 @@ type physState struct {
 	// rail limits and conductances off, so that tests can compare the
 	// general path with them (export_test.go).
 	slow bool
+	// noAlone turns physAlone alone off, so that tests can compare it with
+	// the group's path (export_test.go).
+	noAlone bool
 	// logAll keeps the undo log on every step that race analysis may look
 	// back on, the steps settlesAlone would spare included, so that tests
 	// can compare the two (export_test.go).

@@ -6,7 +6,10 @@ import "math"
 // not off, bounded by sources), resolves it (DEVELOPERS.md "Resolving a
 // group") and writes the results, recording the changes.
 func (s *Sim) solveGroup(seed int32) {
-	if s.mode == Ideal && !s.slowIdeal && s.solveAlone(seed) {
+	switch {
+	case s.mode == Ideal && !s.slowIdeal && s.solveAlone(seed):
+		return
+	case s.mode == Physical && s.physAlone(seed): // the same for physical mode (physical_single.go)
 		return
 	}
 	nl := s.nl
@@ -107,14 +110,7 @@ func (s *Sim) solveAlone(seed int32) bool {
 		has |= 1 << sv
 		in.add(nl.pass(d, Supply), sv)
 	}
-	s.mark[seed].round = s.stamp()
-	if s.undo.on && s.undo.nmark[seed] != s.undo.id {
-		s.saveNode(seed)
-	}
-	if s.rec != nil && s.mark[seed].touch != s.settleID {
-		s.touch(seed)
-	}
-	s.ana.visits++
+	s.takeAlone(seed)
 	other := uint8(1<<V1 | 1<<VX) // the sources that contest a 0
 	if in.v == V1 {
 		other = 1<<V0 | 1<<VX
@@ -123,6 +119,21 @@ func (s *Sim) solveAlone(seed int32) bool {
 	s.nflag[seed] = nodeFlags(in.arrived&3 == 3, contested, false)
 	s.write(seed, in.v, in.best, in.state(contested), math.NaN())
 	return true
+}
+
+// takeAlone does for seed, a group of its own solved without its lists
+// (solveAlone, physAlone), what solveGroup's collection does for a node:
+// it marks it taken in this round, logs it before its solve and marks it
+// solved in this settle.
+func (s *Sim) takeAlone(seed int32) {
+	s.mark[seed].round = s.stamp()
+	if s.undo.on && s.undo.nmark[seed] != s.undo.id {
+		s.saveNode(seed)
+	}
+	if s.rec != nil && s.mark[seed].touch != s.settleID {
+		s.touch(seed)
+	}
+	s.ana.visits++
 }
 
 // arrival is what reaches one node of a one-node group: the strongest
