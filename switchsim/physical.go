@@ -326,31 +326,24 @@ func (s *Sim) setLeak(d int32, on bool) {
 	}
 }
 
-// physGateMoved records device d's gate voltage as of the start of this
-// round (the solver calls it for every device whose gate node changed) and
-// reports whether the device must be re-solved because that voltage moved:
-// a device not off, since its pass limit and its current follow the gate,
-// and a device off by logic that is or was partly on.
-func (s *Sim) physGateMoved(d int32) bool {
-	if s.mode != Physical {
-		return false
-	}
+// physGateMoved records device d's gate voltage v as of the start of this
+// round (the solver calls it for every device whose gate node changed,
+// with whether the gate's value turns the device off) and reports whether
+// the device must be re-solved because that voltage moved: a device not
+// off, since its pass limit and its current follow the gate, and a device
+// off by logic that is or was partly on.
+func (s *Sim) physGateMoved(d int32, v float64, off bool) bool {
 	p := &s.phys
-	gn := s.nl.devGate[d]
-	if gn < 0 {
-		return false
-	}
-	v := s.volts[gn]
-	old := p.dv[d].gv
-	off := conduction(s.nl.devKind[d], s.val[gn]) == Off
+	pd := &p.dv[d]
+	old := pd.gv
+	was := p.leak[d]
 	if v == old || (math.IsNaN(v) && math.IsNaN(old)) {
-		if p.leak[d] != (off && s.leakyGate(d, v)) { // it switched between on and partly on
-			s.setLeak(d, !p.leak[d])
+		if was != (off && s.leakyGate(d, v)) { // it switched between on and partly on
+			s.setLeak(d, !was)
 			return true
 		}
 		return false
 	}
-	pd := &p.dv[d]
 	pd.gv = v
 	switch k := s.nl.devKind[d]; { // limitFor, its commonest cases without the call
 	case k > PMOS || p.slow:
@@ -362,9 +355,11 @@ func (s *Sim) physGateMoved(d int32) bool {
 	default:
 		pd.lim = s.limitFor(d)
 	}
-	was := p.leak[d]
-	s.setLeak(d, off && s.leakyGate(d, v))
-	return voltsMoved(old, v) && (!off || was || p.leak[d])
+	leaky := off && s.leakyGate(d, v)
+	if leaky != was {
+		s.setLeak(d, leaky)
+	}
+	return voltsMoved(old, v) && (!off || was || leaky)
 }
 
 // physGroup adds the voltage estimates to the ideal resolution of g: at

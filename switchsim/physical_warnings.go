@@ -46,6 +46,14 @@ func (s *Sim) physWarnings(n int, add func(kind WarnKind, n, d, o int)) {
 	s.partialOn(n, add)
 }
 
+// physQuiet reports, for node n at a driven 0 or 1 after a settle, that
+// physical mode has nothing to say of it either (settleWarnings): it is no
+// fight's node, no device is partly on, and it is in no feedback loop
+// whose write could have failed.
+func (s *Sim) physQuiet(n int) bool {
+	return s.phys.info[n].How != howFight && s.phys.nLeak == 0 && s.nl.nodeFlag[n]&nodeLoop == 0
+}
+
 // fightSides returns the devices carrying the most current into node n of
 // a fight from the 1 side and out of it to the 0 side.
 func (s *Sim) fightSides(n int32) (up, down int32) {

@@ -663,6 +663,7 @@ func (s *Sim) rounds(stop bool) bool {
 	rec := s.rec
 	limit, extra, forced := s.limit, false, false
 	shorts := len(nl.shortDevs) > 0
+	phys := s.mode == Physical
 	s.runStart = s.roundNo
 	for round := 1; ; round++ {
 		// Devices whose gate changed in the round before switch now.
@@ -671,9 +672,10 @@ func (s *Sim) rounds(stop bool) bool {
 			for _, d := range nl.gateDev[nl.gateStart[gn]:nl.gateStart[gn+1]] {
 				c := conduction(nl.devKind[d], gv) // condOf: gn is d's gate
 				moved := false
-				if s.mode == Physical {
-					s.logDevice(d)             // physGateMoved records the gate's voltage
-					moved = s.physGateMoved(d) // always called: it records the gate's voltage for this round
+				if phys {
+					s.logDevice(d) // physGateMoved records the gate's voltage
+					// always called: it records the gate's voltage for this round
+					moved = s.physGateMoved(d, s.volts[gn], c == Off)
 				}
 				if c != s.cond[d] || moved {
 					s.logDevice(d)
