@@ -102,6 +102,9 @@ var blankRec = physRec{Lost: VX, Drop: -1, Up: -1, Down: -1, Before: math.NaN(),
 // physInit; the scratch grows on first use and is reused afterwards.
 type physState struct {
 	vil, vih, vm, vdd float64
+	// fullHolds[v]: the full level of v holds v (levelRange), as it does
+	// unless the design moves VIL or VIH past a rail
+	fullHolds [2]bool
 
 	// per device
 	res []float64 // effective on-resistance, ohms (the delay estimate)
@@ -212,6 +215,10 @@ func (s *Sim) physInit() {
 	p := &s.phys
 	p.vil, p.vih, p.vm = t.Thresholds()
 	p.vdd = t.Vdd
+	for v := V0; v <= V1; v++ {
+		val, _, _ := p.levelRange(v, p.full(v), p.full(v))
+		p.fullHolds[v] = val == v
+	}
 	p.net.denseMax = physDenseMax
 	nn, nd := nl.NumNodes(), nl.NumDevices()
 	p.res, p.con, p.dv = make([]float64, nd), make([]float64, nd), make([]physDev, nd)

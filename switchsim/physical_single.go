@@ -1,6 +1,9 @@
 package switchsim
 
-import "math"
+import (
+	"math"
+	"slices"
+)
 
 // physSingle is physGroup for the commonest group: one node and no device
 // of unknown state or partly on. It gives exactly what physParts and
@@ -108,7 +111,11 @@ func (s *Sim) loneLevel(n int32, devs []int32, v Value, degr bool, dist float64,
 	p := &s.phys
 	o.volts, o.fdel, o.rec = math.NaN(), math.NaN(), noPhysRec()
 	if !degr { // the least-resistance device to a source of the node's value sets the delay (delayTree)
-		p.levelOut(v, p.full(v), -1, o)
+		if p.fullHolds[v] { // levelOut's verdict on the full level, worked out once (physInit)
+			o.volts, o.rec.How = p.full(v), howLevel
+		} else {
+			p.levelOut(v, p.full(v), -1, o)
+		}
 		if o.val == v && par >= 0 {
 			o.fdel = dist * nl.capOf(int(n))
 		}
@@ -165,52 +172,116 @@ func (p *physState) levelOut(v Value, level float64, drop int32, o *loneOut) {
 }
 
 // physAlone solves seed's group in physical mode where it is seed alone,
-// with no device of unknown state or partly on, and is no fight: every
-// device not off runs from a source of one value (or X) to seed, or none
-// does (an inverter's output, a pull's node, a floating node). In one pass
-// over seed's devices and without the group's lists, it gives exactly what
-// solveGroup's collection, resolve (resolveSingle), physGroup (physSingle,
-// physConverge) and commit (with physDelay) give for such a group; it
-// reports false, having changed nothing, for any other group, and where
-// the general path is forced (physical or ideal).
+// with no device of unknown state or partly on: every device not off runs
+// from a source to seed, or none does (an inverter's output, a pull's node,
+// a floating node, a ratioed stage's fight). Without collecting the group's
+// lists, it gives exactly what solveGroup's collection, resolve
+// (resolveSingle), physGroup (physSingle, or for a fight the group memo's
+// entry; physConverge) and commit (with physDelay) give for such a group;
+// it reports false, having changed nothing, for any other group, for a
+// fight the memo does not hold, and where the general path is forced
+// (physical or ideal).
 func (s *Sim) physAlone(seed int32) bool {
 	var o loneOut
-	flags, ok := s.aloneEstimate(seed, &o)
-	if !ok {
+	flags, kind := s.aloneEstimate(seed, &o)
+	switch kind {
+	case aloneNot:
 		return false
+	case aloneFight:
+		return s.aloneFight(seed, flags, &o)
 	}
 	// solveGroup's marks and logs, the results, then commit's
 	p := &s.phys
 	s.takeAlone(seed)
 	s.nflag[seed] = flags
 	p.info[seed] = o.rec
-	if int(s.roundNo-s.runStart) > s.limit/2 {
-		s.convergeNode(seed, o.val, o.str, o.state, o.volts)
-	}
-	if s.write(seed, o.val, o.str, o.state, o.volts) {
-		p.info[seed].Delay = o.fdel
-		if rec := s.rec; rec != nil && rec.delays {
-			rec.delay = append(rec.delay, o.fdel)
-		}
-	}
+	s.aloneCommit(seed, o.val, o.str, o.state, o.volts, o.fdel)
 	return true
 }
 
+// aloneCommit is physAlone's physConverge and commit, the delay fdel.
+func (s *Sim) aloneCommit(seed int32, v Value, st Strength, state State, volts, fdel float64) {
+	if int(s.roundNo-s.runStart) > s.limit/2 {
+		s.convergeNode(seed, v, st, state, volts)
+	}
+	if s.write(seed, v, st, state, volts) {
+		s.phys.info[seed].Delay = fdel
+		if rec := s.rec; rec != nil && rec.delays {
+			rec.delay = append(rec.delay, fdel)
+		}
+	}
+}
+
+// aloneFight is physAlone for a fight, o holding the ideal resolution and
+// flags its flags: where the group memo holds the solve of seed's group
+// from this state (memoLook), it writes that entry's result. It reports
+// false, having changed nothing, where the memo does not.
+func (s *Sim) aloneFight(seed int32, flags uint8, o *loneOut) bool {
+	e := s.aloneEntry(seed, o)
+	if e == nil {
+		return false
+	}
+	s.takeAlone(seed)
+	s.nflag[seed] = flags
+	v, st, state, volts := s.replayNode(e, 0, seed)
+	s.aloneCommit(seed, v, st, state, volts, math.Float64frombits(e.out(0)[outDelay]))
+	return true
+}
+
+// aloneEntry is memoLook's look-up for seed's group, a fight whose ideal
+// resolution is o's, its devices in s.g.devs: the entry that holds its
+// solve (the look-up noted as a hit), nil where none does.
+func (s *Sim) aloneEntry(seed int32, o *loneOut) *memoEntry {
+	m := &s.phys.memo
+	si := m.slot[seed]
+	if m.off || m.vertex != 0 || si < 0 || len(s.g.devs) > memoMaxDevs {
+		return nil
+	}
+	nodes, nval, nstr, nstate := [1]int32{seed}, [1]Value{o.val}, [1]Strength{o.str}, [1]State{o.state}
+	if !s.memoKey(nodes[:], s.g.devs, s.aloneSources(seed), nval[:], nstr[:], nstate[:], true) {
+		return nil
+	}
+	return m.slots[si].find(m.key)
+}
+
+// aloneSources lists, in s.g's scratch, the sources at the other ends of
+// seed's devices in s.g.devs (aloneEstimate's list), in the order
+// solveGroup collects them.
+func (s *Sim) aloneSources(seed int32) []int32 {
+	srcs := s.g.srcs[:0]
+	for _, d := range s.g.devs {
+		if o := s.nl.other(d, seed); !slices.Contains(srcs, o) {
+			srcs = append(srcs, o)
+		}
+	}
+	s.g.srcs = srcs // (scratch: solveGroup starts the list afresh)
+	return srcs
+}
+
+// What aloneEstimate makes of a group.
+const (
+	aloneNot   = iota // not seed alone, or the general path is forced
+	aloneDone         // estimated into o
+	aloneFight        // a fight: o holds the ideal resolution alone
+)
+
 // aloneEstimate works out physAlone's result for seed into o and returns
-// its flags (nodeFlags) and whether physAlone takes the group; it changes
-// nothing but scratch. It is resolveSingle and loneEstimate in one pass
-// over seed's devices, with loneDriven's look at them.
-func (s *Sim) aloneEstimate(seed int32, o *loneOut) (uint8, bool) {
+// its flags (nodeFlags) and what physAlone can do with the group
+// (aloneNot, aloneDone, aloneFight); it changes nothing but scratch. It is
+// resolveSingle and loneEstimate in one pass over seed's devices, with
+// loneDriven's look at them.
+func (s *Sim) aloneEstimate(seed int32, o *loneOut) (uint8, int) {
 	nl := s.nl
 	p := &s.phys
 	if p.slow || p.noAlone || s.slowIdeal || (p.nLeak > 0 && p.leakAt[seed] > 0) {
-		return 0, false
+		return 0, aloneNot
 	}
 	in := arrival{nl.nodeCharge[seed], s.val[seed], 1 << s.val[seed]}
 	var has uint8   // the values of the boundary's sources, bit 1<<value (group.srcHas)
 	var kinds uint8 // the kinds of the devices on, bit 1<<kind
 	// for each value, the least-resistance device from a source of it (loneDriven)
 	dist, par := [2]float64{math.Inf(1), math.Inf(1)}, [2]int32{-1, -1}
+	devs := s.g.devs[:0] // (scratch: solveGroup starts the list afresh)
 	for _, d := range nl.chanDev[nl.chanStart[seed]:nl.chanStart[seed+1]] {
 		c := s.cond[d]
 		if c == Off {
@@ -218,7 +289,7 @@ func (s *Sim) aloneEstimate(seed int32, o *loneOut) (uint8, bool) {
 		}
 		o := nl.other(d, seed)
 		if c == Unknown || o == seed || !s.source[o] {
-			return 0, false // a device of unknown state, from the node to itself, or to another node
+			return 0, aloneNot // a device of unknown state, from the node to itself, or to another node
 		}
 		sv := s.val[o]
 		has |= 1 << sv
@@ -227,22 +298,23 @@ func (s *Sim) aloneEstimate(seed int32, o *loneOut) (uint8, bool) {
 		if sv != VX && p.res[d] < dist[sv] {
 			dist[sv], par[sv] = p.res[d], d
 		}
+		devs = append(devs, d)
 	}
-	const h0, h1, hX = 1 << V0, 1 << V1, 1 << VX
-	if has&(h0|h1) == h0|h1 || (has&hX != 0 && has != hX) {
-		return 0, false // a fight (memoFight): the general path, and its memo
-	}
+	s.g.devs = devs
 	// single's result
+	const h0, h1, hX = 1 << V0, 1 << V1, 1 << VX
 	v := in.v
 	contested := (v == V0 && has&(h1|hX) != 0) || (v == V1 && has&(h0|hX) != 0)
 	o.val, o.str, o.state = v, in.best, in.state(contested)
 	flags := nodeFlags(in.arrived&3 == 3, contested, false)
-	switch has {
-	case 0:
+	switch {
+	case has&(h0|h1) == h0|h1 || (has&hX != 0 && has != hX): // a fight (memoFight)
+		return flags, aloneFight
+	case has == 0:
 		if s.loneFloating(seed, o) {
 			flags |= nfShared
 		}
-	case hX:
+	case has == hX:
 		o.volts, o.fdel, o.rec = math.NaN(), math.NaN(), noPhysRec()
 	default:
 		dv := V0 // the value that drives it, and the kind of device that can drop it
@@ -250,20 +322,9 @@ func (s *Sim) aloneEstimate(seed int32, o *loneOut) (uint8, bool) {
 		if has == h1 {
 			dv, drops = V1, NMOS
 		}
-		var devs []int32
-		degr := kinds&(1<<drops) != 0
-		if degr { // the level search reads the devices
-			devs = s.g.devs[:0]
-			for _, d := range nl.chanDev[nl.chanStart[seed]:nl.chanStart[seed+1]] {
-				if s.cond[d] != Off {
-					devs = append(devs, d)
-				}
-			}
-			s.g.devs = devs // (scratch: solveGroup starts the list afresh)
-		}
-		s.loneLevel(seed, devs, dv, degr, dist[dv], par[dv], o)
+		s.loneLevel(seed, devs, dv, kinds&(1<<drops) != 0, dist[dv], par[dv], o)
 	}
-	return flags, true
+	return flags, aloneDone
 }
 
 // loneDelay is the Elmore delay of lone node n driven to v: R C through its
