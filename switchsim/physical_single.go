@@ -199,6 +199,18 @@ func (s *Sim) physAlone(seed int32) bool {
 	return true
 }
 
+// takeAlone does for seed what solveGroup's collection (and solveAlone)
+// does for a node: it marks it taken in this round, logs it before its
+// solve and marks it solved in this settle.
+func (s *Sim) takeAlone(seed int32) {
+	s.mark[seed].round = s.stamp()
+	s.logNode(seed)
+	if s.rec != nil && s.mark[seed].touch != s.settleID {
+		s.touch(seed)
+	}
+	s.ana.visits++
+}
+
 // aloneCommit is physAlone's physConverge and commit, the delay fdel.
 func (s *Sim) aloneCommit(seed int32, v Value, st Strength, state State, volts, fdel float64) {
 	if int(s.roundNo-s.runStart) > s.limit/2 {

@@ -663,7 +663,6 @@ func (s *Sim) rounds(stop bool) bool {
 	rec := s.rec
 	limit, extra, forced := s.limit, false, false
 	shorts := len(nl.shortDevs) > 0
-	phys := s.mode == Physical
 	s.runStart = s.roundNo
 	for round := 1; ; round++ {
 		// Devices whose gate changed in the round before switch now.
@@ -672,7 +671,7 @@ func (s *Sim) rounds(stop bool) bool {
 			for _, d := range nl.gateDev[nl.gateStart[gn]:nl.gateStart[gn+1]] {
 				c := conduction(nl.devKind[d], gv) // condOf: gn is d's gate
 				moved := false
-				if phys {
+				if s.mode == Physical {
 					s.logDevice(d) // physGateMoved records the gate's voltage
 					// always called: it records the gate's voltage for this round
 					moved = s.physGateMoved(d, s.volts[gn], c == Off)

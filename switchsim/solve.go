@@ -110,22 +110,6 @@ func (s *Sim) solveAlone(seed int32) bool {
 		has |= 1 << sv
 		in.add(nl.pass(d, Supply), sv)
 	}
-	s.takeAlone(seed)
-	other := uint8(1<<V1 | 1<<VX) // the sources that contest a 0
-	if in.v == V1 {
-		other = 1<<V0 | 1<<VX
-	}
-	contested := in.v != VX && has&other != 0
-	s.nflag[seed] = nodeFlags(in.arrived&3 == 3, contested, false)
-	s.write(seed, in.v, in.best, in.state(contested), math.NaN())
-	return true
-}
-
-// takeAlone does for seed, a group of its own solved without its lists
-// (solveAlone, physAlone), what solveGroup's collection does for a node:
-// it marks it taken in this round, logs it before its solve and marks it
-// solved in this settle.
-func (s *Sim) takeAlone(seed int32) {
 	s.mark[seed].round = s.stamp()
 	if s.undo.on && s.undo.nmark[seed] != s.undo.id {
 		s.saveNode(seed)
@@ -134,6 +118,14 @@ func (s *Sim) takeAlone(seed int32) {
 		s.touch(seed)
 	}
 	s.ana.visits++
+	other := uint8(1<<V1 | 1<<VX) // the sources that contest a 0
+	if in.v == V1 {
+		other = 1<<V0 | 1<<VX
+	}
+	contested := in.v != VX && has&other != 0
+	s.nflag[seed] = nodeFlags(in.arrived&3 == 3, contested, false)
+	s.write(seed, in.v, in.best, in.state(contested), math.NaN())
+	return true
 }
 
 // arrival is what reaches one node of a one-node group: the strongest
