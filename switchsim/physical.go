@@ -303,13 +303,15 @@ func (s *Sim) physLeak(d int32) bool { return s.mode == Physical && s.phys.leak[
 // channel terminal at the rail it is body-tied to (nMOS: vg > Vtn, pMOS:
 // vdd - vg > |Vtp|): the widest condition for a partly-on device, since the
 // source at the rail has the largest Vgs and no body effect.
-func (s *Sim) leakyGate(d int32, vg float64) bool {
-	t := &s.nl.Tech
-	switch s.nl.devKind[d] {
+func (s *Sim) leakyGate(d int32, vg float64) bool { return s.leakyAt(s.nl.devKind[d], vg) }
+
+// leakyAt is leakyGate for a device of kind k.
+func (s *Sim) leakyAt(k DeviceKind, vg float64) bool {
+	switch k {
 	case NMOS:
-		return vg > t.Vtn
+		return vg > s.nl.Tech.Vtn
 	case PMOS:
-		return s.phys.vdd-vg > t.Vtp
+		return s.phys.vdd-vg > s.nl.Tech.Vtp
 	}
 	return false
 }
@@ -333,26 +335,29 @@ func (s *Sim) setLeak(d int32, on bool) {
 	}
 }
 
-// physGateMoved records device d's gate voltage v as of the start of this
-// round (the solver calls it for every device whose gate node changed,
-// with whether the gate's value turns the device off) and reports whether
-// the device must be re-solved because that voltage moved: a device not
-// off, since its pass limit and its current follow the gate, and a device
-// off by logic that is or was partly on.
-func (s *Sim) physGateMoved(d int32, v float64, off bool) bool {
+// physGateMoved records device d's gate voltage as of the start of this
+// round (the solver calls it for every device whose gate node changed) and
+// reports whether the device must be re-solved because that voltage moved:
+// a device not off, since its pass limit and its current follow the gate,
+// and a device off by logic that is or was partly on.
+func (s *Sim) physGateMoved(d int32) bool {
 	p := &s.phys
+	k := s.nl.devKind[d]
+	gn := s.nl.devGate[d]
+	v := s.volts[gn]
+	off := conduction(k, s.val[gn]) == Off
 	pd := &p.dv[d]
 	old := pd.gv
 	was := p.leak[d]
 	if v == old || (math.IsNaN(v) && math.IsNaN(old)) {
-		if was != (off && s.leakyGate(d, v)) { // it switched between on and partly on
+		if was != (off && s.leakyAt(k, v)) { // it switched between on and partly on
 			s.setLeak(d, !was)
 			return true
 		}
 		return false
 	}
 	pd.gv = v
-	switch k := s.nl.devKind[d]; { // limitFor, its commonest cases without the call
+	switch { // limitFor, its commonest cases without the call
 	case k > PMOS || p.slow:
 		pd.lim = s.limitFor(d)
 	case v == 0:
@@ -362,7 +367,7 @@ func (s *Sim) physGateMoved(d int32, v float64, off bool) bool {
 	default:
 		pd.lim = s.limitFor(d)
 	}
-	leaky := off && s.leakyGate(d, v)
+	leaky := off && s.leakyAt(k, v)
 	if leaky != was {
 		s.setLeak(d, leaky)
 	}

@@ -672,9 +672,8 @@ func (s *Sim) rounds(stop bool) bool {
 				c := conduction(nl.devKind[d], gv) // condOf: gn is d's gate
 				moved := false
 				if s.mode == Physical {
-					s.logDevice(d) // physGateMoved records the gate's voltage
-					// always called: it records the gate's voltage for this round
-					moved = s.physGateMoved(d, s.volts[gn], c == Off)
+					s.logDevice(d)             // physGateMoved records the gate's voltage
+					moved = s.physGateMoved(d) // always called: it records the gate's voltage for this round
 				}
 				if c != s.cond[d] || moved {
 					s.logDevice(d)
