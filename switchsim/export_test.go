@@ -5,6 +5,12 @@ package switchsim
 // compare it with the general path. It is on in every new Sim.
 func (s *Sim) SetPhysFastPath(on bool) { s.phys.slow = !on }
 
+// SetPhysAlone switches s's lone-node solve of physical mode (physAlone,
+// which takes such a group before it is collected) on or off, so that the
+// external tests can compare it with the group's path, physSingle
+// included. It is on in every new Sim.
+func (s *Sim) SetPhysAlone(on bool) { s.phys.noAlone = !on }
+
 // SetPhysMemo switches s's group memo of physical mode on or off, so that
 // the external tests can compare it with solving every group afresh. It is
 // on in every new Sim (and off while the fast path is).

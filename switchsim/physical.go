@@ -102,6 +102,9 @@ var blankRec = physRec{Lost: VX, Drop: -1, Up: -1, Down: -1, Before: math.NaN(),
 // physInit; the scratch grows on first use and is reused afterwards.
 type physState struct {
 	vil, vih, vm, vdd float64
+	// fullHolds[v]: the full level of v holds v (levelRange), as it does
+	// unless the design moves VIL or VIH past a rail
+	fullHolds [2]bool
 
 	// per device
 	res []float64 // effective on-resistance, ohms (the delay estimate)
@@ -167,6 +170,9 @@ type physState struct {
 	// rail limits and conductances off, so that tests can compare the
 	// general path with them (export_test.go).
 	slow bool
+	// noAlone turns physAlone alone off, so that tests can compare it with
+	// the group's path (export_test.go).
+	noAlone bool
 	// logAll keeps the undo log on every step that race analysis may look
 	// back on, the steps settlesAlone would spare included, so that tests
 	// can compare the two (export_test.go).
@@ -209,6 +215,10 @@ func (s *Sim) physInit() {
 	p := &s.phys
 	p.vil, p.vih, p.vm = t.Thresholds()
 	p.vdd = t.Vdd
+	for v := V0; v <= V1; v++ {
+		val, _, _ := p.levelRange(v, p.full(v), p.full(v))
+		p.fullHolds[v] = val == v
+	}
 	p.net.denseMax = physDenseMax
 	nn, nd := nl.NumNodes(), nl.NumDevices()
 	p.res, p.con, p.dv = make([]float64, nd), make([]float64, nd), make([]physDev, nd)
@@ -293,13 +303,15 @@ func (s *Sim) physLeak(d int32) bool { return s.mode == Physical && s.phys.leak[
 // channel terminal at the rail it is body-tied to (nMOS: vg > Vtn, pMOS:
 // vdd - vg > |Vtp|): the widest condition for a partly-on device, since the
 // source at the rail has the largest Vgs and no body effect.
-func (s *Sim) leakyGate(d int32, vg float64) bool {
-	t := &s.nl.Tech
-	switch s.nl.devKind[d] {
+func (s *Sim) leakyGate(d int32, vg float64) bool { return s.leakyAt(s.nl.devKind[d], vg) }
+
+// leakyAt is leakyGate for a device of kind k.
+func (s *Sim) leakyAt(k DeviceKind, vg float64) bool {
+	switch k {
 	case NMOS:
-		return vg > t.Vtn
+		return vg > s.nl.Tech.Vtn
 	case PMOS:
-		return s.phys.vdd-vg > t.Vtp
+		return s.phys.vdd-vg > s.nl.Tech.Vtp
 	}
 	return false
 }
@@ -329,27 +341,23 @@ func (s *Sim) setLeak(d int32, on bool) {
 // a device not off, since its pass limit and its current follow the gate,
 // and a device off by logic that is or was partly on.
 func (s *Sim) physGateMoved(d int32) bool {
-	if s.mode != Physical {
-		return false
-	}
 	p := &s.phys
+	k := s.nl.devKind[d]
 	gn := s.nl.devGate[d]
-	if gn < 0 {
-		return false
-	}
 	v := s.volts[gn]
-	old := p.dv[d].gv
-	off := conduction(s.nl.devKind[d], s.val[gn]) == Off
+	off := conduction(k, s.val[gn]) == Off
+	pd := &p.dv[d]
+	old := pd.gv
+	was := p.leak[d]
 	if v == old || (math.IsNaN(v) && math.IsNaN(old)) {
-		if p.leak[d] != (off && s.leakyGate(d, v)) { // it switched between on and partly on
-			s.setLeak(d, !p.leak[d])
+		if was != (off && s.leakyAt(k, v)) { // it switched between on and partly on
+			s.setLeak(d, !was)
 			return true
 		}
 		return false
 	}
-	pd := &p.dv[d]
 	pd.gv = v
-	switch k := s.nl.devKind[d]; { // limitFor, its commonest cases without the call
+	switch { // limitFor, its commonest cases without the call
 	case k > PMOS || p.slow:
 		pd.lim = s.limitFor(d)
 	case v == 0:
@@ -359,9 +367,11 @@ func (s *Sim) physGateMoved(d int32) bool {
 	default:
 		pd.lim = s.limitFor(d)
 	}
-	was := p.leak[d]
-	s.setLeak(d, off && s.leakyGate(d, v))
-	return voltsMoved(old, v) && (!off || was || p.leak[d])
+	leaky := off && s.leakyAt(k, v)
+	if leaky != was {
+		s.setLeak(d, leaky)
+	}
+	return voltsMoved(old, v) && (!off || was || leaky)
 }
 
 // physGroup adds the voltage estimates to the ideal resolution of g: at

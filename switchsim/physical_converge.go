@@ -59,24 +59,30 @@ func (s *Sim) physConverge(g *group) {
 	if int(s.roundNo-s.runStart) <= s.limit/2 {
 		return // the first half of the run counts whatever it does
 	}
+	for i, n := range g.nodes {
+		s.convergeNode(n, g.nval[i], g.nstr[i], g.nstate[i], g.nvolts[i])
+	}
+}
+
+// convergeNode is physConverge for node n, about to be given value v,
+// strength st, state state and voltage vo, past the first half of the run.
+func (s *Sim) convergeNode(n int32, v Value, st Strength, state State, vo float64) {
 	c := &s.phys.conv
 	if c.round != s.roundNo || c.id != s.settleID {
 		c.round, c.id, c.conv = s.roundNo, s.settleID, true
 	}
-	for i, n := range g.nodes {
-		vo, old := g.nvolts[i], s.volts[n]
-		logic := s.val[n] != g.nval[i] || s.str[n] != g.nstr[i] || s.state[n] != g.nstate[i]
-		if !logic && !voltsMoved(old, vo) {
-			continue
-		}
-		m := math.Abs(vo - old) // NaN where either is unknown
-		if logic || math.IsNaN(m) {
-			c.conv = false
-		} else if l := &c.last[n]; l.id != s.settleID || l.round <= s.runStart || !(m <= convergeRatio*l.size) {
-			c.conv = false
-		}
-		c.last[n] = convMove{m, s.roundNo, s.settleID}
+	old := s.volts[n]
+	logic := s.val[n] != v || s.str[n] != st || s.state[n] != state
+	if !logic && !voltsMoved(old, vo) {
+		return
 	}
+	m := math.Abs(vo - old) // NaN where either is unknown
+	if logic || math.IsNaN(m) {
+		c.conv = false
+	} else if l := &c.last[n]; l.id != s.settleID || l.round <= s.runStart || !(m <= convergeRatio*l.size) {
+		c.conv = false
+	}
+	c.last[n] = convMove{m, s.roundNo, s.settleID}
 }
 
 // physConverging reports, after a round, whether it was a converging round

@@ -390,6 +390,20 @@ func TestPhysMemoRandom(t *testing.T) {
 
 func TestPhysMemoBenchNets(t *testing.T) { benchPairs(t, newMemoPair) }
 
+// The lone-node solve (physAlone) against the group's path, physSingle
+// and the rest on in both: on random networks, and on the benchmark
+// networks, whose inverter outputs, pulls' nodes and selector leaves are
+// lone nodes step after step.
+func newAlonePathPair(t *testing.T, name string, nl *sw.Netlist) *fastPair {
+	return newPathPair(t, name, nl, func(s *sw.Sim) { s.SetPhysAlone(false) })
+}
+
+func TestPhysAloneRandom(t *testing.T) {
+	randomPairs(t, rand.New(rand.NewPCG(31, 7)), 0, newAlonePathPair)
+}
+
+func TestPhysAloneBenchNets(t *testing.T) { benchPairs(t, newAlonePathPair) }
+
 // The step without an undo log (settlesAlone) against the logged step, in
 // physical mode: on random networks (those without feedback loops take it
 // wherever one input changed) and on the benchmark networks, whose

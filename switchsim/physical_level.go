@@ -188,14 +188,23 @@ func (s *Sim) decideLevel(g *group, i int, v Value, level float64, drop int32) {
 	g.nvolts[i] = level
 	in := &p.info[n]
 	in.How, in.Drop = howLevel, drop
-	if val, _, lost := p.levelRange(v, level, level); val == VX {
-		g.nval[i], g.nstate[i] = VX, StateX
+	var lost Value
+	g.nval[i], g.nstate[i], lost = p.levelDecided(v, level, drop, g.nval[i], g.nstate[i])
+	if lost != VX {
 		in.Lost = lost
-		return
 	}
-	if drop >= 0 && g.nstate[i] <= State1 {
-		g.nstate[i] = StateL + State(v)
+}
+
+// levelDecided is decideLevel's rule for a node resolved to val and state:
+// its value and state, and the value whose level it lost (VX: none).
+func (p *physState) levelDecided(v Value, level float64, drop int32, val Value, state State) (Value, State, Value) {
+	if lv, _, lost := p.levelRange(v, level, level); lv == VX {
+		return VX, StateX, lost
 	}
+	if drop >= 0 && state <= State1 {
+		state = StateL + State(v)
+	}
+	return val, state, VX
 }
 
 // levelSearch finds, for every node of part c, the best level at which v

@@ -130,40 +130,9 @@ func (s *Sim) memoLook(g *group) bool {
 		len(g.devs) > memoMaxDevs || (len(g.nodes) == 1 && !fight) {
 		return false
 	}
-	// the devices first: their conduction and gates tell a toggle's solves apart soonest
-	k := grow(m.key, 2+2*len(g.devs)+(2+b2i(fight))*len(g.nodes)+len(g.srcs))
-	// A vertex solve's part (physical_vertex.go) gives up where Newton's
-	// method fails, where a group's solve sweeps on: the two never share entries.
-	k[0], k[1] = uint64(len(g.nodes))|uint64(len(g.devs))<<32, uint64(len(g.srcs))|uint64(b2i(p.net.quick))<<32
-	j := 2 + 2*len(g.devs)
-	s.memoDevices(k[2:j], g.devs)
-	sig := uint32(0) // fightSig(g.devs, nil), as netBuild names the fight
-	for _, d := range g.devs {
-		sig = sigStep(sig, d)
+	if !s.memoKey(g.nodes, g.devs, g.srcs, g.nval, g.nstr, g.nstate, fight) {
+		return false
 	}
-	m.sig = sig
-	for i, n := range g.nodes {
-		if p.leakAt[n] > 0 {
-			m.key = k
-			return false
-		}
-		// Value, Strength and State each fit in 4 bits (value.go). A node's
-		// old record is read only by a lone node's level (retained), which
-		// the memo leaves to physSingle.
-		k[j] = uint64(uint32(n)) | uint64(s.val[n])<<32 | uint64(s.str[n])<<36 | uint64(s.state[n])<<40 |
-			uint64(g.nval[i])<<44 | uint64(g.nstr[i])<<48 | uint64(g.nstate[i])<<52
-		k[j+1] = math.Float64bits(s.volts[n])
-		j += 2
-		if fight { // where the fight starts (netBuild)
-			k[j] = math.Float64bits(p.fightV[n].find(m.sig))
-			j++
-		}
-	}
-	for _, src := range g.srcs {
-		k[j] = uint64(uint32(src)) | uint64(s.val[src])<<32
-		j++
-	}
-	m.key = k
 	seed := g.nodes[0]
 	si := int32(-1)
 	if m.vertex == 0 {
@@ -187,13 +156,57 @@ func (s *Sim) memoLook(g *group) bool {
 		}
 	}
 	sl := &m.slots[si]
-	if e := sl.find(k); e != nil {
+	if e := sl.find(m.key); e != nil {
 		s.memoReplay(g, e)
 		m.hit = e
 		return true
 	}
 	m.rec = sl.take()
 	return false
+}
+
+// memoKey builds into m.key (and m.sig) the key of the group of nodes,
+// devs and srcs, which the ideal resolution gave nval, nstr and nstate, a
+// fight or not; it reports false where a node touches a partly-on device
+// (no key: the group is solved every time).
+func (s *Sim) memoKey(nodes, devs, srcs []int32, nval []Value, nstr []Strength, nstate []State, fight bool) bool {
+	p := &s.phys
+	m := &p.memo
+	// the devices first: their conduction and gates tell a toggle's solves apart soonest
+	k := grow(m.key, 2+2*len(devs)+(2+b2i(fight))*len(nodes)+len(srcs))
+	// A vertex solve's part (physical_vertex.go) gives up where Newton's
+	// method fails, where a group's solve sweeps on: the two never share entries.
+	k[0], k[1] = uint64(len(nodes))|uint64(len(devs))<<32, uint64(len(srcs))|uint64(b2i(p.net.quick))<<32
+	j := 2 + 2*len(devs)
+	s.memoDevices(k[2:j], devs)
+	sig := uint32(0) // fightSig(devs, nil), as netBuild names the fight
+	for _, d := range devs {
+		sig = sigStep(sig, d)
+	}
+	m.sig = sig
+	for i, n := range nodes {
+		if p.leakAt[n] > 0 {
+			m.key = k
+			return false
+		}
+		// Value, Strength and State each fit in 4 bits (value.go). A node's
+		// old record is read only by a lone node's level (retained), which
+		// the memo leaves to physSingle.
+		k[j] = uint64(uint32(n)) | uint64(s.val[n])<<32 | uint64(s.str[n])<<36 | uint64(s.state[n])<<40 |
+			uint64(nval[i])<<44 | uint64(nstr[i])<<48 | uint64(nstate[i])<<52
+		k[j+1] = math.Float64bits(s.volts[n])
+		j += 2
+		if fight { // where the fight starts (netBuild)
+			k[j] = math.Float64bits(p.fightV[n].find(m.sig))
+			j++
+		}
+	}
+	for _, src := range srcs {
+		k[j] = uint64(uint32(src)) | uint64(s.val[src])<<32
+		j++
+	}
+	m.key = k
+	return true
 }
 
 // find returns the entry of sl whose key is k, nil if none is.
@@ -249,21 +262,29 @@ func (s *Sim) memoDevices(k []uint64, devs []int32) {
 
 // memoReplay writes entry e's results for group g, as the solve wrote them.
 func (s *Sim) memoReplay(g *group, e *memoEntry) {
-	p := &s.phys
 	for i, n := range g.nodes {
-		o := e.out(i)
-		w := o[outLogic]
-		g.nval[i], g.nstr[i], g.nstate[i] = Value(w), Strength(w>>8), State(w>>16)
-		g.nvolts[i] = math.Float64frombits(o[outVolts])
-		p.info[n] = physRec{How: physHow(w >> 24), Lost: Value(w >> 32), Drop: int32(uint32(o[outDrop])),
-			Up: int32(uint32(o[outDrop] >> 32)), Down: int32(uint32(o[outDown])),
-			Before: math.Float64frombits(o[outBefore]), Delay: math.Float64frombits(o[outInfoDelay])}
-		if e.fight { // as solveFight keeps it
-			p.fightV[n].keep(p.memo.sig, math.Float64frombits(o[outKept]))
+		g.nval[i], g.nstr[i], g.nstate[i], g.nvolts[i] = s.replayNode(e, i, n)
+		if e.fight {
 			g.contested[i] = true
-			s.nflag[n] = s.nflag[n]&^nfFight | nfContest
 		}
 	}
+}
+
+// replayNode writes what entry e holds for node n, the group's node i: its
+// record and, for a fight, its end point and flags; it returns the node's
+// value, strength, state and voltage.
+func (s *Sim) replayNode(e *memoEntry, i int, n int32) (Value, Strength, State, float64) {
+	p := &s.phys
+	o := e.out(i)
+	w := o[outLogic]
+	p.info[n] = physRec{How: physHow(w >> 24), Lost: Value(w >> 32), Drop: int32(uint32(o[outDrop])),
+		Up: int32(uint32(o[outDrop] >> 32)), Down: int32(uint32(o[outDown])),
+		Before: math.Float64frombits(o[outBefore]), Delay: math.Float64frombits(o[outInfoDelay])}
+	if e.fight { // as solveFight keeps it
+		p.fightV[n].keep(p.memo.sig, math.Float64frombits(o[outKept]))
+		s.nflag[n] = s.nflag[n]&^nfFight | nfContest
+	}
+	return Value(w), Strength(w >> 8), State(w >> 16), math.Float64frombits(o[outVolts])
 }
 
 // memoRecord records the solve of group g into m.rec; commit's physDelay

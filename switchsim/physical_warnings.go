@@ -46,6 +46,20 @@ func (s *Sim) physWarnings(n int, add func(kind WarnKind, n, d, o int)) {
 	s.partialOn(n, add)
 }
 
+// physQuiet reports, for node n at state st (0, 1, L or H) after a
+// settle, that physical mode has nothing to say of it (settleWarnings,
+// physWarnings): it is no fight's node, no device is partly on, it is in
+// no feedback loop whose write could have failed, and at L or H its level
+// is neither degraded nor contested.
+func (s *Sim) physQuiet(n int, st State) bool {
+	p := &s.phys
+	in := &p.info[n]
+	if in.How == howFight || p.nLeak > 0 || s.nl.nodeFlag[n]&nodeLoop != 0 {
+		return false
+	}
+	return st <= State1 || in.How != howLevel || (in.Drop < 0 && !s.flag(int32(n), nfContest))
+}
+
 // fightSides returns the devices carrying the most current into node n of
 // a fight from the 1 side and out of it to the 0 side.
 func (s *Sim) fightSides(n int32) (up, down int32) {

@@ -6,7 +6,10 @@ import "math"
 // not off, bounded by sources), resolves it (DEVELOPERS.md "Resolving a
 // group") and writes the results, recording the changes.
 func (s *Sim) solveGroup(seed int32) {
-	if s.mode == Ideal && !s.slowIdeal && s.solveAlone(seed) {
+	switch {
+	case s.mode == Ideal && !s.slowIdeal && s.solveAlone(seed):
+		return
+	case s.mode == Physical && s.physAlone(seed): // the same for physical mode (physical_single.go)
 		return
 	}
 	nl := s.nl

@@ -73,7 +73,7 @@ func (s *Sim) settleWarnings() {
 	for _, n32 := range s.touched {
 		n := int(n32)
 		st := s.state[n]
-		if ideal && st <= State1 {
+		if ideal && st <= State1 || !ideal && st <= StateH && s.physQuiet(n, st) {
 			continue // a driven 0 or 1 is neither contested nor a fight: none of the below applies
 		}
 		if s.warned(n32) { // already reported as racing or oscillating
