@@ -19,11 +19,7 @@ func TestPhysRandomInvariants(t *testing.T) {
 	drives := []sw.Drive{sw.Drive0, sw.Drive1, sw.Drive0, sw.Drive1, sw.DriveX, sw.DriveZ}
 	for net := 0; net < 400; net++ {
 		spec := gen.Random(rng, 3+rng.IntN(14), 3+rng.IntN(24))
-		b, err := spec.Builder()
-		if err != nil {
-			t.Fatal(err)
-		}
-		nl, err := b.Compile()
+		nl, err := compileSpec(spec)
 		if err != nil {
 			t.Fatal(err)
 		}

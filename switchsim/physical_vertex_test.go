@@ -30,11 +30,7 @@ func TestPhysUnknownInputsAreSound(t *testing.T) {
 	checked, decided := 0, 0
 	for net := 0; net < 2000; net++ {
 		spec := gen.Random(rng, 3+rng.IntN(12), 3+rng.IntN(20))
-		b, err := spec.Builder()
-		if err != nil {
-			t.Fatal(err)
-		}
-		nl, err := b.Compile()
+		nl, err := compileSpec(spec)
 		if err != nil {
 			t.Fatal(err)
 		}
